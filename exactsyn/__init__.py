@@ -1,0 +1,3 @@
+"""exactsyn: provably minimal reversible circuits by SAT, with checkable proof logs."""
+
+__version__ = "0.1.0"
