@@ -1,0 +1,133 @@
+"""Circuits as JSON.
+
+Each gate is an object::
+
+    {"type": "x",    "target": 2,       "controls": [0], "negative_controls": [1]}
+    {"type": "swap", "targets": [0, 1], "controls": [2], "negative_controls": []}
+
+``type`` is ``"x"`` for the NOT / CNOT / Toffoli / MCT family and ``"swap"`` for SWAP /
+Fredkin and their controlled relatives.  A circuit is ``{"lines": n, "gate_count": k,
+"gates": [...]}``; readers need only ``lines`` and ``gates`` and ignore every other key,
+so a whole synthesis result can be read back as a circuit.  Lines are numbered as in
+:mod:`exactsyn.gates` (line 0 is the least significant bit of a state).
+
+Every malformed input raises :class:`~exactsyn.errors.ExactsynError` with a one-line
+message naming what is wrong.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+from exactsyn.circuit import Circuit
+from exactsyn.errors import ExactsynError
+from exactsyn.gates import Gate, swap_gate, x_gate
+
+_X_KEYS = frozenset({"type", "target", "controls", "negative_controls"})
+_SWAP_KEYS = frozenset({"type", "targets", "controls", "negative_controls"})
+
+
+def gate_to_dict(g: Gate) -> dict[str, Any]:
+    """One gate as a JSON-ready dict."""
+    d: dict[str, Any] = {"type": g.kind}
+    if g.kind == "x":
+        d["target"] = g.targets[0]
+    else:
+        d["targets"] = list(g.targets)
+    d["controls"] = list(g.controls)
+    d["negative_controls"] = list(g.negative_controls)
+    return d
+
+
+def _show(v: object) -> str:
+    """A short one-line rendering of a bad value for an error message."""
+    try:
+        text = json.dumps(v, default=repr)
+    except (TypeError, ValueError):
+        text = repr(v)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _line(where: str, key: str, v: object) -> int:
+    if isinstance(v, bool) or not isinstance(v, int) or v < 0:
+        raise ExactsynError(f"{where}: '{key}' must be a non-negative integer, not {_show(v)}")
+    return v
+
+
+def _line_list(where: str, key: str, v: object, length: int | None = None) -> list[int]:
+    if not isinstance(v, list):
+        raise ExactsynError(f"{where}: '{key}' must be a list of line numbers, not {_show(v)}")
+    if length is not None and len(v) != length:
+        raise ExactsynError(f"{where}: '{key}' must list exactly {length} lines, not {len(v)}")
+    return [_line(where, key, item) for item in v]
+
+
+def gate_from_dict(d: object, where: str = "gate") -> Gate:
+    """Read one gate dict (see the module docstring); ``where`` prefixes error messages."""
+    if not isinstance(d, dict):
+        raise ExactsynError(f"{where}: a gate must be a JSON object, not {_show(d)}")
+    kind = d.get("type")
+    if kind not in ("x", "swap"):
+        raise ExactsynError(f'{where}: \'type\' must be "x" or "swap", not {_show(kind)}')
+    allowed = _X_KEYS if kind == "x" else _SWAP_KEYS
+    unknown = sorted(set(d) - allowed)
+    if unknown:
+        raise ExactsynError(
+            f"{where}: unknown key '{unknown[0]}' for a {kind} gate (allowed: {', '.join(sorted(allowed))})"
+        )
+    controls = _line_list(where, "controls", d.get("controls", []))
+    negative = _line_list(where, "negative_controls", d.get("negative_controls", []))
+    try:
+        if kind == "x":
+            if "target" not in d:
+                raise ExactsynError(f"{where}: an x gate needs 'target'")
+            return x_gate(_line(where, "target", d["target"]), controls, negative)
+        if "targets" not in d:
+            raise ExactsynError(f"{where}: a swap gate needs 'targets' (a list of 2 lines)")
+        a, b = _line_list(where, "targets", d["targets"], length=2)
+        return swap_gate(a, b, controls, negative)
+    except ExactsynError as e:
+        if e.message.startswith(where):
+            raise
+        raise ExactsynError(f"{where}: {e.message.removeprefix('gate: ')}") from None
+
+
+def circuit_to_dict(c: Circuit) -> dict[str, Any]:
+    """``{"lines": n, "gate_count": k, "gates": [...]}``."""
+    return {"lines": c.lines, "gate_count": c.gate_count, "gates": [gate_to_dict(g) for g in c.gates]}
+
+
+def circuit_from_dict(d: object) -> Circuit:
+    """Read a circuit from any dict with ``lines`` and ``gates`` (other keys are ignored)."""
+    if not isinstance(d, dict):
+        raise ExactsynError(f"a circuit must be a JSON object, not {type(d).__name__}")
+    for key in ("lines", "gates"):
+        if key not in d:
+            raise ExactsynError(f"circuit: missing key '{key}'")
+    lines = d["lines"]
+    if isinstance(lines, bool) or not isinstance(lines, int) or lines < 1:
+        raise ExactsynError(f"circuit: 'lines' must be a positive integer, not {_show(lines)}")
+    gates_in = d["gates"]
+    if not isinstance(gates_in, list):
+        raise ExactsynError("circuit: 'gates' must be a list")
+    gates = []
+    for i, gd in enumerate(gates_in):
+        where = f"gate {i}"
+        g = gate_from_dict(gd, where)
+        outside = sorted(line for line in g.lines if line >= lines)
+        if outside:
+            raise ExactsynError(f"{where}: line {outside[0]} is outside 0..{lines - 1}")
+        gates.append(g)
+    return Circuit(lines, tuple(gates))
+
+
+def load_json_circuit(text: str) -> Circuit:
+    """Parse JSON text holding a circuit (or a result object with ``lines`` and ``gates``)."""
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as e:
+        raise ExactsynError(f"malformed JSON at line {e.lineno} column {e.colno}: {e.msg}") from None
+    except RecursionError:
+        raise ExactsynError("malformed JSON: nested too deeply") from None
+    return circuit_from_dict(data)
