@@ -1,0 +1,279 @@
+"""CNF encoding of "is there a circuit of exactly k library gates that meets the spec?".
+
+The formulation is the classic one of exact SAT-based reversible synthesis (Große,
+Chen, Dueck, Drechsler, "Exact multiple-control Toffoli network synthesis with SAT
+techniques", IEEE TCAD 28(5), 2009): a gate choice per position and, for every
+specified truth-table row, the value of every line between consecutive gates.
+
+Variables (all named through :class:`pysat.formula.IDPool`)
+-----------------------------------------------------------
+``("g", d, j)``
+    position ``d`` (0 ≤ d < k) holds library gate ``j`` (one-hot over the library).
+``("t", d, l)``
+    the gate at position ``d`` targets line ``l``; ``t[d][l] ↔ ∨ {g[d][j] : j targets l}``.
+``("x", r, d, l)``
+    value of line ``l`` on row ``r`` after ``d`` gates.  At ``d = 0`` the value is the
+    row's input bit and at ``d = k`` the specified output bit, so in the ``onehot``
+    encoding both are substituted as constants (only unspecified output bits remain
+    variables); the ``textbook`` encoding keeps them as variables fixed by unit clauses.
+    Rows whose outputs are entirely unspecified are left out.
+
+Clause families, for every row ``r``, position ``d`` and gate ``j`` with target ``τ``,
+positive controls ``P`` and negative controls ``N`` (``a = x[r][d]``, ``b = x[r][d+1]``,
+``fail = ∨_{c∈P} ¬a_c ∨ ∨_{c∈N} a_c`` says "some control does not fire"):
+
+* **fires**: ``¬g ∨ fail ∨ a_τ ∨ b_τ`` and ``¬g ∨ fail ∨ ¬a_τ ∨ ¬b_τ`` — all controls
+  fire, so the target flips;
+* **blocked**: for each ``c ∈ P``: ``¬g ∨ a_c ∨ (a_τ ↔ b_τ)`` (two clauses), likewise
+  with ``¬a_c`` for ``c ∈ N`` — a control does not fire, the target keeps its value;
+* **frame**: ``t[d][l] ∨ (a_l ↔ b_l)`` for every line — an untargeted line keeps its value;
+* **choice**: exactly one ``g[d][·]`` per position (at-least-one clause plus an
+  at-most-one: pairwise in ``textbook``, a sequential counter in ``onehot`` for large
+  libraries), and the ``t`` definitions in both directions.
+
+With no symmetry breaking the models are exactly the k-gate circuits of the library
+that meet the spec (each model decodes to one circuit and each circuit gives one model:
+the line values are functions of the gates).
+
+Symmetry breaking and redundant clauses (``onehot`` only; each keeps an optimal circuit)
+-------------------------------------------------------------------------------------
+Order circuits of equal length lexicographically by their sequence of library indices.
+Among the optimal (minimum-length) circuits for the spec take the lexicographically
+smallest one, ``C*``.  Every rule below is satisfied by ``C*``, hence by at least one
+optimal circuit, whatever combination of rules is switched on:
+
+* ``no-repeat`` — ``¬g[d][j] ∨ ¬g[d+1][j]``.  Every gate is self-inverse, so two equal
+  adjacent gates cancel and the circuit without them is shorter: ``C*`` (optimal) has
+  no such pair.
+* ``commute`` — ``¬g[d][j] ∨ ¬g[d+1][i]`` for ``i < j`` when gates ``i`` and ``j``
+  commute (checked by composing their permutations both ways).  Swapping such a pair
+  gives a circuit of the same length computing the same function that is
+  lexicographically smaller, so ``C*`` has no such pair.
+* ``touch`` (redundant, implied) — ``∨_d t[d][l]`` for every line ``l`` whose output
+  differs from its input on a specified row: only a gate targeting ``l`` changes ``l``.
+  Every circuit meeting the spec satisfies it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+from pysat.card import CardEnc, EncType
+from pysat.formula import IDPool
+
+from exactsyn.circuit import Circuit
+from exactsyn.errors import ExactsynError
+from exactsyn.gates import Gate
+from exactsyn.library import Library
+from exactsyn.spec import Spec
+
+ENCODINGS = {
+    "onehot": "one-hot gate choice, constants substituted, symmetry breaking (default)",
+    "textbook": "one-hot gate choice, no symmetry breaking: the baseline every speed-up is measured against",
+}
+SYMMETRY_RULES = ("no-repeat", "commute", "touch")
+ENCODING_VERSION = 1
+
+Lit = int | bool
+
+
+@dataclass(frozen=True)
+class EncodingOptions:
+    """Which encoding and which symmetry-breaking rules; part of every certificate."""
+
+    name: str = "onehot"
+    symmetry: tuple[str, ...] = SYMMETRY_RULES
+
+    def __post_init__(self) -> None:
+        if self.name not in ENCODINGS:
+            raise ExactsynError(f"unknown encoding {self.name!r}; choose one of: {', '.join(ENCODINGS)}")
+        bad = [s for s in self.symmetry if s not in SYMMETRY_RULES]
+        if bad:
+            raise ExactsynError(f"unknown symmetry rule {bad[0]!r}; known: {', '.join(SYMMETRY_RULES)}")
+        if self.name == "textbook" and self.symmetry:
+            object.__setattr__(self, "symmetry", ())
+
+    def describe(self) -> dict[str, object]:
+        return {"name": self.name, "version": ENCODING_VERSION, "symmetry": list(self.symmetry)}
+
+
+def options_for(name: str) -> EncodingOptions:
+    return EncodingOptions(name, SYMMETRY_RULES if name == "onehot" else ())
+
+
+@dataclass(frozen=True)
+class Encoding:
+    """The CNF of one k-query and what is needed to decode its models."""
+
+    spec: Spec
+    library: Library
+    k: int
+    options: EncodingOptions
+    clauses: list[list[int]] = field(repr=False)
+    num_vars: int
+    gate_vars: tuple[tuple[int, ...], ...] = field(repr=False)
+    trivially_unsat: bool = False
+
+    def decode(self, model: Iterable[int]) -> Circuit:
+        """Read the circuit out of a satisfying assignment."""
+        true = {v for v in model if v > 0}
+        gates: list[Gate] = []
+        for d, row in enumerate(self.gate_vars):
+            chosen = [j for j, v in enumerate(row) if v in true]
+            if len(chosen) != 1:
+                raise RuntimeError(f"model selects {len(chosen)} gates at position {d}")
+            gates.append(self.library.gates[chosen[0]])
+        return Circuit(self.library.lines, tuple(gates))
+
+
+@lru_cache(maxsize=64)
+def commuting_pairs(library: Library) -> frozenset[tuple[int, int]]:
+    """Pairs ``(i, j)``, ``i < j``, of library gates that commute as permutations."""
+    n = library.lines
+    perms = [g.permutation(n) for g in library.gates]
+    out = set()
+    for j, pj in enumerate(perms):
+        for i in range(j):
+            pi = perms[i]
+            gates_i, gates_j = library.gates[i], library.gates[j]
+            if not (gates_i.lines & gates_j.lines):
+                out.add((i, j))
+                continue
+            if all(pj[pi[s]] == pi[pj[s]] for s in range(1 << n)):
+                out.add((i, j))
+    return frozenset(out)
+
+
+class _Builder:
+    """Collects clauses, folding Python booleans (known line values) away."""
+
+    def __init__(self) -> None:
+        self.pool = IDPool()
+        self.clauses: list[list[int]] = []
+        self.empty = False
+
+    def var(self, *key: object) -> int:
+        return self.pool.id(key)
+
+    def add(self, lits: Sequence[Lit]) -> None:
+        out: list[int] = []
+        for lit in lits:
+            if lit is True:
+                return
+            if lit is False:
+                continue
+            out.append(lit)  # type: ignore[arg-type]
+        if not out:
+            self.empty = True
+            return
+        self.clauses.append(out)
+
+
+def _neg(lit: Lit) -> Lit:
+    if isinstance(lit, bool):
+        return not lit
+    return -lit
+
+
+def encode(spec: Spec, library: Library, k: int, options: EncodingOptions | None = None) -> Encoding:
+    """Build the CNF for exactly ``k`` gates (see the module docstring)."""
+    opts = options or EncodingOptions()
+    if spec.lines != library.lines:
+        raise ExactsynError(f"spec has {spec.lines} lines but the library is built for {library.lines}")
+    if not library.only_x:
+        raise ExactsynError("swap gates are not supported by this encoder yet")
+    if k < 0:
+        raise ExactsynError("gate count must be non-negative")
+    n, gates = spec.lines, library.gates
+    b = _Builder()
+    textbook = opts.name == "textbook"
+
+    gvars = tuple(tuple(b.var("g", d, j) for j in range(len(gates))) for d in range(k))
+    tvars = [[b.var("t", d, line) for line in range(n)] for d in range(k)]
+    rows = [r for r in range(spec.size) if spec.care[r]]
+
+    # Line values; constants substituted at both ends unless textbook.
+    def value(r: int, d: int, line: int) -> Lit:
+        if d == 0 and not textbook:
+            return bool(r >> line & 1)
+        if d == k and not textbook and spec.care[r] >> line & 1:
+            return bool(spec.outputs[r] >> line & 1)
+        return b.var("x", r, d, line)
+
+    if textbook:
+        for r in rows:
+            for line in range(n):
+                b.add([value(r, 0, line) if r >> line & 1 else _neg(value(r, 0, line))])
+                if spec.care[r] >> line & 1:
+                    v = value(r, k, line)
+                    b.add([v if spec.outputs[r] >> line & 1 else _neg(v)])
+
+    # Choice: exactly one gate per position; t[d][l] ↔ some gate targeting l.
+    amo_enc = EncType.pairwise if textbook or len(gates) <= 24 else EncType.seqcounter
+    by_target = [[j for j, g in enumerate(gates) if g.target == line] for line in range(n)]
+    for d in range(k):
+        b.add(list(gvars[d]))
+        amo = CardEnc.atmost(list(gvars[d]), 1, vpool=b.pool, encoding=amo_enc)
+        for cl in amo.clauses:
+            b.add(cl)
+        for line in range(n):
+            t = tvars[d][line]
+            b.add([-t] + [gvars[d][j] for j in by_target[line]])
+            for j in by_target[line]:
+                b.add([-gvars[d][j], t])
+
+    # Semantics per row and position.
+    for r in rows:
+        for d in range(k):
+            a = [value(r, d, line) for line in range(n)]
+            nxt = [value(r, d + 1, line) for line in range(n)]
+            for line in range(n):
+                t = tvars[d][line]
+                b.add([t, _neg(a[line]), nxt[line]])
+                b.add([t, a[line], _neg(nxt[line])])
+            for j, g in enumerate(gates):
+                gv = -gvars[d][j]
+                tau = g.target
+                fail = [_neg(a[c]) for c in g.controls] + [a[c] for c in g.negative_controls]
+                b.add([gv, *fail, a[tau], nxt[tau]])
+                b.add([gv, *fail, _neg(a[tau]), _neg(nxt[tau])])
+                for c in g.controls:
+                    b.add([gv, a[c], _neg(a[tau]), nxt[tau]])
+                    b.add([gv, a[c], a[tau], _neg(nxt[tau])])
+                for c in g.negative_controls:
+                    b.add([gv, _neg(a[c]), _neg(a[tau]), nxt[tau]])
+                    b.add([gv, _neg(a[c]), a[tau], _neg(nxt[tau])])
+
+    # Symmetry breaking (arguments in the module docstring).
+    if "no-repeat" in opts.symmetry:
+        for d in range(k - 1):
+            for j in range(len(gates)):
+                b.add([-gvars[d][j], -gvars[d + 1][j]])
+    if "commute" in opts.symmetry:
+        pairs = commuting_pairs(library)
+        for d in range(k - 1):
+            for i, j in pairs:
+                b.add([-gvars[d][j], -gvars[d + 1][i]])
+    if "touch" in opts.symmetry:
+        for line in spec.changed_lines():
+            b.add([tvars[d][line] for d in range(k)])
+
+    if k == 0 and not spec.is_identity():
+        b.empty = True  # no gate at all: the spec must already be the identity
+    if b.empty:
+        # A clause became empty after substituting constants: keep a two-clause
+        # contradiction so the CNF stays a plain, checkable UNSAT formula.
+        z = b.var("false")
+        b.clauses.extend([[z], [-z]])
+    return Encoding(
+        spec=spec,
+        library=library,
+        k=k,
+        options=opts,
+        clauses=b.clauses,
+        num_vars=b.pool.top,
+        gate_vars=gvars,
+        trivially_unsat=b.empty,
+    )

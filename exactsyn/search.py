@@ -1,0 +1,143 @@
+"""The search loop: raise k from a proven lower bound until a k-gate circuit exists.
+
+For each k the encoder builds a fresh CNF (:mod:`exactsyn.encode`) and the solver
+answers it; every UNSAT answer raises the proven lower bound to k + 1.  The first SAT
+answer is decoded, simulated against the spec, and returned as optimal.  A fast
+constructive circuit (transformation-based synthesis, Miller, Maslov & Dueck, DAC 2003)
+gives an upper bound first: when every k below its size is refuted, it is itself
+optimal and the last SAT call is skipped; when time runs out, it is returned with the
+proven lower bound and clearly marked as not proven optimal.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from exactsyn.bounds import Bound, lower_bound, parity_obstruction
+from exactsyn.circuit import Circuit
+from exactsyn.encode import EncodingOptions, encode
+from exactsyn.errors import ExactsynError
+from exactsyn.library import Library
+from exactsyn.solve import solve_cnf
+from exactsyn.spec import Spec
+
+
+class NoCircuitError(ExactsynError):
+    """No circuit exists in the library, or none was found within the limits (exit 1)."""
+
+
+@dataclass(frozen=True)
+class Step:
+    """One k-query: its answer, time and size."""
+
+    k: int
+    status: str  # "sat" | "unsat" | "unknown"
+    seconds: float
+    conflicts: int
+    variables: int
+    clauses: int
+
+
+@dataclass(frozen=True)
+class Result:
+    spec: Spec
+    library: Library
+    circuit: Circuit | None
+    optimal: bool
+    lower_bound: int
+    upper_bound: int | None
+    initial_bound: Bound
+    steps: tuple[Step, ...]
+    encoding: EncodingOptions
+    solver: str
+    seconds: float
+    source: str  # "sat" | "heuristic" | "bound" (circuit met the lower bound) | "none"
+
+
+def heuristic_circuit(spec: Spec, library: Library) -> Circuit | None:
+    """A quick circuit from transformation-based synthesis, if it fits the library."""
+    if not spec.is_permutation:
+        return None
+    from exactsyn.tbs import tbs
+
+    circ = tbs(spec.permutation, spec.lines)
+    if all(library.contains(g) for g in circ.gates) and spec.accepts(circ.permutation()):
+        return circ
+    return None
+
+
+def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
+    """Simulate on every input; refuse to hand out a circuit that is wrong."""
+    if circuit.lines != spec.lines or not spec.accepts(circuit.permutation()):
+        raise RuntimeError("internal error: decoded circuit does not meet the spec")
+    if not all(library.contains(g) for g in circuit.gates):
+        raise RuntimeError("internal error: decoded circuit uses a gate outside the library")
+
+
+def synthesise(
+    spec: Spec,
+    library: Library,
+    *,
+    encoding: EncodingOptions | None = None,
+    solver: str = "cadical195",
+    time_limit: float | None = None,
+    max_gates: int | None = None,
+    use_heuristic: bool = True,
+    progress: Callable[[Step], None] | None = None,
+) -> Result:
+    """Find a minimum-gate circuit; see the module docstring.
+
+    Raises :class:`NoCircuitError` when parity rules every circuit out.
+    """
+    opts = encoding or EncodingOptions()
+    start = time.perf_counter()
+    reason = parity_obstruction(spec, library)
+    if reason:
+        raise NoCircuitError(reason)
+    bound = lower_bound(spec, library)
+    upper = heuristic_circuit(spec, library) if use_heuristic else None
+    steps: list[Step] = []
+
+    def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> Result:
+        if circuit is not None:
+            verify(circuit, spec, library)
+        return Result(
+            spec=spec,
+            library=library,
+            circuit=circuit,
+            optimal=optimal,
+            lower_bound=lb,
+            upper_bound=None if circuit is None else len(circuit),
+            initial_bound=bound,
+            steps=tuple(steps),
+            encoding=opts,
+            solver=solver,
+            seconds=time.perf_counter() - start,
+            source=source,
+        )
+
+    k = bound.value
+    if k == 0:
+        return result(Circuit(spec.lines), True, 0, "bound")
+    while True:
+        if upper is not None and k >= len(upper):
+            return result(upper, True, k, "heuristic")
+        if max_gates is not None and k > max_gates:
+            return result(upper, False, k, "heuristic" if upper else "none")
+        left = None if time_limit is None else time_limit - (time.perf_counter() - start)
+        if left is not None and left <= 0:
+            return result(upper, False, k, "heuristic" if upper else "none")
+        enc = encode(spec, library, k, opts)
+        out = solve_cnf(enc.clauses, solver, left)
+        step = Step(k, out.status, out.seconds, out.conflicts, enc.num_vars, len(enc.clauses))
+        steps.append(step)
+        if progress:
+            progress(step)
+        if out.status == "sat":
+            assert out.model is not None
+            return result(enc.decode(out.model), True, k, "sat")
+        if out.status == "unknown":
+            return result(upper, False, k, "heuristic" if upper else "none")
+        k += 1

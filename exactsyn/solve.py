@@ -1,0 +1,60 @@
+"""Run one CNF through a SAT solver with a wall-clock limit.
+
+python-sat's CaDiCaL bindings cannot be interrupted from another thread, so the time
+limit is enforced by solving in slices of a conflict budget (CaDiCaL keeps its learnt
+clauses between calls, so slicing costs little) and checking the clock in between.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+
+from pysat.solvers import Solver
+
+from exactsyn.errors import ExactsynError
+
+SOLVERS = {
+    "cadical195": "CaDiCaL 1.9.5 (default; writes LRAT proofs)",
+    "cadical153": "CaDiCaL 1.5.3",
+    "glucose4": "Glucose 4.1",
+    "minisat22": "MiniSat 2.2",
+}
+_SLICE0 = 2_000
+
+
+@dataclass(frozen=True)
+class SolveOutcome:
+    status: str  # "sat" | "unsat" | "unknown"
+    model: tuple[int, ...] | None
+    seconds: float
+    conflicts: int
+
+
+def solve_cnf(
+    clauses: list[list[int]], solver: str = "cadical195", time_limit: float | None = None
+) -> SolveOutcome:
+    """Solve; ``status`` is ``"unknown"`` when ``time_limit`` seconds ran out."""
+    if solver not in SOLVERS:
+        raise ExactsynError(f"unknown solver {solver!r}; choose one of: {', '.join(SOLVERS)}")
+    start = time.perf_counter()
+    with Solver(name=solver, bootstrap_with=clauses) as s:
+        if time_limit is None:
+            res: bool | None = s.solve()
+        else:
+            budget = _SLICE0
+            res = None
+            while True:
+                left = time_limit - (time.perf_counter() - start)
+                if left <= 0:
+                    break
+                s.conf_budget(budget)
+                res = s.solve_limited()
+                if res is not None:
+                    break
+                budget = min(budget * 2, 200_000)
+        stats = s.accum_stats() or {}
+        model = tuple(s.get_model() or ()) if res else None
+    seconds = time.perf_counter() - start
+    status = "unknown" if res is None else ("sat" if res else "unsat")
+    return SolveOutcome(status, model, seconds, int(stats.get("conflicts", 0)))

@@ -1,0 +1,35 @@
+"""Small shared helpers for the tests (no project logic is re-implemented here)."""
+
+from __future__ import annotations
+
+import random
+
+
+def random_perm(rng: random.Random, lines: int) -> list[int]:
+    p = list(range(1 << lines))
+    rng.shuffle(p)
+    return p
+
+
+def hwb(lines: int) -> list[int]:
+    """Hidden weighted bit: rotate the word left by its Hamming weight.
+
+    Definition as used in the benchmark literature (e.g. Golubitsky, Falconer, Maslov,
+    DAC 2010); written from the definition, not from any circuit.
+    """
+    mask = (1 << lines) - 1
+    out = []
+    for x in range(1 << lines):
+        w = bin(x).count("1") % lines
+        out.append(((x << w) | (x >> (lines - w))) & mask)
+    return out
+
+
+def perm_from_bits(lines: int, fn) -> list[int]:  # type: ignore[no-untyped-def]
+    """Permutation from a function on bit lists (bit l = line l)."""
+    out = []
+    for x in range(1 << lines):
+        bits = [x >> i & 1 for i in range(lines)]
+        ys = fn(*bits)
+        out.append(sum(b << i for i, b in enumerate(ys)))
+    return out
