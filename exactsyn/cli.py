@@ -1,0 +1,244 @@
+"""The ``exactsyn`` command line: parses options, calls the library, prints.
+
+Exit status: 0 success, 1 no circuit within the limits (or none exists), 2 bad input
+(one line on stderr, no traceback).
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+from typing import NoReturn
+
+import click
+
+from exactsyn import __version__
+from exactsyn.circuit import Circuit
+from exactsyn.encode import ENCODINGS, options_for
+from exactsyn.errors import ExactsynError
+from exactsyn.library import PRESETS, make_library
+from exactsyn.search import NoCircuitError, Step, synthesise
+from exactsyn.solve import SOLVERS
+from exactsyn.spec import Spec, load_spec_file, parse_cycles, parse_perm
+
+FORMATS = ("text", "json", "qasm2", "qasm3")
+
+
+def _fail(message: str, code: int = 2) -> NoReturn:
+    click.echo(f"exactsyn: error: {message}", err=True)
+    sys.exit(code)
+
+
+def _read_spec(spec_file: str | None, perm: str | None, cycles: str | None, lines: int | None) -> Spec:
+    given = [x is not None for x in (spec_file, perm, cycles)]
+    if sum(given) != 1:
+        raise ExactsynError("give the function exactly once: --perm, --cycles, or a spec file")
+    if perm is not None:
+        spec = parse_perm(perm)
+        if lines is not None and lines != spec.lines:
+            raise ExactsynError(f"--lines {lines} but the permutation is on {spec.lines} lines")
+        return spec
+    if cycles is not None:
+        return parse_cycles(cycles, lines)
+    assert spec_file is not None
+    return load_spec_file(spec_file)
+
+
+def _emit(text: str, output: str | None) -> None:
+    if output is None:
+        click.echo(text, nl=not text.endswith("\n"))
+        return
+    try:
+        Path(output).write_text(text if text.endswith("\n") else text + "\n")
+    except OSError as e:
+        raise ExactsynError(f"cannot write {output}: {e.strerror}") from None
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="exactsyn")
+def main() -> None:
+    """exactsyn — provably minimal reversible circuits by SAT.
+
+    \b
+    Quick start:
+      exactsyn synth --perm 1,0,3,2,5,7,4,6 --library nct
+      exactsyn synth --cycles "(3 7)" --library nct --format qasm2 -o toffoli.qasm
+      exactsyn apply toffoli.qasm
+
+    Line l carries bit l of the state (line 0 = least significant bit); a permutation
+    p lists p[i], the output for input i.
+    """
+
+
+@main.command()
+@click.argument("spec_file", required=False, type=click.Path(dir_okay=False))
+@click.option("--perm", metavar="LIST", help="Permutation p[0],p[1],... of 0..2^n-1, e.g. 1,0,3,2.")
+@click.option("--cycles", metavar="TEXT", help='Permutation in cycle notation, e.g. "(0 1)(2 3)".')
+@click.option("--lines", type=int, help="Number of lines (for --cycles; default: smallest that fits).")
+@click.option(
+    "--library",
+    "library_name",
+    default="nct",
+    show_default=True,
+    metavar="NAME",
+    help="Gate library: " + "; ".join(f"{k} = {v}" for k, v in PRESETS.items()) + ".",
+)
+@click.option("--max-controls", type=int, help="Cap the number of controls of any gate.")
+@click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
+@click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the result here, not stdout.")
+@click.option(
+    "--time-limit",
+    type=float,
+    metavar="SECONDS",
+    help="Stop proving after this long; a heuristic circuit is returned, marked not optimal.",
+)
+@click.option("--max-gates", type=int, help="Do not look for circuits longer than this.")
+@click.option(
+    "--encoding",
+    type=click.Choice(list(ENCODINGS)),
+    default="onehot",
+    show_default=True,
+    help="CNF encoding; 'textbook' is the baseline without symmetry breaking.",
+)
+@click.option("--solver", type=click.Choice(list(SOLVERS)), default="cadical195", show_default=True)
+@click.option("-q", "--quiet", is_flag=True, help="No per-k progress lines on stderr.")
+def synth(
+    spec_file: str | None,
+    perm: str | None,
+    cycles: str | None,
+    lines: int | None,
+    library_name: str,
+    max_controls: int | None,
+    fmt: str,
+    output: str | None,
+    time_limit: float | None,
+    max_gates: int | None,
+    encoding: str,
+    solver: str,
+    quiet: bool,
+) -> None:
+    """Find a minimum-gate circuit for a reversible function and prove it minimal.
+
+    For k = lower bound, lower bound + 1, ... exactsyn asks a SAT solver whether a
+    circuit of exactly k gates exists; every "no" is a proof, the first "yes" is the
+    optimum.  Progress (k, SAT/UNSAT, seconds) goes to stderr.
+
+    \b
+    Examples:
+      exactsyn synth --perm 0,1,2,3,4,5,7,6                 # a Toffoli gate: 1 gate
+      exactsyn synth --cycles "(1 2)" --library nct         # SWAP of lines 0,1: 3 CNOTs
+      exactsyn synth instances/parking-gate.toml --format json
+      exactsyn synth --perm ... --library mct --time-limit 60 --format qasm3 -o out.qasm
+
+    Exit status: 0 a circuit was printed (check "optimal" in JSON), 1 no circuit
+    within the limits or none exists in the library, 2 bad input.
+    """
+    try:
+        spec = _read_spec(spec_file, perm, cycles, lines)
+        library = make_library(library_name, spec.lines, max_controls)
+        if time_limit is not None and time_limit <= 0:
+            raise ExactsynError("--time-limit must be positive")
+        if max_gates is not None and max_gates < 0:
+            raise ExactsynError("--max-gates must be 0 or more")
+
+        def progress(step: Step) -> None:
+            if not quiet:
+                click.echo(
+                    f"k={step.k:<3} {step.status.upper():<7} {step.seconds:8.2f} s"
+                    f"   ({step.variables} vars, {step.clauses} clauses, {step.conflicts} conflicts)",
+                    err=True,
+                )
+
+        try:
+            res = synthesise(
+                spec,
+                library,
+                encoding=options_for(encoding),
+                solver=solver,
+                time_limit=time_limit,
+                max_gates=max_gates,
+                progress=progress,
+            )
+        except NoCircuitError as e:
+            _fail(e.message, 1)
+        from exactsyn.report import result_to_dict, result_to_text, status_line
+
+        if not quiet:
+            click.echo(status_line(res), err=True)
+        if res.circuit is None:
+            if fmt == "json":
+                _emit(json.dumps(result_to_dict(res), indent=2), output)
+            sys.exit(1)
+        if fmt == "json":
+            text = json.dumps(result_to_dict(res), indent=2)
+        elif fmt == "text":
+            text = result_to_text(res)
+        else:
+            from exactsyn.io.qasm import to_qasm2, to_qasm3
+
+            text = to_qasm2(res.circuit) if fmt == "qasm2" else to_qasm3(res.circuit)
+        _emit(text, output)
+    except ExactsynError as e:
+        _fail(e.message)
+
+
+def _load_circuit(path: str) -> Circuit:
+    p = Path(path)
+    try:
+        text = p.read_text()
+    except (OSError, UnicodeDecodeError) as e:
+        raise ExactsynError(f"cannot read circuit file {p}: {getattr(e, 'strerror', None) or e}") from None
+    if text.lstrip().startswith("{"):
+        from exactsyn.io.jsonio import load_json_circuit
+
+        return load_json_circuit(text)
+    from exactsyn.io.qasm import read_qasm
+
+    return read_qasm(text)
+
+
+@main.command()
+@click.argument("circuit_file", type=click.Path(dir_okay=False))
+@click.option("--inputs", metavar="LIST", help="Only these inputs (comma-separated integers); default all.")
+@click.option("--perm", "as_perm", is_flag=True, help="Print the function as one permutation line.")
+def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
+    """Run a saved circuit (JSON or OpenQASM 2/3) on inputs and print its truth table.
+
+    \b
+    Example:
+      exactsyn synth --cycles "(6 7)" --format qasm2 -o t.qasm && exactsyn apply t.qasm
+    Columns show the bits line n-1 ... line 0 (line 0 rightmost) and the integer.
+    """
+    try:
+        circ = _load_circuit(circuit_file)
+        n, size = circ.lines, 1 << circ.lines
+        if inputs is None:
+            xs = list(range(size))
+        else:
+            try:
+                xs = [int(t, 0) for t in inputs.replace(" ", "").split(",") if t]
+            except ValueError:
+                raise ExactsynError(f"--inputs {inputs!r}: expected comma-separated integers") from None
+            bad = [x for x in xs if not 0 <= x < size]
+            if bad:
+                raise ExactsynError(f"input {bad[0]} is outside 0..{size - 1} for {n} lines")
+        import numpy as np
+
+        outs = [int(v) for v in circ.apply(np.array(xs, dtype=np.int64))]
+        if as_perm:
+            click.echo(",".join(map(str, outs)))
+            return
+        w = max(2, len(str(size - 1)))
+        head = "in".rjust(w) + "  " + "bits".ljust(n) + "  ->  " + "bits".ljust(n) + "  " + "out".rjust(w)
+        click.echo(head)
+        for x, y in zip(xs, outs, strict=True):
+            click.echo(
+                f"{x:>{w}}  {x:0{n}b}{' ' * max(0, 4 - n)}  ->  {y:0{n}b}{' ' * max(0, 4 - n)}  {y:>{w}}"
+            )
+    except ExactsynError as e:
+        _fail(e.message)
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,76 @@
+"""Turn a synthesis :class:`~exactsyn.search.Result` into JSON-ready data and text.
+
+The JSON object keeps the fields that outside scripts rely on: ``lines``,
+``gate_count``, ``optimal`` (true only when proven), ``lower_bound``, ``library`` and
+``gates`` (application order, each gate as in :mod:`exactsyn.io.jsonio`).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from exactsyn import __version__
+from exactsyn.io.draw import draw_text
+from exactsyn.io.jsonio import gate_to_dict
+from exactsyn.search import Result
+
+
+def result_to_dict(res: Result) -> dict[str, Any]:
+    c = res.circuit
+    return {
+        "name": res.spec.name,
+        "lines": res.spec.lines,
+        "permutation": list(res.spec.outputs) if res.spec.is_permutation else None,
+        "gate_count": None if c is None else len(c),
+        "optimal": res.optimal,
+        "lower_bound": res.lower_bound,
+        "upper_bound": res.upper_bound,
+        "library": res.library.name,
+        "gates": None if c is None else [gate_to_dict(g) for g in c.gates],
+        "source": res.source,
+        "initial_bound": {"value": res.initial_bound.value, "reason": res.initial_bound.reason},
+        "encoding": res.encoding.describe(),
+        "solver": res.solver,
+        "steps": [
+            {
+                "k": s.k,
+                "status": s.status,
+                "seconds": round(s.seconds, 4),
+                "conflicts": s.conflicts,
+                "variables": s.variables,
+                "clauses": s.clauses,
+            }
+            for s in res.steps
+        ],
+        "seconds": round(res.seconds, 4),
+        "version": __version__,
+    }
+
+
+def status_line(res: Result) -> str:
+    if res.circuit is None:
+        return f"no circuit found; proven lower bound {res.lower_bound} gates"
+    if res.optimal:
+        return f"{_gates(len(res.circuit))}, proven optimal ({res.library.name})"
+    return (
+        f"{_gates(len(res.circuit))}, NOT proven optimal: the optimum lies in "
+        f"[{res.lower_bound}, {len(res.circuit)}] ({res.library.name})"
+    )
+
+
+def result_to_text(res: Result, labels: list[str] | None = None) -> str:
+    out = []
+    if res.spec.name:
+        out.append(f"# {res.spec.name}")
+    out.append(f"# {status_line(res)}")
+    if res.circuit is not None:
+        if len(res.circuit):
+            out.append(draw_text(res.circuit, labels))
+            out.append("gates (application order): " + "  ".join(str(g) for g in res.circuit.gates))
+        else:
+            out.append("(the empty circuit: the function is the identity)")
+    return "\n".join(out) + "\n"
+
+
+def _gates(n: int) -> str:
+    return f"{n} gate" if n == 1 else f"{n} gates"
