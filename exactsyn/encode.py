@@ -49,6 +49,12 @@ optimal circuit, whatever combination of rules is switched on:
   commute (checked by composing their permutations both ways).  Swapping such a pair
   gives a circuit of the same length computing the same function that is
   lexicographically smaller, so ``C*`` has no such pair.
+* ``window2``, ``window3``, ``window4`` — forbid every run of 2 / 3 / 4 consecutive
+  gates that is not the least optimal circuit of its own function (precomputed by
+  enumeration in :mod:`exactsyn.windows`, where the argument is spelt out: each window
+  of ``C*`` is the least optimal circuit of its function, else ``C*`` could be
+  shortened or made smaller).  ``window2`` contains ``no-repeat`` and ``commute``.
+  A window length is skipped when ``|G|^w`` exceeds the enumeration cap.
 * ``touch`` (redundant, implied) — ``∨_d t[d][l]`` for every line ``l`` whose output
   differs from its input on a specified row: only a gate targeting ``l`` changes ``l``.
   Every circuit meeting the spec satisfies it.
@@ -68,12 +74,14 @@ from exactsyn.errors import ExactsynError
 from exactsyn.gates import Gate
 from exactsyn.library import Library
 from exactsyn.spec import Spec
+from exactsyn.windows import forbidden_windows, window_size_ok
 
 ENCODINGS = {
     "onehot": "one-hot gate choice, constants substituted, symmetry breaking (default)",
     "textbook": "one-hot gate choice, no symmetry breaking: the baseline every speed-up is measured against",
 }
-SYMMETRY_RULES = ("no-repeat", "commute", "touch")
+SYMMETRY_RULES = ("no-repeat", "commute", "touch", "window2", "window3", "window4")
+DEFAULT_SYMMETRY = ("no-repeat", "commute", "touch")
 ENCODING_VERSION = 1
 
 Lit = int | bool
@@ -84,7 +92,7 @@ class EncodingOptions:
     """Which encoding and which symmetry-breaking rules; part of every certificate."""
 
     name: str = "onehot"
-    symmetry: tuple[str, ...] = SYMMETRY_RULES
+    symmetry: tuple[str, ...] = DEFAULT_SYMMETRY
 
     def __post_init__(self) -> None:
         if self.name not in ENCODINGS:
@@ -100,7 +108,7 @@ class EncodingOptions:
 
 
 def options_for(name: str) -> EncodingOptions:
-    return EncodingOptions(name, SYMMETRY_RULES if name == "onehot" else ())
+    return EncodingOptions(name, DEFAULT_SYMMETRY if name == "onehot" else ())
 
 
 @dataclass(frozen=True)
@@ -256,6 +264,11 @@ def encode(spec: Spec, library: Library, k: int, options: EncodingOptions | None
         for d in range(k - 1):
             for i, j in pairs:
                 b.add([-gvars[d][j], -gvars[d + 1][i]])
+    for w in (2, 3, 4):
+        if f"window{w}" in opts.symmetry and window_size_ok(library, w):
+            for seq in forbidden_windows(library, w):
+                for d in range(k - w + 1):
+                    b.add([-gvars[d + i][j] for i, j in enumerate(seq)])
     if "touch" in opts.symmetry:
         for line in spec.changed_lines():
             b.add([tvars[d][line] for d in range(k)])

@@ -31,6 +31,8 @@ class Library:
     name: str
     lines: int
     gates: tuple[Gate, ...]
+    preset: str = ""
+    control_cap: int | None = None  # make_library(preset, lines, control_cap) rebuilds it
 
     def __len__(self) -> int:
         return len(self.gates)
@@ -95,4 +97,4 @@ def make_library(name: str, lines: int, max_controls: int | None = None) -> Libr
         cap = min(cap, max_controls)
     cap = min(cap, lines - 1)
     label = key if max_controls is None or cap == {"nct": 2, "mct": lines - 1}[key] else f"{key}:c{cap}"
-    return Library(label, lines, tuple(mct_gates(lines, cap)))
+    return Library(label, lines, tuple(mct_gates(lines, cap)), key, cap)

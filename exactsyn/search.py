@@ -17,9 +17,11 @@ from dataclasses import dataclass
 
 from exactsyn.bounds import Bound, lower_bound, parity_obstruction
 from exactsyn.circuit import Circuit
-from exactsyn.encode import EncodingOptions, encode
+from exactsyn.dimacs import cnf_sha256
+from exactsyn.encode import Encoding, EncodingOptions, encode
 from exactsyn.errors import ExactsynError
 from exactsyn.library import Library
+from exactsyn.proofcap import solve_with_lrat
 from exactsyn.solve import solve_cnf
 from exactsyn.spec import Spec
 
@@ -38,6 +40,10 @@ class Step:
     conflicts: int
     variables: int
     clauses: int
+    solver: str = ""
+    cnf_sha256: str | None = None  # set when certifying
+    proof: str | None = None  # where the sink stored the LRAT refutation
+    proof_bytes: int = 0
 
 
 @dataclass(frozen=True)
@@ -86,10 +92,16 @@ def synthesise(
     max_gates: int | None = None,
     use_heuristic: bool = True,
     progress: Callable[[Step], None] | None = None,
+    proof_sink: Callable[[int, bytes], str] | None = None,
+    cnf_sink: Callable[[Encoding], None] | None = None,
 ) -> Result:
     """Find a minimum-gate circuit; see the module docstring.
 
-    Raises :class:`NoCircuitError` when parity rules every circuit out.
+    With ``proof_sink`` every k-query is solved by CaDiCaL 1.9.5 with LRAT output and
+    each refutation is handed to ``proof_sink(k, proof)``, which stores it and returns
+    its name (see :mod:`exactsyn.certificate`).  ``cnf_sink`` receives every k-query's
+    encoding (for DIMACS export).  Raises :class:`NoCircuitError` when parity rules
+    every circuit out.
     """
     opts = encoding or EncodingOptions()
     start = time.perf_counter()
@@ -130,14 +142,34 @@ def synthesise(
         if left is not None and left <= 0:
             return result(upper, False, k, "heuristic" if upper else "none")
         enc = encode(spec, library, k, opts)
-        out = solve_cnf(enc.clauses, solver, left)
-        step = Step(k, out.status, out.seconds, out.conflicts, enc.num_vars, len(enc.clauses))
+        if cnf_sink:
+            cnf_sink(enc)
+        if proof_sink is None:
+            out = solve_cnf(enc.clauses, solver, left)
+            step = Step(k, out.status, out.seconds, out.conflicts, enc.num_vars, len(enc.clauses), solver)
+            model = out.model
+        else:
+            run = solve_with_lrat(enc.clauses, left)
+            name = proof_sink(k, run.proof) if run.status == "unsat" else None
+            step = Step(
+                k,
+                run.status,
+                run.seconds,
+                run.conflicts or 0,
+                enc.num_vars,
+                len(enc.clauses),
+                run.solver,
+                cnf_sha256(enc.num_vars, enc.clauses),
+                name,
+                len(run.proof),
+            )
+            model = run.model
         steps.append(step)
         if progress:
             progress(step)
-        if out.status == "sat":
-            assert out.model is not None
-            return result(enc.decode(out.model), True, k, "sat")
-        if out.status == "unknown":
+        if step.status == "sat":
+            assert model is not None
+            return result(enc.decode(model), True, k, "sat")
+        if step.status == "unknown":
             return result(upper, False, k, "heuristic" if upper else "none")
         k += 1

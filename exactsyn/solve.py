@@ -31,9 +31,7 @@ class SolveOutcome:
     conflicts: int
 
 
-def solve_cnf(
-    clauses: list[list[int]], solver: str = "cadical195", time_limit: float | None = None
-) -> SolveOutcome:
+def solve_cnf(clauses: list[list[int]], solver: str = "cadical195", time_limit: float | None = None) -> SolveOutcome:
     """Solve; ``status`` is ``"unknown"`` when ``time_limit`` seconds ran out."""
     if solver not in SOLVERS:
         raise ExactsynError(f"unknown solver {solver!r}; choose one of: {', '.join(SOLVERS)}")

@@ -29,9 +29,7 @@ from exactsyn.spec import Spec, from_permutation  # noqa: E402
 
 def hwb(n: int) -> list[int]:
     mask = (1 << n) - 1
-    return [
-        ((x << (bin(x).count("1") % n)) | (x >> (n - bin(x).count("1") % n))) & mask for x in range(1 << n)
-    ]
+    return [((x << (bin(x).count("1") % n)) | (x >> (n - bin(x).count("1") % n))) & mask for x in range(1 << n)]
 
 
 def instance_set(name: str, limit: int, seed: int) -> tuple[str, list[Spec]]:

@@ -196,9 +196,7 @@ def _interpret_openqasm3_ast(program: object) -> Circuit:
             kind, k = base[st.name.name]
             pos += qubits[at : at + k]
             targets = qubits[at + k :]
-            gates.append(
-                x_gate(targets[0], pos, neg) if kind == "x" else swap_gate(targets[0], targets[1], pos, neg)
-            )
+            gates.append(x_gate(targets[0], pos, neg) if kind == "x" else swap_gate(targets[0], targets[1], pos, neg))
         else:
             assert isinstance(st, ast.Include)
     return Circuit(lines, tuple(gates))

@@ -67,9 +67,7 @@ def _column(g: Gate, lines: int, s: _Symbols) -> tuple[list[str], list[str]]:
     return wires, gaps
 
 
-def draw_text(
-    circuit: Circuit, labels: list[str] | None = None, width: int = 100, ascii: bool = False
-) -> str:
+def draw_text(circuit: Circuit, labels: list[str] | None = None, width: int = 100, ascii: bool = False) -> str:
     """Draw ``circuit``; ``labels`` name the lines (default ``q0``, ``q1``, ...)."""
     n = circuit.lines
     names = [f"q{i}" for i in range(n)] if labels is None else [str(label) for label in labels]

@@ -257,9 +257,7 @@ def _check_definition(ln: int, stmt: str, defined: dict[str, tuple[str, int]]) -
     if name in defined:
         raise ExactsynError(f"gate '{name}' is defined a second time at line {ln}")
     if family == "swapc" and f"xc{m + 1}" not in defined:
-        raise ExactsynError(
-            f"gate definition '{name}' at line {ln} uses xc{m + 1}, which is not defined before it"
-        )
+        raise ExactsynError(f"gate definition '{name}' at line {ln} uses xc{m + 1}, which is not defined before it")
     body = stmt[stmt.find("{") :]
     if body.count(";") != _expected_statements(family, m):
         raise ExactsynError(f"gate definition '{name}' at line {ln} differs from the one exactsyn writes")
@@ -274,8 +272,7 @@ def _operand(ln: int, text: str, reg: _Register) -> int:
     if not m:
         if re.fullmatch(_IDENT, text):
             raise ExactsynError(
-                f"operand '{text}' at line {ln}: a whole register is not supported; "
-                f"index each qubit, e.g. {text}[0]"
+                f"operand '{text}' at line {ln}: a whole register is not supported; index each qubit, e.g. {text}[0]"
             )
         raise ExactsynError(f"cannot read operand '{text}' at line {ln}; expected e.g. {reg.name}[0]")
     name, idx = m.group(1), int(m.group(2))
@@ -288,9 +285,7 @@ def _operand(ln: int, text: str, reg: _Register) -> int:
     return idx
 
 
-def _gate_call(
-    ln: int, stmt: str, version: int, reg: _Register | None, defined: dict[str, tuple[str, int]]
-) -> Gate:
+def _gate_call(ln: int, stmt: str, version: int, reg: _Register | None, defined: dict[str, tuple[str, int]]) -> Gate:
     rest = stmt
     mods: list[tuple[bool, int]] = []  # (negative?, count), in operand order
     while m := _MODIFIER.match(rest):
@@ -298,9 +293,7 @@ def _gate_call(
         if word in ("inv", "pow"):
             raise ExactsynError(f"unsupported gate modifier '{word}' at line {ln}; {SUPPORTED}")
         if version == 2:
-            raise ExactsynError(
-                f"gate modifier '{word} @' at line {ln} needs OpenQASM 3; the header says 2.0"
-            )
+            raise ExactsynError(f"gate modifier '{word} @' at line {ln} needs OpenQASM 3; the header says 2.0")
         if arg is None:
             count = 1
         elif re.fullmatch(r"[1-9]\d*", arg):
@@ -371,22 +364,17 @@ def read_qasm(text: str) -> Circuit:
             if index != 0:
                 raise ExactsynError(f"the OPENQASM header at line {ln} must be the first statement")
             if not v or v.group(1) not in ("2", "3"):
-                raise ExactsynError(
-                    f"unsupported OpenQASM version '{stmt}' at line {ln}; exactsyn reads 2.0 and 3.0"
-                )
+                raise ExactsynError(f"unsupported OpenQASM version '{stmt}' at line {ln}; exactsyn reads 2.0 and 3.0")
             version = int(v.group(1))
         elif word == "include":
             inc = re.fullmatch(r'include\s+"([^"]*)"', stmt)
             if not inc or inc.group(1) not in _INCLUDES:
-                raise ExactsynError(
-                    f"unsupported include at line {ln}; exactsyn reads {' and '.join(_INCLUDES)}"
-                )
+                raise ExactsynError(f"unsupported include at line {ln}; exactsyn reads {' and '.join(_INCLUDES)}")
         elif word in ("qreg", "qubit"):
             new = _register(ln, stmt)
             if reg is not None:
                 raise ExactsynError(
-                    f"a second quantum register '{new.name}' at line {ln}; "
-                    "exactsyn reads circuits on one register"
+                    f"a second quantum register '{new.name}' at line {ln}; exactsyn reads circuits on one register"
                 )
             reg = new
         elif word in ("creg", "bit") and re.fullmatch(

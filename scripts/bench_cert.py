@@ -1,0 +1,94 @@
+"""Certificate size and check time versus solve time.
+
+Prints numbers; not a test.
+
+    python scripts/bench_cert.py --set hard3            # the 577 functions needing 8 NCT gates
+    python scripts/bench_cert.py --set hwb4             # hwb4 with mct (minutes)
+    python scripts/bench_cert.py --set hard3 --limit 50
+"""
+
+from __future__ import annotations
+
+import argparse
+import resource
+import shutil
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from exactsyn.bfs import optimal_sizes  # noqa: E402
+from exactsyn.certificate import check_certificate, proof_writer, write_result  # noqa: E402
+from exactsyn.library import make_library  # noqa: E402
+from exactsyn.search import synthesise  # noqa: E402
+from exactsyn.spec import Spec, from_permutation  # noqa: E402
+
+
+def hwb(n: int) -> list[int]:
+    mask = (1 << n) - 1
+    out = []
+    for x in range(1 << n):
+        w = bin(x).count("1") % n
+        out.append(((x << w) | (x >> (n - w))) & mask)
+    return out
+
+
+def specs_for(name: str, limit: int) -> tuple[str, list[Spec]]:
+    if name == "hard3":
+        t = optimal_sizes(make_library("nct", 3))
+        rows = t.permutations()[t.sizes == 8]
+        specs = [from_permutation([int(v) for v in r], f"hard3-{i}") for i, r in enumerate(rows)]
+        return "nct", specs[:limit] if limit else specs
+    if name == "hwb4":
+        return "mct", [from_permutation(hwb(4), "hwb4")]
+    raise SystemExit(f"unknown set {name}")
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    ap.add_argument("--set", default="hard3")
+    ap.add_argument("--limit", type=int, default=0)
+    ap.add_argument("--verbose", action="store_true")
+    args = ap.parse_args()
+    lib_name, specs = specs_for(args.set, args.limit)
+    root = Path(tempfile.mkdtemp(prefix="certbench-"))
+    solve_t = check_t = plain_t = 0.0
+    raw_bytes = gz_bytes = 0
+    failures = 0
+    try:
+        for spec in specs:
+            lib = make_library(lib_name, spec.lines)
+            t0 = time.perf_counter()
+            plain = synthesise(spec, lib)
+            plain_t += time.perf_counter() - t0
+            d = root / spec.name
+            t0 = time.perf_counter()
+            res = synthesise(spec, lib, proof_sink=proof_writer(d))
+            write_result(d, res)
+            solve_t += time.perf_counter() - t0
+            t0 = time.perf_counter()
+            rep = check_certificate(d)
+            check_t += time.perf_counter() - t0
+            failures += not rep.ok
+            raw = sum(s.proof_bytes for s in res.steps)
+            gz = sum(p.stat().st_size for p in d.iterdir())
+            raw_bytes += raw
+            gz_bytes += gz
+            assert plain.circuit is not None and res.circuit is not None
+            if args.verbose or len(specs) == 1:
+                for s in res.steps:
+                    print(f"  {spec.name} k={s.k} {s.status} {s.seconds:.2f}s proof={s.proof_bytes} B")
+        print(f"set {args.set}: {len(specs)} functions, certificates rejected: {failures}")
+        print(f"solve without proofs: {plain_t:.2f} s   solve with LRAT: {solve_t:.2f} s")
+        print(f"check (re-derive CNF + LRAT + simulate): {check_t:.2f} s   ratio check/solve: {check_t / solve_t:.2f}")
+        print(f"proof size: {raw_bytes / 2**20:.1f} MiB LRAT text, {gz_bytes / 2**20:.1f} MiB on disk (gzip)")
+        peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+        print(f"peak memory: {peak:.0f} MiB")
+    finally:
+        shutil.rmtree(root, ignore_errors=True)
+
+
+if __name__ == "__main__":
+    main()
