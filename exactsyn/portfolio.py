@@ -1,0 +1,116 @@
+"""Race several formulations of one k-query on separate cores; the first answer wins.
+
+Symmetry breaking makes refutations shorter but leaves few models, so on satisfiable
+queries the solver can need far longer to find one of them than without it (measured in
+``scripts/bench.py``: e.g. a 5-line, 8-gate query, 18 s with breaking against 1.6 s
+without).  Both formulations are exact for the question "is there a circuit of exactly k
+gates?": with breaking a circuit survives whenever one exists (the arguments in
+:mod:`exactsyn.encode`), so whichever answers first — SAT with a circuit that is then
+simulated, or UNSAT with its own LRAT refutation of its own CNF — decides the query.
+This is a plain algorithm portfolio (Gomes & Selman, "Algorithm portfolios", Artificial
+Intelligence 126, 2001).
+
+Each racer runs in a forked process; its answer (and proof, through a temporary file)
+comes back over a queue, and the losers are terminated.
+"""
+
+from __future__ import annotations
+
+import multiprocessing as mp
+import os
+import queue
+import tempfile
+import time
+from dataclasses import dataclass
+
+from exactsyn.proofcap import solve_with_lrat
+from exactsyn.solve import solve_cnf
+
+
+@dataclass(frozen=True)
+class RaceOutcome:
+    winner: int | None  # index of the formulation that answered, or None
+    status: str  # "sat" | "unsat" | "unknown"
+    model: tuple[int, ...] | None
+    proof: bytes
+    seconds: float
+    conflicts: int
+    solver: str
+
+
+def _racer(
+    index: int, clauses: list[list[int]], certify: bool, solver: str, limit: float | None, out: mp.Queue
+) -> None:  # type: ignore[type-arg]
+    try:
+        if certify:
+            run = solve_with_lrat(clauses, limit)
+            path = None
+            if run.status == "unsat":
+                fd, path = tempfile.mkstemp(prefix="exactsyn-race-", suffix=".lrat")
+                with os.fdopen(fd, "wb") as fh:
+                    fh.write(run.proof)
+            out.put((index, run.status, run.model, path, run.seconds, run.conflicts or 0, run.solver))
+        else:
+            res = solve_cnf(clauses, solver, limit)
+            out.put((index, res.status, res.model, None, res.seconds, res.conflicts, solver))
+    except Exception as e:  # report, never hang the parent
+        out.put((index, "error", None, None, 0.0, 0, repr(e)))
+
+
+def race(
+    formulas: list[list[list[int]]], *, certify: bool, solver: str = "cadical195", time_limit: float | None = None
+) -> RaceOutcome:
+    """Solve every formula in its own process; return the first definite answer."""
+    ctx = mp.get_context("fork")
+    out: mp.Queue = ctx.Queue()  # type: ignore[type-arg]
+    start = time.perf_counter()
+    procs = [
+        ctx.Process(target=_racer, args=(i, f, certify, solver, time_limit, out), daemon=True)
+        for i, f in enumerate(formulas)
+    ]
+    for p in procs:
+        p.start()
+    pending = len(procs)
+    result = RaceOutcome(None, "unknown", None, b"", 0.0, 0, solver)
+    errors: list[str] = []
+    try:
+        while pending:
+            wait = None if time_limit is None else max(0.05, time_limit - (time.perf_counter() - start) + 5.0)
+            try:
+                index, status, model, path, seconds, conflicts, name = out.get(timeout=wait)
+            except queue.Empty:
+                break
+            pending -= 1
+            if status == "error":
+                errors.append(name)
+                continue
+            proof = b""
+            if path:
+                with open(path, "rb") as fh:
+                    proof = fh.read()
+                os.unlink(path)
+            if status in ("sat", "unsat"):
+                result = RaceOutcome(index, status, model, proof, time.perf_counter() - start, conflicts, name)
+                break
+    finally:
+        for p in procs:
+            if p.is_alive():
+                p.terminate()
+        for p in procs:
+            p.join(timeout=5)
+        _drain(out)
+    if result.winner is None and errors and len(errors) == len(procs):
+        raise RuntimeError(f"every racer failed: {errors[0]}")
+    return result
+
+
+def _drain(q: mp.Queue) -> None:  # type: ignore[type-arg]
+    """Remove proof files of racers that finished after the winner."""
+    while True:
+        try:
+            item = q.get_nowait()
+        except (queue.Empty, OSError, ValueError):
+            return
+        path = item[3]
+        if path and os.path.exists(path):
+            os.unlink(path)
