@@ -45,6 +45,7 @@ from exactsyn.encode import EncodingOptions, encode
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
 from exactsyn.library import Library, make_library
+from exactsyn.mitm import FULL
 from exactsyn.search import Result
 from exactsyn.spec import Spec
 
@@ -107,6 +108,7 @@ class QueryRecord:
     seconds: float
     conflicts: int | None
     proof_bytes: int
+    symmetry: list[str] | None  # the CNF's symmetry rules when they differ from "encoding"
 
 
 def write_proof(directory: Path, k: int, proof: bytes) -> str:
@@ -132,6 +134,7 @@ def write_result(directory: Path, res: Result) -> Path:
             seconds=round(s.seconds, 4),
             conflicts=s.conflicts,
             proof_bytes=s.proof_bytes,
+            symmetry=None if s.symmetry is None or s.symmetry == res.encoding.symmetry else list(s.symmetry),
         )
         for s in res.steps
     ]
@@ -153,6 +156,7 @@ def write_result(directory: Path, res: Result) -> Path:
             "reason": res.initial_bound.reason,
             "detail": res.initial_bound.detail,
         },
+        "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
         "queries": [q.__dict__ for q in queries],
     }
     path = directory / RESULT_FILE
@@ -266,6 +270,30 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         note("bound", True, f"k >= {claimed}: {bound.detail}")
         first = claimed
 
+    # A bound from the distance tables: re-derived by rebuilding the table at the
+    # recorded depth and repeating the meet-in-the-middle test.
+    table_value = 0
+    tb = data.get("table_bound")
+    if tb is not None:
+        try:
+            depth, extended, value, exact = int(tb["depth"]), bool(tb["extended"]), int(tb["value"]), bool(tb["exact"])
+        except (KeyError, TypeError, ValueError):
+            raise ExactsynError("certificate: malformed 'table_bound'") from None
+        if not spec.is_permutation or not library.only_x or spec.lines > 4 or not 0 <= depth <= FULL:
+            note("table", False, "a table bound needs a full permutation on at most 4 lines")
+        else:
+            from exactsyn.mitm import extended_meet, meet_in_the_middle
+
+            t0 = time.perf_counter()
+            mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
+            dt = time.perf_counter() - t0
+            got = mr.exact if mr.exact is not None else mr.lower
+            if value > got or (exact and mr.exact != value):
+                note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
+            else:
+                table_value = value
+                note("table", True, f"k >= {value}: meet in the middle over the depth-{depth} table ({dt:.2f} s)")
+
     # Every refuted k.
     refuted: set[int] = set()
     queries = data.get("queries") or []
@@ -276,7 +304,14 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         if not isinstance(k, int) or k < 0:
             note("query", False, f"bad k {k!r}")
             continue
-        enc = encode(spec, library, k, options)
+        q_opts = options
+        if q.get("symmetry") is not None:
+            try:
+                q_opts = EncodingOptions(options.name, tuple(str(x) for x in q["symmetry"]))
+            except (TypeError, ExactsynError):
+                note(f"k={k}", False, "malformed per-query symmetry rules")
+                continue
+        enc = encode(spec, library, k, q_opts)
         digest = cnf_sha256(enc.num_vars, enc.clauses)
         if digest != q.get("cnf_sha256"):
             note(f"k={k}", False, "re-derived CNF differs from the one proved (spec, library or encoding changed)")
@@ -304,7 +339,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         if circuit is None or first is None:
             note("optimal", False, "optimality claimed without a checked circuit and bound")
         else:
-            missing = [k for k in range(first, len(circuit)) if k not in refuted]
+            missing = [k for k in range(first, len(circuit)) if k not in refuted and k >= table_value]
             if missing:
                 note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
             else:
@@ -312,7 +347,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     lb = data.get("lower_bound")
     if isinstance(lb, int) and first is not None:
         support = first
-        while support in refuted:
+        while support in refuted or support < table_value:
             support += 1
         if lb > support:
             note("lower_bound", False, f"claims lower bound {lb}, checked only {support}")

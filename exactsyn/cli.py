@@ -18,7 +18,7 @@ from exactsyn.circuit import Circuit
 from exactsyn.encode import ENCODINGS, options_for
 from exactsyn.errors import ExactsynError
 from exactsyn.library import PRESETS, make_library
-from exactsyn.search import NoCircuitError, Step, synthesise
+from exactsyn.search import BOUNDS, NoCircuitError, Step, synthesise
 from exactsyn.solve import SOLVERS
 from exactsyn.spec import Spec, load_spec_file, parse_cycles, parse_perm
 
@@ -103,6 +103,14 @@ def main() -> None:
 )
 @click.option("--solver", type=click.Choice(list(SOLVERS)), default="cadical195", show_default=True)
 @click.option(
+    "--bounds",
+    type=click.Choice(list(BOUNDS)),
+    default="table",
+    show_default=True,
+    help="'table': skip hopeless k with breadth-first distance tables and a meet-in-the-middle test "
+    "(up to 4 lines; exact up to 11 gates on 4 lines); 'cheap': SAT (and LRAT) for every k.",
+)
+@click.option(
     "--certificate",
     "cert_dir",
     type=click.Path(file_okay=False),
@@ -116,6 +124,14 @@ def main() -> None:
     type=click.Path(file_okay=False),
     metavar="DIR",
     help="Also write every k-query as DIMACS CNF (k05.cnf, ...) for outside solvers and checkers.",
+)
+@click.option(
+    "--jobs",
+    type=int,
+    default=2,
+    show_default=True,
+    help="Processes per query: with 2, a query still open after 1 s is raced against the "
+    "formulation without symmetry breaking (faster on satisfiable queries); 1 = sequential.",
 )
 @click.option("-q", "--quiet", is_flag=True, help="No per-k progress lines on stderr.")
 def synth(
@@ -131,8 +147,10 @@ def synth(
     max_gates: int | None,
     encoding: str,
     solver: str,
+    bounds: str,
     cert_dir: str | None,
     dimacs_dir: str | None,
+    jobs: int,
     quiet: bool,
 ) -> None:
     """Find a minimum-gate circuit for a reversible function and prove it minimal.
@@ -157,6 +175,8 @@ def synth(
         library = make_library(library_name, spec.lines, max_controls)
         if time_limit is not None and time_limit <= 0:
             raise ExactsynError("--time-limit must be positive")
+        if jobs < 1:
+            raise ExactsynError("--jobs must be 1 or more")
         if max_gates is not None and max_gates < 0:
             raise ExactsynError("--max-gates must be 0 or more")
 
@@ -183,6 +203,8 @@ def synth(
                 progress=progress,
                 proof_sink=proof_sink,
                 cnf_sink=cnf_sink,
+                bounds=bounds,
+                jobs=jobs,
             )
         except NoCircuitError as e:
             _fail(e.message, 1)

@@ -29,6 +29,7 @@ def result_to_dict(res: Result) -> dict[str, Any]:
         "gates": None if c is None else [gate_to_dict(g) for g in c.gates],
         "source": res.source,
         "initial_bound": {"value": res.initial_bound.value, "reason": res.initial_bound.reason},
+        "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
         "encoding": res.encoding.describe(),
         "solver": res.solver,
         "steps": [
@@ -51,7 +52,15 @@ def status_line(res: Result) -> str:
     if res.circuit is None:
         return f"no circuit found; proven lower bound {res.lower_bound} gates"
     if res.optimal:
-        return f"{_gates(len(res.circuit))}, proven optimal ({res.library.name})"
+        how = ""
+        if res.table_bound is not None:
+            tb = res.table_bound
+            depth = "full" if tb.depth >= 10**6 else f"depth {tb.depth}"
+            how = f"; distance table ({depth}): at least {tb.value} gates"
+        refuted = [s.k for s in res.steps if s.status == "unsat"]
+        if refuted:
+            how += f"; SAT refuted k = {refuted[0]}..{refuted[-1]}"
+        return f"{_gates(len(res.circuit))}, proven optimal ({res.library.name}{how})"
     return (
         f"{_gates(len(res.circuit))}, NOT proven optimal: the optimum lies in "
         f"[{res.lower_bound}, {len(res.circuit)}] ({res.library.name})"

@@ -21,9 +21,21 @@ from exactsyn.dimacs import cnf_sha256
 from exactsyn.encode import Encoding, EncodingOptions, encode
 from exactsyn.errors import ExactsynError
 from exactsyn.library import Library
+from exactsyn.mitm import extended_meet
+from exactsyn.portfolio import race
 from exactsyn.proofcap import solve_with_lrat
 from exactsyn.solve import solve_cnf
 from exactsyn.spec import Spec
+
+BOUNDS = {
+    "table": "cheap bounds, then distance tables with meet in the middle (up to 4 lines, full specs)",
+    "cheap": "only bounds without tables; every refuted k gets an LRAT proof when certifying",
+}
+# Number of gates from which the distance table is consulted, by line count: building
+# the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
+TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
+# The table is not built when less time than this is left (it cannot be interrupted).
+TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0}
 
 
 class NoCircuitError(ExactsynError):
@@ -44,6 +56,7 @@ class Step:
     cnf_sha256: str | None = None  # set when certifying
     proof: str | None = None  # where the sink stored the LRAT refutation
     proof_bytes: int = 0
+    symmetry: tuple[str, ...] | None = None  # rules of the CNF that answered (certificates)
 
 
 @dataclass(frozen=True)
@@ -55,11 +68,22 @@ class Result:
     lower_bound: int
     upper_bound: int | None
     initial_bound: Bound
+    table_bound: TableBound | None
     steps: tuple[Step, ...]
     encoding: EncodingOptions
     solver: str
     seconds: float
-    source: str  # "sat" | "heuristic" | "bound" (circuit met the lower bound) | "none"
+    source: str  # "sat" | "heuristic" | "table" | "bound" (circuit met the lower bound) | "none"
+
+
+@dataclass(frozen=True)
+class TableBound:
+    """A bound from the distance tables (:mod:`exactsyn.mitm`), re-derivable from its depth."""
+
+    value: int  # every circuit has at least this many gates
+    exact: bool  # value is the optimum (a circuit of that size was found)
+    depth: int
+    extended: bool
 
 
 def heuristic_circuit(spec: Spec, library: Library) -> Circuit | None:
@@ -72,6 +96,70 @@ def heuristic_circuit(spec: Spec, library: Library) -> Circuit | None:
     if all(library.contains(g) for g in circ.gates) and spec.accepts(circ.permutation()):
         return circ
     return None
+
+
+# With jobs ≥ 2, a query still open after this long on its own is raced against the
+# formulation without symmetry breaking (see exactsyn.portfolio).
+QUICK_SECONDS = 1.0
+PLAIN = EncodingOptions("onehot", ())
+
+
+def _query(
+    spec: Spec,
+    library: Library,
+    k: int,
+    enc: Encoding,
+    solver: str,
+    left: float | None,
+    proof_sink: Callable[[int, bytes], str] | None,
+    jobs: int,
+) -> tuple[Step, tuple[int, ...] | None, Encoding]:
+    """Answer one k-query: alone first, then (jobs ≥ 2) as a race of two formulations."""
+    t0 = time.perf_counter()
+    racing = bool(jobs >= 2 and enc.options.symmetry and (left is None or left > QUICK_SECONDS))
+    first_limit = left
+    if racing:
+        first_limit = QUICK_SECONDS if left is None else min(QUICK_SECONDS, left)
+    status, model, conflicts, name, proof = "unknown", None, 0, solver, b""
+    if first_limit is None or first_limit > 0:
+        if proof_sink is None:
+            out = solve_cnf(enc.clauses, solver, first_limit)
+            status, model, conflicts, name = out.status, out.model, out.conflicts, solver
+        else:
+            run = solve_with_lrat(enc.clauses, first_limit)
+            status, model, conflicts, name, proof = run.status, run.model, run.conflicts or 0, run.solver, run.proof
+    if status == "unknown" and racing:
+        plain = encode(spec, library, k, PLAIN)
+        rest = None if left is None else left - (time.perf_counter() - t0)
+        outcome = race([enc.clauses, plain.clauses], certify=proof_sink is not None, solver=solver, time_limit=rest)
+        status, model, conflicts, name, proof = (
+            outcome.status,
+            outcome.model,
+            outcome.conflicts,
+            outcome.solver,
+            outcome.proof,
+        )
+        if outcome.winner == 1:
+            enc = plain
+    seconds = time.perf_counter() - t0
+    if proof_sink is None:
+        step = Step(k, status, seconds, conflicts, enc.num_vars, len(enc.clauses), name)
+    else:
+        stored = proof_sink(k, proof) if status == "unsat" else None
+        step = Step(
+            k,
+            status,
+            seconds,
+            conflicts,
+            enc.num_vars,
+            len(enc.clauses),
+            name,
+            cnf_sha256(enc.num_vars, enc.clauses),
+            stored,
+            len(proof),
+            enc.options.symmetry,
+        )
+    return step, model, enc
 
 
 def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
@@ -91,6 +179,8 @@ def synthesise(
     time_limit: float | None = None,
     max_gates: int | None = None,
     use_heuristic: bool = True,
+    bounds: str = "table",
+    jobs: int = 1,
     progress: Callable[[Step], None] | None = None,
     proof_sink: Callable[[int, bytes], str] | None = None,
     cnf_sink: Callable[[Encoding], None] | None = None,
@@ -111,6 +201,10 @@ def synthesise(
     bound = lower_bound(spec, library)
     upper = heuristic_circuit(spec, library) if use_heuristic else None
     steps: list[Step] = []
+    table: TableBound | None = None
+    if bounds not in BOUNDS:
+        raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
+    want_table = bounds == "table" and spec.is_permutation and library.only_x and spec.lines <= 4
 
     def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> Result:
         if circuit is not None:
@@ -123,6 +217,7 @@ def synthesise(
             lower_bound=lb,
             upper_bound=None if circuit is None else len(circuit),
             initial_bound=bound,
+            table_bound=table,
             steps=tuple(steps),
             encoding=opts,
             solver=solver,
@@ -134,6 +229,16 @@ def synthesise(
     if k == 0:
         return result(Circuit(spec.lines), True, 0, "bound")
     while True:
+        elapsed = time.perf_counter() - start
+        room = time_limit is None or time_limit - elapsed >= TABLE_MIN_SECONDS.get(spec.lines, 0.0)
+        if want_table and table is None and k >= TABLE_FROM.get(spec.lines, 99) and room:
+            mr = extended_meet(spec.permutation, library)
+            if mr.exact is not None and mr.circuit is not None:
+                table = TableBound(mr.exact, True, mr.depth, mr.extended)
+                return result(mr.circuit, True, mr.exact, "table")
+            table = TableBound(mr.lower, False, mr.depth, mr.extended)
+            k = max(k, mr.lower)
+            continue
         if upper is not None and k >= len(upper):
             return result(upper, True, k, "heuristic")
         if max_gates is not None and k > max_gates:
@@ -144,26 +249,7 @@ def synthesise(
         enc = encode(spec, library, k, opts)
         if cnf_sink:
             cnf_sink(enc)
-        if proof_sink is None:
-            out = solve_cnf(enc.clauses, solver, left)
-            step = Step(k, out.status, out.seconds, out.conflicts, enc.num_vars, len(enc.clauses), solver)
-            model = out.model
-        else:
-            run = solve_with_lrat(enc.clauses, left)
-            name = proof_sink(k, run.proof) if run.status == "unsat" else None
-            step = Step(
-                k,
-                run.status,
-                run.seconds,
-                run.conflicts or 0,
-                enc.num_vars,
-                len(enc.clauses),
-                run.solver,
-                cnf_sha256(enc.num_vars, enc.clauses),
-                name,
-                len(run.proof),
-            )
-            model = run.model
+        step, model, enc = _query(spec, library, k, enc, solver, left, proof_sink, jobs)
         steps.append(step)
         if progress:
             progress(step)

@@ -22,7 +22,7 @@ NCT3 = make_library("nct", 3)
 
 
 def certify(perm: list[int], directory: Path, library=NCT3) -> Path:  # type: ignore[no-untyped-def]
-    res = synthesise(from_permutation(perm), library, proof_sink=proof_writer(directory))
+    res = synthesise(from_permutation(perm), library, proof_sink=proof_writer(directory), bounds="cheap")
     assert res.optimal
     return write_result(directory, res)
 
@@ -144,3 +144,33 @@ def test_not_a_certificate_is_a_clear_error(tmp_path: Path) -> None:
     (tmp_path / "result.json").write_text("{}")
     with pytest.raises(ExactsynError, match="not an exactsyn certificate"):
         check_certificate(tmp_path)
+
+
+def test_table_bound_certificate_for_hwb4(tmp_path: Path) -> None:
+    # hwb4 needs 11 MCT gates (Golubitsky, Falconer, Maslov, DAC 2010; from memory).
+    from helpers import hwb
+
+    d = tmp_path / "hwb4"
+    res = synthesise(from_permutation(hwb(4)), make_library("mct", 4), proof_sink=proof_writer(d))
+    write_result(d, res)
+    rep = check_certificate(d)
+    assert rep.ok and rep.gate_count == 11
+    assert any(line.what == "table" and line.ok for line in rep.lines)
+    # A table bound claimed beyond what the table gives is rejected.
+    edit(d, lambda data: data["table_bound"].update(value=12, exact=False))
+    assert rejected(d)
+
+
+def test_raced_queries_give_a_checkable_certificate(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # Force every query into the two-formulation race; each refutation names the
+    # symmetry rules of the CNF it refutes, and the checker re-derives that CNF.
+    import exactsyn.search as search
+
+    monkeypatch.setattr(search, "QUICK_SECONDS", 0.0)
+    table = optimal_sizes(NCT3)
+    p = [int(v) for v in table.permutations()[table.sizes == 7][3]]
+    d = tmp_path / "raced"
+    res = synthesise(from_permutation(p), NCT3, proof_sink=proof_writer(d), bounds="cheap", jobs=2)
+    write_result(d, res)
+    rep = check_certificate(d)
+    assert rep.ok and rep.gate_count == 7

@@ -35,10 +35,12 @@ def test_json_output_has_the_agreed_fields() -> None:
 
 
 def test_progress_lines_go_to_stderr_unless_quiet() -> None:
-    r = run("synth", "--cycles", "(1 2)", "--format", "json")
+    r = run("synth", "--cycles", "(1 2)", "--format", "json", "--bounds", "cheap")
     assert r.returncode == 0
     assert "k=2" in r.stderr and "UNSAT" in r.stderr
     json.loads(r.stdout)  # stdout stays clean JSON
+    t = run("synth", "--cycles", "(1 2)", "--format", "json")
+    assert "table" in t.stderr  # the distance table decided it
     q = run("synth", "--cycles", "(1 2)", "--format", "json", "--quiet")
     assert q.stderr == ""
 

@@ -43,6 +43,6 @@ def test_window_rules_keep_an_optimal_circuit() -> None:
     perms = [random_perm(rng, 3) for _ in range(150)]
     perms += [[int(v) for v in r] for r in table.permutations()[table.sizes == 8][:60]]
     for p in perms:
-        res = synthesise(from_permutation(p), lib, encoding=opts)
+        res = synthesise(from_permutation(p), lib, encoding=opts, bounds="cheap")
         assert res.circuit is not None and list(res.circuit.permutation()) == p
         assert len(res.circuit) == table.size(p), p
