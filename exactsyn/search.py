@@ -102,6 +102,7 @@ def heuristic_circuit(spec: Spec, library: Library) -> Circuit | None:
 # formulation without symmetry breaking (see exactsyn.portfolio).
 QUICK_SECONDS = 1.0
 PLAIN = EncodingOptions("onehot", ())
+RACE_SOLVER = "kissat404"  # for the formulation without symmetry breaking (see exactsyn.portfolio)
 
 
 def _query(
@@ -131,7 +132,13 @@ def _query(
     if status == "unknown" and racing:
         plain = encode(spec, library, k, PLAIN)
         rest = None if left is None else left - (time.perf_counter() - t0)
-        outcome = race([enc.clauses, plain.clauses], certify=proof_sink is not None, solver=solver, time_limit=rest)
+        outcome = race(
+            [enc.clauses, plain.clauses],
+            certify=proof_sink is not None,
+            solver=solver,
+            time_limit=rest,
+            solvers=[solver if proof_sink is None else "cadical195", RACE_SOLVER],
+        )
         status, model, conflicts, name, proof = (
             outcome.status,
             outcome.model,

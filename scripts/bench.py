@@ -96,7 +96,14 @@ def _run_one(inst: dict, config: str, cap: float, out: mp.Queue) -> None:  # typ
     )
 
 
+IN_PROCESS = False
+
+
 def run(inst: dict, config: str, cap: float) -> dict:  # type: ignore[type-arg]
+    if IN_PROCESS:
+        q0: mp.Queue = mp.get_context("fork").Queue()  # type: ignore[type-arg]
+        _run_one(inst, config, cap, q0)
+        return q0.get()  # type: ignore[no-any-return]
     ctx = mp.get_context("spawn")
     q: mp.Queue = ctx.Queue()  # type: ignore[type-arg]
     p = ctx.Process(target=_run_one, args=(inst, config, cap, q))
@@ -114,7 +121,14 @@ def main() -> None:
     ap.add_argument("--cap", type=float, default=600.0, help="seconds per run")
     ap.add_argument("--limit", type=int, default=0, help="first N instances of each set")
     ap.add_argument("--quiet", action="store_true", help="no per-instance lines")
+    ap.add_argument(
+        "--in-process",
+        action="store_true",
+        help="run everything in this process (tables built once, as in a batch; peak memory is cumulative)",
+    )
     args = ap.parse_args()
+    global IN_PROCESS
+    IN_PROCESS = args.in_process
     configs = args.configs.split(",")
     for set_name in args.sets or ["hwb4"]:
         insts = load_set(set_name)
