@@ -150,7 +150,8 @@ def main() -> None:
                 elif r0["optimum"] != inst["optimum"]:
                     wrong += 1
                 if not args.quiet:
-                    per_k = " ".join(f"{k}:{st[0].upper()}{sec}" for k, st, sec, _ in r0["steps"])
+                    mark = {"sat": "S", "unsat": "U"}
+                    per_k = " ".join(f"{k}:{mark.get(st, '?')}{sec}" for k, st, sec, _ in r0["steps"])
                     shown = f"{med:8.2f}s" if r0["proven"] else f"> {args.cap:.0f}s"
                     chk = (
                         f" check={statistics.median(r['check'] for r in runs):.2f}s" if r0["check"] is not None else ""

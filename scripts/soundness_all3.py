@@ -42,8 +42,14 @@ def main() -> None:
     if args.limit:
         perms, sizes = perms[: args.limit], sizes[: args.limit]
     start = time.perf_counter()
+    got: list[int] = []
     with Pool(args.jobs) as pool:
-        got = pool.map(sat_size, perms, chunksize=64)
+        for g in pool.imap(sat_size, perms, chunksize=64):
+            got.append(g)
+            if len(got) % 5000 == 0:
+                done = sizes[: len(got)]
+                bad_so_far = sum(1 for a, b in zip(done, got, strict=True) if a != b)
+                print(f"  {len(got)} done, mismatches {bad_so_far}, {time.perf_counter() - start:.0f} s", flush=True)
     bad = [(p, s, g) for p, s, g in zip(perms, sizes, got, strict=True) if s != g]
     dist = [0] * 9
     for g in got:
