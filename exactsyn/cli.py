@@ -101,7 +101,13 @@ def main() -> None:
     show_default=True,
     help="CNF encoding; 'textbook' is the baseline without symmetry breaking.",
 )
-@click.option("--solver", type=click.Choice(list(SOLVERS)), default="cadical195", show_default=True)
+@click.option(
+    "--solver",
+    type=click.Choice(list(SOLVERS)),
+    default="cadical195",
+    show_default=True,
+    help="SAT solver for the k-queries (with --certificate, CaDiCaL 1.9.5 always, for its LRAT output).",
+)
 @click.option(
     "--bounds",
     type=click.Choice(list(BOUNDS)),
@@ -163,7 +169,7 @@ def synth(
     Examples:
       exactsyn synth --perm 0,1,2,3,4,5,7,6                 # a Toffoli gate: 1 gate
       exactsyn synth --cycles "(1 2)" --library nct         # SWAP of lines 0,1: 3 CNOTs
-      exactsyn synth instances/parking-gate.toml --format json
+      exactsyn synth instances/lift-gray-step.toml --format json
       exactsyn synth --perm ... --library mct --time-limit 60 --format qasm3 -o out.qasm
       exactsyn synth --cycles "(3 7)" --certificate cert/ && exactsyn check cert/
 

@@ -59,7 +59,8 @@ def status_line(res: Result) -> str:
             how = f"; distance table ({depth}): at least {tb.value} gates"
         refuted = [s.k for s in res.steps if s.status == "unsat"]
         if refuted:
-            how += f"; SAT refuted k = {refuted[0]}..{refuted[-1]}"
+            span = str(refuted[0]) if len(refuted) == 1 else f"{refuted[0]}..{refuted[-1]}"
+            how += f"; SAT refuted k = {span}"
         return f"{_gates(len(res.circuit))}, proven optimal ({res.library.name}{how})"
     return (
         f"{_gates(len(res.circuit))}, NOT proven optimal: the optimum lies in "

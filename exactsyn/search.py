@@ -246,10 +246,11 @@ def synthesise(
             table = TableBound(mr.lower, False, mr.depth, mr.extended)
             k = max(k, mr.lower)
             continue
+        if max_gates is not None and k > max_gates:
+            # Every circuit needs at least k > max_gates gates: none within the limit.
+            return result(None, False, k, "none")
         if upper is not None and k >= len(upper):
             return result(upper, True, k, "heuristic")
-        if max_gates is not None and k > max_gates:
-            return result(upper, False, k, "heuristic" if upper else "none")
         left = None if time_limit is None else time_limit - (time.perf_counter() - start)
         if left is not None and left <= 0:
             return result(upper, False, k, "heuristic" if upper else "none")

@@ -125,3 +125,25 @@ def test_help_teaches_by_example() -> None:
     res = CliRunner().invoke(main, ["synth", "--help"])
     assert res.exit_code == 0
     assert "Examples" in res.output and "--perm" in res.output and "Exit status" in res.output
+
+
+def test_max_gates_below_the_optimum_exits_1_with_the_bound() -> None:
+    # SWAP of two lines needs 3 CNOTs (common practice); --max-gates 2 finds none.
+    r = run("synth", "--cycles", "(1 2)", "--max-gates", "2", "--format", "json", "--bounds", "cheap")
+    assert r.returncode == 1
+    data = json.loads(r.stdout)
+    assert data["gate_count"] is None and data["optimal"] is False and data["lower_bound"] == 3
+
+
+def test_check_command_exit_codes(tmp_path: Path) -> None:
+    d = tmp_path / "cert"
+    assert run("synth", "--perm", "1,0,3,2,5,7,4,6", "--certificate", str(d), "-q", "--bounds", "cheap").returncode == 0
+    ok = run("check", str(d))
+    assert ok.returncode == 0 and "certificate OK" in ok.stdout
+    data = json.loads((d / "result.json").read_text())
+    data["spec"]["outputs"][0], data["spec"]["outputs"][1] = data["spec"]["outputs"][1], data["spec"]["outputs"][0]
+    (d / "result.json").write_text(json.dumps(data))
+    bad = run("check", str(d))
+    assert bad.returncode == 1 and "REJECTED" in bad.stdout
+    missing = run("check", str(tmp_path / "nowhere"))
+    assert missing.returncode == 2 and len(missing.stderr.strip().splitlines()) == 1
