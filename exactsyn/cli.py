@@ -350,3 +350,5 @@ def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
 
 if __name__ == "__main__":
     main()
+
+from exactsyn import cli_batch as _cli_batch  # noqa: E402,F401  (registers the batch and table commands)

@@ -1,0 +1,201 @@
+"""Run a planned batch: register it in the store, skip finished work, solve the rest.
+
+Resumption is by the store alone: an item whose row is there is finished and skipped
+(``done`` always; ``timeout`` and ``failed`` too unless asked to retry them; a ``done``
+row without a certificate is redone when certificates are wanted).  Every completed
+item is committed as it arrives, so a killed run loses at most the items in flight.
+Pending items run in the order of their keys (hashes, so a well-mixed order that keeps
+the rate and the ETA honest from the start).
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, field, replace
+
+from exactsyn.batch.plan import Plan
+from exactsyn.batch.store import Member, StatusCounts, Store
+from exactsyn.batch.task import Outcome, Task
+from exactsyn.batch.workers import Engine
+from exactsyn.encode import EncodingOptions
+from exactsyn.errors import ExactsynError
+
+RETRYABLE = ("timeout", "failed")
+
+
+@dataclass(frozen=True)
+class RunOptions:
+    encoding: EncodingOptions = field(default_factory=EncodingOptions)
+    solver: str = "cadical195"
+    time_limit: float | None = None
+    certificates: bool = True
+    verify: bool = False
+    retry: frozenset[str] = frozenset()
+    bounds: str = "table"
+
+    def __post_init__(self) -> None:
+        if self.time_limit is not None and not self.time_limit > 0:
+            raise ExactsynError("the time limit must be positive")
+        bad = sorted(self.retry - set(RETRYABLE))
+        if bad:
+            raise ExactsynError(f"cannot retry status {bad[0]!r}; choose from: {', '.join(RETRYABLE)}")
+        if self.verify and not self.certificates:
+            raise ExactsynError("--verify checks certificates; it cannot be combined with --no-certificates")
+
+
+@dataclass(frozen=True)
+class Event:
+    """``start`` (``total`` items to run, ``skipped`` already finished) or ``item`` (one outcome)."""
+
+    kind: str
+    total: int = 0
+    skipped: int = 0
+    status: str = ""
+    key: str = ""
+    reason: str = ""
+    seconds: float = 0.0
+
+
+@dataclass(frozen=True)
+class RunSummary:
+    batch_id: str
+    label: str
+    engine: str
+    planned: int  # members of the batch, unreadable spec files included
+    skipped: int  # solvable items already finished in the store
+    unreadable: int  # spec files that could not be read (recorded as failed)
+    ran: dict[str, int]
+    wall_seconds: float
+    item_seconds: float
+    counts: StatusCounts
+    failures: tuple[tuple[str, str, str], ...]  # (status, source, reason) of unfinished members
+    checked: int = 0  # of the items run, how many were certificate re-checks only
+
+    @property
+    def all_done(self) -> bool:
+        return set(self.counts.items) <= {"done"}
+
+
+def _work(state: tuple[str | None, str | None, int | None], options: RunOptions) -> str | None:
+    """``solve``, ``check`` (re-check the stored certificate only) or None (finished)."""
+    status, certificate, verified = state
+    if status is None or status in options.retry:
+        return "solve"
+    if status == "done" and options.certificates and certificate is None:
+        return "solve"
+    if status == "done" and options.verify and verified is None:
+        return "check"
+    return None
+
+
+def pending_tasks(store: Store, plan: Plan, options: RunOptions) -> tuple[list[Task], int]:
+    """Tasks for the items of ``plan`` that still need work, and how many were skipped.
+
+    A check task carries no files yet (:func:`materialise` reads them just in time).
+    """
+    states = store.member_states(plan.batch_id)
+    tasks = []
+    for it in plan.items:
+        state = states.get(it.key, (None, None, None))
+        work = _work(state, options)
+        if work is None:
+            continue
+        tasks.append(
+            Task(
+                key=it.key,
+                spec=it.spec,
+                library=it.library,
+                encoding=options.encoding,
+                source=it.source,
+                solver=options.solver,
+                time_limit=options.time_limit,
+                certificates=options.certificates,
+                verify=options.verify,
+                bounds=options.bounds,
+                check_files=() if work == "check" else None,
+            )
+        )
+    tasks.sort(key=lambda t: t.key)
+    return tasks, len(plan.items) - len(tasks)
+
+
+def materialise(store: Store, tasks: list[Task]) -> Iterator[Task]:
+    """Hand tasks out one at a time, reading a check task's certificate files only then.
+
+    A certificate that is no longer on disk means the item is solved again.
+    """
+    for t in tasks:
+        if t.check_files is None:
+            yield t
+            continue
+        row = store.get(t.key)
+        files = store.read_certificate(row["certificate"]) if row and row.get("certificate") else None
+        yield replace(t, check_files=files)
+
+
+def register(store: Store, plan: Plan) -> None:
+    members = [Member(i.key, i.weight, i.source) for i in plan.items]
+    members += [Member(f["key"], 1, f.get("source", "")) for f in plan.failures]
+    store.register_batch(plan.batch_id, plan.description, members, plan.failures, plan.forget)
+
+
+def run_batch(
+    store: Store,
+    plan: Plan,
+    options: RunOptions,
+    engine: Engine,
+    on_event: Callable[[Event], None] | None = None,
+) -> RunSummary:
+    """Register ``plan``, run what is not finished on ``engine``, return the summary."""
+    start = time.perf_counter()
+    register(store, plan)
+    tasks, skipped = pending_tasks(store, plan, options)
+    if on_event:
+        on_event(Event("start", total=len(tasks), skipped=skipped))
+    ran: dict[str, int] = {}
+    item_seconds = 0.0
+    checked = 0
+
+    def on_outcome(out: Outcome) -> None:
+        nonlocal item_seconds, checked
+        store.record(out)
+        ran[out.status] = ran.get(out.status, 0) + 1
+        checked += out.kind == "check"
+        secs = float(out.row.get("wall_seconds") or out.row.get("verify_seconds") or 0.0)
+        item_seconds += secs
+        if on_event:
+            on_event(Event("item", status=out.status, key=out.key, reason=out.row.get("reason") or "", seconds=secs))
+
+    engine.run(materialise(store, tasks), on_outcome)
+    summary = summarise(store, plan, engine.describe(), skipped, ran, time.perf_counter() - start, item_seconds)
+    return replace(summary, checked=checked)
+
+
+def summarise(
+    store: Store,
+    plan: Plan,
+    engine: str,
+    skipped: int,
+    ran: dict[str, int],
+    wall: float,
+    item_seconds: float,
+) -> RunSummary:
+    unfinished = [
+        (r["status"] or "missing", r["member_source"] or r["source"] or r["key"][:16], r["reason"] or "")
+        for r in store.batch_rows(plan.batch_id)
+        if r["status"] != "done"
+    ]
+    return RunSummary(
+        batch_id=plan.batch_id,
+        label=str(plan.description.get("label", "")),
+        engine=engine,
+        planned=len(plan.items) + len(plan.failures),
+        skipped=skipped,
+        unreadable=len(plan.failures),
+        ran=ran,
+        wall_seconds=wall,
+        item_seconds=item_seconds,
+        counts=store.counts(plan.batch_id),
+        failures=tuple(unfinished),
+    )
