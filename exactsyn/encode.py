@@ -157,8 +157,8 @@ def commuting_pairs(library: Library) -> frozenset[tuple[int, int]]:
 class _Builder:
     """Collects clauses, folding Python booleans (known line values) away."""
 
-    def __init__(self) -> None:
-        self.pool = IDPool()
+    def __init__(self, pool: IDPool | None = None) -> None:
+        self.pool = pool or IDPool()
         self.clauses: list[list[int]] = []
         self.empty = False
 
@@ -185,8 +185,23 @@ def _neg(lit: Lit) -> Lit:
     return -lit
 
 
-def encode(spec: Spec, library: Library, k: int, options: EncodingOptions | None = None) -> Encoding:
-    """Build the CNF for exactly ``k`` gates (see the module docstring)."""
+def encode(
+    spec: Spec,
+    library: Library,
+    k: int,
+    options: EncodingOptions | None = None,
+    *,
+    guard: bool = False,
+    pool: IDPool | None = None,
+) -> Encoding:
+    """Build the CNF for exactly ``k`` gates (see the module docstring).
+
+    ``guard=True`` (for incremental solving across k, measured in
+    ``scripts/exp_incremental.py``) keeps the line values after the last gate as
+    variables and makes every clause that depends on k — the spec at depth k and the
+    ``touch`` rule — conditional on the activation literal ``("act", k)``, so one solver
+    can hold the queries of several k at once; ``pool`` shares variable names.
+    """
     opts = options or EncodingOptions()
     if spec.lines != library.lines:
         raise ExactsynError(f"spec has {spec.lines} lines but the library is built for {library.lines}")
@@ -195,8 +210,9 @@ def encode(spec: Spec, library: Library, k: int, options: EncodingOptions | None
     if k < 0:
         raise ExactsynError("gate count must be non-negative")
     n, gates = spec.lines, library.gates
-    b = _Builder()
+    b = _Builder(pool)
     textbook = opts.name == "textbook"
+    act = b.var("act", k) if guard else None
 
     gvars = tuple(tuple(b.var("g", d, j) for j in range(len(gates))) for d in range(k))
     tvars = [[b.var("t", d, line) for line in range(n)] for d in range(k)]
@@ -206,9 +222,17 @@ def encode(spec: Spec, library: Library, k: int, options: EncodingOptions | None
     def value(r: int, d: int, line: int) -> Lit:
         if d == 0 and not textbook:
             return bool(r >> line & 1)
-        if d == k and not textbook and spec.care[r] >> line & 1:
+        if d == k and not textbook and not guard and spec.care[r] >> line & 1:
             return bool(spec.outputs[r] >> line & 1)
         return b.var("x", r, d, line)
+
+    if guard and not textbook:
+        assert act is not None
+        for r in rows:
+            for line in range(n):
+                if spec.care[r] >> line & 1:
+                    v = value(r, k, line)
+                    b.add([-act, v if spec.outputs[r] >> line & 1 else _neg(v)])
 
     if textbook:
         for r in rows:
@@ -271,9 +295,9 @@ def encode(spec: Spec, library: Library, k: int, options: EncodingOptions | None
                     b.add([-gvars[d + i][j] for i, j in enumerate(seq)])
     if "touch" in opts.symmetry:
         for line in spec.changed_lines():
-            b.add([tvars[d][line] for d in range(k)])
+            b.add(([-act] if act is not None else []) + [tvars[d][line] for d in range(k)])
 
-    if k == 0 and not spec.is_identity():
+    if k == 0 and not spec.is_identity() and not guard:
         b.empty = True  # no gate at all: the spec must already be the identity
     if b.empty:
         # A clause became empty after substituting constants: keep a two-clause
