@@ -3,7 +3,7 @@
 Prints numbers; not a test.
 
     python scripts/bench_cert.py --set hard3            # the 577 functions needing 8 NCT gates
-    python scripts/bench_cert.py --set hwb4             # hwb4 with mct (minutes)
+    python scripts/bench_cert.py --set hwb4 --bounds table   # hwb4 with mct, table bound for k >= 8
     python scripts/bench_cert.py --set hard3 --limit 50
 """
 
@@ -51,6 +51,7 @@ def main() -> None:
     ap.add_argument("--set", default="hard3")
     ap.add_argument("--limit", type=int, default=0)
     ap.add_argument("--verbose", action="store_true")
+    ap.add_argument("--bounds", default="cheap", help="cheap (default: an LRAT proof for every refuted k) or table")
     args = ap.parse_args()
     lib_name, specs = specs_for(args.set, args.limit)
     root = Path(tempfile.mkdtemp(prefix="certbench-"))
@@ -61,11 +62,11 @@ def main() -> None:
         for spec in specs:
             lib = make_library(lib_name, spec.lines)
             t0 = time.perf_counter()
-            plain = synthesise(spec, lib)
+            plain = synthesise(spec, lib, bounds=args.bounds)
             plain_t += time.perf_counter() - t0
             d = root / spec.name
             t0 = time.perf_counter()
-            res = synthesise(spec, lib, proof_sink=proof_writer(d))
+            res = synthesise(spec, lib, proof_sink=proof_writer(d), bounds=args.bounds)
             write_result(d, res)
             solve_t += time.perf_counter() - t0
             t0 = time.perf_counter()
