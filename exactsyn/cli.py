@@ -22,7 +22,7 @@ from exactsyn.search import BOUNDS, NoCircuitError, Step, synthesise
 from exactsyn.solve import SOLVERS
 from exactsyn.spec import Spec, load_spec_file, parse_cycles, parse_perm
 
-FORMATS = ("text", "json", "qasm2", "qasm3")
+FORMATS = ("text", "json", "qasm2", "qasm3", "svg", "png")
 
 
 def _fail(message: str, code: int = 2) -> NoReturn:
@@ -226,6 +226,11 @@ def synth(
             if fmt == "json":
                 _emit(json.dumps(result_to_dict(res), indent=2), output)
             sys.exit(1)
+        if fmt in ("svg", "png"):
+            from exactsyn.cli_pictures import emit_picture
+
+            emit_picture(res.circuit, fmt, output)
+            return
         if fmt == "json":
             text = json.dumps(result_to_dict(res), indent=2)
         elif fmt == "text":
@@ -348,7 +353,9 @@ def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
         _fail(e.message)
 
 
+# Commands that live in their own modules register themselves on the group.
+from exactsyn import cli_batch as _cli_batch  # noqa: E402,F401  (batch, table)
+from exactsyn import cli_pictures as _cli_pictures  # noqa: E402,F401  (draw, report)
+
 if __name__ == "__main__":
     main()
-
-from exactsyn import cli_batch as _cli_batch  # noqa: E402,F401  (registers the batch and table commands)
