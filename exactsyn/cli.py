@@ -15,11 +15,11 @@ import click
 
 from exactsyn import __version__
 from exactsyn.circuit import Circuit
-from exactsyn.encode import ENCODINGS, options_for
+from exactsyn.cli_options import bounds_option, encoding_option, library_option, max_controls_option, solver_option
+from exactsyn.encode import options_for
 from exactsyn.errors import ExactsynError
-from exactsyn.library import PRESETS, make_library
-from exactsyn.search import BOUNDS, NoCircuitError, Step, synthesise
-from exactsyn.solve import SOLVERS
+from exactsyn.library import make_library
+from exactsyn.search import NoCircuitError, Step, synthesise
 from exactsyn.spec import Spec, load_spec_file, parse_cycles, parse_perm
 
 FORMATS = ("text", "json", "qasm2", "qasm3", "svg", "png")
@@ -76,15 +76,8 @@ def main() -> None:
 @click.option("--perm", metavar="LIST", help="Permutation p[0],p[1],... of 0..2^n-1, e.g. 1,0,3,2.")
 @click.option("--cycles", metavar="TEXT", help='Permutation in cycle notation, e.g. "(0 1)(2 3)".')
 @click.option("--lines", type=int, help="Number of lines (for --cycles; default: smallest that fits).")
-@click.option(
-    "--library",
-    "library_name",
-    default="nct",
-    show_default=True,
-    metavar="NAME",
-    help="Gate library: " + "; ".join(f"{k} = {v}" for k, v in PRESETS.items()) + ".",
-)
-@click.option("--max-controls", type=int, help="Cap the number of controls of any gate.")
+@library_option
+@max_controls_option
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the result here, not stdout.")
 @click.option(
@@ -94,28 +87,9 @@ def main() -> None:
     help="Stop proving after this long; a heuristic circuit is returned, marked not optimal.",
 )
 @click.option("--max-gates", type=int, help="Do not look for circuits longer than this.")
-@click.option(
-    "--encoding",
-    type=click.Choice(list(ENCODINGS)),
-    default="onehot",
-    show_default=True,
-    help="CNF encoding; 'textbook' is the baseline without symmetry breaking.",
-)
-@click.option(
-    "--solver",
-    type=click.Choice(list(SOLVERS)),
-    default="cadical195",
-    show_default=True,
-    help="SAT solver for the k-queries (with --certificate, CaDiCaL 1.9.5 always, for its LRAT output).",
-)
-@click.option(
-    "--bounds",
-    type=click.Choice(list(BOUNDS)),
-    default="table",
-    show_default=True,
-    help="'table': skip hopeless k with breadth-first distance tables and a meet-in-the-middle test "
-    "(up to 4 lines; exact up to 11 gates on 4 lines); 'cheap': SAT (and LRAT) for every k.",
-)
+@encoding_option
+@solver_option
+@bounds_option()
 @click.option(
     "--certificate",
     "cert_dir",

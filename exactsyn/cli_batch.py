@@ -14,15 +14,13 @@ from typing import TYPE_CHECKING, NoReturn
 import click
 
 from exactsyn.cli import main
+from exactsyn.cli_options import bounds_option, encoding_option, library_option, max_controls_option, solver_option
 
 if TYPE_CHECKING:
     from exactsyn.batch.run import RunSummary
     from exactsyn.batch.store import BatchInfo, Store
-from exactsyn.encode import ENCODINGS, options_for
+from exactsyn.encode import options_for
 from exactsyn.errors import ExactsynError
-from exactsyn.library import PRESETS
-from exactsyn.search import BOUNDS
-from exactsyn.solve import SOLVERS
 
 DEFAULT_STORE = "exactsyn-results.sqlite"
 
@@ -54,32 +52,11 @@ def _fail(message: str, code: int = 2) -> NoReturn:
 @click.option("--random", "random_lines", type=int, metavar="N", help="A seeded random sample of N-line functions.")
 @click.option("--count", type=int, default=100, show_default=True, help="Size of the random sample.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the random sample.")
-@click.option(
-    "--library",
-    "library_name",
-    default="nct",
-    show_default=True,
-    metavar="NAME",
-    help="Gate library: " + "; ".join(f"{k} = {v}" for k, v in PRESETS.items()) + ".",
-)
-@click.option("--max-controls", type=int, help="Cap the number of controls of any gate.")
-@click.option("--encoding", type=click.Choice(list(ENCODINGS)), default="onehot", show_default=True)
-@click.option(
-    "--solver",
-    type=click.Choice(list(SOLVERS)),
-    default="cadical195",
-    show_default=True,
-    help="Solver without certificates (certificates always use CaDiCaL 1.9.5).",
-)
-@click.option(
-    "--bounds",
-    type=click.Choice(list(BOUNDS)),
-    default="table",
-    show_default=True,
-    help="Lower bounds, as for synth: "
-    + "; ".join(f"{k} = {v}" for k, v in BOUNDS.items())
-    + ". Not part of the item key: finished items are not redone.",
-)
+@library_option
+@max_controls_option
+@encoding_option
+@solver_option
+@bounds_option(" Not part of the item key: finished items are not redone.")
 @click.option(
     "--time-limit",
     type=float,

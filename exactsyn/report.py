@@ -12,7 +12,7 @@ from typing import Any
 from exactsyn import __version__
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import gate_to_dict
-from exactsyn.search import Result
+from exactsyn.search import Result, Step
 
 
 def result_to_dict(res: Result) -> dict[str, Any]:
@@ -32,19 +32,22 @@ def result_to_dict(res: Result) -> dict[str, Any]:
         "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
         "encoding": res.encoding.describe(),
         "solver": res.solver,
-        "steps": [
-            {
-                "k": s.k,
-                "status": s.status,
-                "seconds": round(s.seconds, 4),
-                "conflicts": s.conflicts,
-                "variables": s.variables,
-                "clauses": s.clauses,
-            }
-            for s in res.steps
-        ],
+        "steps": [step_to_dict(s) for s in res.steps],
         "seconds": round(res.seconds, 4),
         "version": __version__,
+    }
+
+
+def step_to_dict(s: Step) -> dict[str, Any]:
+    """One k-query as JSON: answer, time, conflicts, CNF size, proof size."""
+    return {
+        "k": s.k,
+        "status": s.status,
+        "seconds": round(s.seconds, 4),
+        "conflicts": s.conflicts,
+        "variables": s.variables,
+        "clauses": s.clauses,
+        "proof_bytes": s.proof_bytes,
     }
 
 

@@ -207,6 +207,7 @@ def _check(task: Task) -> Outcome:
 def _run(task: Task, started: float) -> Outcome:
     from exactsyn.certificate import check_certificate, proof_writer, write_result
     from exactsyn.io.jsonio import gate_to_dict
+    from exactsyn.report import step_to_dict
     from exactsyn.search import NoCircuitError, synthesise
 
     library = task.library
@@ -256,19 +257,6 @@ def _run(task: Task, started: float) -> Outcome:
         "wall_seconds": round(time.perf_counter() - started, 4),
         "verify_seconds": verify_seconds,
         "conflicts": sum(s.conflicts for s in res.steps),
-        "steps": json.dumps(
-            [
-                {
-                    "k": s.k,
-                    "status": s.status,
-                    "seconds": round(s.seconds, 4),
-                    "conflicts": s.conflicts,
-                    "variables": s.variables,
-                    "clauses": s.clauses,
-                    "proof_bytes": s.proof_bytes,
-                }
-                for s in res.steps
-            ]
-        ),
+        "steps": json.dumps([step_to_dict(s) for s in res.steps]),
     }
     return Outcome(task.key, status, row, files)

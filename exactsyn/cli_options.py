@@ -1,0 +1,50 @@
+"""Click options shared by several commands (one definition, one help text)."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from typing import Any
+
+import click
+
+from exactsyn.encode import ENCODINGS
+from exactsyn.library import PRESETS
+from exactsyn.search import BOUNDS
+from exactsyn.solve import SOLVERS
+
+F = Callable[..., Any]
+
+library_option = click.option(
+    "--library",
+    "library_name",
+    default="nct",
+    show_default=True,
+    metavar="NAME",
+    help="Gate library: " + "; ".join(f"{k} = {v}" for k, v in PRESETS.items()) + ".",
+)
+max_controls_option = click.option("--max-controls", type=int, help="Cap the number of controls of any gate.")
+encoding_option = click.option(
+    "--encoding",
+    type=click.Choice(list(ENCODINGS)),
+    default="onehot",
+    show_default=True,
+    help="CNF encoding; 'textbook' is the baseline without symmetry breaking.",
+)
+solver_option = click.option(
+    "--solver",
+    type=click.Choice(list(SOLVERS)),
+    default="cadical195",
+    show_default=True,
+    help="SAT solver for the k-queries (with certificates, CaDiCaL 1.9.5 always, for its LRAT output).",
+)
+
+
+def bounds_option(extra: str = "") -> Callable[[F], F]:
+    return click.option(
+        "--bounds",
+        type=click.Choice(list(BOUNDS)),
+        default="table",
+        show_default=True,
+        help="'table': skip hopeless k with breadth-first distance tables and a meet-in-the-middle test "
+        "(up to 4 lines; exact up to 11 gates on 4 lines); 'cheap': SAT (and LRAT) for every k." + extra,
+    )
