@@ -61,3 +61,40 @@ def lower_bound(spec: Spec, library: Library) -> Bound:
             f"lines {changed} change and each x gate changes only its target",
         )
     return Bound(1, "non-identity", "the spec is not met by the empty circuit")
+
+
+def completion_obstruction(spec: Spec) -> str | None:
+    """Why no reversible function meets a partial spec (fixed placement), or ``None``.
+
+    A reversible completion exists exactly when the specified rows can be given
+    distinct outputs, each consistent with its specified bits: a bipartite matching
+    (Kuhn's augmenting paths).  Specs with solver-chosen constants or output lines come
+    from :mod:`exactsyn.embed`, whose line count already guarantees a completion.
+    """
+    if spec.is_permutation or spec.has_choices:
+        return None
+    rows = spec.specified_rows()
+    match: dict[int, int] = {}  # output value -> row
+
+    def candidates(r: int) -> list[int]:
+        return [y for y in range(spec.size) if (y ^ spec.outputs[r]) & spec.care[r] == 0]
+
+    cand = {r: candidates(r) for r in rows}
+
+    def augment(r: int, seen: set[int]) -> bool:
+        for y in cand[r]:
+            if y in seen:
+                continue
+            seen.add(y)
+            if y not in match or augment(match[y], seen):
+                match[y] = r
+                return True
+        return False
+
+    for r in rows:
+        if not augment(r, set()):
+            return (
+                f"no reversible function meets the spec: the specified rows cannot all get distinct "
+                f"outputs (stuck at input {r}); leave more outputs free or add a line"
+            )
+    return None

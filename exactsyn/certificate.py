@@ -56,13 +56,24 @@ RESULT_FILE = "result.json"
 
 # ------------------------------------------------------------------ descriptions
 def spec_to_dict(spec: Spec) -> dict[str, Any]:
-    return {"lines": spec.lines, "outputs": list(spec.outputs), "care": list(spec.care), "name": spec.name}
+    return {
+        "lines": spec.lines,
+        "outputs": list(spec.outputs),
+        "care": list(spec.care),
+        "name": spec.name,
+        "open_lines": list(spec.open_lines),
+        "output_targets": [list(t) for t in spec.output_targets],
+        "output_candidates": list(spec.output_candidates),
+    }
 
 
 def spec_from_dict(d: Any) -> Spec:
     try:
         lines, outputs, care = int(d["lines"]), [int(v) for v in d["outputs"]], [int(v) for v in d["care"]]
         name = str(d.get("name", ""))
+        open_lines = tuple(int(v) for v in d.get("open_lines", []))
+        targets = tuple(tuple(int(v) for v in t) for t in d.get("output_targets", []))
+        cands = tuple(int(v) for v in d.get("output_candidates", []))
     except (KeyError, TypeError, ValueError):
         raise ExactsynError("certificate: malformed 'spec'") from None
     if not 1 <= lines <= 6 or len(outputs) != 1 << lines or len(care) != 1 << lines:
@@ -70,7 +81,13 @@ def spec_from_dict(d: Any) -> Spec:
     full = (1 << lines) - 1
     if any(not 0 <= v <= full for v in outputs + care):
         raise ExactsynError("certificate: 'spec' has a value outside the line range")
-    return Spec(lines, tuple(outputs), tuple(care), name)
+    if any(not 0 <= x < lines for x in open_lines + cands) or any(
+        len(t) != 1 << lines or any(v not in (-1, 0, 1) for v in t) for t in targets
+    ):
+        raise ExactsynError("certificate: malformed embedding choices in 'spec'")
+    if targets and len(cands) < len(targets):
+        raise ExactsynError("certificate: fewer candidate lines than placed outputs in 'spec'")
+    return Spec(lines, tuple(outputs), tuple(care), name, open_lines, targets, cands)
 
 
 def library_to_dict(lib: Library) -> dict[str, Any]:

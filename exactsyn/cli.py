@@ -16,11 +16,13 @@ import click
 from exactsyn import __version__
 from exactsyn.circuit import Circuit
 from exactsyn.cli_options import bounds_option, encoding_option, library_option, max_controls_option, solver_option
+from exactsyn.embed import Embedding
 from exactsyn.encode import options_for
 from exactsyn.errors import ExactsynError
 from exactsyn.library import make_library
 from exactsyn.search import NoCircuitError, Step, synthesise
-from exactsyn.spec import Spec, load_spec_file, parse_cycles, parse_perm
+from exactsyn.spec import Spec, parse_cycles, parse_perm
+from exactsyn.specfile import load_any
 
 FORMATS = ("text", "json", "qasm2", "qasm3", "svg", "png")
 
@@ -30,7 +32,9 @@ def _fail(message: str, code: int = 2) -> NoReturn:
     sys.exit(code)
 
 
-def _read_spec(spec_file: str | None, perm: str | None, cycles: str | None, lines: int | None) -> Spec:
+def _read_spec(
+    spec_file: str | None, perm: str | None, cycles: str | None, lines: int | None
+) -> tuple[Spec, Embedding | None]:
     given = [x is not None for x in (spec_file, perm, cycles)]
     if sum(given) != 1:
         raise ExactsynError("give the function exactly once: --perm, --cycles, or a spec file")
@@ -38,11 +42,11 @@ def _read_spec(spec_file: str | None, perm: str | None, cycles: str | None, line
         spec = parse_perm(perm)
         if lines is not None and lines != spec.lines:
             raise ExactsynError(f"--lines {lines} but the permutation is on {spec.lines} lines")
-        return spec
+        return spec, None
     if cycles is not None:
-        return parse_cycles(cycles, lines)
+        return parse_cycles(cycles, lines), None
     assert spec_file is not None
-    return load_spec_file(spec_file)
+    return load_any(spec_file)
 
 
 def _emit(text: str, output: str | None) -> None:
@@ -151,7 +155,7 @@ def synth(
     within the limits or none exists in the library, 2 bad input.
     """
     try:
-        spec = _read_spec(spec_file, perm, cycles, lines)
+        spec, emb = _read_spec(spec_file, perm, cycles, lines)
         library = make_library(library_name, spec.lines, max_controls)
         if time_limit is not None and time_limit <= 0:
             raise ExactsynError("--time-limit must be positive")
@@ -198,7 +202,7 @@ def synth(
             click.echo(status_line(res), err=True)
         if res.circuit is None:
             if fmt == "json":
-                _emit(json.dumps(result_to_dict(res), indent=2), output)
+                _emit(json.dumps(result_to_dict(res, emb), indent=2), output)
             sys.exit(1)
         if fmt in ("svg", "png"):
             from exactsyn.cli_pictures import emit_picture
@@ -206,9 +210,9 @@ def synth(
             emit_picture(res.circuit, fmt, output)
             return
         if fmt == "json":
-            text = json.dumps(result_to_dict(res), indent=2)
+            text = json.dumps(result_to_dict(res, emb), indent=2)
         elif fmt == "text":
-            text = result_to_text(res)
+            text = result_to_text(res, emb)
         else:
             from exactsyn.io.qasm import to_qasm2, to_qasm3
 

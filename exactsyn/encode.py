@@ -31,6 +31,12 @@ positive controls ``P`` and negative controls ``N`` (``a = x[r][d]``, ``b = x[r]
   at-most-one: pairwise in ``textbook``, a sequential counter in ``onehot`` for large
   libraries), and the ``t`` definitions in both directions.
 
+* **embedding freedoms** (:mod:`exactsyn.embed`): an open constant line ``l`` has one
+  variable ``("const", l)`` for its input value on every row; an output placed by the
+  solver has one-hot variables ``("y", o, l)`` over its candidate lines (at most one
+  output per line) and clauses ``¬y[o][l] ∨ (x[r][k][l] = f_o(r))`` for every row where
+  the output is specified.
+
 With no symmetry breaking the models are exactly the k-gate circuits of the library
 that meet the spec (each model decodes to one circuit and each circuit gives one model:
 the line values are functions of the gates).
@@ -216,10 +222,13 @@ def encode(
 
     gvars = tuple(tuple(b.var("g", d, j) for j in range(len(gates))) for d in range(k))
     tvars = [[b.var("t", d, line) for line in range(n)] for d in range(k)]
-    rows = [r for r in range(spec.size) if spec.care[r]]
+    rows = spec.specified_rows()
+    open_lines = set(spec.open_lines)
 
     # Line values; constants substituted at both ends unless textbook.
     def value(r: int, d: int, line: int) -> Lit:
+        if d == 0 and line in open_lines:
+            return b.var("const", line)  # one value for every row, chosen by the solver
         if d == 0 and not textbook:
             return bool(r >> line & 1)
         if d == k and not textbook and not guard and spec.care[r] >> line & 1:
@@ -237,10 +246,34 @@ def encode(
     if textbook:
         for r in rows:
             for line in range(n):
-                b.add([value(r, 0, line) if r >> line & 1 else _neg(value(r, 0, line))])
+                if line not in open_lines:
+                    b.add([value(r, 0, line) if r >> line & 1 else _neg(value(r, 0, line))])
                 if spec.care[r] >> line & 1:
                     v = value(r, k, line)
                     b.add([v if spec.outputs[r] >> line & 1 else _neg(v)])
+
+    # Outputs placed by the solver: y[o][l] = output o is read on line l (exactly one
+    # line per output, at most one output per line); then the line's final value must
+    # be the output's value on every row where it is specified.
+    cands = spec.output_candidates
+    if spec.output_targets:
+        yv = [[b.var("y", o, line) for line in cands] for o in range(len(spec.output_targets))]
+        for row_y in yv:
+            b.add(row_y)
+            for i in range(len(row_y)):
+                for j in range(i + 1, len(row_y)):
+                    b.add([-row_y[i], -row_y[j]])
+        for li in range(len(cands)):
+            col = [yv[o][li] for o in range(len(yv))]
+            for i in range(len(col)):
+                for j in range(i + 1, len(col)):
+                    b.add([-col[i], -col[j]])
+        for o, target in enumerate(spec.output_targets):
+            for li, line in enumerate(cands):
+                for r in rows:
+                    if target[r] >= 0:
+                        v = value(r, k, line)
+                        b.add([-yv[o][li], v if target[r] else _neg(v)])
 
     # Choice: exactly one gate per position; t[d][l] ↔ some gate targeting l.
     amo_enc = EncType.pairwise if textbook or len(gates) <= 24 else EncType.seqcounter

@@ -10,14 +10,15 @@ from __future__ import annotations
 from typing import Any
 
 from exactsyn import __version__
+from exactsyn.embed import Embedding
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import gate_to_dict
 from exactsyn.search import Result, Step
 
 
-def result_to_dict(res: Result) -> dict[str, Any]:
+def result_to_dict(res: Result, embedding: Embedding | None = None) -> dict[str, Any]:
     c = res.circuit
-    return {
+    data = {
         "name": res.spec.name,
         "lines": res.spec.lines,
         "permutation": list(res.spec.outputs) if res.spec.is_permutation else None,
@@ -36,6 +37,12 @@ def result_to_dict(res: Result) -> dict[str, Any]:
         "seconds": round(res.seconds, 4),
         "version": __version__,
     }
+    if embedding is not None:
+        data["embedding"] = None if c is None else embedding.describe(res.spec, c.permutation())
+    elif res.spec.has_choices and c is not None:
+        choice = res.spec.find_choice(c.permutation())
+        data["choices"] = None if choice is None else {"constants": choice[0], "output_lines": list(choice[1])}
+    return data
 
 
 def step_to_dict(s: Step) -> dict[str, Any]:
@@ -71,11 +78,20 @@ def status_line(res: Result) -> str:
     )
 
 
-def result_to_text(res: Result, labels: list[str] | None = None) -> str:
+def result_to_text(res: Result, embedding: Embedding | None = None) -> str:
     out = []
+    labels = embedding.labels() if embedding is not None else None
     if res.spec.name:
         out.append(f"# {res.spec.name}")
     out.append(f"# {status_line(res)}")
+    if embedding is not None and res.circuit is not None:
+        d = embedding.describe(res.spec, res.circuit.permutation())
+        consts = ", ".join(f"line {k} = {v}" for k, v in d["constants"].items()) or "none"
+        chosen = " (chosen by the solver)" if d["constants_chosen_by_solver"] else ""
+        outs = ", ".join(f"{k} on line {v}" for k, v in d["outputs"].items())
+        placed = " (placed by the solver)" if d["outputs_placed_by_solver"] else ""
+        out.append(f"# embedding: {res.spec.lines} lines; constants: {consts}{chosen}")
+        out.append(f"# outputs: {outs}{placed}; garbage lines: {d['garbage'] or 'none'}")
     if res.circuit is not None:
         if len(res.circuit):
             out.append(draw_text(res.circuit, labels))

@@ -15,7 +15,7 @@ import time
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from exactsyn.bounds import Bound, lower_bound, parity_obstruction
+from exactsyn.bounds import Bound, completion_obstruction, lower_bound, parity_obstruction
 from exactsyn.circuit import Circuit
 from exactsyn.dimacs import cnf_sha256
 from exactsyn.encode import Encoding, EncodingOptions, encode
@@ -202,7 +202,7 @@ def synthesise(
     """
     opts = encoding or EncodingOptions()
     start = time.perf_counter()
-    reason = parity_obstruction(spec, library)
+    reason = parity_obstruction(spec, library) or completion_obstruction(spec)
     if reason:
         raise NoCircuitError(reason)
     bound = lower_bound(spec, library)

@@ -25,10 +25,27 @@ MAX_LINES = 6
 
 @dataclass(frozen=True)
 class Spec:
+    """What a circuit on ``lines`` lines must do.
+
+    For every input ``i``: the output bits in ``care[i]`` must equal those of
+    ``outputs[i]``.  Two optional freedoms come from embedding irreversible functions
+    (:mod:`exactsyn.embed`):
+
+    * ``open_lines`` — constant input lines whose value (the same for every row) the
+      solver chooses; specified rows have 0 on those bits and stand for "whatever the
+      constant is";
+    * ``output_targets`` / ``output_candidates`` — outputs whose line the solver chooses:
+      ``output_targets[o][i]`` is 0, 1 or -1 (don't care) for input ``i``, and the
+      outputs go to distinct lines among ``output_candidates``.
+    """
+
     lines: int
     outputs: tuple[int, ...]
     care: tuple[int, ...]
     name: str = ""
+    open_lines: tuple[int, ...] = ()
+    output_targets: tuple[tuple[int, ...], ...] = ()
+    output_candidates: tuple[int, ...] = ()
 
     @property
     def size(self) -> int:
@@ -39,9 +56,13 @@ class Spec:
         return (1 << self.lines) - 1
 
     @property
+    def has_choices(self) -> bool:
+        return bool(self.open_lines or self.output_targets)
+
+    @property
     def is_permutation(self) -> bool:
-        """True when every output bit of every row is specified."""
-        return all(c == self.full_mask for c in self.care)
+        """True when every output bit of every row is specified (and nothing is chosen)."""
+        return not self.has_choices and all(c == self.full_mask for c in self.care)
 
     @property
     def permutation(self) -> tuple[int, ...]:
@@ -49,21 +70,59 @@ class Spec:
             raise ExactsynError("the specification has don't-cares; it is not a full permutation")
         return self.outputs
 
-    def is_identity(self) -> bool:
-        return all((o ^ i) & c == 0 for i, (o, c) in enumerate(zip(self.outputs, self.care, strict=True)))
+    def specified_rows(self) -> list[int]:
+        """Inputs with at least one specified output bit (the rows the encoder keeps)."""
+        return [r for r in range(self.size) if self.care[r] or any(t[r] >= 0 for t in self.output_targets)]
 
-    def accepts(self, perm: tuple[int, ...] | list[int]) -> bool:
-        """Does the permutation ``perm`` meet the specification on every cared bit?"""
+    def choices(self) -> list[tuple[int, tuple[int, ...]]]:
+        """Every (constant bits, output lines) the solver may pick; one entry when none."""
+        from itertools import permutations, product
+
+        consts = [
+            sum(v << line for v, line in zip(vals, self.open_lines, strict=True))
+            for vals in product((0, 1), repeat=len(self.open_lines))
+        ]
+        placements = list(permutations(self.output_candidates, len(self.output_targets)))
+        return [(c, pl) for c in consts for pl in placements]
+
+    def meets(self, perm: tuple[int, ...] | list[int], constants: int = 0, output_lines: tuple[int, ...] = ()) -> bool:
+        """Does ``perm`` meet the spec with these choices?"""
         if len(perm) != self.size:
             return False
-        return all((int(p) ^ o) & c == 0 for p, o, c in zip(perm, self.outputs, self.care, strict=True))
+        for r in self.specified_rows():
+            y = int(perm[r | constants])
+            if (y ^ self.outputs[r]) & self.care[r]:
+                return False
+            for t, line in zip(self.output_targets, output_lines, strict=True):
+                if t[r] >= 0 and (y >> line & 1) != t[r]:
+                    return False
+        return True
+
+    def find_choice(self, perm: tuple[int, ...] | list[int]) -> tuple[int, tuple[int, ...]] | None:
+        """The first choice under which ``perm`` meets the spec, or ``None``."""
+        for c, pl in self.choices():
+            if self.meets(perm, c, pl):
+                return c, pl
+        return None
+
+    def accepts(self, perm: tuple[int, ...] | list[int]) -> bool:
+        """Does the permutation ``perm`` meet the specification (under some choice)?"""
+        return self.find_choice(perm) is not None
+
+    def is_identity(self) -> bool:
+        """Is the spec met by the empty circuit?"""
+        return self.accepts(tuple(range(self.size)))
 
     def changed_lines(self) -> frozenset[int]:
-        """Lines whose output differs from their input on some specified row."""
+        """Lines whose output must differ from their input on some specified row.
+
+        Open constant lines and chosen output lines are left out (their values are
+        not known in advance), so the set stays a sound basis for lower bounds.
+        """
         diff = 0
         for i, (o, c) in enumerate(zip(self.outputs, self.care, strict=True)):
             diff |= (i ^ o) & c
-        return frozenset(line for line in range(self.lines) if diff >> line & 1)
+        return frozenset(line for line in range(self.lines) if diff >> line & 1 and line not in self.open_lines)
 
     def inverse(self) -> Spec:
         """The inverse function (full permutations only)."""

@@ -22,7 +22,8 @@ from exactsyn.batch.task import OBJECTIVE, LibraryChoice, item_key, library_iden
 from exactsyn.encode import EncodingOptions
 from exactsyn.errors import ExactsynError
 from exactsyn.library import Library
-from exactsyn.spec import Spec, from_permutation, load_spec_file
+from exactsyn.spec import Spec, from_permutation
+from exactsyn.specfile import load_any
 
 REDUCTION = "line relabelling and inversion"
 SET_KINDS = ("all", "classes", "random")
@@ -173,7 +174,7 @@ def plan_files(paths: Sequence[str | Path], choice: LibraryChoice, encoding: Enc
     for f in files:
         bad_key = unreadable_key(f)
         try:
-            spec = load_spec_file(f)
+            spec = load_any(f)[0]
             lib = choice.build(spec.lines)
         except ExactsynError as e:
             failures.append(_unreadable_row(bad_key, f, e.message, choice, encoding))
