@@ -174,3 +174,23 @@ def test_raced_queries_give_a_checkable_certificate(tmp_path: Path, monkeypatch:
     write_result(d, res)
     rep = check_certificate(d)
     assert rep.ok and rep.gate_count == 7
+
+
+def test_certificate_of_an_embedded_function_with_solver_choices(tmp_path: Path) -> None:
+    # Full adder with the outputs placed by the solver: 4 gates (common practice).
+    import tomllib
+
+    from exactsyn.boolspec import function_from_mapping
+    from exactsyn.embed import embed
+
+    root = Path(__file__).resolve().parent.parent
+    fn = function_from_mapping(tomllib.loads((root / "instances" / "full-adder.toml").read_text()), "fa")
+    spec, _ = embed(fn)
+    d = tmp_path / "fa"
+    res = synthesise(spec, make_library("nct", 4), proof_sink=proof_writer(d), bounds="cheap")
+    write_result(d, res)
+    rep = check_certificate(d)
+    assert rep.ok and rep.gate_count == 4
+    # Removing the solver's freedom to place outputs changes the CNF: rejected.
+    edit(d, lambda data: data["spec"].update(output_candidates=[0, 1, 2]))
+    assert rejected(d)
