@@ -31,7 +31,7 @@ import numpy as np
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.gates import Gate
-from exactsyn.library import Library
+from exactsyn.library import Library, gate_table
 
 #: Largest line count for which :func:`optimal_sizes` builds the full table
 #: (3 lines: 8! = 40320 functions; 4 lines would be 16! ≈ 2·10^13).
@@ -41,24 +41,15 @@ MAX_BFS_LINES = 8
 
 
 # --------------------------------------------------------------------------- encoding
-def _keys(rows: np.ndarray) -> np.ndarray:
+def row_keys(rows: np.ndarray) -> np.ndarray:
     """View each row of a ``(k, 2**n)`` uint8 matrix as one opaque byte-string key."""
     rows = np.ascontiguousarray(rows, dtype=np.uint8)
     return rows.view(np.dtype((np.void, rows.shape[1]))).ravel()
 
 
 def _rows(keys: np.ndarray, size: int) -> np.ndarray:
-    """Inverse of :func:`_keys`."""
+    """Inverse of :func:`row_keys`."""
     return np.ascontiguousarray(keys).view(np.uint8).reshape(-1, size)
-
-
-def _gate_arrays(library: Library) -> np.ndarray:
-    """``(len(library), 2**n)`` uint8 matrix: row ``g`` is gate ``g`` as a permutation."""
-    size = 1 << library.lines
-    states = np.arange(size, dtype=np.int64)
-    if not library.gates:
-        return np.zeros((0, size), dtype=np.uint8)
-    return np.stack([g.apply(states) for g in library.gates]).astype(np.uint8)
 
 
 def _check_library(library: Library) -> None:
@@ -86,9 +77,9 @@ def _bfs(library: Library, max_depth: int | None) -> Iterator[tuple[np.ndarray, 
     for row ``k`` (``-1`` for the identity).
     """
     size = 1 << library.lines
-    gates = _gate_arrays(library)
+    gates = gate_table(library)
     frontier = np.arange(size, dtype=np.uint8).reshape(1, size)
-    frontier_keys = _keys(frontier)
+    frontier_keys = row_keys(frontier)
     yield frontier, frontier_keys, np.full(1, -1, dtype=np.int16)
     visited = frontier_keys  # sorted
     depth = 0
@@ -96,7 +87,7 @@ def _bfs(library: Library, max_depth: int | None) -> Iterator[tuple[np.ndarray, 
         # every (gate, parent) pair at once: cand[g, k, i] = gates[g, frontier[k, i]]
         cand = gates[:, frontier].reshape(-1, size)
         cand_gate = np.repeat(np.arange(len(gates), dtype=np.int16), len(frontier))
-        keys, first = np.unique(_keys(cand), return_index=True)
+        keys, first = np.unique(row_keys(cand), return_index=True)
         fresh = ~np.isin(keys, visited, assume_unique=True)
         keys, first = keys[fresh], first[fresh]
         frontier = cand[first]
@@ -143,7 +134,7 @@ class SizeTable:
         return len(self.keys)
 
     def _find(self, perm: Sequence[int]) -> int | None:
-        key = _keys(_perm_row(perm, self.lines))[0]
+        key = row_keys(_perm_row(perm, self.lines))[0]
         k = int(np.searchsorted(self.keys, key))
         if k < len(self.keys) and self.keys[k] == key:
             return k
@@ -173,7 +164,7 @@ class SizeTable:
         k = self._find(perm)
         if k is None:
             raise ExactsynError(f"the function is not realisable over library {self.library.name}")
-        gates = _gate_arrays(self.library)
+        gates = gate_table(self.library)
         inverses = np.argsort(gates, axis=1).astype(np.uint8)
         row = _perm_row(perm, self.lines)[0]
         backwards: list[Gate] = []

@@ -41,7 +41,7 @@ from exactsyn import __version__
 from exactsyn.bounds import lower_bound
 from exactsyn.circuit import Circuit
 from exactsyn.dimacs import cnf_sha256
-from exactsyn.encode import EncodingOptions, encode
+from exactsyn.encode import ENCODING_VERSION, EncodingOptions, encode
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
 from exactsyn.library import Library, make_library
@@ -224,7 +224,7 @@ def _load(path: Path) -> tuple[Path, dict[str, Any]]:
 
 def _encoding_from(d: Any) -> EncodingOptions:
     try:
-        if int(d["version"]) != EncodingOptions().describe()["version"]:
+        if int(d["version"]) != ENCODING_VERSION:
             raise ExactsynError(f"certificate: encoding version {d['version']} is not this tool's")
         return EncodingOptions(str(d["name"]), tuple(str(s) for s in d["symmetry"]))
     except (KeyError, TypeError, ValueError):

@@ -14,7 +14,6 @@ from typing import NoReturn
 import click
 
 from exactsyn import __version__
-from exactsyn.circuit import Circuit
 from exactsyn.cli_options import bounds_option, encoding_option, library_option, max_controls_option, solver_option
 from exactsyn.embed import Embedding
 from exactsyn.encode import options_for
@@ -22,7 +21,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.library import make_library
 from exactsyn.search import NoCircuitError, Step, synthesise
 from exactsyn.spec import Spec, parse_cycles, parse_perm
-from exactsyn.specfile import load_any
+from exactsyn.specfile import load_any, load_circuit
 
 FORMATS = ("text", "json", "qasm2", "qasm3", "svg", "png")
 
@@ -276,21 +275,6 @@ def check(certificate: str, quiet: bool) -> None:
         sys.exit(1)
 
 
-def _load_circuit(path: str) -> Circuit:
-    p = Path(path)
-    try:
-        text = p.read_text()
-    except (OSError, UnicodeDecodeError) as e:
-        raise ExactsynError(f"cannot read circuit file {p}: {getattr(e, 'strerror', None) or e}") from None
-    if text.lstrip().startswith("{"):
-        from exactsyn.io.jsonio import load_json_circuit
-
-        return load_json_circuit(text)
-    from exactsyn.io.qasm import read_qasm
-
-    return read_qasm(text)
-
-
 @main.command()
 @click.argument("circuit_file", type=click.Path(dir_okay=False))
 @click.option("--inputs", metavar="LIST", help="Only these inputs (comma-separated integers); default all.")
@@ -304,7 +288,7 @@ def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
     Columns show the bits line n-1 ... line 0 (line 0 rightmost) and the integer.
     """
     try:
-        circ = _load_circuit(circuit_file)
+        circ = load_circuit(circuit_file)
         n, size = circ.lines, 1 << circ.lines
         if inputs is None:
             xs = list(range(size))

@@ -14,8 +14,9 @@ from typing import NoReturn
 import click
 
 from exactsyn.circuit import Circuit
-from exactsyn.cli import _load_circuit, main
+from exactsyn.cli import main
 from exactsyn.errors import ExactsynError
+from exactsyn.specfile import load_circuit
 
 PICTURE_FORMATS = ("text", "svg", "png")
 DEFAULT_WRAP = 40  # gate columns per row of a drawing
@@ -130,7 +131,7 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
         if wrap < 0:
             raise ExactsynError("--wrap must be 0 (never wrap) or more")
         chosen = _format_for(fmt, output)
-        circuit = _load_circuit(circuit_file)
+        circuit = load_circuit(circuit_file)
         data = render(circuit, chosen, parse_labels(labels), packed, wrap or None)
         write_picture(data, output)
     except ExactsynError as e:

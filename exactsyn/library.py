@@ -15,7 +15,10 @@ encoder uses it as the "lexicographic" order of gates.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 from itertools import combinations
+
+import numpy as np
 
 from exactsyn.errors import ExactsynError
 from exactsyn.gates import Gate, x_gate
@@ -71,6 +74,19 @@ class Library:
             if g.kind == "swap" and free == 0:
                 return False
         return True
+
+
+@lru_cache(maxsize=32)
+def gate_table(library: Library) -> np.ndarray:
+    """``(len(library), 2**n)`` uint8 matrix, read-only: row ``j`` is gate ``j`` as a permutation."""
+    size = 1 << library.lines
+    states = np.arange(size, dtype=np.int64)
+    if not library.gates:
+        table = np.zeros((0, size), dtype=np.uint8)
+    else:
+        table = np.stack([g.apply(states) for g in library.gates]).astype(np.uint8)
+    table.flags.writeable = False
+    return table
 
 
 def mct_gates(lines: int, max_controls: int) -> list[Gate]:

@@ -26,9 +26,10 @@ from functools import lru_cache
 
 import numpy as np
 
+from exactsyn.bfs import row_keys
 from exactsyn.circuit import Circuit
 from exactsyn.gates import Gate
-from exactsyn.library import Library
+from exactsyn.library import Library, gate_table
 
 # Build the next layer only while the table stays below this many entries and the
 # candidate rows of one expansion stay below MAX_CANDIDATES (memory ≈ candidates × 2^n bytes).
@@ -46,7 +47,7 @@ def _pack(rows: np.ndarray) -> np.ndarray:
         for i in range(rows.shape[1]):
             acc |= rows[:, i].astype(np.uint64) << np.uint64(4 * i)
         return acc
-    return rows.view(np.dtype((np.void, rows.shape[1]))).ravel()
+    return row_keys(rows)
 
 
 @dataclass(frozen=True, eq=False)
@@ -67,7 +68,7 @@ class DistanceTable:
 
     def circuit_of(self, index: int) -> list[Gate]:
         """A minimum circuit (application order) of table entry ``index``."""
-        gates_t = _gate_table(self.library)
+        gates_t = gate_table(self.library)
         out: list[Gate] = []
         row = self.rows[index].copy()
         i = index
@@ -79,12 +80,6 @@ class DistanceTable:
             if i < 0:  # pragma: no cover - a corrupt table
                 raise RuntimeError("broken distance table")
         return out[::-1]
-
-
-@lru_cache(maxsize=16)
-def _gate_table(library: Library) -> np.ndarray:
-    states = np.arange(1 << library.lines, dtype=np.int64)
-    return np.stack([g.apply(states) for g in library.gates]).astype(np.uint8)
 
 
 def default_depth(library: Library) -> int:
@@ -106,7 +101,7 @@ def distance_table(library: Library, depth: int | None) -> DistanceTable:
         target = 64
     else:
         target = depth
-    gates_t = _gate_table(library)
+    gates_t = gate_table(library)
     size = gates_t.shape[1]
     ident = np.arange(size, dtype=np.uint8)[None, :]
     layers_rows = [ident]
@@ -171,7 +166,7 @@ FULL = 10**6  # depth of a table that holds every reachable function
 
 def _saturated(layers: list[np.ndarray], library: Library) -> bool:
     """True when the last expansion found nothing new (the reachable set is complete)."""
-    gates_t = _gate_table(library)
+    gates_t = gate_table(library)
     last = layers[-1]
     keys = np.sort(np.concatenate([_pack(x) for x in layers]))
     for j in range(len(library.gates)):
@@ -207,7 +202,7 @@ def extended_meet(perm: tuple[int, ...], library: Library, depth: int | None = N
         return base
     table = distance_table(library, depth)
     f = np.asarray(perm, dtype=np.int64)
-    gates_t = _gate_table(library)
+    gates_t = gate_table(library)
     for j, g in enumerate(library.gates):
         h = tuple(int(v) for v in gates_t[j][f])  # h = g∘f
         sub = meet_in_the_middle(h, library, depth)

@@ -13,6 +13,7 @@ from exactsyn import __version__
 from exactsyn.embed import Embedding
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import gate_to_dict
+from exactsyn.mitm import FULL
 from exactsyn.search import Result, Step
 
 
@@ -65,7 +66,7 @@ def status_line(res: Result) -> str:
         how = ""
         if res.table_bound is not None:
             tb = res.table_bound
-            depth = "full" if tb.depth >= 10**6 else f"depth {tb.depth}"
+            depth = "full" if tb.depth >= FULL else f"depth {tb.depth}"
             how = f"; distance table ({depth}): at least {tb.value} gates"
         refuted = [s.k for s in res.steps if s.status == "unsat"]
         if refuted:

@@ -6,16 +6,15 @@ specified (a bit outside the mask is a don't-care).  A reversible function given
 full is the case where every mask is all ones.
 
 Parsers here read permutations as a list (``1,0,3,2``), in cycle notation
-(``(0 1)(2 3)``) or from a TOML spec file of our own format (documented in the README).
+(``(0 1)(2 3)``) or from a TOML mapping of our own format (documented in the README; files are read by
+:mod:`exactsyn.specfile`).
 Line ``l`` is bit ``l`` of the integer (line 0 = least significant bit).
 """
 
 from __future__ import annotations
 
 import re
-import tomllib
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any
 
 from exactsyn.errors import ExactsynError
@@ -214,20 +213,6 @@ def parse_cycles(text: str, lines: int | None = None, name: str = "") -> Spec:
         for a, b in zip(cyc, cyc[1:] + cyc[:1], strict=True):
             perm[a] = b
     return Spec(lines, tuple(perm), (size - 1,) * size, name)
-
-
-def load_spec_file(path: str | Path) -> Spec:
-    """Read a TOML spec file (format in the README, section "Spec files")."""
-    p = Path(path)
-    try:
-        raw = p.read_bytes()
-    except OSError as e:
-        raise ExactsynError(f"cannot read spec file {p}: {e.strerror}") from None
-    try:
-        data = tomllib.loads(raw.decode("utf-8"))
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as e:
-        raise ExactsynError(f"malformed spec file {p}: {e}") from None
-    return spec_from_mapping(data, str(p))
 
 
 def spec_from_mapping(data: dict[str, Any], where: str = "spec") -> Spec:

@@ -14,31 +14,46 @@ import tomllib
 from pathlib import Path
 
 from exactsyn.boolspec import function_from_mapping, is_function_mapping
+from exactsyn.circuit import Circuit
 from exactsyn.embed import Embedding, embed
 from exactsyn.errors import ExactsynError
 from exactsyn.spec import Spec, from_permutation, spec_from_mapping
 
 
-def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
-    p = Path(path)
+def _read_text(p: Path, what: str) -> str:
     try:
         raw = p.read_bytes()
     except OSError as e:
-        raise ExactsynError(f"cannot read spec file {p}: {e.strerror}") from None
+        raise ExactsynError(f"cannot read {what} {p}: {e.strerror}") from None
     try:
-        text = raw.decode("utf-8")
+        return raw.decode("utf-8")
     except UnicodeDecodeError:
-        raise ExactsynError(f"spec file {p} is not UTF-8 text") from None
-    stripped = text.lstrip()
-    if p.suffix.lower() in (".qasm", ".qasm2", ".qasm3") or stripped.startswith("OPENQASM"):
-        from exactsyn.io.qasm import read_qasm
+        raise ExactsynError(f"{what} {p} is not UTF-8 text") from None
 
-        circ = read_qasm(text)
-        return from_permutation(list(circ.permutation()), p.stem), None
-    if p.suffix.lower() == ".json" or stripped.startswith("{"):
+
+def _circuit_from_text(text: str) -> Circuit:
+    """A saved circuit: JSON when it starts with ``{``, OpenQASM otherwise."""
+    if text.lstrip().startswith("{"):
         from exactsyn.io.jsonio import load_json_circuit
 
-        circ = load_json_circuit(text)
+        return load_json_circuit(text)
+    from exactsyn.io.qasm import read_qasm
+
+    return read_qasm(text)
+
+
+def load_circuit(path: str | Path) -> Circuit:
+    """Read a saved circuit (JSON or OpenQASM 2/3)."""
+    return _circuit_from_text(_read_text(Path(path), "circuit file"))
+
+
+def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
+    p = Path(path)
+    text = _read_text(p, "spec file")
+    stripped = text.lstrip()
+    is_qasm = p.suffix.lower() in (".qasm", ".qasm2", ".qasm3") or stripped.startswith("OPENQASM")
+    if is_qasm or p.suffix.lower() == ".json" or stripped.startswith("{"):
+        circ = _circuit_from_text(text)
         return from_permutation(list(circ.permutation()), p.stem), None
     try:
         data = tomllib.loads(text)

@@ -25,22 +25,11 @@ from functools import lru_cache
 
 import numpy as np
 
-from exactsyn.library import Library
+from exactsyn.bfs import row_keys
+from exactsyn.library import Library, gate_table
 
 # Enumerating |G|^w sequences of 2^n bytes each: keep it within a few hundred MB.
 MAX_SEQUENCES = 1_200_000
-
-
-def _gate_table(library: Library) -> np.ndarray:
-    size = 1 << library.lines
-    states = np.arange(size, dtype=np.int64)
-    return np.stack([g.apply(states) for g in library.gates]).astype(np.uint8)
-
-
-def _keys(rows: np.ndarray) -> np.ndarray:
-    """One hashable key per row (a void view of the bytes)."""
-    rows = np.ascontiguousarray(rows)
-    return rows.view(np.dtype((np.void, rows.shape[1]))).ravel()
 
 
 def window_size_ok(library: Library, w: int) -> bool:
@@ -52,7 +41,7 @@ def allowed_windows(library: Library, w: int) -> frozenset[tuple[int, ...]]:
     """The ``w``-sequences that are the least optimal circuit of their own function."""
     if w < 1:
         raise ValueError("window length must be at least 1")
-    table = _gate_table(library)
+    table = gate_table(library)
     g = len(library.gates)
     size = table.shape[1]
     identity = np.arange(size, dtype=np.uint8)
@@ -64,7 +53,7 @@ def allowed_windows(library: Library, w: int) -> frozenset[tuple[int, ...]]:
     for d in range(1, w + 1):
         # New last gate varies fastest: index = prefix * g + last (lexicographic order).
         funcs = table[:, funcs].transpose(1, 0, 2).reshape(-1, size)  # type: ignore[assignment]
-        keys = _keys(funcs)
+        keys = row_keys(funcs)
         _, first = np.unique(keys, return_index=True)
         first.sort()
         if d == w:

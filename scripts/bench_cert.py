@@ -19,31 +19,20 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from exactsyn.bfs import optimal_sizes  # noqa: E402
+from bench import load_set  # noqa: E402  (scripts/bench.py, beside this file)
+
 from exactsyn.certificate import check_certificate, proof_writer, write_result  # noqa: E402
 from exactsyn.library import make_library  # noqa: E402
 from exactsyn.search import synthesise  # noqa: E402
 from exactsyn.spec import Spec, from_permutation  # noqa: E402
 
 
-def hwb(n: int) -> list[int]:
-    mask = (1 << n) - 1
-    out = []
-    for x in range(1 << n):
-        w = bin(x).count("1") % n
-        out.append(((x << w) | (x >> (n - w))) & mask)
-    return out
-
-
 def specs_for(name: str, limit: int) -> tuple[str, list[Spec]]:
-    if name == "hard3":
-        t = optimal_sizes(make_library("nct", 3))
-        rows = t.permutations()[t.sizes == 8]
-        specs = [from_permutation([int(v) for v in r], f"hard3-{i}") for i, r in enumerate(rows)]
-        return "nct", specs[:limit] if limit else specs
-    if name == "hwb4":
-        return "mct", [from_permutation(hwb(4), "hwb4")]
-    raise SystemExit(f"unknown set {name}")
+    """The bundled instance sets (instances/), read as scripts/bench.py reads them."""
+    if name not in ("hard3", "hwb4"):
+        raise SystemExit(f"unknown set {name}")
+    recs = load_set(name)[: limit or None]
+    return recs[0]["library"], [from_permutation(r["permutation"], r["name"]) for r in recs]
 
 
 def main() -> None:

@@ -20,25 +20,19 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from exactsyn.bfs import optimal_sizes  # noqa: E402
+from bench import load_set  # noqa: E402  (scripts/bench.py, beside this file)
+
 from exactsyn.encode import ENCODINGS, options_for  # noqa: E402
 from exactsyn.library import make_library  # noqa: E402
 from exactsyn.search import synthesise  # noqa: E402
 from exactsyn.spec import Spec, from_permutation  # noqa: E402
 
 
-def hwb(n: int) -> list[int]:
-    mask = (1 << n) - 1
-    return [((x << (bin(x).count("1") % n)) | (x >> (n - bin(x).count("1") % n))) & mask for x in range(1 << n)]
-
-
 def instance_set(name: str, limit: int, seed: int) -> tuple[str, list[Spec]]:
     rng = random.Random(seed)
-    if name == "hard3":
-        t = optimal_sizes(make_library("nct", 3))
-        rows = t.permutations()[t.sizes == 8]
-        specs = [from_permutation([int(v) for v in r], f"hard3-{i}") for i, r in enumerate(rows)]
-        return "nct", specs[:limit] if limit else specs
+    if name in ("hard3", "hwb4"):  # bundled in instances/, read as scripts/bench.py reads them
+        recs = load_set(name)[: limit or None]
+        return recs[0]["library"], [from_permutation(r["permutation"], r["name"]) for r in recs]
     if name == "rand3":
         out = []
         for i in range(limit or 200):
@@ -55,8 +49,6 @@ def instance_set(name: str, limit: int, seed: int) -> tuple[str, list[Spec]]:
                 s = lib.gates[rng.randrange(len(lib))].apply(s)
             out.append(from_permutation([int(v) for v in s], f"small4-{i}"))
         return "mct", out
-    if name == "hwb4":
-        return "mct", [from_permutation(hwb(4), "hwb4")]
     raise SystemExit(f"unknown set {name}")
 
 
