@@ -7,6 +7,16 @@ and bottommost line, a filled dot on each positive control, a hollow dot on each
 negative control, ``⊕`` (a circle with a cross) on the target of an x gate and a ``×``
 on both targets of a swap.
 
+A Peres gate (:func:`exactsyn.gates.peres_gate`: ``c ^= a·b``, then ``b ^= a``) takes
+one column like every other gate, with a mark of its own on each of its three lines:
+a filled dot on ``a`` (its control), ``⊕`` on ``c`` (the line flipped by ``a·b``) and,
+on ``b``, a square box with the letter ``P`` (mark kind ``peres``).  A Toffoli gate has
+a dot where the Peres gate has the box, so the two cannot be mistaken for each other,
+and the box tells ``b`` from ``c`` (Peres(a, b, c) and Peres(a, c, b) are different
+gates).  The box is ours (no standard symbol exists); the hover text of every Peres
+gate spells the map out with the line names (:func:`gate_title`, e.g.
+``Peres: q2 ^= q0·q1, then q1 ^= q0``).
+
 Packed layers (``packed=True``) put gates side by side in one layer when they touch
 disjoint lines, layer by layer as soon as possible — the same greedy packing as
 :meth:`exactsyn.circuit.Circuit.depth`, so there are exactly ``depth()`` layers.  Two
@@ -46,15 +56,19 @@ BLOCK_GAP = 22.0  # between wrapped blocks
 CONTROL_RADIUS = 5.5
 TARGET_RADIUS = 11.0
 SWAP_HALF = 6.5  # half the size of a swap cross
+PERES_HALF = 10.0  # half the side of the Peres box on the gate's middle line b
+PERES_LETTER = "P"  # the letter inside it
+PERES_FONT_SIZE = 13.0
 STROKE = 2.0
 PAD = TARGET_RADIUS + 6.0  # above the first and below the last wire of a block
 
-MARK_KINDS = ("ctrl-pos", "ctrl-neg", "target", "swap")
+MARK_KINDS = ("ctrl-pos", "ctrl-neg", "target", "swap", "peres")
 
 
 @dataclass(frozen=True)
 class Mark:
-    """A symbol centred on a wire: ``ctrl-pos``, ``ctrl-neg``, ``target`` or ``swap``."""
+    """A symbol centred on a wire: ``ctrl-pos``, ``ctrl-neg``, ``target``, ``swap`` or ``peres``
+    (the P box on a Peres gate's middle line; its ``c`` line has a ``target``)."""
 
     kind: str
     x: float
@@ -237,14 +251,22 @@ def _figure(index: int, g: Gate, block: int, x: float, y_of: Callable[[int], flo
         marks.append(Mark("ctrl-pos", x, y_of(line), line))
     for line in g.negative_controls:
         marks.append(Mark("ctrl-neg", x, y_of(line), line))
-    for line in g.targets:
-        marks.append(Mark("target" if g.kind == "x" else "swap", x, y_of(line), line))
+    if g.kind == "peres":
+        b, c = g.targets
+        marks += [Mark("peres", x, y_of(b), b), Mark("target", x, y_of(c), c)]
+    else:
+        for line in g.targets:
+            marks.append(Mark("target" if g.kind == "x" else "swap", x, y_of(line), line))
     lo, hi = _span(g)
     return GateFigure(index, g, block, x, y_of(lo), y_of(hi), tuple(sorted(marks, key=lambda m: m.y)))
 
 
 def gate_title(g: Gate, names: tuple[str, ...]) -> str:
-    """A one-line description such as ``Toffoli: target c, controls a, ¬b``."""
+    """A one-line description such as ``Toffoli: target c, controls a, ¬b`` or
+    ``Peres: c ^= a·b, then b ^= a`` (with the line names)."""
+    if g.kind == "peres":
+        a, (b, c) = names[g.controls[0]], (names[t] for t in g.targets)
+        return f"Peres: {c} ^= {a}·{b}, then {b} ^= {a}"
     ctl = [names[c] for c in g.controls] + ["¬" + names[c] for c in g.negative_controls]
     what = "target " + names[g.targets[0]] if g.kind == "x" else "swaps " + " and ".join(names[t] for t in g.targets)
     return f"{g.name()}: {what}" + (f"; controls {', '.join(ctl)}" if ctl else "")

@@ -4,9 +4,11 @@ One horizontal wire per line (line 0 at the top), one column per gate in applica
 order, left to right, in the usual circuit-diagram notation (common practice):
 ``●`` positive control, ``○`` negative control, ``⊕`` target of an x gate, ``×`` both
 targets of a swap, ``│`` joining a gate's topmost and bottommost line and ``┼`` where
-it crosses a wire the gate does not touch.  Long circuits wrap into blocks of at most
-``width`` characters, each block repeating the labels.  ``ascii=True`` uses
-``* o + x | -`` instead.
+it crosses a wire the gate does not touch.  A Peres gate (``c ^= a·b``, then
+``b ^= a``) is ``●`` on ``a``, ``P`` on ``b`` and ``⊕`` on ``c``, the same marks as its
+SVG picture (:mod:`exactsyn.io.diagram`); a Toffoli gate would have a second ``●``
+where the ``P`` is.  Long circuits wrap into blocks of at most ``width`` characters,
+each block repeating the labels.  ``ascii=True`` uses ``* o + x P | -`` instead.
 """
 
 from __future__ import annotations
@@ -25,13 +27,14 @@ class _Symbols:
     negative: str
     target: str
     swap: str
+    peres: str  # line b of a Peres gate
     vertical: str
     cross: str
     wire: str
 
 
-UNICODE = _Symbols("●", "○", "⊕", "×", "│", "┼", "─")
-ASCII = _Symbols("*", "o", "+", "x", "|", "|", "-")
+UNICODE = _Symbols("●", "○", "⊕", "×", "P", "│", "┼", "─")
+ASCII = _Symbols("*", "o", "+", "x", "P", "|", "|", "-")
 
 _COLUMN = 3  # characters per gate column: wire, symbol, wire
 
@@ -56,8 +59,10 @@ def _column(g: Gate, lines: int, s: _Symbols) -> tuple[list[str], list[str]]:
             mark = s.control
         elif line in g.negative_controls:
             mark = s.negative
+        elif g.kind == "peres" and line == g.targets[0]:
+            mark = s.peres
         elif line in g.targets:
-            mark = s.target if g.kind == "x" else s.swap
+            mark = s.target if g.kind in ("x", "peres") else s.swap
         elif top < line < bottom:
             mark = s.cross
         else:

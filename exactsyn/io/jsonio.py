@@ -4,11 +4,16 @@ Each gate is an object::
 
     {"type": "x",    "target": 2,       "controls": [0], "negative_controls": [1]}
     {"type": "swap", "targets": [0, 1], "controls": [2], "negative_controls": []}
+    {"type": "peres", "controls": [0], "targets": [1, 2]}
 
-``type`` is ``"x"`` for the NOT / CNOT / Toffoli / MCT family and ``"swap"`` for SWAP /
-Fredkin and their controlled relatives.  A circuit is ``{"lines": n, "gate_count": k,
-"gates": [...]}``; readers need only ``lines`` and ``gates`` and ignore every other key,
-so a whole synthesis result can be read back as a circuit.  Lines are numbered as in
+``type`` is ``"x"`` for the NOT / CNOT / Toffoli / MCT family, ``"swap"`` for SWAP /
+Fredkin and their controlled relatives and ``"peres"`` for the Peres gate of
+:func:`exactsyn.gates.peres_gate`: ``controls`` is ``[a]`` and ``targets`` is ``[b, c]``
+in that order (``c ^= a·b``, then ``b ^= a``); both keys are required, with exactly one
+control and two targets, and a Peres gate takes no ``negative_controls`` key (not even
+an empty list).  A circuit is ``{"lines": n, "gate_count": k, "gates": [...]}``;
+readers need only ``lines`` and ``gates`` and ignore every other key, so a whole
+synthesis result can be read back as a circuit.  Lines are numbered as in
 :mod:`exactsyn.gates` (line 0 is the least significant bit of a state).
 
 Every malformed input raises :class:`~exactsyn.errors.ExactsynError` with a one-line
@@ -22,14 +27,18 @@ from typing import Any
 
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, swap_gate, x_gate
+from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 
 _X_KEYS = frozenset({"type", "target", "controls", "negative_controls"})
 _SWAP_KEYS = frozenset({"type", "targets", "controls", "negative_controls"})
+_PERES_KEYS = frozenset({"type", "controls", "targets"})
+_ALLOWED = {"x": _X_KEYS, "swap": _SWAP_KEYS, "peres": _PERES_KEYS}
 
 
 def gate_to_dict(g: Gate) -> dict[str, Any]:
     """One gate as a JSON-ready dict."""
+    if g.kind == "peres":
+        return {"type": "peres", "controls": list(g.controls), "targets": list(g.targets)}
     d: dict[str, Any] = {"type": g.kind}
     if g.kind == "x":
         d["target"] = g.targets[0]
@@ -59,7 +68,8 @@ def _line_list(where: str, key: str, v: object, length: int | None = None) -> li
     if not isinstance(v, list):
         raise ExactsynError(f"{where}: '{key}' must be a list of line numbers, not {_show(v)}")
     if length is not None and len(v) != length:
-        raise ExactsynError(f"{where}: '{key}' must list exactly {length} lines, not {len(v)}")
+        lines = "line" if length == 1 else "lines"
+        raise ExactsynError(f"{where}: '{key}' must list exactly {length} {lines}, not {len(v)}")
     return [_line(where, key, item) for item in v]
 
 
@@ -68,17 +78,21 @@ def gate_from_dict(d: object, where: str = "gate") -> Gate:
     if not isinstance(d, dict):
         raise ExactsynError(f"{where}: a gate must be a JSON object, not {_show(d)}")
     kind = d.get("type")
-    if kind not in ("x", "swap"):
-        raise ExactsynError(f'{where}: \'type\' must be "x" or "swap", not {_show(kind)}')
-    allowed = _X_KEYS if kind == "x" else _SWAP_KEYS
+    if not isinstance(kind, str) or kind not in _ALLOWED:
+        raise ExactsynError(f'{where}: \'type\' must be "x", "swap" or "peres", not {_show(kind)}')
+    allowed = _ALLOWED[kind]
     unknown = sorted(set(d) - allowed)
+    if kind == "peres" and "negative_controls" in unknown:
+        raise ExactsynError(f"{where}: a peres gate has no negative controls (drop 'negative_controls')")
     if unknown:
         raise ExactsynError(
             f"{where}: unknown key '{unknown[0]}' for a {kind} gate (allowed: {', '.join(sorted(allowed))})"
         )
-    controls = _line_list(where, "controls", d.get("controls", []))
-    negative = _line_list(where, "negative_controls", d.get("negative_controls", []))
     try:
+        if kind == "peres":
+            return _peres_from_dict(d, where)
+        controls = _line_list(where, "controls", d.get("controls", []))
+        negative = _line_list(where, "negative_controls", d.get("negative_controls", []))
         if kind == "x":
             if "target" not in d:
                 raise ExactsynError(f"{where}: an x gate needs 'target'")
@@ -91,6 +105,15 @@ def gate_from_dict(d: object, where: str = "gate") -> Gate:
         if e.message.startswith(where):
             raise
         raise ExactsynError(f"{where}: {e.message.removeprefix('gate: ')}") from None
+
+
+def _peres_from_dict(d: dict[str, Any], where: str) -> Gate:
+    for key, what in (("controls", "[a]"), ("targets", "[b, c]")):
+        if key not in d:
+            raise ExactsynError(f"{where}: a peres gate needs '{key}' ({what})")
+    (a,) = _line_list(where, "controls", d["controls"], length=1)
+    b, c = _line_list(where, "targets", d["targets"], length=2)
+    return peres_gate(a, b, c)
 
 
 def circuit_to_dict(c: Circuit) -> dict[str, Any]:

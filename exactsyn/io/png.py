@@ -50,7 +50,7 @@ def layout_to_png(lay: d.Layout, scale: float = 2.0) -> bytes:
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
-    from matplotlib.patches import Circle
+    from matplotlib.patches import Circle, Rectangle
 
     fig = Figure(figsize=(lay.width / 72, lay.height / 72), dpi=72 * scale, facecolor=PAPER)
     FigureCanvasAgg(fig)
@@ -87,6 +87,23 @@ def layout_to_png(lay: d.Layout, scale: float = 2.0) -> bytes:
             elif m.kind == "ctrl-neg":
                 ax.add_patch(
                     Circle((m.x, m.y), d.CONTROL_RADIUS, facecolor=PAPER, edgecolor=INK, linewidth=d.STROKE, zorder=3)
+                )
+            elif m.kind == "peres":
+                h = d.PERES_HALF
+                box = Rectangle((m.x - h, m.y - h), 2 * h, 2 * h, facecolor=PAPER, edgecolor=INK, linewidth=d.STROKE)
+                box.set_zorder(3)
+                ax.add_patch(box)
+                ax.text(
+                    m.x,
+                    m.y,
+                    d.PERES_LETTER,
+                    ha="center",
+                    va="center",
+                    fontsize=d.PERES_FONT_SIZE,
+                    family=families,
+                    weight="bold",
+                    color=INK,
+                    zorder=4,
                 )
             elif m.kind == "target":
                 r = d.TARGET_RADIUS

@@ -28,14 +28,27 @@ applied through a ``gate`` definition of our own, written only when used:
   (a controlled swap from a controlled NOT between two CNOTs; common practice, e.g.
   the Fredkin gate from a Toffoli gate).
 
+Peres gates (both versions)
+---------------------------
+Neither include file has the Peres gate (:func:`exactsyn.gates.peres_gate`), so a
+circuit with one gets, once, right after the include line::
+
+    gate peres a, b, c { ccx a, b, c; cx a, b; }
+
+(the Toffoli on ``c``, then the CNOT on ``b``: ``c ^= a·b``, then ``b ^= a``; Peres,
+"Reversible logic and quantum computers", Phys. Rev. A 32, 1985), and each gate is the
+call ``peres q[a], q[b], q[c]``.  ``ccx`` and ``cx`` have these names in both
+``qelib1.inc`` and ``stdgates.inc``, so the definition is the same text in OpenQASM 2 and
+3.  The writers never put modifiers on ``peres`` (the gate has no extra controls).
+
 Reader
 ------
 :func:`read_qasm` reads back exactly this gate set: ``x cx ccx swap cswap``, the
 ``ctrl`` / ``negctrl`` modifiers (OpenQASM 3) in any combination on them, and the
-``xc<m>`` / ``swapc<m>`` definitions above, which are accepted only when their body is
-token for token the one :func:`to_qasm2` writes.  One quantum register (``qreg`` or
-``qubit[n]``); comments and ``barrier`` are skipped.  Anything else raises
-:class:`~exactsyn.errors.ExactsynError` with the line number.
+``xc<m>`` / ``swapc<m>`` / ``peres`` definitions above, which are accepted only when
+their body is token for token the one the writers write (``peres`` takes no modifiers).
+One quantum register (``qreg`` or ``qubit[n]``); comments and ``barrier`` are skipped.
+Anything else raises :class:`~exactsyn.errors.ExactsynError` with the line number.
 
 A small reader of our own was written rather than depending on a maintained parser:
 the reference ``openqasm3`` package needs its ANTLR runtime for parsing, a heavy
@@ -51,9 +64,15 @@ from dataclasses import dataclass
 
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, swap_gate, x_gate
+from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 
-SUPPORTED = "exactsyn reads x, cx, ccx, swap, cswap and ctrl/negctrl modifiers"
+SUPPORTED = (
+    "exactsyn reads x, cx, ccx, swap, cswap, ctrl/negctrl modifiers "
+    "and the xc<m> / swapc<m> / peres definitions it writes"
+)
+
+# The Peres gate as our own definition (module docstring); the same text in both versions.
+PERES_DEFINITION = "gate peres a, b, c { ccx a, b, c; cx a, b; }"
 
 # Largest control count accepted in an xc<m> / swapc<m> name (its definition has 2**(m+2) lines).
 _MAX_DEFINED_CONTROLS = 40
@@ -100,9 +119,16 @@ def _swapc_definition(m: int) -> list[str]:
 
 def _qasm2_name(g: Gate) -> str:
     m = g.num_controls
+    if g.kind == "peres":
+        return "peres"
     if g.kind == "x":
         return {0: "x", 1: "cx", 2: "ccx"}.get(m, f"xc{m}")
     return {0: "swap", 1: "cswap"}.get(m, f"swapc{m}")
+
+
+def _peres_header(circuit: Circuit) -> list[str]:
+    """The Peres definition when the circuit has a Peres gate (written once), else nothing."""
+    return [PERES_DEFINITION] if any(g.kind == "peres" for g in circuit.gates) else []
 
 
 def to_qasm2(circuit: Circuit) -> str:
@@ -116,7 +142,7 @@ def to_qasm2(circuit: Circuit) -> str:
         elif g.kind == "swap" and m >= 2:
             swapc.add(m)
             xc.add(m + 1)
-    out = ["OPENQASM 2.0;", 'include "qelib1.inc";']
+    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_peres_header(circuit)]
     for m in sorted(xc):
         out += _xc_definition(m)
     for m in sorted(swapc):
@@ -137,6 +163,8 @@ def _modifier(name: str, count: int) -> str:
 
 def _qasm3_statement(g: Gate) -> str:
     pos, neg = len(g.controls), len(g.negative_controls)
+    if g.kind == "peres":  # operands a, b, c as in the definition
+        return f"peres {', '.join(_q(i) for i in (*g.controls, *g.targets))};"
     if neg == 0 and g.kind == "x" and pos <= 2:
         head = ("x", "cx", "ccx")[pos]
     elif neg == 0 and g.kind == "swap" and pos <= 1:
@@ -151,7 +179,7 @@ def _qasm3_statement(g: Gate) -> str:
 
 def to_qasm3(circuit: Circuit) -> str:
     """OpenQASM 3.0 text (``stdgates.inc`` gates and ``ctrl`` / ``negctrl`` modifiers)."""
-    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', f"qubit[{circuit.lines}] q;"]
+    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_peres_header(circuit), f"qubit[{circuit.lines}] q;"]
     out += [_qasm3_statement(g) for g in circuit.gates]
     return "\n".join(out) + "\n"
 
@@ -238,14 +266,22 @@ def _expected_statements(name: str, m: int) -> int:
 
 
 def _check_definition(ln: int, stmt: str, defined: dict[str, tuple[str, int]]) -> tuple[str, str, int]:
-    """Accept ``gate xc<m>`` / ``gate swapc<m>`` only as :func:`to_qasm2` writes them."""
+    """Accept ``gate xc<m>`` / ``gate swapc<m>`` / ``gate peres`` only as the writers write them."""
     head = re.match(rf"gate\s+({_IDENT})", stmt)
     name = head.group(1) if head else "?"
+    if name == "peres":
+        if name in defined:
+            raise ExactsynError(f"gate '{name}' is defined a second time at line {ln}")
+        if _tokens(stmt) != _tokens(PERES_DEFINITION):
+            raise ExactsynError(
+                f"gate definition 'peres' at line {ln} differs from the one exactsyn writes ({PERES_DEFINITION})"
+            )
+        return name, "peres", 0
     own = re.fullmatch(r"(xc|swapc)([1-9]\d*)", name)
     if not own:
         raise ExactsynError(
             f"unsupported gate definition '{name}' at line {ln}; exactsyn reads only the "
-            "xc<m> / swapc<m> definitions it writes"
+            "xc<m> / swapc<m> / peres definitions it writes"
         )
     family, m = own.group(1), int(own.group(2))
     lowest = 3 if family == "xc" else 2
@@ -314,6 +350,15 @@ def _gate_call(ln: int, stmt: str, version: int, reg: _Register | None, defined:
         raise ExactsynError(f"gate '{name}' at line {ln} comes before any quantum register is declared")
     qubits = [_operand(ln, part.strip(), reg) for part in operand_text.split(",")]
     kind, base_controls = base
+    if kind == "peres":
+        if mods:
+            raise ExactsynError(f"gate modifiers on 'peres' at line {ln} are not supported; {SUPPORTED}")
+        if len(qubits) != 3:
+            raise ExactsynError(f"'{stmt}' at line {ln} needs 3 qubits, not {len(qubits)}")
+        try:
+            return peres_gate(*qubits)
+        except ExactsynError:
+            raise ExactsynError(f"'{stmt}' at line {ln} uses a qubit twice") from None
     need = sum(c for _, c in mods) + base_controls + (1 if kind == "x" else 2)
     if len(qubits) != need:
         raise ExactsynError(f"'{stmt}' at line {ln} needs {need} qubits, not {len(qubits)}")

@@ -13,8 +13,11 @@ and counted:
 ``connector``             the vertical line joining a gate's controls and targets
 ``ctrl-pos``              filled dot: positive control
 ``ctrl-neg``              hollow dot: negative control
-``target``                ``⊕``: target of an x gate (a group: circle and cross)
+``target``                ``⊕``: target of an x gate, or line ``c`` of a Peres gate
+                          (a group: circle and cross)
 ``swap``                  ``×``: one of the two targets of a swap
+``peres``                 square box with the letter ``P``: line ``b`` of a Peres gate
+                          (a group: ``rect`` and ``text``); see :mod:`exactsyn.io.diagram`
 ``layer-sep``             dashed rule between packed layers
 ========================  =====================================================
 
@@ -46,6 +49,14 @@ def _mark(m: d.Mark) -> str:
         return f'<circle class="ctrl-pos" cx="{x}" cy="{y}" r="{_n(d.CONTROL_RADIUS)}" fill="{INK}" stroke="none"/>'
     if m.kind == "ctrl-neg":
         return f'<circle class="ctrl-neg" cx="{x}" cy="{y}" r="{_n(d.CONTROL_RADIUS)}" fill="{PAPER}"/>'
+    if m.kind == "peres":
+        h, size = d.PERES_HALF, d.PERES_FONT_SIZE
+        return (
+            f'<g class="peres"><rect x="{_n(m.x - h)}" y="{_n(m.y - h)}" width="{_n(2 * h)}" height="{_n(2 * h)}" '
+            f'fill="{PAPER}"/><text x="{x}" y="{_n(m.y + 0.35 * size)}" text-anchor="middle" '
+            f'font-family="{FONT_FAMILY}" font-size="{_n(size)}" font-weight="bold" fill="{INK}" '
+            f'stroke="none">{escape(d.PERES_LETTER)}</text></g>'
+        )
     if m.kind == "target":
         r = d.TARGET_RADIUS
         return (
