@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from exactsyn.gates import permutation_is_odd
 from exactsyn.library import Library
 from exactsyn.spec import Spec
 
@@ -24,19 +25,6 @@ class Bound:
     value: int
     reason: str  # "none" | "non-identity" | "changed-lines"
     detail: str
-
-
-def permutation_is_odd(perm: tuple[int, ...]) -> bool:
-    seen = [False] * len(perm)
-    cycles = 0
-    for i in range(len(perm)):
-        if not seen[i]:
-            cycles += 1
-            j = i
-            while not seen[j]:
-                seen[j] = True
-                j = perm[j]
-    return (len(perm) - cycles) % 2 == 1
 
 
 def parity_obstruction(spec: Spec, library: Library) -> str | None:

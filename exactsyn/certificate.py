@@ -95,6 +95,7 @@ def library_to_dict(lib: Library) -> dict[str, Any]:
         "preset": lib.preset,
         "lines": lib.lines,
         "max_controls": lib.control_cap,
+        "coupling": [list(e) for e in lib.coupling],
         "name": lib.name,
         "gates": [gate_to_dict(g) for g in lib.gates],
     }
@@ -103,7 +104,8 @@ def library_to_dict(lib: Library) -> dict[str, Any]:
 def library_from_dict(d: Any) -> Library:
     """Rebuild the library from its preset and require the stored gate list to match."""
     try:
-        lib = make_library(str(d["preset"]), int(d["lines"]), d.get("max_controls"))
+        coupling = tuple((int(a), int(b)) for a, b in d.get("coupling", []))
+        lib = make_library(str(d["preset"]), int(d["lines"]), d.get("max_controls"), coupling)
         stored = tuple(gate_from_dict(g) for g in d["gates"])
     except (KeyError, TypeError, ValueError):
         raise ExactsynError("certificate: malformed 'library'") from None
@@ -296,7 +298,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
             depth, extended, value, exact = int(tb["depth"]), bool(tb["extended"]), int(tb["value"]), bool(tb["exact"])
         except (KeyError, TypeError, ValueError):
             raise ExactsynError("certificate: malformed 'table_bound'") from None
-        if not spec.is_permutation or not library.only_x or spec.lines > 4 or not 0 <= depth <= FULL:
+        if not spec.is_permutation or not library.involutive or spec.lines > 4 or not 0 <= depth <= FULL:
             note("table", False, "a table bound needs a full permutation on at most 4 lines")
         else:
             from exactsyn.mitm import extended_meet, meet_in_the_middle

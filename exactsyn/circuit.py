@@ -43,8 +43,11 @@ class Circuit:
         return tuple(int(v) for v in self.apply(np.arange(1 << self.lines, dtype=np.int64)))
 
     def inverse(self) -> Circuit:
-        """Every gate here is self-inverse, so the inverse runs them backwards."""
-        return Circuit(self.lines, tuple(reversed(self.gates)))
+        """The gates backwards; a Peres gate (not self-inverse) becomes its CNOT, then its Toffoli."""
+        out: list[Gate] = []
+        for g in reversed(self.gates):
+            out.extend(g.inverse_gates())
+        return Circuit(self.lines, tuple(out))
 
     def then(self, other: Circuit) -> Circuit:
         """This circuit followed by ``other``."""

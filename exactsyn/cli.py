@@ -14,7 +14,14 @@ from typing import NoReturn
 import click
 
 from exactsyn import __version__
-from exactsyn.cli_options import bounds_option, encoding_option, library_option, max_controls_option, solver_option
+from exactsyn.cli_options import (
+    bounds_option,
+    coupling_option,
+    encoding_option,
+    library_option,
+    max_controls_option,
+    solver_option,
+)
 from exactsyn.embed import Embedding
 from exactsyn.encode import options_for
 from exactsyn.errors import ExactsynError
@@ -81,6 +88,7 @@ def main() -> None:
 @click.option("--lines", type=int, help="Number of lines (for --cycles; default: smallest that fits).")
 @library_option
 @max_controls_option
+@coupling_option
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the result here, not stdout.")
 @click.option(
@@ -124,6 +132,7 @@ def synth(
     lines: int | None,
     library_name: str,
     max_controls: int | None,
+    coupling: str,
     fmt: str,
     output: str | None,
     time_limit: float | None,
@@ -155,7 +164,7 @@ def synth(
     """
     try:
         spec, emb = _read_spec(spec_file, perm, cycles, lines)
-        library = make_library(library_name, spec.lines, max_controls)
+        library = make_library(library_name, spec.lines, max_controls, coupling)
         if time_limit is not None and time_limit <= 0:
             raise ExactsynError("--time-limit must be positive")
         if jobs < 1:

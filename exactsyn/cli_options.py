@@ -8,7 +8,7 @@ from typing import Any
 import click
 
 from exactsyn.encode import ENCODINGS
-from exactsyn.library import PRESETS
+from exactsyn.library import KINDS, PRESETS
 from exactsyn.search import BOUNDS
 from exactsyn.solve import SOLVERS
 
@@ -19,10 +19,24 @@ library_option = click.option(
     "library_name",
     default="nct",
     show_default=True,
-    metavar="NAME",
-    help="Gate library: " + "; ".join(f"{k} = {v}" for k, v in PRESETS.items()) + ".",
+    metavar="NAME|KINDS",
+    help="Gate library, a preset: "
+    + "; ".join(f"{k} = {v}" for k, v in PRESETS.items())
+    + ". Or a comma-separated list of gate kinds, e.g. 'not,cnot,toffoli,peres': "
+    + "; ".join(f"{k} = {v}" for k, v in KINDS.items())
+    + ".",
 )
-max_controls_option = click.option("--max-controls", type=int, help="Cap the number of controls of any gate.")
+max_controls_option = click.option(
+    "--max-controls", type=int, help="Cap the number of controls of any gate (a Peres gate counts as 2)."
+)
+coupling_option = click.option(
+    "--coupling",
+    default="",
+    metavar="PAIRS",
+    help="Lines that may interact, e.g. '0-1-2-3' (a chain), '0-1,1-2,0-3', or chain / ring / star. "
+    "A one-line gate is always allowed, a two-line gate only on a coupled pair, a gate on more "
+    "lines only if its lines form a connected set of the coupling graph. Default: no restriction.",
+)
 encoding_option = click.option(
     "--encoding",
     type=click.Choice(list(ENCODINGS)),

@@ -191,6 +191,62 @@ def _neg(lit: Lit) -> Lit:
     return -lit
 
 
+def _iff_clauses(b: _Builder, pre: list[Lit], x: Lit, y: Lit) -> None:
+    """``pre ∨ (x ↔ y)`` as two clauses."""
+    b.add([*pre, _neg(x), y])
+    b.add([*pre, x, _neg(y)])
+
+
+def gate_clauses(b: _Builder, g: Gate, not_sel: Lit, a: Sequence[Lit], nxt: Sequence[Lit]) -> None:
+    """Clauses saying: if the gate is selected (``not_sel`` false), ``nxt`` is ``g`` applied to ``a``.
+
+    Only the gate's targets are constrained here; the frame clauses keep the other lines.
+    """
+    fail = [_neg(a[c]) for c in g.controls] + [a[c] for c in g.negative_controls]
+    blocked = [a[c] for c in g.controls] + [_neg(a[c]) for c in g.negative_controls]
+    if g.kind == "x":
+        tau = g.target
+        b.add([not_sel, *fail, a[tau], nxt[tau]])
+        b.add([not_sel, *fail, _neg(a[tau]), _neg(nxt[tau])])
+        for lit in blocked:
+            _iff_clauses(b, [not_sel, lit], a[tau], nxt[tau])
+    elif g.kind == "swap":
+        p, q = g.targets
+        # fires: the targets exchange their values; blocked: each keeps its own.
+        _iff_clauses(b, [not_sel, *fail], a[q], nxt[p])
+        _iff_clauses(b, [not_sel, *fail], a[p], nxt[q])
+        for lit in blocked:
+            _iff_clauses(b, [not_sel, lit], a[p], nxt[p])
+            _iff_clauses(b, [not_sel, lit], a[q], nxt[q])
+    elif g.kind == "peres":
+        (x,), (m, t) = g.controls, g.targets
+        # m' = m ⊕ x
+        _iff_clauses(b, [not_sel, a[x]], a[m], nxt[m])
+        _iff_clauses(b, [not_sel, _neg(a[x])], a[m], _neg(nxt[m]))
+        # t' = t ⊕ (x ∧ m)
+        _iff_clauses(b, [not_sel, _neg(a[x]), _neg(a[m])], a[t], _neg(nxt[t]))
+        _iff_clauses(b, [not_sel, a[x]], a[t], nxt[t])
+        _iff_clauses(b, [not_sel, a[m]], a[t], nxt[t])
+    else:  # pragma: no cover - Gate validates its kind
+        raise ExactsynError(f"the encoder has no clauses for gate kind {g.kind!r}")
+
+
+@lru_cache(maxsize=64)
+def inverse_pairs(library: Library) -> tuple[tuple[int, int], ...]:
+    """Pairs ``(i, j)`` of library gates with ``g_j ∘ g_i`` the identity (``i == j`` for involutions)."""
+    table = {g.permutation(library.lines): j for j, g in enumerate(library.gates)}
+    out = []
+    for i, g in enumerate(library.gates):
+        perm = g.permutation(library.lines)
+        inv = [0] * len(perm)
+        for s, v in enumerate(perm):
+            inv[v] = s
+        j = table.get(tuple(inv))
+        if j is not None:
+            out.append((i, j))
+    return tuple(out)
+
+
 def encode(
     spec: Spec,
     library: Library,
@@ -211,8 +267,6 @@ def encode(
     opts = options or EncodingOptions()
     if spec.lines != library.lines:
         raise ExactsynError(f"spec has {spec.lines} lines but the library is built for {library.lines}")
-    if not library.only_x:
-        raise ExactsynError("swap gates are not supported by this encoder yet")
     if k < 0:
         raise ExactsynError("gate count must be non-negative")
     n, gates = spec.lines, library.gates
@@ -277,7 +331,7 @@ def encode(
 
     # Choice: exactly one gate per position; t[d][l] ↔ some gate targeting l.
     amo_enc = EncType.pairwise if textbook or len(gates) <= 24 else EncType.seqcounter
-    by_target = [[j for j, g in enumerate(gates) if g.target == line] for line in range(n)]
+    by_target = [[j for j, g in enumerate(gates) if line in g.targets] for line in range(n)]
     for d in range(k):
         b.add(list(gvars[d]))
         amo = CardEnc.atmost(list(gvars[d]), 1, vpool=b.pool, encoding=amo_enc)
@@ -299,23 +353,13 @@ def encode(
                 b.add([t, _neg(a[line]), nxt[line]])
                 b.add([t, a[line], _neg(nxt[line])])
             for j, g in enumerate(gates):
-                gv = -gvars[d][j]
-                tau = g.target
-                fail = [_neg(a[c]) for c in g.controls] + [a[c] for c in g.negative_controls]
-                b.add([gv, *fail, a[tau], nxt[tau]])
-                b.add([gv, *fail, _neg(a[tau]), _neg(nxt[tau])])
-                for c in g.controls:
-                    b.add([gv, a[c], _neg(a[tau]), nxt[tau]])
-                    b.add([gv, a[c], a[tau], _neg(nxt[tau])])
-                for c in g.negative_controls:
-                    b.add([gv, _neg(a[c]), _neg(a[tau]), nxt[tau]])
-                    b.add([gv, _neg(a[c]), a[tau], _neg(nxt[tau])])
+                gate_clauses(b, g, -gvars[d][j], a, nxt)
 
     # Symmetry breaking (arguments in the module docstring).
     if "no-repeat" in opts.symmetry:
         for d in range(k - 1):
-            for j in range(len(gates)):
-                b.add([-gvars[d][j], -gvars[d + 1][j]])
+            for i, j in inverse_pairs(library):
+                b.add([-gvars[d][i], -gvars[d + 1][j]])
     if "commute" in opts.symmetry:
         pairs = commuting_pairs(library)
         for d in range(k - 1):

@@ -10,8 +10,13 @@ lines is an integer; line ``l`` carries bit ``l`` (line 0 is the least significa
 * ``kind == "swap"``: two targets whose bits are exchanged under the same control rule
   (SWAP, Fredkin and its multiple-control relatives; Fredkin & Toffoli, "Conservative
   logic", 1982).
+* ``kind == "peres"``: the Peres gate (Peres, "Reversible logic and quantum
+  computers", Phys. Rev. A 32, 1985) as a gate of its own: ``controls == (a,)`` and
+  ``targets == (b, c)``; it maps ``c ← c ⊕ a·b`` and then ``b ← b ⊕ a`` (a Toffoli
+  on ``c`` followed by a CNOT on ``b``).  It has no negative controls.
 
-Every gate of both kinds is its own inverse.
+Every ``x`` and ``swap`` gate is its own inverse; a Peres gate is not (its inverse is
+the CNOT first, then the Toffoli), see :meth:`Gate.is_involution`.
 """
 
 from __future__ import annotations
@@ -22,7 +27,7 @@ import numpy as np
 
 from exactsyn.errors import ExactsynError
 
-GATE_KINDS = ("x", "swap")
+GATE_KINDS = ("x", "swap", "peres")
 
 
 @dataclass(frozen=True)
@@ -61,9 +66,28 @@ class Gate:
     def target_mask(self) -> int:
         return _mask(self.targets)
 
+    @property
+    def is_involution(self) -> bool:
+        """True when the gate is its own inverse (every kind but Peres)."""
+        return self.kind != "peres"
+
+    def inverse_gates(self) -> tuple[Gate, ...]:
+        """Gates whose product is this gate's inverse (itself, or CNOT then Toffoli for Peres)."""
+        if self.kind != "peres":
+            return (self,)
+        (a,), (b, c) = self.controls, self.targets
+        return (Gate("x", (b,), (a,), ()), Gate("x", (c,), tuple(sorted((a, b))), ()))
+
+    @property
+    def control_count(self) -> int:
+        """Controls for a library's control cap: a Peres gate counts as its Toffoli (2)."""
+        return 2 if self.kind == "peres" else self.num_controls
+
     def name(self) -> str:
-        """The trade's name for the gate: NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, ..."""
+        """The trade's name for the gate: NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..."""
         c = self.num_controls
+        if self.kind == "peres":
+            return "Peres"
         if self.kind == "x":
             return {0: "NOT", 1: "CNOT", 2: "Toffoli"}.get(c, f"C{c}X")
         return {0: "SWAP", 1: "Fredkin"}.get(c, f"C{c}SWAP")
@@ -79,6 +103,11 @@ class Gate:
     def apply(self, states: np.ndarray) -> np.ndarray:
         """Apply the gate to an integer array of states (a new array is returned)."""
         pm, nm = self.positive_mask, self.negative_mask
+        if self.kind == "peres":
+            (a,), (b, c) = self.controls, self.targets
+            abit = (states >> a) & 1
+            out = states ^ ((abit & (states >> b) & 1) << c)
+            return out ^ (abit << b)
         active = ((states & pm) == pm) & ((states & nm) == 0)
         if self.kind == "x":
             flip = np.int64(1 << self.targets[0])
@@ -92,6 +121,11 @@ class Gate:
     def apply_int(self, state: int) -> int:
         """Apply the gate to one state."""
         pm, nm = self.positive_mask, self.negative_mask
+        if self.kind == "peres":
+            (a,), (b, c) = self.controls, self.targets
+            abit = (state >> a) & 1
+            state ^= (abit & (state >> b) & 1) << c
+            return state ^ (abit << b)
         if (state & pm) != pm or (state & nm) != 0:
             return state
         if self.kind == "x":
@@ -115,6 +149,19 @@ class Gate:
             self.controls,
             self.negative_controls,
         )
+
+
+def permutation_is_odd(perm: tuple[int, ...]) -> bool:
+    seen = [False] * len(perm)
+    cycles = 0
+    for i in range(len(perm)):
+        if not seen[i]:
+            cycles += 1
+            j = i
+            while not seen[j]:
+                seen[j] = True
+                j = perm[j]
+    return (len(perm) - cycles) % 2 == 1
 
 
 def _mask(lines: tuple[int, ...]) -> int:
@@ -153,3 +200,10 @@ def swap_gate(
     pos, neg = tuple(sorted(controls)), tuple(sorted(negative_controls))
     _check_lines("gate", (a, b, *pos, *neg))
     return Gate("swap", (min(a, b), max(a, b)), pos, neg)
+
+
+def peres_gate(a: int, b: int, c: int) -> Gate:
+    """Peres gate on control ``a``, middle line ``b`` and target ``c``:
+    ``c ← c ⊕ a·b`` then ``b ← b ⊕ a``."""
+    _check_lines("gate", (a, b, c))
+    return Gate("peres", (b, c), (a,), ())

@@ -83,8 +83,8 @@ class DistanceTable:
 
 
 def default_depth(library: Library) -> int:
-    """The depth :func:`distance_table` reaches under the size caps (0 for swap libraries)."""
-    if not library.only_x:
+    """The depth :func:`distance_table` reaches under the size caps (0 unless every gate is self-inverse)."""
+    if not library.involutive:
         return 0
     return distance_table(library, None).depth
 

@@ -211,7 +211,9 @@ def synthesise(
     table: TableBound | None = None
     if bounds not in BOUNDS:
         raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
-    want_table = bounds == "table" and spec.is_permutation and library.only_x and spec.lines <= 4
+    want_table = (
+        bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 64
+    )
 
     def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> Result:
         if circuit is not None:

@@ -57,7 +57,10 @@ def _digest(data: Any) -> str:
 
 def library_identity(library: Library) -> dict[str, Any]:
     if library.preset:
-        return {"preset": library.preset, "lines": library.lines, "max_controls": library.control_cap}
+        ident: dict[str, Any] = {"preset": library.preset, "lines": library.lines, "max_controls": library.control_cap}
+        if library.coupling:
+            ident["coupling"] = [list(e) for e in library.coupling]
+        return ident
     return {"lines": library.lines, "gates": [str(g) for g in library.gates]}
 
 
