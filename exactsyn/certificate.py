@@ -138,8 +138,12 @@ def write_proof(directory: Path, k: int, proof: bytes) -> str:
     return name
 
 
-def write_result(directory: Path, res: Result) -> Path:
-    """Write ``result.json`` for a search run whose proofs went to ``directory``."""
+def write_result(directory: Path, res: Result, objective: Any = None) -> Path:
+    """Write ``result.json`` for a search run whose proofs went to ``directory``.
+
+    ``objective`` is an :class:`exactsyn.objectives.ObjectiveResult` when the run
+    optimised more than the gate count (section documented in :mod:`exactsyn.objective_cert`).
+    """
     directory.mkdir(parents=True, exist_ok=True)
     queries = [
         QueryRecord(
@@ -178,6 +182,11 @@ def write_result(directory: Path, res: Result) -> Path:
         "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
         "queries": [q.__dict__ for q in queries],
     }
+    if objective is not None:
+        from exactsyn.objective_cert import objective_to_dict
+        from exactsyn.objectives import COST_OPTIONS
+
+        data["objective"] = objective_to_dict(objective, COST_OPTIONS.symmetry)
     path = directory / RESULT_FILE
     tmp = path.with_suffix(".json.tmp")
     tmp.write_text(json.dumps(data, indent=1) + "\n")
@@ -354,6 +363,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
 
     gate_count = None if circuit is None else len(circuit)
     optimal_claim = bool(data.get("optimal"))
+    proven_k: int | None = None
     if optimal_claim:
         if circuit is None or first is None:
             note("optimal", False, "optimality claimed without a checked circuit and bound")
@@ -362,7 +372,12 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
             if missing:
                 note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
             else:
+                proven_k = len(circuit)
                 note("optimal", True, f"every k in [{first}, {len(circuit) - 1}] refuted: {len(circuit)} is optimal")
+    if data.get("objective") is not None:
+        from exactsyn.objective_cert import check_objective
+
+        check_objective(directory, data["objective"], spec, library, proven_k, note)
     lb = data.get("lower_bound")
     if isinstance(lb, int) and first is not None:
         support = first

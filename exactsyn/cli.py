@@ -124,6 +124,40 @@ def main() -> None:
     help="Processes per query: with 2, a query still open after 1 s is raced against the "
     "formulation without symmetry breaking (faster on satisfiable queries); 1 = sequential.",
 )
+@click.option(
+    "--objective",
+    type=click.Choice(["gates", "gates-then-cost", "cost", "depth"]),
+    default="gates",
+    show_default=True,
+    help="What is minimised and proven: gates; gates-then-cost = fewest gates, then the least --cost among "
+    "them; cost = least --cost over any number of gates (slow beyond small 3-line functions); depth = fewest "
+    "layers, gates on disjoint lines sharing a layer.",
+)
+@click.option(
+    "--cost",
+    "cost_name",
+    default="ncv",
+    show_default=True,
+    metavar="MODEL|FILE",
+    help="Cost model: ncv (quantum cost: NOT 1, CNOT 1, Toffoli 5, Peres 4, C3X 13; Barenco et al. 1995), "
+    "t-count and cnot-count (of the Clifford+T decomposition written by --clifford-t), gates, or a TOML/JSON "
+    "table of gate names to integer costs (NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..., negative_control).",
+)
+@click.option(
+    "--all",
+    "all_circuits",
+    is_flag=True,
+    help="Print every optimal circuit (objectives gates and gates-then-cost), one per class of circuits that "
+    "differ only by reordering adjacent commuting gates.",
+)
+@click.option("--count", "count_only", is_flag=True, help="Like --all, but print only how many there are.")
+@click.option("--all-limit", type=int, metavar="N", help="Stop --all / --count after N circuits.")
+@click.option(
+    "--clifford-t",
+    is_flag=True,
+    help="With --format qasm2/qasm3: write the circuit over h, t, tdg, cx, x (Toffoli as 7 T/T† and 6 CNOT, "
+    "Nielsen & Chuang 2000; a gate with n-1 controls on n >= 4 lines gets one ancilla qubit 'anc').",
+)
 @click.option("-q", "--quiet", is_flag=True, help="No per-k progress lines on stderr.")
 def synth(
     spec_file: str | None,
@@ -143,6 +177,12 @@ def synth(
     cert_dir: str | None,
     dimacs_dir: str | None,
     jobs: int,
+    objective: str,
+    cost_name: str,
+    all_circuits: bool,
+    count_only: bool,
+    all_limit: int | None,
+    clifford_t: bool,
     quiet: bool,
 ) -> None:
     """Find a minimum-gate circuit for a reversible function and prove it minimal.
@@ -158,6 +198,10 @@ def synth(
       exactsyn synth instances/lift-gray-step.toml --format json
       exactsyn synth --perm ... --library mct --time-limit 60 --format qasm3 -o out.qasm
       exactsyn synth --cycles "(3 7)" --certificate cert/ && exactsyn check cert/
+      exactsyn synth --cycles "(6 7)" --library mixed --objective gates-then-cost --cost t-count
+      exactsyn synth --cycles "(5 6)" --objective depth --all --format json
+      exactsyn synth --cycles "(3 7)" --format qasm2 --clifford-t
+      exactsyn synth --cycles "(1 4)" --coupling 0-1-2       # SWAP of lines 0,2 on a chain
 
     Exit status: 0 a circuit was printed (check "optimal" in JSON), 1 no circuit
     within the limits or none exists in the library, 2 bad input.
@@ -171,6 +215,22 @@ def synth(
             raise ExactsynError("--jobs must be 1 or more")
         if max_gates is not None and max_gates < 0:
             raise ExactsynError("--max-gates must be 0 or more")
+        if clifford_t and fmt not in ("qasm2", "qasm3"):
+            raise ExactsynError("--clifford-t needs --format qasm2 or qasm3")
+        listing = all_circuits or count_only
+        if listing and objective not in ("gates", "gates-then-cost"):
+            raise ExactsynError("--all and --count work with --objective gates or gates-then-cost")
+        if listing and fmt not in ("text", "json"):
+            raise ExactsynError("--all and --count print text or json (one circuit per file otherwise)")
+        if all_limit is not None and all_limit < 1:
+            raise ExactsynError("--all-limit must be 1 or more")
+        from exactsyn.costs import cost_model
+
+        model = cost_model(cost_name)
+        if objective in ("gates-then-cost", "cost"):
+            from exactsyn.objectives import gate_costs
+
+            gate_costs(library, model, objective)  # refuses a bad table or zero costs now, not after the search
 
         def progress(step: Step) -> None:
             if not quiet:
@@ -200,34 +260,93 @@ def synth(
             )
         except NoCircuitError as e:
             _fail(e.message, 1)
-        if cert_dir:
-            path = write_result(Path(cert_dir), res)
-            if not quiet:
-                click.echo(f"certificate written: {path}", err=True)
-        from exactsyn.report import result_to_dict, result_to_text, status_line
+        from exactsyn.report import objective_summary, result_to_dict, result_to_text, status_line
 
         if not quiet:
             click.echo(status_line(res), err=True)
-        if res.circuit is None:
+        obj = None
+        if objective != "gates" and res.circuit is not None:
+            if not res.optimal:
+                click.echo("exactsyn: the gate count was not proven, so the objective was not optimised", err=True)
+            else:
+                from exactsyn.objective_cert import objective_proof_writer
+                from exactsyn.objectives import optimise
+
+                def obj_progress(q) -> None:  # type: ignore[no-untyped-def]
+                    if not quiet:
+                        what = f"depth<={q.k}" if q.kind == "depth" else f"k={q.k} cost<={q.limit}"
+                        click.echo(f"{what:<18} {q.status.upper():<7} {q.seconds:8.2f} s", err=True)
+
+                left = None if time_limit is None else max(0.1, time_limit - res.seconds)
+                obj = optimise(
+                    objective,
+                    res,
+                    model,
+                    time_limit=left,
+                    solver=solver,
+                    proof_sink=objective_proof_writer(Path(cert_dir)) if cert_dir else None,
+                    progress=obj_progress,
+                )
+                if not quiet:
+                    click.echo(objective_summary(obj), err=True)
+        if cert_dir:
+            path = write_result(Path(cert_dir), res, obj)
+            if not quiet:
+                click.echo(f"certificate written: {path}", err=True)
+        enum = None
+        if listing and res.circuit is not None and res.optimal:
+            from exactsyn.encode import CostLimit
+            from exactsyn.enumerate import enumerate_optimal
+
+            limit_cost = None
+            if obj is not None and obj.costs is not None and obj.optimal:
+                limit_cost = CostLimit(obj.costs, obj.value)
+            enum = enumerate_optimal(
+                spec, library, len(res.circuit), cost_limit=limit_cost, keep=all_circuits, limit=all_limit
+            )
+            if not quiet:
+                more = "" if enum.complete else " (stopped early: there may be more)"
+                click.echo(f"{enum.count} optimal circuit(s) up to reordering adjacent commuting gates{more}", err=True)
+        circuit = res.circuit if obj is None else obj.circuit
+        if circuit is None:
             if fmt == "json":
                 _emit(json.dumps(result_to_dict(res, emb), indent=2), output)
             sys.exit(1)
         if fmt in ("svg", "png"):
             from exactsyn.cli_pictures import emit_picture
 
-            emit_picture(res.circuit, fmt, output)
+            emit_picture(circuit, fmt, output)
             return
         if fmt == "json":
-            text = json.dumps(result_to_dict(res, emb), indent=2)
+            text = json.dumps(result_to_dict(res, emb, obj, enum, model), indent=2)
         elif fmt == "text":
-            text = result_to_text(res, emb)
+            text = result_to_text(res, emb, obj, model)
+            if enum is not None:
+                text += _listing_text(enum)
+        elif clifford_t:
+            from exactsyn.cliffordt import decompose
+            from exactsyn.cliffordt import to_qasm2 as ct_qasm2
+            from exactsyn.cliffordt import to_qasm3 as ct_qasm3
+
+            ct = decompose(circuit)
+            text = ct_qasm2(ct) if fmt == "qasm2" else ct_qasm3(ct)
         else:
             from exactsyn.io.qasm import to_qasm2, to_qasm3
 
-            text = to_qasm2(res.circuit) if fmt == "qasm2" else to_qasm3(res.circuit)
+            text = to_qasm2(circuit) if fmt == "qasm2" else to_qasm3(circuit)
         _emit(text, output)
     except ExactsynError as e:
         _fail(e.message)
+
+
+def _listing_text(enum) -> str:  # type: ignore[no-untyped-def]
+    from exactsyn.enumerate import EQUIVALENCE
+
+    more = "" if enum.complete else " (stopped early: there may be more)"
+    out = [f"# {enum.count} optimal circuit(s) of {enum.k} gates{more}; equivalence: {EQUIVALENCE}"]
+    for i, circ in enumerate(enum.circuits, 1):
+        out.append(f"{i}: " + "  ".join(str(g) for g in circ.gates))
+    return "\n".join(out) + "\n"
 
 
 def _dimacs_writer(directory: Path):  # type: ignore[no-untyped-def]

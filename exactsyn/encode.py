@@ -61,9 +61,34 @@ optimal circuit, whatever combination of rules is switched on:
   of ``C*`` is the least optimal circuit of its function, else ``C*`` could be
   shortened or made smaller).  ``window2`` contains ``no-repeat`` and ``commute``.
   A window length is skipped when ``|G|^w`` exceeds the enumeration cap.
+* ``trace`` — the lexicographic normal form of the circuit's class under swapping
+  adjacent commuting gates (see :func:`_trace_rule`): no gate may commute with every
+  gate from some earlier position ``i`` up to it while being smaller than the gate at
+  ``i``.  Moving it to position ``i`` gives an equivalent circuit of the same length
+  that is lexicographically smaller, so ``C*`` satisfies the rule.  It contains
+  ``commute``; each class of equivalent circuits keeps exactly one member (its least),
+  which is what ``--all`` enumeration counts.
 * ``touch`` (redundant, implied) — ``∨_d t[d][l]`` for every line ``l`` whose output
   differs from its input on a specified row: only a gate targeting ``l`` changes ``l``.
   Every circuit meeting the spec satisfies it.
+
+``no-repeat`` forbids a gate followed by its inverse (:func:`inverse_pairs`); for the
+self-inverse kinds that is the gate itself.  Gate kinds: ``x`` gates as above; a swap
+with targets ``p, q`` exchanges them when its controls fire; a Peres gate on ``(a; m, t)``
+gets ``m' = m ⊕ a`` and ``t' = t ⊕ a·m`` (:func:`gate_clauses`).
+
+Cost limits (:class:`CostLimit`, for the cost objectives of :mod:`exactsyn.objectives`)
+-------------------------------------------------------------------------------------
+With a cost limit ``C`` the query is "k gates and total cost ≤ C".  The rules kept
+(:data:`COST_SAFE_RULES`) have arguments that survive: take, among the circuits of
+minimum length that meet the spec with cost ≤ C, the lexicographically smallest.  Two
+adjacent inverse gates could be removed without raising the cost (costs are ≥ 0), so it
+has none; ``commute`` and ``trace`` reorder without changing the gate multiset, hence the
+cost; ``touch`` holds for every circuit.  The window rules change meaning under a cost
+limit: they forbid windows that are not the least circuit of their function in the
+order of :attr:`CostLimit.order` (cost first, or gate count first), whose argument is in
+:func:`exactsyn.windows.weighted_forbidden_windows`; the plain window rules would
+replace a window by a shorter one of higher cost.
 """
 
 from __future__ import annotations
@@ -80,13 +105,15 @@ from exactsyn.errors import ExactsynError
 from exactsyn.gates import Gate
 from exactsyn.library import Library
 from exactsyn.spec import Spec
-from exactsyn.windows import forbidden_windows, window_size_ok
+from exactsyn.windows import forbidden_windows, weighted_forbidden_windows, window_size_ok
 
 ENCODINGS = {
     "onehot": "one-hot gate choice, constants substituted, symmetry breaking (default)",
     "textbook": "one-hot gate choice, no symmetry breaking: the baseline every speed-up is measured against",
 }
-SYMMETRY_RULES = ("no-repeat", "commute", "touch", "window2", "window3", "window4")
+SYMMETRY_RULES = ("no-repeat", "commute", "trace", "touch", "window2", "window3", "window4")
+# Rules whose argument holds when a cost limit is added (see "Cost limits" above).
+COST_SAFE_RULES = ("no-repeat", "commute", "trace", "touch", "window2", "window3", "window4")
 DEFAULT_SYMMETRY = ("no-repeat", "commute", "touch")
 ENCODING_VERSION = 1
 
@@ -129,6 +156,7 @@ class Encoding:
     num_vars: int
     gate_vars: tuple[tuple[int, ...], ...] = field(repr=False)
     trivially_unsat: bool = False
+    optional: bool = False  # positions may stay empty (the depth encoding's slots)
 
     def decode(self, model: Iterable[int]) -> Circuit:
         """Read the circuit out of a satisfying assignment."""
@@ -136,6 +164,8 @@ class Encoding:
         gates: list[Gate] = []
         for d, row in enumerate(self.gate_vars):
             chosen = [j for j, v in enumerate(row) if v in true]
+            if self.optional and not chosen:
+                continue
             if len(chosen) != 1:
                 raise RuntimeError(f"model selects {len(chosen)} gates at position {d}")
             gates.append(self.library.gates[chosen[0]])
@@ -158,6 +188,15 @@ def commuting_pairs(library: Library) -> frozenset[tuple[int, int]]:
             if all(pj[pi[s]] == pi[pj[s]] for s in range(1 << n)):
                 out.add((i, j))
     return frozenset(out)
+
+
+@dataclass(frozen=True)
+class CostLimit:
+    """Every gate has a cost (aligned with the library's gates); the circuit's total must not exceed ``limit``."""
+
+    costs: tuple[int, ...]
+    limit: int
+    order: str = "cost"  # which circuits the window rules keep: see windows.weighted_forbidden_windows
 
 
 class _Builder:
@@ -255,6 +294,8 @@ def encode(
     *,
     guard: bool = False,
     pool: IDPool | None = None,
+    cost_limit: CostLimit | None = None,
+    slots: Sequence[Sequence[int]] | None = None,
 ) -> Encoding:
     """Build the CNF for exactly ``k`` gates (see the module docstring).
 
@@ -269,6 +310,14 @@ def encode(
         raise ExactsynError(f"spec has {spec.lines} lines but the library is built for {library.lines}")
     if k < 0:
         raise ExactsynError("gate count must be non-negative")
+    if cost_limit is not None:
+        bad = [s for s in opts.symmetry if s not in COST_SAFE_RULES]
+        if bad:
+            raise ExactsynError(f"symmetry rule {bad[0]} does not keep a cheapest circuit; use {COST_SAFE_RULES}")
+        if len(cost_limit.costs) != len(library.gates) or min(cost_limit.costs, default=0) < 0:
+            raise ExactsynError("a cost limit needs one non-negative cost per library gate")
+    if slots is not None and (len(slots) != k or opts.symmetry not in ((), ("touch",))):
+        raise ExactsynError("slots need one gate subset per position and no ordering rules")
     n, gates = spec.lines, library.gates
     b = _Builder(pool)
     textbook = opts.name == "textbook"
@@ -332,8 +381,13 @@ def encode(
     # Choice: exactly one gate per position; t[d][l] ↔ some gate targeting l.
     amo_enc = EncType.pairwise if textbook or len(gates) <= 24 else EncType.seqcounter
     by_target = [[j for j, g in enumerate(gates) if line in g.targets] for line in range(n)]
+    allowed = [set(range(len(gates))) for _ in range(k)] if slots is None else [set(s) for s in slots]
     for d in range(k):
-        b.add(list(gvars[d]))
+        for j in range(len(gates)):
+            if j not in allowed[d]:
+                b.add([-gvars[d][j]])
+        if slots is None:
+            b.add(list(gvars[d]))
         amo = CardEnc.atmost(list(gvars[d]), 1, vpool=b.pool, encoding=amo_enc)
         for cl in amo.clauses:
             b.add(cl)
@@ -353,7 +407,8 @@ def encode(
                 b.add([t, _neg(a[line]), nxt[line]])
                 b.add([t, a[line], _neg(nxt[line])])
             for j, g in enumerate(gates):
-                gate_clauses(b, g, -gvars[d][j], a, nxt)
+                if j in allowed[d]:
+                    gate_clauses(b, g, -gvars[d][j], a, nxt)
 
     # Symmetry breaking (arguments in the module docstring).
     if "no-repeat" in opts.symmetry:
@@ -367,12 +422,21 @@ def encode(
                 b.add([-gvars[d][j], -gvars[d + 1][i]])
     for w in (2, 3, 4):
         if f"window{w}" in opts.symmetry and window_size_ok(library, w):
-            for seq in forbidden_windows(library, w):
+            forbidden = (
+                forbidden_windows(library, w)
+                if cost_limit is None
+                else weighted_forbidden_windows(library, w, cost_limit.costs, cost_limit.order)
+            )
+            for seq in forbidden:
                 for d in range(k - w + 1):
                     b.add([-gvars[d + i][j] for i, j in enumerate(seq)])
+    if "trace" in opts.symmetry:
+        _trace_rule(b, library, gvars)
     if "touch" in opts.symmetry:
         for line in spec.changed_lines():
             b.add(([-act] if act is not None else []) + [tvars[d][line] for d in range(k)])
+    if cost_limit is not None:
+        _cost_clauses(b, cost_limit, gvars)
 
     if k == 0 and not spec.is_identity() and not guard:
         b.empty = True  # no gate at all: the spec must already be the identity
@@ -390,4 +454,73 @@ def encode(
         num_vars=b.pool.top,
         gate_vars=gvars,
         trivially_unsat=b.empty,
+        optional=slots is not None,
     )
+
+
+def _cost_clauses(b: _Builder, cl: CostLimit, gvars: tuple[tuple[int, ...], ...]) -> None:
+    """Total cost ≤ limit, as a cardinality constraint over unary per-position costs.
+
+    Every gate costs at least ``base = min(costs)``, so the total is ``k·base`` plus the
+    extra cost above ``base`` of each position.  Position ``d`` gets a ladder
+    ``u[d][1] ← u[d][2] ← …`` and ``g[d][j] → u[d][cost_j − base]``; a model's true ``u``
+    literals are at least the extra cost, so a totalizer (Bailleux & Boufkhad, CP 2003)
+    bounding their number by ``limit − k·base`` bounds the total cost.
+    """
+    base = min(cl.costs)
+    extra = [c - base for c in cl.costs]
+    top = max(extra)
+    lits: list[int] = []
+    for d, row in enumerate(gvars):
+        ladder = [b.var("cost", d, v) for v in range(1, top + 1)]
+        for v in range(1, top):
+            b.add([-ladder[v], ladder[v - 1]])
+        for j, e in enumerate(extra):
+            if e > 0:
+                b.add([-row[j], ladder[e - 1]])
+        lits.extend(ladder)
+    room = cl.limit - base * len(gvars)
+    if room < 0:
+        b.empty = True
+    elif room < len(lits):
+        card = CardEnc.atmost(lits, room, vpool=b.pool, encoding=EncType.totalizer)
+        for c in card.clauses:
+            b.add(c)
+
+
+def _trace_rule(b: _Builder, library: Library, gvars: tuple[tuple[int, ...], ...]) -> None:
+    """Lexicographic normal form of traces (Anisimov & Knuth 1979; Diekert & Rozenberg, "The
+    Book of Traces", 1995): no position ``j`` holds a gate that commutes with every gate at
+    positions ``i..j−1`` and is smaller than the gate at ``i``.
+
+    ``K[i][h]`` — the gate at ``i`` commutes with gate ``h``; ``cb[j][i]`` — the gate at
+    ``j`` commutes with all gates at ``i..j−1``; ``gt[i][h]`` — the gate at ``i`` is larger
+    than ``h``.  Each auxiliary is only forced true (implications from the gate choice),
+    which is all the forbidding clause ``¬cb[j][i] ∨ ¬g[j][h] ∨ ¬gt[i][h]`` needs.
+    """
+    k, m = len(gvars), len(library.gates)
+    if k < 2:
+        return
+    pairs = commuting_pairs(library)
+    comm: list[set[int]] = [{h} for h in range(m)]
+    for i, j in pairs:
+        comm[i].add(j)
+        comm[j].add(i)
+    for i in range(k):
+        for h in range(m):
+            kv = b.var("comm", i, h)
+            for a in comm[h]:
+                b.add([-gvars[i][a], kv])
+        for h in range(m - 1):
+            b.add([-gvars[i][h + 1], b.var("gt", i, h)])
+            if h + 2 < m:
+                b.add([-b.var("gt", i, h + 1), b.var("gt", i, h)])
+    for j in range(1, k):
+        for i in range(j - 1, -1, -1):
+            cb = b.var("cb", j, i)
+            for h in range(m):
+                # gate h at j commutes with the gate at i (and with i+1..j-1) -> cb[j][i]
+                prev = [] if i == j - 1 else [-b.var("cb", j, i + 1)]
+                b.add([-gvars[j][h], -b.var("comm", i, h), *prev, cb])
+            for h in range(m - 1):
+                b.add([-cb, -gvars[j][h], -b.var("gt", i, h)])

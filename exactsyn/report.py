@@ -3,11 +3,20 @@
 The JSON object keeps the fields that outside scripts rely on: ``lines``,
 ``gate_count``, ``optimal`` (true only when proven), ``lower_bound``, ``library`` and
 ``gates`` (application order, each gate as in :mod:`exactsyn.io.jsonio`).
+
+With an objective other than the gate count (:mod:`exactsyn.objectives`) the printed
+circuit is the objective's: ``gates`` and ``gate_count`` describe it, ``optimal`` says
+whether it is proven optimal *for the objective*, and ``objective`` holds ``name``,
+``cost_model``, ``value``, ``optimal``, ``lower_bound`` (in the objective's unit) and
+``min_gates`` (the proven minimum gate count).  ``costs`` gives the printed circuit's
+cost under every built-in cost model (and a user table when one was given);
+``circuits`` lists every optimal circuit after ``--all``, ``count`` their number.
 """
 
 from __future__ import annotations
 
-from typing import Any
+from dataclasses import replace
+from typing import TYPE_CHECKING, Any
 
 from exactsyn import __version__
 from exactsyn.embed import Embedding
@@ -16,15 +25,47 @@ from exactsyn.io.jsonio import gate_to_dict
 from exactsyn.mitm import FULL
 from exactsyn.search import Result, Step
 
+if TYPE_CHECKING:
+    from exactsyn.circuit import Circuit
+    from exactsyn.costs import CostModel
+    from exactsyn.enumerate import Enumeration
+    from exactsyn.objectives import ObjectiveResult
 
-def result_to_dict(res: Result, embedding: Embedding | None = None) -> dict[str, Any]:
-    c = res.circuit
+
+def circuit_costs(circuit: Circuit, extra: CostModel | None = None) -> dict[str, int]:
+    """The circuit's cost under every built-in model (and ``extra``)."""
+    from exactsyn.costs import COST_MODELS, circuit_cost
+
+    models = dict(COST_MODELS)
+    if extra is not None:
+        models[extra.name] = extra
+    return {name: circuit_cost(circuit, m) for name, m in models.items()}
+
+
+def objective_summary(obj: ObjectiveResult) -> str:
+    unit = "depth" if obj.objective == "depth" else f"cost ({obj.cost_model})"
+    proven = "proven optimal" if obj.optimal else f"NOT proven optimal (at least {obj.bound})"
+    k_star = len(obj.gate_result.circuit or ())
+    return (
+        f"objective {obj.objective}: {unit} {obj.value}, {proven}; "
+        f"{_gates(len(obj.circuit))} (fewest possible: {k_star})"
+    )
+
+
+def result_to_dict(
+    res: Result,
+    embedding: Embedding | None = None,
+    objective: ObjectiveResult | None = None,
+    enumeration: Enumeration | None = None,
+    cost: CostModel | None = None,
+) -> dict[str, Any]:
+    c = res.circuit if objective is None else objective.circuit
     data = {
         "name": res.spec.name,
         "lines": res.spec.lines,
         "permutation": list(res.spec.outputs) if res.spec.is_permutation else None,
         "gate_count": None if c is None else len(c),
-        "optimal": res.optimal,
+        "optimal": res.optimal if objective is None else objective.optimal,
         "lower_bound": res.lower_bound,
         "upper_bound": res.upper_bound,
         "library": res.library.name,
@@ -38,6 +79,26 @@ def result_to_dict(res: Result, embedding: Embedding | None = None) -> dict[str,
         "seconds": round(res.seconds, 4),
         "version": __version__,
     }
+    if c is not None:
+        data["costs"] = circuit_costs(c, cost)
+    if objective is not None:
+        data["objective"] = {
+            "name": objective.objective,
+            "cost_model": objective.cost_model,
+            "value": objective.value,
+            "optimal": objective.optimal,
+            "lower_bound": objective.bound,
+            "min_gates": None if res.circuit is None else len(res.circuit),
+            "queries": [
+                {"kind": q.kind, "k": q.k, "limit": q.limit, "status": q.status, "seconds": round(q.seconds, 4)}
+                for q in objective.queries
+            ],
+        }
+    if enumeration is not None:
+        data["count"] = enumeration.count
+        data["count_complete"] = enumeration.complete
+        if enumeration.circuits:
+            data["circuits"] = [[gate_to_dict(g) for g in circ.gates] for circ in enumeration.circuits]
     if embedding is not None:
         data["embedding"] = None if c is None else embedding.describe(res.spec, c.permutation())
     elif res.spec.has_choices and c is not None:
@@ -79,12 +140,23 @@ def status_line(res: Result) -> str:
     )
 
 
-def result_to_text(res: Result, embedding: Embedding | None = None) -> str:
+def result_to_text(
+    res: Result,
+    embedding: Embedding | None = None,
+    objective: ObjectiveResult | None = None,
+    cost: CostModel | None = None,
+) -> str:
     out = []
     labels = embedding.labels() if embedding is not None else None
     if res.spec.name:
         out.append(f"# {res.spec.name}")
     out.append(f"# {status_line(res)}")
+    if objective is not None:
+        out.append(f"# {objective_summary(objective)}")
+        res = replace(res, circuit=objective.circuit)
+    if res.circuit is not None:
+        costs = ", ".join(f"{k} {v}" for k, v in circuit_costs(res.circuit, cost).items())
+        out.append(f"# costs: {costs}")
     if embedding is not None and res.circuit is not None:
         d = embedding.describe(res.spec, res.circuit.permutation())
         consts = ", ".join(f"line {k} = {v}" for k, v in d["constants"].items()) or "none"

@@ -90,3 +90,58 @@ def forbidden_windows(library: Library, w: int) -> tuple[tuple[int, ...], ...]:
 
 def _all(g: int, w: int) -> list[tuple[int, ...]]:
     return [tuple(int(x) for x in np.unravel_index(i, (g,) * w)) for i in range(g**w)]
+
+
+@lru_cache(maxsize=32)
+def weighted_forbidden_windows(
+    library: Library, w: int, costs: tuple[int, ...], order: str
+) -> tuple[tuple[int, ...], ...]:
+    """``w``-sequences that are not the least circuit of their function under a cost order.
+
+    ``order == "cost"``: circuits are compared by (total cost, length, lexicographic);
+    ``order == "gates"``: by (length, total cost, lexicographic).  Let ``C*`` be the least
+    circuit meeting the spec in that order.  A window of ``C*`` replaced by a smaller
+    circuit of its own function would give a smaller circuit for the spec (the cost and
+    length of the rest are unchanged, and at equal cost and length the prefix before the
+    window is unchanged), so every window of ``C*`` is the least of its function among
+    the sequences of length ≤ ``w`` enumerated here.  Forbidding the others keeps ``C*``.
+    Sequences of every length up to ``w`` compete, so a window may be replaced by a shorter
+    but costlier one only in the ``gates`` order, and by a longer cheaper one only in the
+    ``cost`` order — exactly as the objective allows.
+    """
+    if order not in ("cost", "gates"):
+        raise ValueError(f"unknown window order {order!r}")
+    table = gate_table(library)
+    g = len(library.gates)
+    size = table.shape[1]
+    cost_arr = np.array(costs, dtype=np.int64)
+    identity = np.arange(size, dtype=np.uint8)
+    funcs = identity[None, :]
+    fcost = np.zeros(1, dtype=np.int64)
+    all_keys, all_cost, all_len, all_idx = [row_keys(funcs)], [fcost], [np.zeros(1, np.int64)], [np.zeros(1, np.int64)]
+    for d in range(1, w + 1):
+        funcs = table[:, funcs].transpose(1, 0, 2).reshape(-1, size)  # type: ignore[assignment]
+        fcost = (fcost[:, None] + cost_arr[None, :]).reshape(-1)
+        n = funcs.shape[0]
+        all_keys.append(row_keys(funcs))
+        all_cost.append(fcost)
+        all_len.append(np.full(n, d, np.int64))
+        all_idx.append(np.arange(n, dtype=np.int64))
+    keys = np.concatenate(all_keys)
+    cost = np.concatenate(all_cost)
+    length = np.concatenate(all_len)
+    idx = np.concatenate(all_idx)
+    first_key, second = (cost, length) if order == "cost" else (length, cost)
+    # np.lexsort sorts by the last key first: function, then the order's keys, then lex index.
+    perm = np.lexsort((idx, second, first_key, keys))
+    sk = keys[perm]
+    is_first = np.ones(len(sk), dtype=bool)
+    is_first[1:] = sk[1:] != sk[:-1]
+    winners = perm[is_first]
+    offset = sum(len(a) for a in all_keys[:w])
+    best_w = set((winners[winners >= offset] - offset).tolist())
+    out = []
+    for i in range(g**w):
+        if i not in best_w:
+            out.append(tuple(int(x) for x in np.unravel_index(i, (g,) * w)))
+    return tuple(out)

@@ -1,0 +1,102 @@
+"""``--all`` enumeration against breadth-first enumeration of every optimal gate sequence.
+
+The reference here is independent of the encoder: all optimal words come from the
+breadth-first size table, and each word is reduced to its class representative by the
+greedy lexicographic normal form of traces (Anisimov & Knuth 1979; Diekert & Rozenberg,
+"The Book of Traces", 1995): repeatedly take the least gate that commutes with every
+gate before it.
+"""
+
+from __future__ import annotations
+
+import random
+from collections.abc import Iterator, Sequence
+
+import numpy as np
+import pytest
+
+from exactsyn.bfs import optimal_sizes
+from exactsyn.encode import CostLimit
+from exactsyn.enumerate import enumerate_optimal
+from exactsyn.library import Library, make_library
+from exactsyn.spec import from_permutation
+
+
+def _commute(library: Library, a: int, b: int) -> bool:
+    pa = library.gates[a].permutation(library.lines)
+    pb = library.gates[b].permutation(library.lines)
+    return all(pa[pb[s]] == pb[pa[s]] for s in range(1 << library.lines))
+
+
+def _normal_form(word: Sequence[int], library: Library) -> tuple[int, ...]:
+    rest, out = list(word), []
+    while rest:
+        movable = [i for i, g in enumerate(rest) if all(_commute(library, g, h) for h in rest[:i])]
+        best = min(movable, key=lambda i: rest[i])
+        out.append(rest.pop(best))
+    return tuple(out)
+
+
+def _optimal_words(perm: tuple[int, ...], library: Library, sizes: dict[tuple[int, ...], int]) -> Iterator[tuple[int, ...]]:
+    """Every gate sequence of minimum length computing ``perm`` (last gate peeled off first)."""
+    inverses = [np.argsort(np.array(g.permutation(library.lines))) for g in library.gates]
+
+    def rec(f: tuple[int, ...], left: int) -> Iterator[tuple[int, ...]]:
+        if left == 0:
+            yield ()
+            return
+        for j, inv in enumerate(inverses):
+            g = tuple(int(inv[x]) for x in f)  # f = gate_j after g
+            if sizes.get(g) == left - 1:
+                for w in rec(g, left - 1):
+                    yield (*w, j)
+
+    yield from rec(perm, sizes[perm])
+
+
+@pytest.mark.parametrize("name", ["nct", "nct-peres", "mixed"])
+def test_all_optimal_count_matches_breadth_first_enumeration(name: str) -> None:
+    lib = make_library(name, 3)
+    sizes = optimal_sizes(lib).as_dict()
+    rng = random.Random(11)
+    sample = rng.sample(sorted(p for p, k in sizes.items() if 2 <= k <= 4), 12)
+    for perm in sample:
+        words = list(_optimal_words(perm, lib, sizes))
+        classes = {_normal_form(w, lib) for w in words}
+        res = enumerate_optimal(from_permutation(perm), lib, sizes[perm])
+        assert res.complete
+        assert res.count == len(classes), (name, perm)
+        got = {tuple(lib.index(g) for g in c.gates) for c in res.circuits}
+        assert got == classes
+        for c in res.circuits:
+            assert c.permutation() == perm
+
+
+def test_count_only_and_limit() -> None:
+    lib = make_library("nct", 3)
+    sizes = optimal_sizes(lib).as_dict()
+    perm = next(p for p, k in sorted(sizes.items()) if k == 4)
+    full = enumerate_optimal(from_permutation(perm), lib, 4)
+    counted = enumerate_optimal(from_permutation(perm), lib, 4, keep=False)
+    assert counted.count == full.count and counted.circuits == ()
+    if full.count > 1:
+        part = enumerate_optimal(from_permutation(perm), lib, 4, limit=1)
+        assert part.count == 1 and not part.complete
+
+
+def test_cheapest_minimum_gate_circuits_under_a_cost_limit() -> None:
+    # NCV quantum cost (Barenco et al. 1995): NOT 1, CNOT 1, Toffoli 5.  Reference: the
+    # classes of optimal words whose cost is the least among optimal words.
+    lib = make_library("nct", 3)
+    costs = tuple(5 if g.num_controls == 2 else 1 for g in lib.gates)
+    sizes = optimal_sizes(lib).as_dict()
+    perm = next(p for p, k in sorted(sizes.items()) if k == 4 and len({_c(w, costs) for w in _optimal_words(p, lib, sizes)}) > 1)
+    words = list(_optimal_words(perm, lib, sizes))
+    cheapest = min(_c(w, costs) for w in words)
+    classes = {_normal_form(w, lib) for w in words if _c(w, costs) == cheapest}
+    res = enumerate_optimal(from_permutation(perm), lib, 4, cost_limit=CostLimit(costs, cheapest))
+    assert res.count == len(classes)
+
+
+def _c(word: Sequence[int], costs: Sequence[int]) -> int:
+    return sum(costs[j] for j in word)
