@@ -201,7 +201,7 @@ def synth(
       exactsyn synth --cycles "(6 7)" --library mixed --objective gates-then-cost --cost t-count
       exactsyn synth --cycles "(5 6)" --objective depth --all --format json
       exactsyn synth --cycles "(3 7)" --format qasm2 --clifford-t
-      exactsyn synth --cycles "(1 4)" --coupling 0-1-2       # SWAP of lines 0,2 on a chain
+      exactsyn synth --cycles "(1 4)(3 6)" --coupling 0-1-2   # SWAP of lines 0,2 on a chain
 
     Exit status: 0 a circuit was printed (check "optimal" in JSON), 1 no circuit
     within the limits or none exists in the library, 2 bad input.

@@ -33,3 +33,27 @@ def perm_from_bits(lines: int, fn) -> list[int]:  # type: ignore[no-untyped-def]
         ys = fn(*bits)
         out.append(sum(b << i for i, b in enumerate(ys)))
     return out
+
+
+def optimal_words(perm, library, sizes):  # type: ignore[no-untyped-def]
+    """Every minimum-length gate sequence (library indices) computing ``perm``.
+
+    Independent of SAT: ``sizes`` is a breadth-first size table (``SizeTable.as_dict()``);
+    the last gate is peeled off while the rest stays optimal.
+    """
+    import numpy as np
+
+    inverses = [np.argsort(np.array(g.permutation(library.lines))) for g in library.gates]
+    out: list[tuple[int, ...]] = []
+
+    def rec(f, left, tail):  # type: ignore[no-untyped-def]
+        if left == 0:
+            out.append(tail)
+            return
+        for j, inv in enumerate(inverses):
+            g = tuple(int(inv[x]) for x in f)  # f = gate j after g
+            if sizes.get(g) == left - 1:
+                rec(g, left - 1, (j, *tail))
+
+    rec(tuple(perm), sizes[tuple(perm)], ())
+    return out

@@ -10,10 +10,10 @@ gate before it.
 from __future__ import annotations
 
 import random
-from collections.abc import Iterator, Sequence
+from collections.abc import Sequence
 
-import numpy as np
 import pytest
+from helpers import optimal_words
 
 from exactsyn.bfs import optimal_sizes
 from exactsyn.encode import CostLimit
@@ -37,23 +37,6 @@ def _normal_form(word: Sequence[int], library: Library) -> tuple[int, ...]:
     return tuple(out)
 
 
-def _optimal_words(perm: tuple[int, ...], library: Library, sizes: dict[tuple[int, ...], int]) -> Iterator[tuple[int, ...]]:
-    """Every gate sequence of minimum length computing ``perm`` (last gate peeled off first)."""
-    inverses = [np.argsort(np.array(g.permutation(library.lines))) for g in library.gates]
-
-    def rec(f: tuple[int, ...], left: int) -> Iterator[tuple[int, ...]]:
-        if left == 0:
-            yield ()
-            return
-        for j, inv in enumerate(inverses):
-            g = tuple(int(inv[x]) for x in f)  # f = gate_j after g
-            if sizes.get(g) == left - 1:
-                for w in rec(g, left - 1):
-                    yield (*w, j)
-
-    yield from rec(perm, sizes[perm])
-
-
 @pytest.mark.parametrize("name", ["nct", "nct-peres", "mixed"])
 def test_all_optimal_count_matches_breadth_first_enumeration(name: str) -> None:
     lib = make_library(name, 3)
@@ -61,7 +44,7 @@ def test_all_optimal_count_matches_breadth_first_enumeration(name: str) -> None:
     rng = random.Random(11)
     sample = rng.sample(sorted(p for p, k in sizes.items() if 2 <= k <= 4), 12)
     for perm in sample:
-        words = list(_optimal_words(perm, lib, sizes))
+        words = optimal_words(perm, lib, sizes)
         classes = {_normal_form(w, lib) for w in words}
         res = enumerate_optimal(from_permutation(perm), lib, sizes[perm])
         assert res.complete
@@ -90,8 +73,10 @@ def test_cheapest_minimum_gate_circuits_under_a_cost_limit() -> None:
     lib = make_library("nct", 3)
     costs = tuple(5 if g.num_controls == 2 else 1 for g in lib.gates)
     sizes = optimal_sizes(lib).as_dict()
-    perm = next(p for p, k in sorted(sizes.items()) if k == 4 and len({_c(w, costs) for w in _optimal_words(p, lib, sizes)}) > 1)
-    words = list(_optimal_words(perm, lib, sizes))
+    perm = next(
+        p for p, k in sorted(sizes.items()) if k == 4 and len({_c(w, costs) for w in optimal_words(p, lib, sizes)}) > 1
+    )
+    words = optimal_words(perm, lib, sizes)
     cheapest = min(_c(w, costs) for w in words)
     classes = {_normal_form(w, lib) for w in words if _c(w, costs) == cheapest}
     res = enumerate_optimal(from_permutation(perm), lib, 4, cost_limit=CostLimit(costs, cheapest))

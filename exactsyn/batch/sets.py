@@ -40,7 +40,7 @@ import numpy as np
 
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, swap_gate, x_gate
+from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.library import Library
 from exactsyn.spec import MAX_LINES
 
@@ -105,11 +105,15 @@ def relabel_gate(gate: Gate, sigma: Sequence[int]) -> Gate:
     neg = [sigma[c] for c in gate.negative_controls]
     if gate.kind == "x":
         return x_gate(sigma[gate.targets[0]], ctl, neg)
+    if gate.kind == "peres":
+        return peres_gate(sigma[gate.controls[0]], sigma[gate.targets[0]], sigma[gate.targets[1]])
     return swap_gate(sigma[gate.targets[0]], sigma[gate.targets[1]], ctl, neg)
 
 
 def transform_circuit(circuit: Circuit, t: Transform) -> Circuit:
-    """A circuit for ``t(f)`` from a circuit for ``f``, with the same number of gates."""
+    """A circuit for ``t(f)`` from a circuit for ``f``, with the same number of gates
+    (for self-inverse gates; :func:`reduction_obstacle` refuses libraries where inversion
+    leaves the library)."""
     _check_sigma(t.sigma, circuit.lines)
     base = circuit.inverse() if t.inverted else circuit
     return Circuit(circuit.lines, tuple(relabel_gate(g, t.sigma) for g in base.gates))
