@@ -14,7 +14,14 @@ from typing import TYPE_CHECKING, NoReturn
 import click
 
 from exactsyn.cli import main
-from exactsyn.cli_options import bounds_option, encoding_option, library_option, max_controls_option, solver_option
+from exactsyn.cli_options import (
+    bounds_option,
+    coupling_option,
+    encoding_option,
+    library_option,
+    max_controls_option,
+    solver_option,
+)
 
 if TYPE_CHECKING:
     from exactsyn.batch.run import RunSummary
@@ -54,6 +61,7 @@ def _fail(message: str, code: int = 2) -> NoReturn:
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the random sample.")
 @library_option
 @max_controls_option
+@coupling_option
 @encoding_option
 @solver_option
 @bounds_option(" Not part of the item key: finished items are not redone.")
@@ -100,6 +108,7 @@ def batch(
     seed: int,
     library_name: str,
     max_controls: int | None,
+    coupling: str,
     encoding: str,
     solver: str,
     bounds: str,
@@ -145,8 +154,11 @@ def batch(
             raise ExactsynError("--scheduler needs an address such as tcp://scheduler-host:8786")
         if jobs is not None and jobs < 1:
             raise ExactsynError("--jobs must be 1 or more")
-        choice = LibraryChoice(library_name.strip().lower(), max_controls)
-        choice.build(1 if not sets else max(1, sets[0][1]))  # validates the preset and the cap
+        choice = LibraryChoice(library_name.strip().lower(), max_controls, coupling.strip().lower())
+        if sets:
+            choice.build(max(1, sets[0][1]))  # validates the preset, the cap and the coupling
+        else:
+            LibraryChoice(choice.preset, max_controls).build(1)  # the coupling is checked per file
         options = RunOptions(
             encoding=options_for(encoding),
             solver=solver,

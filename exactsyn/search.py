@@ -212,7 +212,7 @@ def synthesise(
     if bounds not in BOUNDS:
         raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
     want_table = (
-        bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 64
+        bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
     )
 
     def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> Result:

@@ -3,6 +3,7 @@
     python scripts/bench_objectives.py                     # 3 lines, nct, 6 functions
     python scripts/bench_objectives.py --count 10 --seed 2 --library mixed
     python scripts/bench_objectives.py --compare-windows   # cost queries with and without window rules
+    python scripts/bench_objectives.py --rules no-repeat,commute,trace,touch,window2,window3,window4
 
 Per function: the gate optimum, then each objective's value, queries and seconds.  With
 ``--compare-windows`` the ``cost`` objective runs twice in one process, with the
@@ -38,10 +39,13 @@ def main() -> None:
     ap.add_argument("--count", type=int, default=6)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--compare-windows", action="store_true")
+    ap.add_argument("--rules", help="symmetry rules of the cost queries (comma-separated; default: the tool's)")
     args = ap.parse_args()
     lib = make_library(args.library, args.lines)
     model = cost_model(args.cost)
     rng = random.Random(args.seed)
+    options = EncodingOptions("onehot", tuple(args.rules.split(","))) if args.rules else COST_OPTIONS
+    print(f"cost-query rules: {','.join(options.symmetry)}")
     print(f"library {lib.name}, {args.lines} lines, cost model {model.name}, seed {args.seed}")
     print(f"{'function':<28} {'gates':>5} {'g-then-c':>9} {'s':>7} {'cost':>5} {'s':>7} {'depth':>5} {'s':>7}")
     totals = {"gtc": 0.0, "cost": 0.0, "depth": 0.0, "base": 0.0}
@@ -53,7 +57,7 @@ def main() -> None:
         gtc = optimise("gates-then-cost", res, model)
         t_gtc = time.perf_counter() - t
         t = time.perf_counter()
-        cost = optimise("cost", res, model, options=COST_OPTIONS)
+        cost = optimise("cost", res, model, options=options)
         t_cost = time.perf_counter() - t
         t = time.perf_counter()
         depth = optimise("depth", res)

@@ -151,3 +151,44 @@ def test_parity_follows_the_gates() -> None:
     odd = (1, 0, *range(2, 16))  # one transposition
     with pytest.raises(NoCircuitError):
         synthesise(from_permutation(odd), make_library("nct-swap", 4))
+
+
+@pytest.mark.parametrize(("name", "coupling"), [("nct-peres", ""), ("mixed-swap", ""), ("nct", "0-1-2")])
+def test_certificates_for_new_libraries_check(tmp_path, name: str, coupling: str) -> None:  # type: ignore[no-untyped-def]
+    import json
+
+    from exactsyn.certificate import check_certificate, proof_writer, write_result
+
+    lib = make_library(name, 3, coupling=coupling)
+    perm = Circuit(3, (swap_gate(0, 2),)).permutation()
+    res = synthesise(from_permutation(perm), lib, bounds="cheap", proof_sink=proof_writer(tmp_path))
+    write_result(tmp_path, res)
+    rep = check_certificate(tmp_path)
+    assert rep.ok and rep.gate_count == len(res.circuit or ())
+    data = json.loads((tmp_path / "result.json").read_text())
+    # A different coupling is a different library: the stored gate list no longer matches.
+    data["library"]["coupling"] = [[0, 1]] if coupling else [[0, 1], [1, 2]]
+    (tmp_path / "result.json").write_text(json.dumps(data))
+    with pytest.raises(ExactsynError):
+        check_certificate(tmp_path)
+
+
+def test_batch_with_a_kind_list_and_coupling_matches_bfs(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    import json
+    import sqlite3
+
+    from click.testing import CliRunner
+
+    from exactsyn.cli import main
+
+    store = tmp_path / "s.sqlite"
+    args = ["batch", "--random", "3", "--count", "6", "--seed", "3", "--library", "not,cnot,toffoli,peres"]
+    r = CliRunner().invoke(main, [*args, "--coupling", "chain", "--store", str(store), "--jobs", "1"])
+    assert r.exit_code == 0, r.output
+    lib = make_library("nct-peres", 3, coupling="chain")
+    sizes = optimal_sizes(lib).as_dict()
+    with sqlite3.connect(store) as db:
+        rows = db.execute("SELECT outputs, optimum, library FROM results").fetchall()
+    assert len(rows) == 6
+    for outputs, optimum, name in rows:
+        assert "@0-1,1-2" in name and optimum == sizes[tuple(json.loads(outputs))]

@@ -44,7 +44,12 @@ def member_result(store: Store, batch: BatchInfo, perm: Sequence[int]) -> Member
     spec = from_permutation(list(perm))
     desc = batch.description
     lib_desc = desc.get("library", {})
-    library = make_library(str(lib_desc.get("preset") or "nct"), spec.lines, lib_desc.get("max_controls"))
+    library = make_library(
+        str(lib_desc.get("preset") or "nct"),
+        spec.lines,
+        lib_desc.get("max_controls"),
+        str(lib_desc.get("coupling") or ""),
+    )
     enc = desc.get("encoding", {})
     encoding = EncodingOptions(str(enc.get("name", "onehot")), tuple(enc.get("symmetry", ())))
     identity = Transform(tuple(range(spec.lines)), False)

@@ -62,7 +62,12 @@ def _batch_id(description: dict[str, Any]) -> str:
 def _base_description(choice: LibraryChoice, lines: int | None, encoding: EncodingOptions) -> dict[str, Any]:
     lib = choice.build(lines) if lines else None
     return {
-        "library": {"preset": choice.preset, "max_controls": choice.max_controls, "name": lib.name if lib else None},
+        "library": {
+            "preset": choice.preset,
+            "max_controls": choice.max_controls,
+            "coupling": choice.coupling,
+            "name": lib.name if lib else None,
+        },
         "objective": OBJECTIVE,
         "encoding": encoding.describe(),
     }

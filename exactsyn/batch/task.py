@@ -36,18 +36,19 @@ STATUSES = ("done", "timeout", "failed")
 
 @dataclass(frozen=True)
 class LibraryChoice:
-    """A preset and an optional control cap; the library itself depends on the line count."""
+    """A preset (or kind list), an optional control cap and coupling; the library itself depends on the line count."""
 
     preset: str = "nct"
     max_controls: int | None = None
+    coupling: str = ""  # as for --coupling; resolved per line count ("chain", "0-1-2", ...)
 
     def build(self, lines: int) -> Library:
-        return _library(self.preset, lines, self.max_controls)
+        return _library(self.preset, lines, self.max_controls, self.coupling)
 
 
 @lru_cache(maxsize=32)
-def _library(preset: str, lines: int, cap: int | None) -> Library:
-    return make_library(preset, lines, cap)
+def _library(preset: str, lines: int, cap: int | None, coupling: str = "") -> Library:
+    return make_library(preset, lines, cap, coupling)
 
 
 def _digest(data: Any) -> str:
