@@ -57,3 +57,31 @@ def optimal_words(perm, library, sizes):  # type: ignore[no-untyped-def]
 
     rec(tuple(perm), sizes[tuple(perm)], ())
     return out
+
+
+def naive_bfs(library_gates: list[tuple[int, ...]], size: int) -> dict[tuple[int, ...], int]:
+    """Plain dictionary BFS, written independently of the vectorised one."""
+    start = tuple(range(size))
+    dist = {start: 0}
+    frontier = [start]
+    while frontier:
+        nxt = []
+        for p in frontier:
+            for g in library_gates:
+                q = tuple(g[v] for v in p)
+                if q not in dist:
+                    dist[q] = dist[p] + 1
+                    nxt.append(q)
+        frontier = nxt
+    return dist
+
+
+def permutation_matrix(c):  # type: ignore[no-untyped-def]
+    """Column i has its 1 in row p[i]: the unitary that maps basis state |i> to |p[i]>."""
+    import numpy as np
+
+    p = c.permutation()
+    m = np.zeros((len(p), len(p)))
+    for i, o in enumerate(p):
+        m[o, i] = 1.0
+    return m

@@ -6,6 +6,7 @@ import random
 
 import numpy as np
 import pytest
+from helpers import naive_bfs
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -68,23 +69,6 @@ def test_layers_are_disjoint_permutations() -> None:
         assert len(rows) == len(layer)
         assert not rows & seen
         seen |= rows
-
-
-def naive_bfs(library_gates: list[tuple[int, ...]], size: int) -> dict[tuple[int, ...], int]:
-    """Plain dictionary BFS, written independently of the vectorised one."""
-    start = tuple(range(size))
-    dist = {start: 0}
-    frontier = [start]
-    while frontier:
-        nxt = []
-        for p in frontier:
-            for g in library_gates:
-                q = tuple(g[v] for v in p)
-                if q not in dist:
-                    dist[q] = dist[p] + 1
-                    nxt.append(q)
-        frontier = nxt
-    return dist
 
 
 def test_vectorised_table_equals_naive_bfs() -> None:

@@ -13,6 +13,7 @@ import random
 
 import numpy as np
 import pytest
+from helpers import permutation_matrix
 
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
@@ -56,15 +57,6 @@ def random_circuits() -> list[Circuit]:
 
 
 CIRCUITS = random_circuits()
-
-
-def permutation_matrix(c: Circuit) -> np.ndarray:
-    """Column i has its 1 in row p[i]: the unitary that maps basis state |i> to |p[i]>."""
-    p = c.permutation()
-    m = np.zeros((len(p), len(p)))
-    for i, o in enumerate(p):
-        m[o, i] = 1.0
-    return m
 
 
 def test_random_circuits_cover_the_cases() -> None:

@@ -17,7 +17,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from helpers import optimal_words
+from helpers import naive_bfs, optimal_words
 
 from exactsyn.bfs import optimal_sizes
 from exactsyn.certificate import check_certificate, proof_writer, write_result
@@ -65,18 +65,7 @@ def _layer_depths(library: Library) -> dict[Perm, int]:
                 for g in combo:
                     f = g.apply(f)
                 layers.add(tuple(int(x) for x in f))
-    start = tuple(range(size))
-    dist, frontier = {start: 0}, [start]
-    while frontier:
-        nxt = []
-        for f in frontier:
-            for layer in layers:
-                h = tuple(layer[x] for x in f)
-                if h not in dist:
-                    dist[h] = dist[f] + 1
-                    nxt.append(h)
-        frontier = nxt
-    return dist
+    return naive_bfs(sorted(layers), size)
 
 
 def _gate_result(perm: Perm, lib: Library = NCT3):  # type: ignore[no-untyped-def]

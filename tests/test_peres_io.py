@@ -23,6 +23,8 @@ from typing import Any
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from helpers import permutation_matrix
+from svg_readback import MARKS, SVG_NS, by_class, centre, read_back
 
 import exactsyn.cli_pictures  # noqa: F401  (registers the draw command)
 from exactsyn.circuit import Circuit
@@ -36,8 +38,6 @@ from exactsyn.io.png import to_png
 from exactsyn.io.qasm import PERES_DEFINITION, read_qasm, to_qasm2, to_qasm3
 from exactsyn.io.svg import to_svg
 
-SVG_NS = "{http://www.w3.org/2000/svg}"
-MARKS = ("ctrl-pos", "ctrl-neg", "target", "swap", "peres")
 # qiskit's OpenQASM 3 importer builds multiple-controlled swaps through an argument qiskit itself deprecates
 QISKIT_INTERNAL = "ignore:.*argument ``annotated`` is deprecated:DeprecationWarning"
 
@@ -84,15 +84,6 @@ SHOWCASE = Circuit(
         peres_gate(1, 3, 2),
     ),
 )
-
-
-def permutation_matrix(c: Circuit) -> np.ndarray:
-    """Column i has its 1 in row p[i]: the unitary that maps basis state |i> to |p[i]>."""
-    p = c.permutation()
-    m = np.zeros((len(p), len(p)))
-    for i, o in enumerate(p):
-        m[o, i] = 1.0
-    return m
 
 
 def test_random_circuits_cover_the_cases() -> None:
@@ -286,10 +277,6 @@ def test_reader_accepts_only_our_peres_definition(change: tuple[str, str], fragm
 
 
 # ------------------------------------------------------------------ SVG
-def by_class(root: ET.Element, name: str) -> list[ET.Element]:
-    return [el for el in root.iter() if name in el.get("class", "").split()]
-
-
 def expected_counts(c: Circuit) -> dict[str, int]:
     return {
         "ctrl-pos": sum(len(g.controls) for g in c.gates),  # a Peres gate's a is a positive control
@@ -298,77 +285,6 @@ def expected_counts(c: Circuit) -> dict[str, int]:
         "swap": sum(2 for g in c.gates if g.kind == "swap"),
         "peres": sum(1 for g in c.gates if g.kind == "peres"),  # the P box on b
     }
-
-
-def _centre(el: ET.Element) -> tuple[float, float]:
-    """Centre of a symbol from its geometry: circle centre, rectangle centre, path bounding box."""
-    if el.tag == SVG_NS + "circle":
-        return float(el.get("cx", "nan")), float(el.get("cy", "nan"))
-    if el.tag == SVG_NS + "rect":
-        return (
-            float(el.get("x", "nan")) + float(el.get("width", "nan")) / 2,
-            float(el.get("y", "nan")) + float(el.get("height", "nan")) / 2,
-        )
-    if el.tag == SVG_NS + "g":
-        return _centre(next(child for child in el if child.tag in (SVG_NS + "circle", SVG_NS + "rect")))
-    nums = [float(v) for v in re.findall(r"-?\d+(?:\.\d+)?", el.get("d", ""))]
-    xs, ys = nums[0::2], nums[1::2]
-    return (min(xs) + max(xs)) / 2, (min(ys) + max(ys)) / 2
-
-
-def read_back(svg_text: str) -> Circuit:
-    """Rebuild the circuit from the picture alone: the wire under each symbol, columns left to right.
-
-    A group with a ``peres`` box is a Peres gate: the dot is a, the box is b, the ⊕ is c.
-    """
-    root = ET.fromstring(svg_text)
-    wires = [
-        (float(w.get("y1", "nan")), float(w.get("x1", "nan")), float(w.get("x2", "nan")))
-        for w in by_class(root, "wire")
-    ]
-    ys = sorted({y for y, _, _ in wires})
-    labels = by_class(root, "label")
-    blocks = len(labels) // len({label.text for label in labels})
-    n = len(ys) // blocks
-
-    def place(x: float, y: float) -> tuple[int, int]:
-        hits = [i for i, wy in enumerate(ys) if abs(wy - y) < 0.01]
-        assert len(hits) == 1, f"symbol at y={y} is on no wire"
-        assert any(abs(wy - y) < 0.01 and x1 < x < x2 for wy, x1, x2 in wires)
-        return hits[0] // n, hits[0] % n
-
-    found: list[tuple[int, float, Gate]] = []
-    for group in by_class(root, "gate"):
-        marks: dict[str, list[int]] = {k: [] for k in MARKS}
-        where = set()
-        for kind in MARKS:
-            for el in by_class(group, kind):
-                x, y = _centre(el)
-                block, line = place(x, y)
-                marks[kind].append(line)
-                where.add((block, round(x, 2)))
-        assert len(where) == 1, "one gate's symbols share one column"
-        ((block, x),) = where
-        touched = [line for ms in marks.values() for line in ms]
-        conns = by_class(group, "connector")
-        assert len(conns) == (1 if len(set(touched)) > 1 else 0)
-        for conn in conns:  # the connector joins the topmost and bottommost symbol
-            top, bottom = place(x, float(conn.get("y1", "nan")))[1], place(x, float(conn.get("y2", "nan")))[1]
-            assert (top, bottom) == (min(touched), max(touched))
-        if marks["peres"]:
-            (box,) = by_class(group, "peres")
-            assert [t.text for t in box.iter(SVG_NS + "text")] == ["P"]
-            assert not marks["ctrl-neg"] and not marks["swap"]
-            ((a,), (b,), (c,)) = marks["ctrl-pos"], marks["peres"], marks["target"]
-            gate = peres_gate(a, b, c)
-        elif marks["swap"]:
-            assert not marks["target"] and len(marks["swap"]) == 2
-            gate = swap_gate(marks["swap"][0], marks["swap"][1], marks["ctrl-pos"], marks["ctrl-neg"])
-        else:
-            (t,) = marks["target"]
-            gate = x_gate(t, marks["ctrl-pos"], marks["ctrl-neg"])
-        found.append((block, x, gate))
-    return Circuit(n, tuple(g for _, _, g in sorted(found, key=lambda t: (t[0], t[1]))))
 
 
 def test_svg_counts_and_reads_back_circuits_with_peres_gates() -> None:
@@ -380,7 +296,7 @@ def test_svg_counts_and_reads_back_circuits_with_peres_gates() -> None:
         for kind, count in expected_counts(c).items():
             assert len(by_class(root, kind)) == count, (kind, c)
         assert len(by_class(root, "gate")) == len(c)
-        back = read_back(svg)
+        back = read_back(svg, packed)
         assert back.permutation() == c.permutation()  # packed: gates of one layer commute
         if not packed:
             assert back.gates == c.gates
@@ -436,20 +352,20 @@ def test_png_draws_the_peres_box_the_target_and_hollow_negative_controls() -> No
     boxes = by_class(root, "peres")
     assert len(boxes) == 3
     for el in boxes:  # a square: dark corners and edges, light inside, a dark letter in the middle
-        x, y = _centre(el)
+        x, y = centre(el)
         half = float(next(el.iter(SVG_NS + "rect")).get("width", "0")) / 2
         assert all(px(x + sx * half, y + sy * half) < 120 for sx in (-1, 1) for sy in (-1, 1))
         assert px(x + half - 2.5, y - half + 2.5) > 200
         letter = [px(x + dx / 2, y + dy / 2) for dx in range(-10, 11) for dy in range(-10, 11)]
         assert min(letter) < 100 and max(letter) > 200
     for el in by_class(root, "target"):  # circle with a cross: light where a box would have its corner
-        x, y = _centre(el)
+        x, y = centre(el)
         assert px(x, y) < 120 and px(x + 5, y - 5) > 200 and px(x + 10, y - 10) > 200
     for el in by_class(root, "ctrl-neg"):  # hollow: light inside, dark ring
-        x, y = _centre(el)
+        x, y = centre(el)
         assert px(x + 2, y - 2) > 200 and px(x, y - 5.5) < 120
     for el in by_class(root, "ctrl-pos"):
-        assert px(*_centre(el)) < 80
+        assert px(*centre(el)) < 80
 
 
 # ------------------------------------------------------------------ text drawing

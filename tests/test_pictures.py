@@ -32,6 +32,7 @@ from typing import Any
 
 import pytest
 from click.testing import CliRunner
+from svg_readback import centre, read_back
 
 import exactsyn.cli_pictures  # noqa: F401  (registers the draw and report commands)
 from exactsyn.circuit import Circuit
@@ -94,79 +95,6 @@ def expected_counts(c: Circuit) -> dict[str, int]:
         "target": sum(1 for g in c.gates if g.kind == "x"),
         "swap": sum(2 for g in c.gates if g.kind == "swap"),
     }
-
-
-def _centre(el: ET.Element) -> tuple[float, float]:
-    """Centre of a symbol from its geometry: a circle's centre, a path's bounding box."""
-    if el.tag == SVG_NS + "circle":
-        return float(el.get("cx", "nan")), float(el.get("cy", "nan"))
-    if el.tag == SVG_NS + "g":
-        return _centre(next(child for child in el if child.tag == SVG_NS + "circle"))
-    nums = [float(v) for v in re.findall(r"-?\d+(?:\.\d+)?", el.get("d", ""))]
-    xs, ys = nums[0::2], nums[1::2]
-    return (min(xs) + max(xs)) / 2, (min(ys) + max(ys)) / 2
-
-
-def read_back(svg_text: str, packed: bool = False) -> Circuit:
-    """Rebuild the circuit from the picture's geometry: which wire each symbol sits on, left to right.
-
-    Only a packed picture may put several gates in one column, and then on disjoint spans.
-    """
-    root = ET.fromstring(svg_text)
-    wires = [
-        (float(w.get("y1", "nan")), float(w.get("x1", "nan")), float(w.get("x2", "nan")))
-        for w in by_class(root, "wire")
-    ]
-    ys = sorted({y for y, _, _ in wires})
-    labels = by_class(root, "label")
-    blocks = len(labels) // len({label.text for label in labels}) if labels else 1
-    n = len(ys) // blocks
-    assert n * blocks == len(ys)
-
-    def place(x: float, y: float) -> tuple[int, int]:
-        hits = [i for i, wy in enumerate(ys) if abs(wy - y) < 0.01]
-        assert len(hits) == 1, f"symbol at y={y} is on no wire"
-        i = hits[0]
-        assert any(abs(wy - y) < 0.01 and x1 < x < x2 for wy, x1, x2 in wires), "symbol off its wire's extent"
-        return i // n, i % n  # block, line
-
-    found: list[tuple[int, float, Gate]] = []
-    for group in by_class(root, "gate"):
-        marks: dict[str, list[int]] = {k: [] for k in ("ctrl-pos", "ctrl-neg", "target", "swap")}
-        where = set()
-        for kind in marks:
-            for el in by_class(group, kind):
-                x, y = _centre(el)
-                block, line = place(x, y)
-                marks[kind].append(line)
-                where.add((block, round(x, 2)))
-        assert len(where) == 1, "one gate's symbols must share a column"
-        ((block, x),) = where
-        lines = [line for ms in marks.values() for line in ms]
-        conn = by_class(group, "connector")
-        if len(set(lines)) > 1:  # the connector joins the topmost and bottommost symbol
-            (c,) = conn
-            y1, y2 = float(c.get("y1", "nan")), float(c.get("y2", "nan"))
-            top, bottom = place(x, y1)[1], place(x, y2)[1]
-            assert (top, bottom) == (min(lines), max(lines))
-        else:
-            assert not conn
-        if marks["swap"]:
-            assert not marks["target"] and len(marks["swap"]) == 2
-            a, b = marks["swap"]
-            gate = swap_gate(a, b, marks["ctrl-pos"], marks["ctrl-neg"])
-        else:
-            assert len(marks["target"]) == 1
-            gate = x_gate(marks["target"][0], marks["ctrl-pos"], marks["ctrl-neg"])
-        found.append((block, x, gate))
-    columns: dict[tuple[int, float], list[Gate]] = {}
-    for b, x, g in found:
-        columns.setdefault((b, x), []).append(g)
-    for shared in columns.values():
-        assert packed or len(shared) == 1, "two gates drawn in one column"
-        spans = sorted((min(g.lines), max(g.lines)) for g in shared)
-        assert all(hi < lo for (_, hi), (lo, _) in zip(spans, spans[1:], strict=False)), "gates overlap in a column"
-    return Circuit(n, tuple(g for _, _, g in sorted(found, key=lambda t: (t[0], t[1]))))
 
 
 # ------------------------------------------------------------------ SVG
@@ -270,12 +198,12 @@ def test_png_shows_the_same_symbols_as_the_svg() -> None:
     hist = img.histogram()
     assert sum(hist[:100]) > 0.01 * img.size[0] * img.size[1]  # ink on at least 1 % of the picture
     for el in by_class(root, "ctrl-pos"):  # filled: dark at the centre
-        assert px(*_centre(el)) < 80
+        assert px(*centre(el)) < 80
     for el in by_class(root, "ctrl-neg"):  # hollow: light inside, dark ring
-        x, y = _centre(el)
+        x, y = centre(el)
         assert px(x + 2, y - 2) > 200 and px(x, y - 5.5) < 120
     for el in by_class(root, "target"):  # circle with a cross: dark centre, light quadrants, dark rim
-        x, y = _centre(el)
+        x, y = centre(el)
         assert px(x, y) < 120 and px(x + 5, y - 5) > 200 and px(x + 11, y) < 120
 
 
