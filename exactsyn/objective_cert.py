@@ -18,9 +18,10 @@ spec), simulates the circuit and recomputes its value, and then checks the claim
 * ``depth`` D: a refutation of depth ≤ D − 1 (none needed for D ≤ 1 on a non-identity spec);
 * ``gates-then-cost`` C: the gate part proves k* and the circuit has k* gates; a
   refutation of (k*, cost ≤ C') with C' ≥ C − 1;
-* ``cost`` C: for every k from k* to ⌊(C − 1)/c_min⌋ a refutation of (k, cost ≤ C') with
-  C' ≥ C − 1 (fewer than k* gates is refuted by the gate part; more gates than that
-  cost at least C).
+* ``cost`` C: for every k from k* to ⌊(C − 1 − e)/c_min⌋ a refutation of (k, cost ≤ C')
+  with C' ≥ C − 1 (fewer than k* gates is refuted by the gate part; more gates than that
+  cost at least C).  ``e`` (``nonaffine_extra``) is re-derived: the function must be a
+  non-affine permutation and ``e`` at most the least extra cost of a non-affine gate.
 """
 
 from __future__ import annotations
@@ -39,7 +40,7 @@ from exactsyn.encode_depth import encode_depth
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
 from exactsyn.library import Library
-from exactsyn.objectives import ObjectiveResult, circuit_value, cost_encoding, gate_costs
+from exactsyn.objectives import ObjectiveResult, circuit_value, cost_encoding, gate_costs, nonaffine_extra
 from exactsyn.spec import Spec
 
 
@@ -65,6 +66,7 @@ def objective_to_dict(res: ObjectiveResult, symmetry: tuple[str, ...]) -> dict[s
         "value": res.value,
         "optimal": res.optimal,
         "bound": res.bound,
+        "nonaffine_extra": res.nonaffine_extra,
         "queries": [
             {
                 "kind": q.kind,
@@ -180,7 +182,14 @@ def check_objective(
         note("objective optimal", False, "objective 'cost' needs every gate to cost at least 1")
         return
     else:
-        ks = list(range(k_star, (value - 1) // min(costs) + 1))
+        extra = int(d.get("nonaffine_extra") or 0)
+        if extra:
+            derived = nonaffine_extra(spec, library, costs)
+            if extra > derived:
+                note("objective optimal", False, f"claims non-affine extra cost {extra}, re-derived {derived}")
+                return
+            note("non-affine", True, f"the function is not affine: every circuit has a gate costing {extra} more")
+        ks = list(range(k_star, (value - 1 - extra) // min(costs) + 1))
     missing = [k for k in ks if refuted.get(("cost", k), -1) < value - 1]
     if missing:
         note("objective optimal", False, f"no refutation of cost <= {value - 1} for k = {', '.join(map(str, missing))}")

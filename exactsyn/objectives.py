@@ -11,9 +11,11 @@ All three start from a proven minimum-gate circuit (:func:`exactsyn.search.synth
     gate-count proof of ``k*``, proves the optimum.
 ``cost``
     minimum cost over circuits of any length.  Every gate costs at least ``c_min ≥ 1``, so
-    a circuit of cost ≤ C has at most ``⌊C / c_min⌋`` gates, and at least ``k*``.  With
+    a circuit of cost ≤ C has at most ``⌊C / c_min⌋`` gates, and at least ``k*``; for a
+    non-affine function it has a non-affine gate, so at most ``⌊(C − e)/c_min⌋`` gates with
+    ``e`` from :func:`nonaffine_extra`.  With
     ``U`` the best cost so far, ask "k gates, cost ≤ U − 1?" for k = k*, k* + 1, …,
-    ⌊(U − 1)/c_min⌋; a SAT answer lowers ``U`` (queries already refuted with a larger
+    ⌊(U − 1 − e)/c_min⌋; a SAT answer lowers ``U`` (queries already refuted with a larger
     limit stay refuted: the limit only shrinks).  When every k is refuted, ``U`` is
     optimal.  The number of queries grows with the cost, so this is for small functions.
 ``depth``
@@ -82,6 +84,36 @@ class ObjectiveResult:
     gate_result: Result
     queries: tuple[Query, ...]
     seconds: float
+    nonaffine_extra: int = 0  # see nonaffine_extra(); 0 when the bound does not apply
+
+
+def is_affine(perm: tuple[int, ...]) -> bool:
+    """True when ``perm(x) = A·x ⊕ b`` over GF(2) (NOT, CNOT and SWAP circuits compute exactly these)."""
+    b = perm[0]
+    cols = [perm[1 << i] ^ b for i in range(len(perm).bit_length() - 1)]
+    for x, y in enumerate(perm):
+        acc = b
+        for i, col in enumerate(cols):
+            if x >> i & 1:
+                acc ^= col
+        if acc != y:
+            return False
+    return True
+
+
+def nonaffine_extra(spec: Spec, library: Library, costs: tuple[int, ...]) -> int:
+    """Extra cost every circuit for a non-affine full permutation pays, above ``k·c_min``.
+
+    Affine gates compose to affine functions, so a circuit for a non-affine function has
+    a non-affine gate, costing at least ``c_N``; a circuit of k gates then costs at least
+    ``(k − 1)·c_min + c_N = k·c_min + (c_N − c_min)``.  Returns ``c_N − c_min`` (0 when the
+    spec is not a full non-affine permutation).  Used to end the k range of ``cost`` early.
+    """
+    if not spec.is_permutation or is_affine(spec.permutation):
+        return 0
+    n = library.lines
+    nonaffine = [c for g, c in zip(library.gates, costs, strict=True) if not is_affine(g.permutation(n))]
+    return min(nonaffine) - min(costs) if nonaffine else 0
 
 
 def gate_costs(library: Library, model: CostModel, objective: str = "cost") -> tuple[int, ...]:
@@ -160,6 +192,7 @@ def optimise(
     spec, library = gate_result.spec, gate_result.library
     start = time.perf_counter()
     costs = None
+    extra = 0
     if objective != "depth":
         if model is None:
             raise ExactsynError(f"objective {objective} needs a cost model")
@@ -192,6 +225,7 @@ def optimise(
             gate_result,
             tuple(queries),
             time.perf_counter() - start,
+            extra,
         )
 
     if objective == "depth":
@@ -209,12 +243,13 @@ def optimise(
 
     assert costs is not None
     c_min = min(costs)
+    extra = nonaffine_extra(spec, library, costs) if objective == "cost" else 0
     ks = [k_star] if objective == "gates-then-cost" else None
     order = "gates" if ks is not None else "cost"
     k = k_star
     while True:
         limit = value - 1
-        top = k_star if ks is not None else limit // c_min
+        top = k_star if ks is not None else (limit - extra) // c_min
         if k > top:
             return done(True, value)
         enc = cost_encoding(spec, library, k, costs, limit, order, options)

@@ -151,7 +151,8 @@ def _certify(tmp_path: Path, perm: Perm, objective: str, model_name: str = "ncv"
 def test_objective_certificates_check_and_tampering_fails(tmp_path: Path, objective: str) -> None:
     import json
 
-    perm = (7, 0, 1, 2, 3, 4, 5, 6)
+    # A function whose cheapest circuit (cost 11) needs refutations for k = 3..6.
+    perm = (4, 5, 6, 3, 0, 7, 2, 1)
     d = _certify(tmp_path, perm, objective)
     rep = check_certificate(d)
     assert rep.ok, [line for line in rep.lines if not line.ok]
@@ -172,3 +173,34 @@ def test_objective_certificates_check_and_tampering_fails(tmp_path: Path, object
     (d / "result.json").write_text(json.dumps(data))
     rep = check_certificate(d)
     assert not rep.ok and any(line.what == "objective optimal" and not line.ok for line in rep.lines)
+
+
+def test_affine_test_and_the_nonaffine_bound() -> None:
+    from exactsyn.objectives import is_affine, nonaffine_extra
+
+    # NOT, CNOT and SWAP circuits are affine maps over GF(2); a Toffoli is not (common practice).
+    affine = Circuit(3, (x_gate(0), x_gate(1, (0,)), x_gate(2, (1,))))
+    assert is_affine(affine.permutation())
+    assert not is_affine(Circuit(3, (x_gate(2, (0, 1)),)).permutation())
+    costs = gate_costs(NCT3, NCV)
+    assert nonaffine_extra(from_permutation(affine.permutation()), NCT3, costs) == 0
+    # The cheapest non-affine NCT gate is a Toffoli: 5 - 1 = 4 above the cheapest gate.
+    assert nonaffine_extra(from_permutation((7, 0, 1, 2, 3, 4, 5, 6)), NCT3, costs) == 4
+    # Brute force over all 8! functions: the affine ones are exactly those of the
+    # not,cnot library (affine group of order 8 * 168 = 1344).
+    sizes = optimal_sizes(make_library("not,cnot", 3)).as_dict()
+    assert len(sizes) == 1344
+    assert all(is_affine(p) for p in sizes)
+
+
+def test_tampered_nonaffine_bound_is_refused(tmp_path: Path) -> None:
+    import json
+
+    d = _certify(tmp_path, (7, 0, 1, 2, 3, 4, 5, 6), "cost")
+    data = json.loads((d / "result.json").read_text())
+    # 3 gates with a Toffoli already cost 3 + 4 = 7: the bound alone proves it, no query.
+    assert data["objective"]["nonaffine_extra"] == 4 and data["objective"]["queries"] == []
+    assert check_certificate(d).ok
+    data["objective"]["nonaffine_extra"] = 9
+    (d / "result.json").write_text(json.dumps(data))
+    assert not check_certificate(d).ok
