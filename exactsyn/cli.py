@@ -189,7 +189,9 @@ def synth(
 
     For k = lower bound, lower bound + 1, ... exactsyn asks a SAT solver whether a
     circuit of exactly k gates exists; every "no" is a proof, the first "yes" is the
-    optimum.  Progress (k, SAT/UNSAT, seconds) goes to stderr.
+    optimum.  Progress (k, SAT/UNSAT, seconds) goes to stderr.  With --objective
+    the minimum-gate circuit is then improved for cost or depth, each step again a
+    SAT query whose "no" is a proof.
 
     \b
     Examples:
@@ -199,7 +201,8 @@ def synth(
       exactsyn synth --perm ... --library mct --time-limit 60 --format qasm3 -o out.qasm
       exactsyn synth --cycles "(3 7)" --certificate cert/ && exactsyn check cert/
       exactsyn synth --cycles "(6 7)" --library mixed --objective gates-then-cost --cost t-count
-      exactsyn synth --cycles "(5 6)" --objective depth --all --format json
+      exactsyn synth --cycles "(5 6)" --all                 # every optimal circuit
+      exactsyn synth --cycles "(5 6)" --objective depth     # fewest layers, proven
       exactsyn synth --cycles "(3 7)" --format qasm2 --clifford-t
       exactsyn synth --cycles "(1 4)(3 6)" --coupling 0-1-2   # SWAP of lines 0,2 on a chain
 
