@@ -109,3 +109,17 @@ def test_option_misuse_exits_2() -> None:
     ):
         code, _, err = run("synth", "--perm", "1,0,3,2,5,7,4,6", *args)
         assert code == 2 and err.count("\n") == 1, (args, err)
+
+
+def test_every_runnable_example_in_synth_help_runs(monkeypatch: pytest.MonkeyPatch) -> None:
+    import shlex
+
+    code, out, _ = run("synth", "--help")
+    assert code == 0
+    examples = [ln.strip().split("#")[0] for ln in out.splitlines() if ln.strip().startswith("exactsyn synth")]
+    runnable = [e for e in examples if "..." not in e and " -o " not in e and "--certificate" not in e]
+    assert len(runnable) >= 8
+    monkeypatch.chdir(Path(__file__).resolve().parent.parent)  # examples name files under instances/
+    for example in runnable:
+        code, _, err = run(*shlex.split(example)[1:], "-q")
+        assert code == 0, (example, err)
