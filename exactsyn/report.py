@@ -9,7 +9,8 @@ circuit is the objective's: ``gates`` and ``gate_count`` describe it, ``optimal`
 whether it is proven optimal *for the objective*, and ``objective`` holds ``name``,
 ``cost_model``, ``value``, ``optimal``, ``lower_bound`` (in the objective's unit) and
 ``min_gates`` (the proven minimum gate count).  ``costs`` gives the printed circuit's
-cost under every built-in cost model (and a user table when one was given);
+cost under every built-in cost model (and a user table when one was given), and
+``clifford_t`` the counts of its Clifford+T decomposition (``--clifford-t``);
 ``circuits`` lists every optimal circuit after ``--all``, ``count`` their number.
 """
 
@@ -80,7 +81,17 @@ def result_to_dict(
         "version": __version__,
     }
     if c is not None:
+        from exactsyn.cliffordt import decompose
+
         data["costs"] = circuit_costs(c, cost)
+        ct = decompose(c)
+        data["clifford_t"] = {
+            "t_count": ct.t_count,
+            "cnot_count": ct.cnot_count,
+            "t_depth": ct.t_depth,
+            "h_count": ct.h_count,
+            "ancillas": ct.ancillas,
+        }
     if objective is not None:
         data["objective"] = {
             "name": objective.objective,

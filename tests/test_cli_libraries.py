@@ -123,3 +123,12 @@ def test_every_runnable_example_in_synth_help_runs(monkeypatch: pytest.MonkeyPat
     for example in runnable:
         code, _, err = run(*shlex.split(example)[1:], "-q")
         assert code == 0, (example, err)
+
+
+def test_json_reports_the_clifford_t_counts_of_the_emitted_decomposition() -> None:
+    qiskit = pytest.importorskip("qiskit")
+    data = synth_json("--perm", "1,0,3,2,5,7,4,6")
+    code, out, _ = run("synth", "--perm", "1,0,3,2,5,7,4,6", "--format", "qasm2", "--clifford-t", "-q")
+    ops = qiskit.qasm2.loads(out).count_ops()
+    assert data["clifford_t"]["t_count"] == ops.get("t", 0) + ops.get("tdg", 0) == data["costs"]["t-count"]
+    assert data["clifford_t"]["cnot_count"] == ops.get("cx", 0) == data["costs"]["cnot-count"]
