@@ -183,6 +183,7 @@ def optimise(
     proof_sink: ProofSink | None = None,
     progress: Callable[[Query], None] | None = None,
     options: EncodingOptions = COST_OPTIONS,
+    nonaffine_bound: bool = True,
 ) -> ObjectiveResult:
     """Tighten ``gate_result`` (a proven minimum-gate result) for ``objective``."""
     if objective not in OBJECTIVES or objective == "gates":
@@ -243,7 +244,7 @@ def optimise(
 
     assert costs is not None
     c_min = min(costs)
-    extra = nonaffine_extra(spec, library, costs) if objective == "cost" else 0
+    extra = nonaffine_extra(spec, library, costs) if objective == "cost" and nonaffine_bound else 0
     ks = [k_star] if objective == "gates-then-cost" else None
     order = "gates" if ks is not None else "cost"
     k = k_star

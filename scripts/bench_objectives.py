@@ -39,6 +39,11 @@ def main() -> None:
     ap.add_argument("--count", type=int, default=6)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--compare-windows", action="store_true")
+    ap.add_argument(
+        "--compare-baseline",
+        action="store_true",
+        help="also run cost with neither window rules nor the non-affine bound (the first version)",
+    )
     ap.add_argument("--rules", help="symmetry rules of the cost queries (comma-separated; default: the tool's)")
     args = ap.parse_args()
     lib = make_library(args.library, args.lines)
@@ -48,7 +53,7 @@ def main() -> None:
     print(f"cost-query rules: {','.join(options.symmetry)}")
     print(f"library {lib.name}, {args.lines} lines, cost model {model.name}, seed {args.seed}")
     print(f"{'function':<28} {'gates':>5} {'g-then-c':>9} {'s':>7} {'cost':>5} {'s':>7} {'depth':>5} {'s':>7}")
-    totals = {"gtc": 0.0, "cost": 0.0, "depth": 0.0, "base": 0.0}
+    totals = {"gtc": 0.0, "cost": 0.0, "depth": 0.0, "base": 0.0, "first": 0.0}
     for _ in range(args.count):
         perm = list(range(1 << args.lines))
         rng.shuffle(perm)
@@ -78,11 +83,26 @@ def main() -> None:
             totals["base"] += t_base
             assert base.value == cost.value
             print(f"{'':<28}   cost without window rules: {t_base:.2f} s ({t_base / max(t_cost, 1e-9):.1f}x)")
+        if args.compare_baseline:
+            t = time.perf_counter()
+            first = optimise("cost", res, model, options=BASELINE, nonaffine_bound=False)
+            t_first = time.perf_counter() - t
+            totals["first"] += t_first
+            assert first.value == cost.value
+            print(
+                f"{'':<28}   cost without windows and non-affine bound: {t_first:.2f} s "
+                f"({t_first / max(t_cost, 1e-9):.1f}x)"
+            )
     print(
         f"total seconds: gates-then-cost {totals['gtc']:.2f}, cost {totals['cost']:.2f}, depth {totals['depth']:.2f}"
         + (
             f"; cost without windows {totals['base']:.2f} (ratio {totals['base'] / max(totals['cost'], 1e-9):.2f}x)"
             if args.compare_windows
+            else ""
+        )
+        + (
+            f"; cost baseline {totals['first']:.2f} (ratio {totals['first'] / max(totals['cost'], 1e-9):.2f}x)"
+            if args.compare_baseline
             else ""
         )
     )
