@@ -64,7 +64,9 @@ def main() -> None:
     rng = random.Random(args.seed)
     sample = rng.sample(sorted(dist), args.count)
     bad, t_cost, t_depth, longer = 0, 0.0, 0.0, 0
-    for perm in sample:
+    for i, perm in enumerate(sample, 1):
+        if i % 10 == 0:
+            print(f"  {i}/{args.count}: cost {t_cost:.1f} s, depth {t_depth:.1f} s so far", flush=True)
         res = synthesise(from_permutation(perm), lib)
         t = time.perf_counter()
         c = optimise("cost", res, model)
