@@ -102,7 +102,7 @@ from pysat.formula import IDPool
 
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate
+from exactsyn.gates import Gate, invert_permutation
 from exactsyn.library import Library
 from exactsyn.spec import Spec
 from exactsyn.windows import forbidden_windows, weighted_forbidden_windows, window_size_ok
@@ -273,14 +273,11 @@ def gate_clauses(b: _Builder, g: Gate, not_sel: Lit, a: Sequence[Lit], nxt: Sequ
 @lru_cache(maxsize=64)
 def inverse_pairs(library: Library) -> tuple[tuple[int, int], ...]:
     """Pairs ``(i, j)`` of library gates with ``g_j ∘ g_i`` the identity (``i == j`` for involutions)."""
-    table = {g.permutation(library.lines): j for j, g in enumerate(library.gates)}
+    perms = [g.permutation(library.lines) for g in library.gates]
+    index = {p: j for j, p in enumerate(perms)}
     out = []
-    for i, g in enumerate(library.gates):
-        perm = g.permutation(library.lines)
-        inv = [0] * len(perm)
-        for s, v in enumerate(perm):
-            inv[v] = s
-        j = table.get(tuple(inv))
+    for i, perm in enumerate(perms):
+        j = index.get(invert_permutation(perm))
         if j is not None:
             out.append((i, j))
     return tuple(out)

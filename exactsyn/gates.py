@@ -21,6 +21,7 @@ the CNOT first, then the Toffoli), see :meth:`Gate.is_involution`.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -149,6 +150,14 @@ class Gate:
             self.controls,
             self.negative_controls,
         )
+
+
+def invert_permutation(perm: Sequence[int]) -> tuple[int, ...]:
+    """``q`` with ``q[perm[i]] = i``."""
+    inv = [0] * len(perm)
+    for i, p in enumerate(perm):
+        inv[p] = i
+    return tuple(inv)
 
 
 def permutation_is_odd(perm: tuple[int, ...]) -> bool:

@@ -18,6 +18,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from exactsyn.errors import ExactsynError
+from exactsyn.gates import invert_permutation
 
 MAX_LINES = 6
 
@@ -125,11 +126,7 @@ class Spec:
 
     def inverse(self) -> Spec:
         """The inverse function (full permutations only)."""
-        perm = self.permutation
-        inv = [0] * len(perm)
-        for i, p in enumerate(perm):
-            inv[p] = i
-        return Spec(self.lines, tuple(inv), self.care, self.name + "^-1" if self.name else "")
+        return Spec(self.lines, invert_permutation(self.permutation), self.care, self.name + "^-1" if self.name else "")
 
 
 def lines_for_length(length: int, what: str = "permutation") -> int:

@@ -20,7 +20,7 @@ from collections.abc import Sequence
 
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, x_gate
+from exactsyn.gates import Gate, invert_permutation, x_gate
 from exactsyn.spec import MAX_LINES
 
 
@@ -71,10 +71,7 @@ def _fix_row(q: list[int], i: int, lines: int) -> list[Gate]:
 
 
 def _inverse(q: list[int]) -> list[int]:
-    inv = [0] * len(q)
-    for x, y in enumerate(q):
-        inv[y] = x
-    return inv
+    return list(invert_permutation(q))
 
 
 def cancel_pairs(gates: Sequence[Gate]) -> tuple[Gate, ...]:

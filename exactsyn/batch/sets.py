@@ -41,6 +41,7 @@ import numpy as np
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
+from exactsyn.gates import invert_permutation as invert
 from exactsyn.library import Library
 from exactsyn.spec import MAX_LINES
 
@@ -83,13 +84,6 @@ def state_map(sigma: tuple[int, ...]) -> Perm:
     """``π_σ``: the state permutation moving bit ``l`` to bit ``σ[l]``."""
     n = len(sigma)
     return tuple(sum(((x >> line) & 1) << sigma[line] for line in range(n)) for x in range(1 << n))
-
-
-def invert(perm: Sequence[int]) -> Perm:
-    inv = [0] * len(perm)
-    for i, p in enumerate(perm):
-        inv[p] = i
-    return tuple(inv)
 
 
 def relabel(perm: Sequence[int], sigma: Sequence[int]) -> Perm:
