@@ -184,9 +184,8 @@ def write_result(directory: Path, res: Result, objective: Any = None) -> Path:
     }
     if objective is not None:
         from exactsyn.objective_cert import objective_to_dict
-        from exactsyn.objectives import COST_OPTIONS
 
-        data["objective"] = objective_to_dict(objective, COST_OPTIONS.symmetry)
+        data["objective"] = objective_to_dict(objective)
     path = directory / RESULT_FILE
     tmp = path.with_suffix(".json.tmp")
     tmp.write_text(json.dumps(data, indent=1) + "\n")

@@ -57,10 +57,10 @@ def encode_depth(spec: Spec, library: Library, depth: int) -> Encoding:
     """The CNF for depth ≤ ``depth`` (see the module docstring); decodes to a circuit."""
     n, gates = library.lines, library.gates
     pool = IDPool()
-    enc = encode(spec, library, depth * n, DEPTH_OPTIONS, pool=pool, slots=depth_slots(library, depth))
+    allowed = depth_slots(library, depth)
+    enc = encode(spec, library, depth * n, DEPTH_OPTIONS, pool=pool, slots=allowed)
     clauses = list(enc.clauses)
     g = enc.gate_vars
-    allowed = depth_slots(library, depth)
 
     def pos(layer: int, s: int) -> int:
         return layer * n + s

@@ -56,12 +56,12 @@ def objective_proof_writer(directory: Path) -> Callable[[str, bytes], str]:
     return sink
 
 
-def objective_to_dict(res: ObjectiveResult, symmetry: tuple[str, ...]) -> dict[str, Any]:
+def objective_to_dict(res: ObjectiveResult) -> dict[str, Any]:
     return {
         "name": res.objective,
         "cost_model": res.cost_model,
         "costs": None if res.costs is None else list(res.costs),
-        "symmetry": list(symmetry),
+        "symmetry": list(res.symmetry),
         "circuit": [gate_to_dict(g) for g in res.circuit.gates],
         "value": res.value,
         "optimal": res.optimal,

@@ -36,7 +36,7 @@ from dataclasses import dataclass
 from exactsyn.circuit import Circuit
 from exactsyn.costs import CostModel
 from exactsyn.dimacs import cnf_sha256
-from exactsyn.encode import COST_SAFE_RULES, CostLimit, Encoding, EncodingOptions, encode
+from exactsyn.encode import CostLimit, Encoding, EncodingOptions, encode
 from exactsyn.encode_depth import encode_depth
 from exactsyn.errors import ExactsynError
 from exactsyn.library import Library
@@ -52,7 +52,6 @@ OBJECTIVES = {
     "depth": "fewest layers, gates on disjoint lines sharing a layer",
 }
 COST_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "touch", "window2", "window3", "window4"))
-assert all(r in COST_SAFE_RULES for r in COST_OPTIONS.symmetry)
 
 
 @dataclass(frozen=True)
@@ -85,6 +84,7 @@ class ObjectiveResult:
     queries: tuple[Query, ...]
     seconds: float
     nonaffine_extra: int = 0  # see nonaffine_extra(); 0 when the bound does not apply
+    symmetry: tuple[str, ...] = ()  # rules of the cost queries' CNFs (certificates re-derive them)
 
 
 def is_affine(perm: tuple[int, ...]) -> bool:
@@ -227,6 +227,7 @@ def optimise(
             tuple(queries),
             time.perf_counter() - start,
             extra,
+            options.symmetry,
         )
 
     if objective == "depth":
@@ -245,12 +246,12 @@ def optimise(
     assert costs is not None
     c_min = min(costs)
     extra = nonaffine_extra(spec, library, costs) if objective == "cost" and nonaffine_bound else 0
-    ks = [k_star] if objective == "gates-then-cost" else None
-    order = "gates" if ks is not None else "cost"
+    fixed_k = objective == "gates-then-cost"
+    order = "gates" if fixed_k else "cost"
     k = k_star
     while True:
         limit = value - 1
-        top = k_star if ks is not None else (limit - extra) // c_min
+        top = k_star if fixed_k else (limit - extra) // c_min
         if k > top:
             return done(True, value)
         enc = cost_encoding(spec, library, k, costs, limit, order, options)
