@@ -134,10 +134,6 @@ def gate_table(library: Library) -> np.ndarray:
     return table
 
 
-def mct_gates(lines: int, max_controls: int) -> list[Gate]:
-    return _gates(lines, ("mct",), max_controls)
-
-
 def kinds_of(name: str) -> tuple[str, ...]:
     """The kind list of a preset or of a comma-separated list of kinds (validated, sorted)."""
     key = name.strip().lower()
@@ -166,7 +162,8 @@ def _polarities(controls: tuple[int, ...], mixed: bool) -> list[tuple[tuple[int,
     return out
 
 
-def _gates(lines: int, kinds: tuple[str, ...], cap: int) -> list[Gate]:
+def _gates(lines: int, kinds: tuple[str, ...]) -> list[Gate]:
+    """Every gate of the given kinds on ``lines`` lines, in library order."""
     mixed = "negative" in kinds
     x_counts: set[int] = set()
     swap_counts: set[int] = set()
@@ -180,7 +177,7 @@ def _gates(lines: int, kinds: tuple[str, ...], cap: int) -> list[Gate]:
         ("cswap", set(range(1, lines)), swap_counts),
     ):
         if kind in kinds:
-            target.update(c for c in counts if c <= cap)
+            target.update(counts)
     gates: set[Gate] = set()
     for c in x_counts:
         for t in range(lines):
@@ -190,7 +187,7 @@ def _gates(lines: int, kinds: tuple[str, ...], cap: int) -> list[Gate]:
         for a, b in combinations(range(lines), 2):
             for ctl in combinations([x for x in range(lines) if x not in (a, b)], c):
                 gates.update(swap_gate(a, b, pos, neg) for pos, neg in _polarities(ctl, mixed))
-    if "peres" in kinds and cap >= 2:
+    if "peres" in kinds:
         gates.update(peres_gate(a, b, c) for a, b, c in permutations(range(lines), 3))
     return sorted(gates, key=Gate.sort_key)
 
@@ -267,15 +264,14 @@ def make_library(
     edges = parse_coupling(coupling, lines) if isinstance(coupling, str) else tuple(sorted(coupling))
     for a, b in edges:
         _edge(a, b, lines, str(coupling))
-    full = _gates(lines, kinds, lines)
-    cap = max((g.control_count for g in full), default=0)
-    if max_controls is not None:
-        cap = min(cap, max_controls)
+    full = _gates(lines, kinds)
+    most = max((g.control_count for g in full), default=0)
+    cap = most if max_controls is None else min(most, max_controls)
     gates = [g for g in full if g.control_count <= cap and (not edges or connected(g.lines, edges))]
     if not gates:
         raise ExactsynError(f"library {key!r} has no gate on {lines} lines with these limits")
     label = key
-    if max_controls is not None and cap < max((g.control_count for g in full), default=0):
+    if cap < most:
         label += f":c{cap}"
     if edges:
         label += "@" + ",".join(f"{a}-{b}" for a, b in edges)
