@@ -327,11 +327,12 @@ def synth(
             if enum is not None:
                 text += _listing_text(enum)
         elif clifford_t:
-            from exactsyn.cliffordt import decompose
+            from exactsyn.cliffordt import decompose, verify
             from exactsyn.cliffordt import to_qasm2 as ct_qasm2
             from exactsyn.cliffordt import to_qasm3 as ct_qasm3
 
             ct = decompose(circuit)
+            verify(ct, circuit)  # simulated before it is printed, like every circuit
             text = ct_qasm2(ct) if fmt == "qasm2" else ct_qasm3(ct)
         else:
             from exactsyn.io.qasm import to_qasm2, to_qasm3

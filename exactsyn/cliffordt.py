@@ -83,6 +83,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import lru_cache
 
+import numpy as np
+
 from exactsyn.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.gates import GATE_KINDS, Gate
@@ -269,6 +271,40 @@ def decompose(circuit: Circuit) -> CliffordT:
     parts = [decompose_gate(g, circuit.lines) for g in circuit.gates]
     ops: tuple[Op, ...] = tuple(op for part in parts for op in part.ops)
     return CliffordT(circuit.lines, max((p.ancillas for p in parts), default=0), ops)
+
+
+def simulate(ct: CliffordT) -> np.ndarray:
+    """The decomposition's action on every basis input with the ancillas at |0>: column ``i``
+    is the output state vector for input ``i`` (numpy, complex; ancilla qubits above the lines)."""
+    dim, inputs = 1 << ct.qubits, 1 << ct.lines
+    state = np.zeros((dim, inputs), dtype=complex)
+    state[np.arange(inputs), np.arange(inputs)] = 1.0
+    index = np.arange(dim)
+    phase = np.exp(1j * np.pi / 4)
+    for name, qs in ct.ops:
+        if name == "x":
+            state = state[index ^ (1 << qs[0])]
+        elif name == "cx":
+            c, t = qs
+            state = state[np.where(index >> c & 1, index ^ (1 << t), index)]
+        elif name == "h":
+            bit = 1 << qs[0]
+            low, high = state[index & ~bit], state[index | bit]
+            state = np.where((index & bit)[:, None] != 0, low - high, low + high) / np.sqrt(2)
+        else:  # t or tdg
+            factor = phase if name == "t" else np.conj(phase)
+            state = np.where((index >> qs[0] & 1)[:, None] == 1, state * factor, state)
+    return state
+
+
+def verify(ct: CliffordT, circuit: Circuit) -> None:
+    """Refuse a decomposition that does not map every input ``|i>|0>`` exactly to ``|p[i]>|0>``."""
+    out = simulate(ct)
+    perm = circuit.permutation()
+    expected = np.zeros_like(out)
+    expected[list(perm), np.arange(len(perm))] = 1.0
+    if not np.allclose(out, expected, atol=1e-9):
+        raise RuntimeError("internal error: the Clifford+T decomposition does not compute the circuit")
 
 
 def gate_t_count(gate: Gate, lines: int) -> int:

@@ -292,3 +292,22 @@ def test_bad_input_raises() -> None:
         CliffordT(2, 0, (("ccx", (0, 1)),))
     with pytest.raises(ExactsynError, match="outside"):
         CliffordT(2, 0, (("cx", (0, 2)),))
+
+
+def test_runtime_simulation_agrees_with_the_matrix_product_and_can_fail() -> None:
+    # The CLI simulates every Clifford+T decomposition before printing it; here that
+    # simulation is checked against the independent Kronecker-product matrices above.
+    from exactsyn.cliffordt import simulate, verify
+
+    rng = random.Random(21)
+    for n in (3, 4, 5):
+        for _ in range(6):
+            c = random_circuit(rng, n, rng.randint(1, 6))
+            ct = decompose(c)
+            assert np.allclose(simulate(ct), unitary(ct), atol=1e-9)
+            verify(ct, c)
+    tof = Circuit(3, (x_gate(2, (0, 1)),))
+    ct = decompose(tof)
+    broken = CliffordT(ct.lines, ct.ancillas, ct.ops[:-1])  # one operation dropped
+    with pytest.raises(RuntimeError):
+        verify(broken, tof)
