@@ -52,11 +52,11 @@ def load_set(name: str) -> list[dict]:  # type: ignore[type-arg]
 
 
 def _run_one(inst: dict, config: str, cap: float, out: mp.Queue) -> None:  # type: ignore[type-arg]
-    from exactsyn.certificate import check_certificate, proof_writer, write_result
-    from exactsyn.encode import options_for
-    from exactsyn.library import make_library
-    from exactsyn.search import synthesise
-    from exactsyn.spec import from_permutation
+    from exactsyn.core.library import make_library
+    from exactsyn.proof.certificate import check_certificate, proof_writer, write_result
+    from exactsyn.sat.encode import options_for
+    from exactsyn.search.loop import synthesise
+    from exactsyn.spec.reversible import from_permutation
 
     cfg = CONFIGS[config]
     spec = from_permutation(inst["permutation"], inst["name"])

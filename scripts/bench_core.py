@@ -22,10 +22,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from bench import load_set  # noqa: E402  (scripts/bench.py, beside this file)
 
-from exactsyn.encode import ENCODINGS, options_for  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import Spec, from_permutation  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
+from exactsyn.sat.encode import ENCODINGS, options_for  # noqa: E402
+from exactsyn.search.loop import synthesise  # noqa: E402
+from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
 
 
 def instance_set(name: str, limit: int, seed: int) -> tuple[str, list[Spec]]:

@@ -21,12 +21,12 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from exactsyn.costs import cost_model  # noqa: E402
-from exactsyn.encode import EncodingOptions  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.objectives import COST_OPTIONS, optimise  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import from_permutation  # noqa: E402
+from exactsyn.core.costs import cost_model  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
+from exactsyn.sat.encode import EncodingOptions  # noqa: E402
+from exactsyn.search.loop import synthesise  # noqa: E402
+from exactsyn.search.objectives import COST_OPTIONS, optimise  # noqa: E402
+from exactsyn.spec.reversible import from_permutation  # noqa: E402
 
 BASELINE = EncodingOptions("onehot", ("no-repeat", "commute", "touch"))
 

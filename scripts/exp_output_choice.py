@@ -14,10 +14,10 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from exactsyn.boolspec import function_from_mapping  # noqa: E402
-from exactsyn.embed import embed  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
+from exactsyn.search.loop import synthesise  # noqa: E402
+from exactsyn.spec.boolean import function_from_mapping  # noqa: E402
+from exactsyn.spec.embed import embed  # noqa: E402
 
 INSTANCES = ["half-adder", "full-adder", "decoder2to4", "greenhouse-vent"]
 

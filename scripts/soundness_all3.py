@@ -17,10 +17,10 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from exactsyn.bfs import optimal_sizes  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import from_permutation  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
+from exactsyn.search.bfs import optimal_sizes  # noqa: E402
+from exactsyn.search.loop import synthesise  # noqa: E402
+from exactsyn.spec.reversible import from_permutation  # noqa: E402
 
 LIB = make_library("nct", 3)
 

@@ -19,11 +19,11 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from exactsyn.costs import cost_model  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.objectives import gate_costs, optimise  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import from_permutation  # noqa: E402
+from exactsyn.core.costs import cost_model  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
+from exactsyn.search.loop import synthesise  # noqa: E402
+from exactsyn.search.objectives import gate_costs, optimise  # noqa: E402
+from exactsyn.spec.reversible import from_permutation  # noqa: E402
 
 
 def dijkstra(perms: list[tuple[int, ...]], costs: tuple[int, ...]) -> dict[tuple[int, ...], int]:

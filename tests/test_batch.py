@@ -1,6 +1,6 @@
 """Batch jobs and reference tables: class reduction, the results store, engines, bad input.
 
-References outside the code under test: breadth-first tables (exactsyn.bfs, no SAT),
+References outside the code under test: breadth-first tables (exactsyn.search.bfs, no SAT),
 the published 3-line NCT distribution of Shende, Prasad, Markov & Hayes (IEEE TCAD
 22(6), 2003), and brute-force orbit enumeration for the class counts.
 """
@@ -38,16 +38,16 @@ from exactsyn.batch.sets import (
     transforms,
 )
 from exactsyn.batch.store import Store
+from exactsyn.batch.table import size_table, to_csv
 from exactsyn.batch.task import LibraryChoice, Outcome, Task
 from exactsyn.batch.workers import DaskEngine, LocalPool
-from exactsyn.bfs import optimal_sizes
-from exactsyn.certificate import check_certificate
-from exactsyn.cli import main
-from exactsyn.encode import EncodingOptions
-from exactsyn.gates import x_gate
-from exactsyn.library import Library, make_library
-from exactsyn.spec import from_permutation
-from exactsyn.table import size_table, to_csv
+from exactsyn.cli.main import main
+from exactsyn.core.gates import x_gate
+from exactsyn.core.library import Library, make_library
+from exactsyn.proof.certificate import check_certificate
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.spec.reversible import from_permutation
 
 NCT3 = make_library("nct", 3)
 NCT2 = make_library("nct", 2)
@@ -57,7 +57,7 @@ SHENDE_2003_NCT3 = [1, 12, 102, 625, 2780, 8921, 17049, 10253, 577]
 
 
 def cli(*args: str) -> list[str]:
-    return [sys.executable, "-c", "from exactsyn.cli import main; main()", *args]
+    return [sys.executable, "-c", "from exactsyn.cli.main import main; main()", *args]
 
 
 def rows(store_path: Path) -> list[sqlite3.Row]:

@@ -10,11 +10,11 @@ from helpers import naive_bfs
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from exactsyn.bfs import distance_layers, distribution, optimal_circuit, optimal_sizes
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.library import make_library
-from exactsyn.tbs import cancel_pairs, tbs
+from exactsyn.search.bfs import distance_layers, distribution, optimal_circuit, optimal_sizes
+from exactsyn.search.heuristic import cancel_pairs, tbs
 
 
 def parity(perm: list[int] | tuple[int, ...]) -> int:

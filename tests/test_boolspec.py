@@ -15,9 +15,9 @@ from typing import Any
 
 import pytest
 
-from exactsyn.boolspec import BooleanFunction, evaluate_expression, function_from_mapping, is_function_mapping
 from exactsyn.errors import ExactsynError
-from exactsyn.spec import spec_from_mapping
+from exactsyn.spec.boolean import BooleanFunction, evaluate_expression, function_from_mapping, is_function_mapping
+from exactsyn.spec.reversible import spec_from_mapping
 
 INSTANCES = Path(__file__).resolve().parent.parent / "instances"
 

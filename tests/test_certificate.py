@@ -11,12 +11,12 @@ from pathlib import Path
 import pytest
 from helpers import random_perm
 
-from exactsyn.bfs import optimal_sizes
-from exactsyn.certificate import check_certificate, proof_writer, write_result
+from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.library import make_library
-from exactsyn.search import synthesise
-from exactsyn.spec import from_permutation
+from exactsyn.proof.certificate import check_certificate, proof_writer, write_result
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.search.loop import synthesise
+from exactsyn.spec.reversible import from_permutation
 
 NCT3 = make_library("nct", 3)
 
@@ -28,7 +28,7 @@ def certify(perm: list[int], directory: Path, library=NCT3) -> Path:  # type: ig
 
 
 def test_certificates_of_3bit_functions_check_and_match_breadth_first(tmp_path: Path) -> None:
-    # Independent reference: breadth-first optimum (exactsyn.bfs, checked against
+    # Independent reference: breadth-first optimum (exactsyn.search.bfs, checked against
     # Shende et al., IEEE TCAD 2003).  A sample of random and of the hardest functions.
     table = optimal_sizes(NCT3)
     rng = random.Random(11)
@@ -164,7 +164,7 @@ def test_table_bound_certificate_for_hwb4(tmp_path: Path) -> None:
 def test_raced_queries_give_a_checkable_certificate(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     # Force every query into the two-formulation race; each refutation names the
     # symmetry rules of the CNF it refutes, and the checker re-derives that CNF.
-    import exactsyn.search as search
+    import exactsyn.search.loop as search
 
     monkeypatch.setattr(search, "QUICK_SECONDS", 0.0)
     table = optimal_sizes(NCT3)
@@ -180,8 +180,8 @@ def test_certificate_of_an_embedded_function_with_solver_choices(tmp_path: Path)
     # Full adder with the outputs placed by the solver: 4 gates (common practice).
     import tomllib
 
-    from exactsyn.boolspec import function_from_mapping
-    from exactsyn.embed import embed
+    from exactsyn.spec.boolean import function_from_mapping
+    from exactsyn.spec.embed import embed
 
     root = Path(__file__).resolve().parent.parent
     fn = function_from_mapping(tomllib.loads((root / "instances" / "full-adder.toml").read_text()), "fa")

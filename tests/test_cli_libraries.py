@@ -8,9 +8,9 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from exactsyn.circuit import Circuit
-from exactsyn.cli import main
-from exactsyn.gates import x_gate
+from exactsyn.cli.main import main
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import x_gate
 
 
 def run(*args: str) -> tuple[int, str, str]:

@@ -16,8 +16,8 @@ from functools import cache
 import numpy as np
 import pytest
 
-from exactsyn.circuit import Circuit
-from exactsyn.cliffordt import (
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.cliffordt import (
     CliffordT,
     decompose,
     decompose_gate,
@@ -26,8 +26,8 @@ from exactsyn.cliffordt import (
     to_qasm2,
     to_qasm3,
 )
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 
 OMEGA = cmath.exp(1j * cmath.pi / 4)
 ONE_QUBIT = {
@@ -297,7 +297,7 @@ def test_bad_input_raises() -> None:
 def test_runtime_simulation_agrees_with_the_matrix_product_and_can_fail() -> None:
     # The CLI simulates every Clifford+T decomposition before printing it; here that
     # simulation is checked against the independent Kronecker-product matrices above.
-    from exactsyn.cliffordt import simulate, verify
+    from exactsyn.core.cliffordt import simulate, verify
 
     rng = random.Random(21)
     for n in (3, 4, 5):

@@ -8,11 +8,11 @@ from pathlib import Path
 
 import pytest
 
-from exactsyn.circuit import Circuit
-from exactsyn.cliffordt import decompose, to_qasm2
-from exactsyn.costs import COST_MODELS, circuit_cost, cost_model, load_cost_table
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.cliffordt import decompose, to_qasm2
+from exactsyn.core.costs import COST_MODELS, circuit_cost, cost_model, load_cost_table
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 
 NCV = COST_MODELS["ncv"]
 

@@ -13,14 +13,14 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from exactsyn.bfs import optimal_sizes
-from exactsyn.boolspec import function_from_mapping
-from exactsyn.embed import embed, multiplicity
+from exactsyn.core.library import make_library
 from exactsyn.io.qasm import read_qasm
-from exactsyn.library import make_library
-from exactsyn.search import synthesise
-from exactsyn.spec import Spec
-from exactsyn.specfile import load_any
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.search.loop import synthesise
+from exactsyn.spec.boolean import function_from_mapping
+from exactsyn.spec.embed import embed, multiplicity
+from exactsyn.spec.files import load_any
+from exactsyn.spec.reversible import Spec
 
 ROOT = Path(__file__).resolve().parent.parent
 DATA = Path(__file__).parent / "data"
@@ -123,7 +123,7 @@ def test_dont_cares_give_the_best_completion() -> None:
 
 
 def test_contradictory_partial_spec_is_refused() -> None:
-    from exactsyn.search import NoCircuitError
+    from exactsyn.search.loop import NoCircuitError
 
     spec = Spec(2, (1, 1, 0, 0), (3, 3, 0, 0), "clash")  # rows 0 and 1 both must give 1
     with pytest.raises(NoCircuitError, match="distinct"):
@@ -155,7 +155,7 @@ def test_circuit_files_are_resynthesised_to_the_same_function(name: str) -> None
 
 
 def run(*args: str) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([sys.executable, "-m", "exactsyn.cli", *args], capture_output=True, text=True, cwd=ROOT)
+    return subprocess.run([sys.executable, "-m", "exactsyn.cli.main", *args], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_synth_reads_a_function_file_and_reports_the_embedding() -> None:

@@ -15,11 +15,11 @@ from collections.abc import Sequence
 import pytest
 from helpers import optimal_words
 
-from exactsyn.bfs import optimal_sizes
-from exactsyn.encode import CostLimit
-from exactsyn.enumerate import enumerate_optimal
-from exactsyn.library import Library, make_library
-from exactsyn.spec import from_permutation
+from exactsyn.core.library import Library, make_library
+from exactsyn.sat.encode import CostLimit
+from exactsyn.search.all_optima import enumerate_optimal
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.spec.reversible import from_permutation
 
 
 def _commute(library: Library, a: int, b: int) -> bool:

@@ -15,9 +15,9 @@ import numpy as np
 import pytest
 from helpers import permutation_matrix
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, swap_gate, x_gate
 from exactsyn.io.draw import display_width, draw_text
 from exactsyn.io.jsonio import (
     circuit_from_dict,

@@ -6,13 +6,13 @@ import random
 
 import pytest
 
-from exactsyn.bfs import optimal_sizes
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import peres_gate, swap_gate, x_gate
+from exactsyn.core.library import connected, make_library, parse_coupling
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import peres_gate, swap_gate, x_gate
-from exactsyn.library import connected, make_library, parse_coupling
-from exactsyn.search import NoCircuitError, synthesise
-from exactsyn.spec import Spec, from_permutation
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.search.loop import NoCircuitError, synthesise
+from exactsyn.spec.reversible import Spec, from_permutation
 
 NEW_LIBRARIES = [
     ("nct-swap", ""),
@@ -159,7 +159,7 @@ def test_parity_follows_the_gates() -> None:
 def test_certificates_for_new_libraries_check(tmp_path, name: str, coupling: str) -> None:  # type: ignore[no-untyped-def]
     import json
 
-    from exactsyn.certificate import check_certificate, proof_writer, write_result
+    from exactsyn.proof.certificate import check_certificate, proof_writer, write_result
 
     lib = make_library(name, 3, coupling=coupling)
     perm = Circuit(3, (swap_gate(0, 2),)).permutation()
@@ -181,7 +181,7 @@ def test_batch_with_a_kind_list_and_coupling_matches_bfs(tmp_path) -> None:  # t
 
     from click.testing import CliRunner
 
-    from exactsyn.cli import main
+    from exactsyn.cli.main import main
 
     store = tmp_path / "s.sqlite"
     args = ["batch", "--random", "3", "--count", "6", "--seed", "3", "--library", "not,cnot,toffoli,peres"]

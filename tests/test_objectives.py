@@ -19,17 +19,17 @@ import numpy as np
 import pytest
 from helpers import naive_bfs, optimal_words
 
-from exactsyn.bfs import optimal_sizes
-from exactsyn.certificate import check_certificate, proof_writer, write_result
-from exactsyn.circuit import Circuit
-from exactsyn.costs import cost_model
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.costs import cost_model
+from exactsyn.core.gates import x_gate
+from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import x_gate
-from exactsyn.library import Library, make_library
-from exactsyn.objective_cert import objective_proof_writer
-from exactsyn.objectives import gate_costs, optimise
-from exactsyn.search import synthesise
-from exactsyn.spec import from_permutation
+from exactsyn.proof.certificate import check_certificate, proof_writer, write_result
+from exactsyn.proof.objective import objective_proof_writer
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.search.loop import synthesise
+from exactsyn.search.objectives import gate_costs, optimise
+from exactsyn.spec.reversible import from_permutation
 
 Perm = tuple[int, ...]
 NCT3 = make_library("nct", 3)
@@ -176,7 +176,7 @@ def test_objective_certificates_check_and_tampering_fails(tmp_path: Path, object
 
 
 def test_affine_test_and_the_nonaffine_bound() -> None:
-    from exactsyn.objectives import is_affine, nonaffine_extra
+    from exactsyn.search.objectives import is_affine, nonaffine_extra
 
     # NOT, CNOT and SWAP circuits are affine maps over GF(2); a Toffoli is not (common practice).
     affine = Circuit(3, (x_gate(0), x_gate(1, (0,)), x_gate(2, (1,))))

@@ -6,7 +6,7 @@ against qiskit's own ``ccx`` then ``cx``; qiskit reads our OpenQASM 2 and 3 back
 ``Operator`` must be our permutation matrix; the ``openqasm3`` reference parser must
 accept our OpenQASM 3; the pictures are read back from their geometry alone (SVG symbol
 classes and positions, characters of the text drawing) and simulated with
-exactsyn.circuit, so a wrong symbol, line or order changes the permutation; the PNG is
+exactsyn.core.circuit, so a wrong symbol, line or order changes the permutation; the PNG is
 decoded by Pillow.
 """
 
@@ -26,11 +26,11 @@ from click.testing import CliRunner
 from helpers import permutation_matrix
 from svg_readback import MARKS, SVG_NS, by_class, centre, read_back
 
-import exactsyn.cli_pictures  # noqa: F401  (registers the draw command)
-from exactsyn.circuit import Circuit
-from exactsyn.cli import main
+import exactsyn.cli.pictures  # noqa: F401  (registers the draw command)
+from exactsyn.cli.main import main
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.io.diagram import gate_title
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import circuit_to_dict, gate_from_dict, gate_to_dict, load_json_circuit

@@ -1,10 +1,10 @@
 """Pictures: SVG and PNG circuit diagrams, the HTML batch report, checked in headless Chromium.
 
 References outside the code under test: the circuit is read back from the SVG's geometry
-alone (wire positions and symbol classes) and simulated with exactsyn.circuit, so a
+alone (wire positions and symbol classes) and simulated with exactsyn.core.circuit, so a
 wrong symbol, line or order changes the permutation; packed layers are compared with
 Circuit.depth(); the report's distribution and optima are compared with breadth-first
-search (exactsyn.bfs, no SAT); the PNG is decoded by Pillow; the report and the SVG are
+search (exactsyn.search.bfs, no SAT); the PNG is decoded by Pillow; the report and the SVG are
 rendered by Chromium (Debian's ``chromium``), driven over the DevTools protocol
 (``--remote-debugging-pipe``), which reports console messages, exceptions, failed loads
 and every network request, and measures the rendered label text.
@@ -34,12 +34,12 @@ import pytest
 from click.testing import CliRunner
 from svg_readback import centre, read_back
 
-import exactsyn.cli_pictures  # noqa: F401  (registers the draw and report commands)
-from exactsyn.circuit import Circuit
-from exactsyn.cli import main
-from exactsyn.cli_pictures import render
+import exactsyn.cli.pictures  # noqa: F401  (registers the draw and report commands)
+from exactsyn.cli.main import main
+from exactsyn.cli.pictures import render
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, swap_gate, x_gate
 from exactsyn.io.jsonio import circuit_to_dict
 from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
 from exactsyn.io.svg import to_svg
@@ -301,7 +301,7 @@ def two_line_store(tmp_path_factory: pytest.TempPathFactory) -> Path:
     from exactsyn.batch.store import Store
     from exactsyn.batch.task import LibraryChoice
     from exactsyn.batch.workers import LocalPool
-    from exactsyn.encode import EncodingOptions
+    from exactsyn.sat.encode import EncodingOptions
 
     path = tmp_path_factory.mktemp("store") / "two.sqlite"
     with Store(path) as s:
@@ -318,8 +318,8 @@ def _report(store: Path, out: Path, *extra: str) -> str:
 
 
 def test_report_holds_the_table_the_chart_and_every_function(two_line_store: Path, tmp_path: Path) -> None:
-    from exactsyn.bfs import optimal_sizes
-    from exactsyn.library import make_library
+    from exactsyn.core.library import make_library
+    from exactsyn.search.bfs import optimal_sizes
 
     page = _report(two_line_store, tmp_path / "r.html")
     bfs = optimal_sizes(make_library("nct", 2))  # breadth-first, no SAT

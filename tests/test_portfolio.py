@@ -4,11 +4,11 @@ from __future__ import annotations
 
 from pysat.examples.genhard import PHP
 
-from exactsyn.encode import EncodingOptions, encode
-from exactsyn.library import make_library
-from exactsyn.lrat import check_lrat
-from exactsyn.portfolio import race
-from exactsyn.spec import from_permutation
+from exactsyn.core.library import make_library
+from exactsyn.proof.lrat import check_lrat
+from exactsyn.sat.encode import EncodingOptions, encode
+from exactsyn.sat.race import race
+from exactsyn.spec.reversible import from_permutation
 
 
 def test_race_on_unsat_pigeonhole_returns_a_checked_proof() -> None:

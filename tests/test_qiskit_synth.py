@@ -8,10 +8,10 @@ import numpy as np
 import pytest
 from helpers import random_perm
 
+from exactsyn.core.library import make_library
 from exactsyn.io.qasm import to_qasm2
-from exactsyn.library import make_library
-from exactsyn.search import synthesise
-from exactsyn.spec import from_permutation
+from exactsyn.search.loop import synthesise
+from exactsyn.spec.reversible import from_permutation
 
 qiskit = pytest.importorskip("qiskit", reason="qiskit is the test-only reference reader (pip install qiskit)")
 from qiskit import QuantumCircuit  # noqa: E402

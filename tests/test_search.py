@@ -8,11 +8,11 @@ import numpy as np
 import pytest
 from helpers import hwb, perm_from_bits, random_perm
 
-from exactsyn.bfs import optimal_sizes
-from exactsyn.encode import EncodingOptions, encode, options_for
-from exactsyn.library import make_library
-from exactsyn.search import NoCircuitError, synthesise
-from exactsyn.spec import from_permutation
+from exactsyn.core.library import make_library
+from exactsyn.sat.encode import EncodingOptions, encode, options_for
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.search.loop import NoCircuitError, synthesise
+from exactsyn.spec.reversible import from_permutation
 
 NCT3 = make_library("nct", 3)
 
@@ -27,7 +27,7 @@ def sat_optimum(perm: list[int], library=NCT3, encoding: str = "onehot") -> int:
 
 
 def test_sat_matches_breadth_first_on_500_random_3bit_functions() -> None:
-    # Independent method: breadth-first enumeration (exactsyn.bfs), whose distribution
+    # Independent method: breadth-first enumeration (exactsyn.search.bfs), whose distribution
     # is checked against Shende et al., IEEE TCAD 2003, in test_bfs_tbs.py.
     table = optimal_sizes(NCT3)
     rng = random.Random(20261201)

@@ -7,12 +7,12 @@ import random
 
 from helpers import random_perm
 
-from exactsyn.bfs import optimal_sizes
-from exactsyn.encode import EncodingOptions
-from exactsyn.library import make_library
-from exactsyn.search import synthesise
-from exactsyn.spec import from_permutation
-from exactsyn.windows import allowed_windows, forbidden_windows
+from exactsyn.core.library import make_library
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.sat.windows import allowed_windows, forbidden_windows
+from exactsyn.search.bfs import optimal_sizes
+from exactsyn.search.loop import synthesise
+from exactsyn.spec.reversible import from_permutation
 
 
 def test_allowed_windows_are_one_per_function_at_that_distance() -> None:
@@ -29,13 +29,13 @@ def test_window2_contains_the_pairwise_rules() -> None:
     lib = make_library("mct", 4)
     bad = set(forbidden_windows(lib, 2))
     assert all((j, j) in bad for j in range(len(lib)))  # equal neighbours cancel
-    from exactsyn.encode import commuting_pairs
+    from exactsyn.sat.encode import commuting_pairs
 
     assert all((j, i) in bad for i, j in commuting_pairs(lib))  # commuting pair out of order
 
 
 def test_window_rules_keep_an_optimal_circuit() -> None:
-    # Independent reference: breadth-first optimum (exactsyn.bfs).
+    # Independent reference: breadth-first optimum (exactsyn.search.bfs).
     lib = make_library("nct", 3)
     table = optimal_sizes(lib)
     opts = EncodingOptions("onehot", ("touch", "window2", "window3", "window4"))

@@ -19,12 +19,12 @@ from pathlib import Path
 from exactsyn.batch.sets import Transform, canonical
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.task import item_key
-from exactsyn.circuit import Circuit
-from exactsyn.encode import EncodingOptions
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict
-from exactsyn.library import make_library
-from exactsyn.spec import from_permutation
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.spec.reversible import from_permutation
 
 
 @dataclass(frozen=True)

@@ -19,11 +19,11 @@ from typing import Any
 
 from exactsyn.batch import sets
 from exactsyn.batch.task import OBJECTIVE, LibraryChoice, item_key, library_identity, unreadable_key
-from exactsyn.encode import EncodingOptions
+from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.library import Library
-from exactsyn.spec import Spec, from_permutation
-from exactsyn.specfile import load_any
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.spec.files import load_any
+from exactsyn.spec.reversible import Spec, from_permutation
 
 REDUCTION = "line relabelling and inversion"
 SET_KINDS = ("all", "classes", "random")

@@ -18,8 +18,8 @@ from exactsyn.batch.plan import Plan
 from exactsyn.batch.store import Member, StatusCounts, Store
 from exactsyn.batch.task import Outcome, Task
 from exactsyn.batch.workers import Engine
-from exactsyn.encode import EncodingOptions
 from exactsyn.errors import ExactsynError
+from exactsyn.sat.encode import EncodingOptions
 
 RETRYABLE = ("timeout", "failed")
 

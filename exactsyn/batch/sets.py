@@ -38,12 +38,12 @@ from functools import lru_cache
 
 import numpy as np
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
+from exactsyn.core.gates import invert_permutation as invert
+from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
-from exactsyn.gates import invert_permutation as invert
-from exactsyn.library import Library
-from exactsyn.spec import MAX_LINES
+from exactsyn.spec.reversible import MAX_LINES
 
 #: Largest line count for which every function (or every class) is enumerated.
 MAX_ENUMERATED_LINES = 3

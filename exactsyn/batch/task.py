@@ -1,8 +1,8 @@
 """One batch item: its stable key, the task a worker runs, and the outcome it returns.
 
-A worker runs :func:`run_task` — :func:`exactsyn.search.synthesise` on one spec, with
-the certificate written by :func:`exactsyn.certificate.proof_writer` and
-:func:`~exactsyn.certificate.write_result` into a private temporary directory, then
+A worker runs :func:`run_task` — :func:`exactsyn.search.loop.synthesise` on one spec, with
+the certificate written by :func:`exactsyn.proof.certificate.proof_writer` and
+:func:`~exactsyn.proof.certificate.write_result` into a private temporary directory, then
 read back as bytes.  The outcome carries the certificate files, so no shared file
 system is needed between the workers and the process that owns the results store
 (which writes them: :mod:`exactsyn.batch.store`).  Every error of one item becomes a
@@ -25,10 +25,10 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn import __version__
-from exactsyn.encode import EncodingOptions
+from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.library import Library, make_library
-from exactsyn.spec import Spec
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.spec.reversible import Spec
 
 OBJECTIVE = "gates"
 STATUSES = ("done", "timeout", "failed")
@@ -93,7 +93,7 @@ class Task:
     time_limit: float | None = None
     certificates: bool = True
     verify: bool = False
-    bounds: str = "table"  # lower bounds of exactsyn.search (BOUNDS)
+    bounds: str = "table"  # lower bounds of exactsyn.search.loop (BOUNDS)
     #: set for a check-only task: re-check the stored certificate (these files), do not solve
     check_files: tuple[tuple[str, bytes], ...] | None = field(default=None, repr=False)
 
@@ -187,7 +187,7 @@ def _rejection(report: Any) -> str:
 
 def _check(task: Task) -> Outcome:
     """Re-check a stored certificate (``exactsyn check``) in a private directory."""
-    from exactsyn.certificate import check_certificate
+    from exactsyn.proof.certificate import check_certificate
 
     started = time.perf_counter()
     tmp = _scratch()
@@ -209,10 +209,10 @@ def _check(task: Task) -> Outcome:
 
 
 def _run(task: Task, started: float) -> Outcome:
-    from exactsyn.certificate import check_certificate, proof_writer, write_result
     from exactsyn.io.jsonio import gate_to_dict
-    from exactsyn.report import step_to_dict
-    from exactsyn.search import NoCircuitError, synthesise
+    from exactsyn.io.report import step_to_dict
+    from exactsyn.proof.certificate import check_certificate, proof_writer, write_result
+    from exactsyn.search.loop import NoCircuitError, synthesise
 
     library = task.library
     cert_dir = _scratch()

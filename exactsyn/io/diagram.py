@@ -7,7 +7,7 @@ and bottommost line, a filled dot on each positive control, a hollow dot on each
 negative control, ``⊕`` (a circle with a cross) on the target of an x gate and a ``×``
 on both targets of a swap.
 
-A Peres gate (:func:`exactsyn.gates.peres_gate`: ``c ^= a·b``, then ``b ^= a``) takes
+A Peres gate (:func:`exactsyn.core.gates.peres_gate`: ``c ^= a·b``, then ``b ^= a``) takes
 one column like every other gate, with a mark of its own on each of its three lines:
 a filled dot on ``a`` (its control), ``⊕`` on ``c`` (the line flipped by ``a·b``) and,
 on ``b``, a square box with the letter ``P`` (mark kind ``peres``).  A Toffoli gate has
@@ -19,7 +19,7 @@ gate spells the map out with the line names (:func:`gate_title`, e.g.
 
 Packed layers (``packed=True``) put gates side by side in one layer when they touch
 disjoint lines, layer by layer as soon as possible — the same greedy packing as
-:meth:`exactsyn.circuit.Circuit.depth`, so there are exactly ``depth()`` layers.  Two
+:meth:`exactsyn.core.circuit.Circuit.depth`, so there are exactly ``depth()`` layers.  Two
 gates of one layer whose connectors would overlap (a gate on lines 0 and 2 beside one
 on line 1) are drawn in sub-columns of the layer, and dashed separators mark where one
 layer ends.  Drawing layer by layer is a valid application order, since gates of one
@@ -40,9 +40,9 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate
 from exactsyn.io.draw import display_width
 
 FONT_SIZE = 14.0  # label font size

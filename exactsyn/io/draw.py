@@ -16,9 +16,9 @@ from __future__ import annotations
 import unicodedata
 from dataclasses import dataclass
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate
 
 
 @dataclass(frozen=True)

@@ -18,7 +18,7 @@ from __future__ import annotations
 import io
 import warnings
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io import diagram as d
 from exactsyn.io.svg import INK, PAPER

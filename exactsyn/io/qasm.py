@@ -30,7 +30,7 @@ applied through a ``gate`` definition of our own, written only when used:
 
 Peres gates (both versions)
 ---------------------------
-Neither include file has the Peres gate (:func:`exactsyn.gates.peres_gate`), so a
+Neither include file has the Peres gate (:func:`exactsyn.core.gates.peres_gate`), so a
 circuit with one gets, once, right after the include line::
 
     gate peres a, b, c { ccx a, b, c; cx a, b; }
@@ -62,9 +62,9 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 
 SUPPORTED = (
     "exactsyn reads x, cx, ccx, swap, cswap, ctrl/negctrl modifiers "

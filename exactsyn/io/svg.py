@@ -29,7 +29,7 @@ from __future__ import annotations
 
 from xml.sax.saxutils import escape, quoteattr
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
 from exactsyn.io import diagram as d
 
 INK = "#111"

@@ -1,0 +1,88 @@
+"""Cheap, sound facts about a spec that need no SAT call.
+
+* :func:`parity_obstruction` — a full permutation that is odd cannot be built from
+  even gates.  With NCT gates on n ≥ 4 lines every gate is even, so only even
+  permutations are realisable (Shende, Prasad, Markov, Hayes, "Synthesis of reversible
+  logic circuits", IEEE TCAD 22(6), 2003).  The parity of a permutation is the parity of
+  (size − number of cycles).
+* :func:`lower_bound` — the larger of: 1 unless the spec is met by the empty circuit,
+  and the number of lines whose output differs from the input on some specified row
+  (an ``x`` gate changes only its target line, so each such line is the target of at
+  least one gate).  Each bound carries the reason that re-derives it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from exactsyn.core.gates import permutation_is_odd
+from exactsyn.core.library import Library
+from exactsyn.spec.reversible import Spec
+
+
+@dataclass(frozen=True)
+class Bound:
+    value: int
+    reason: str  # "none" | "non-identity" | "changed-lines"
+    detail: str
+
+
+def parity_obstruction(spec: Spec, library: Library) -> str | None:
+    """A one-line reason why no circuit exists, or ``None`` when parity allows one."""
+    if spec.is_permutation and library.all_even and permutation_is_odd(spec.permutation):
+        return (
+            f"the permutation is odd, but every gate of library {library.name} on {library.lines} lines "
+            "is an even permutation, so no circuit exists (Shende et al., IEEE TCAD 2003); "
+            "allow a gate with n-1 controls (e.g. --library mct) or add a line"
+        )
+    return None
+
+
+def lower_bound(spec: Spec, library: Library) -> Bound:
+    if spec.is_identity():
+        return Bound(0, "none", "the empty circuit meets the spec")
+    changed = sorted(spec.changed_lines())
+    if library.only_x and len(changed) > 1:
+        return Bound(
+            len(changed),
+            "changed-lines",
+            f"lines {changed} change and each x gate changes only its target",
+        )
+    return Bound(1, "non-identity", "the spec is not met by the empty circuit")
+
+
+def completion_obstruction(spec: Spec) -> str | None:
+    """Why no reversible function meets a partial spec (fixed placement), or ``None``.
+
+    A reversible completion exists exactly when the specified rows can be given
+    distinct outputs, each consistent with its specified bits: a bipartite matching
+    (Kuhn's augmenting paths).  Specs with solver-chosen constants or output lines come
+    from :mod:`exactsyn.spec.embed`, whose line count already guarantees a completion.
+    """
+    if spec.is_permutation or spec.has_choices:
+        return None
+    rows = spec.specified_rows()
+    match: dict[int, int] = {}  # output value -> row
+
+    def candidates(r: int) -> list[int]:
+        return [y for y in range(spec.size) if (y ^ spec.outputs[r]) & spec.care[r] == 0]
+
+    cand = {r: candidates(r) for r in rows}
+
+    def augment(r: int, seen: set[int]) -> bool:
+        for y in cand[r]:
+            if y in seen:
+                continue
+            seen.add(y)
+            if y not in match or augment(match[y], seen):
+                match[y] = r
+                return True
+        return False
+
+    for r in rows:
+        if not augment(r, set()):
+            return (
+                f"no reversible function meets the spec: the specified rows cannot all get distinct "
+                f"outputs (stuck at input {r}); leave more outputs free or add a line"
+            )
+    return None

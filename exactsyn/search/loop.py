@@ -1,0 +1,271 @@
+"""The search loop: raise k from a proven lower bound until a k-gate circuit exists.
+
+For each k the encoder builds a fresh CNF (:mod:`exactsyn.sat.encode`) and the solver
+answers it; every UNSAT answer raises the proven lower bound to k + 1.  The first SAT
+answer is decoded, simulated against the spec, and returned as optimal.  A fast
+constructive circuit (transformation-based synthesis, Miller, Maslov & Dueck, DAC 2003)
+gives an upper bound first: when every k below its size is refuted, it is itself
+optimal and the last SAT call is skipped; when time runs out, it is returned with the
+proven lower bound and clearly marked as not proven optimal.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.library import Library
+from exactsyn.errors import ExactsynError
+from exactsyn.proof.capture import solve_with_lrat
+from exactsyn.sat.dimacs import cnf_sha256
+from exactsyn.sat.encode import Encoding, EncodingOptions, encode
+from exactsyn.sat.race import race
+from exactsyn.sat.solve import solve_cnf
+from exactsyn.search.bounds import Bound, completion_obstruction, lower_bound, parity_obstruction
+from exactsyn.search.distance import extended_meet
+from exactsyn.spec.reversible import Spec
+
+BOUNDS = {
+    "table": "cheap bounds, then distance tables with meet in the middle (up to 4 lines, full specs)",
+    "cheap": "only bounds without tables; every refuted k gets an LRAT proof when certifying",
+}
+# Number of gates from which the distance table is consulted, by line count: building
+# the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
+TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
+# The table is not built when less time than this is left (it cannot be interrupted).
+TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0}
+
+
+class NoCircuitError(ExactsynError):
+    """No circuit exists in the library, or none was found within the limits (exit 1)."""
+
+
+@dataclass(frozen=True)
+class Step:
+    """One k-query: its answer, time and size."""
+
+    k: int
+    status: str  # "sat" | "unsat" | "unknown"
+    seconds: float
+    conflicts: int
+    variables: int
+    clauses: int
+    solver: str = ""
+    cnf_sha256: str | None = None  # set when certifying
+    proof: str | None = None  # where the sink stored the LRAT refutation
+    proof_bytes: int = 0
+    symmetry: tuple[str, ...] | None = None  # rules of the CNF that answered (certificates)
+
+
+@dataclass(frozen=True)
+class Result:
+    spec: Spec
+    library: Library
+    circuit: Circuit | None
+    optimal: bool
+    lower_bound: int
+    upper_bound: int | None
+    initial_bound: Bound
+    table_bound: TableBound | None
+    steps: tuple[Step, ...]
+    encoding: EncodingOptions
+    solver: str
+    seconds: float
+    source: str  # "sat" | "heuristic" | "table" | "bound" (circuit met the lower bound) | "none"
+
+
+@dataclass(frozen=True)
+class TableBound:
+    """A bound from the distance tables (:mod:`exactsyn.search.distance`), re-derivable from its depth."""
+
+    value: int  # every circuit has at least this many gates
+    exact: bool  # value is the optimum (a circuit of that size was found)
+    depth: int
+    extended: bool
+
+
+def heuristic_circuit(spec: Spec, library: Library) -> Circuit | None:
+    """A quick circuit from transformation-based synthesis, if it fits the library."""
+    if not spec.is_permutation:
+        return None
+    from exactsyn.search.heuristic import tbs
+
+    circ = tbs(spec.permutation, spec.lines)
+    if all(library.contains(g) for g in circ.gates) and spec.accepts(circ.permutation()):
+        return circ
+    return None
+
+
+# With jobs ≥ 2, a query still open after this long on its own is raced against the
+# formulation without symmetry breaking (see exactsyn.sat.race).
+QUICK_SECONDS = 1.0
+PLAIN = EncodingOptions("onehot", ())
+RACE_SOLVER = "kissat404"  # for the formulation without symmetry breaking (see exactsyn.sat.race)
+
+
+def _query(
+    spec: Spec,
+    library: Library,
+    k: int,
+    enc: Encoding,
+    solver: str,
+    left: float | None,
+    proof_sink: Callable[[int, bytes], str] | None,
+    jobs: int,
+) -> tuple[Step, tuple[int, ...] | None, Encoding]:
+    """Answer one k-query: alone first, then (jobs ≥ 2) as a race of two formulations."""
+    t0 = time.perf_counter()
+    racing = bool(jobs >= 2 and enc.options.symmetry and (left is None or left > QUICK_SECONDS))
+    first_limit = left
+    if racing:
+        first_limit = QUICK_SECONDS if left is None else min(QUICK_SECONDS, left)
+    status, model, conflicts, name, proof = "unknown", None, 0, solver, b""
+    if first_limit is None or first_limit > 0:
+        if proof_sink is None:
+            out = solve_cnf(enc.clauses, solver, first_limit)
+            status, model, conflicts, name = out.status, out.model, out.conflicts, solver
+        else:
+            run = solve_with_lrat(enc.clauses, first_limit)
+            status, model, conflicts, name, proof = run.status, run.model, run.conflicts or 0, run.solver, run.proof
+    if status == "unknown" and racing:
+        plain = encode(spec, library, k, PLAIN)
+        rest = None if left is None else left - (time.perf_counter() - t0)
+        outcome = race(
+            [enc.clauses, plain.clauses],
+            certify=proof_sink is not None,
+            solver=solver,
+            time_limit=rest,
+            solvers=[solver if proof_sink is None else "cadical195", RACE_SOLVER],
+        )
+        status, model, conflicts, name, proof = (
+            outcome.status,
+            outcome.model,
+            outcome.conflicts,
+            outcome.solver,
+            outcome.proof,
+        )
+        if outcome.winner == 1:
+            enc = plain
+    seconds = time.perf_counter() - t0
+    if proof_sink is None:
+        step = Step(k, status, seconds, conflicts, enc.num_vars, len(enc.clauses), name)
+    else:
+        stored = proof_sink(k, proof) if status == "unsat" else None
+        step = Step(
+            k,
+            status,
+            seconds,
+            conflicts,
+            enc.num_vars,
+            len(enc.clauses),
+            name,
+            cnf_sha256(enc.num_vars, enc.clauses),
+            stored,
+            len(proof),
+            enc.options.symmetry,
+        )
+    return step, model, enc
+
+
+def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
+    """Simulate on every input; refuse to hand out a circuit that is wrong."""
+    if circuit.lines != spec.lines or not spec.accepts(circuit.permutation()):
+        raise RuntimeError("internal error: decoded circuit does not meet the spec")
+    if not all(library.contains(g) for g in circuit.gates):
+        raise RuntimeError("internal error: decoded circuit uses a gate outside the library")
+
+
+def synthesise(
+    spec: Spec,
+    library: Library,
+    *,
+    encoding: EncodingOptions | None = None,
+    solver: str = "cadical195",
+    time_limit: float | None = None,
+    max_gates: int | None = None,
+    use_heuristic: bool = True,
+    bounds: str = "table",
+    jobs: int = 1,
+    progress: Callable[[Step], None] | None = None,
+    proof_sink: Callable[[int, bytes], str] | None = None,
+    cnf_sink: Callable[[Encoding], None] | None = None,
+) -> Result:
+    """Find a minimum-gate circuit; see the module docstring.
+
+    With ``proof_sink`` every k-query is solved by CaDiCaL 1.9.5 with LRAT output and
+    each refutation is handed to ``proof_sink(k, proof)``, which stores it and returns
+    its name (see :mod:`exactsyn.proof.certificate`).  ``cnf_sink`` receives every k-query's
+    encoding (for DIMACS export).  Raises :class:`NoCircuitError` when parity rules
+    every circuit out.
+    """
+    opts = encoding or EncodingOptions()
+    start = time.perf_counter()
+    reason = parity_obstruction(spec, library) or completion_obstruction(spec)
+    if reason:
+        raise NoCircuitError(reason)
+    bound = lower_bound(spec, library)
+    upper = heuristic_circuit(spec, library) if use_heuristic else None
+    steps: list[Step] = []
+    table: TableBound | None = None
+    if bounds not in BOUNDS:
+        raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
+    want_table = (
+        bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
+    )
+
+    def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> Result:
+        if circuit is not None:
+            verify(circuit, spec, library)
+        return Result(
+            spec=spec,
+            library=library,
+            circuit=circuit,
+            optimal=optimal,
+            lower_bound=lb,
+            upper_bound=None if circuit is None else len(circuit),
+            initial_bound=bound,
+            table_bound=table,
+            steps=tuple(steps),
+            encoding=opts,
+            solver=solver,
+            seconds=time.perf_counter() - start,
+            source=source,
+        )
+
+    k = bound.value
+    if k == 0:
+        return result(Circuit(spec.lines), True, 0, "bound")
+    while True:
+        elapsed = time.perf_counter() - start
+        room = time_limit is None or time_limit - elapsed >= TABLE_MIN_SECONDS.get(spec.lines, 0.0)
+        if want_table and table is None and k >= TABLE_FROM.get(spec.lines, 99) and room:
+            mr = extended_meet(spec.permutation, library)
+            if mr.exact is not None and mr.circuit is not None:
+                table = TableBound(mr.exact, True, mr.depth, mr.extended)
+                return result(mr.circuit, True, mr.exact, "table")
+            table = TableBound(mr.lower, False, mr.depth, mr.extended)
+            k = max(k, mr.lower)
+            continue
+        if max_gates is not None and k > max_gates:
+            # Every circuit needs at least k > max_gates gates: none within the limit.
+            return result(None, False, k, "none")
+        if upper is not None and k >= len(upper):
+            return result(upper, True, k, "heuristic")
+        left = None if time_limit is None else time_limit - (time.perf_counter() - start)
+        if left is not None and left <= 0:
+            return result(upper, False, k, "heuristic" if upper else "none")
+        enc = encode(spec, library, k, opts)
+        if cnf_sink:
+            cnf_sink(enc)
+        step, model, enc = _query(spec, library, k, enc, solver, left, proof_sink, jobs)
+        steps.append(step)
+        if progress:
+            progress(step)
+        if step.status == "sat":
+            assert model is not None
+            return result(enc.decode(model), True, k, "sat")
+        if step.status == "unknown":
+            return result(upper, False, k, "heuristic" if upper else "none")
+        k += 1
