@@ -23,11 +23,10 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+import exactsyn as ex  # noqa: E402
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.io.jsonio import gate_to_dict  # noqa: E402
-from exactsyn.proof.certificate import check_certificate, proof_writer, write_result  # noqa: E402
 from exactsyn.search.bfs import optimal_sizes  # noqa: E402
-from exactsyn.search.loop import synthesise  # noqa: E402
 from exactsyn.spec.reversible import from_permutation  # noqa: E402
 
 OUT = ROOT / "instances" / "sets"
@@ -55,9 +54,8 @@ def five_line() -> None:
         perm = [int(v) for v in s]
         spec = from_permutation(perm, f"five-{lib_name}-{i}")
         with tempfile.TemporaryDirectory() as d:
-            res = synthesise(spec, lib, proof_sink=proof_writer(Path(d)), jobs=2)
-            write_result(Path(d), res)
-            rep = check_certificate(d)
+            res = ex.synthesise(spec, library=lib, certificate=d, jobs=2)
+            rep = ex.check_certificate(d)
         assert res.optimal and res.circuit is not None and rep.ok
         recs.append(
             {

@@ -41,10 +41,10 @@ from exactsyn.batch.store import Store
 from exactsyn.batch.table import size_table, to_csv
 from exactsyn.batch.task import LibraryChoice, Outcome, Task
 from exactsyn.batch.workers import DaskEngine, LocalPool
-from exactsyn.cli.main import main
+from exactsyn.cli import main
 from exactsyn.core.gates import x_gate
 from exactsyn.core.library import Library, make_library
-from exactsyn.proof.certificate import check_certificate
+from exactsyn.proof.check import check_certificate
 from exactsyn.sat.encode import EncodingOptions
 from exactsyn.search.bfs import optimal_sizes
 from exactsyn.spec.reversible import from_permutation
@@ -57,7 +57,7 @@ SHENDE_2003_NCT3 = [1, 12, 102, 625, 2780, 8921, 17049, 10253, 577]
 
 
 def cli(*args: str) -> list[str]:
-    return [sys.executable, "-c", "from exactsyn.cli.main import main; main()", *args]
+    return [sys.executable, "-c", "from exactsyn.cli import main; main()", *args]
 
 
 def rows(store_path: Path) -> list[sqlite3.Row]:

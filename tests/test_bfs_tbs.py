@@ -14,7 +14,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.search.bfs import distance_layers, distribution, optimal_circuit, optimal_sizes
-from exactsyn.search.heuristic import cancel_pairs, tbs
+from exactsyn.search.heuristic import cancel_pairs, transformation_based
 
 
 def parity(perm: list[int] | tuple[int, ...]) -> int:
@@ -130,7 +130,7 @@ def test_tbs_realises_seeded_random_functions(lines: int, bidirectional: bool) -
     rng = random.Random(1000 + lines)
     for _ in range(60):
         p = random_perm(rng, lines)
-        c = tbs(p, lines, bidirectional=bidirectional)
+        c = transformation_based(p, lines, bidirectional=bidirectional)
         assert c.permutation() == tuple(p)
         assert all(g.kind == "x" and not g.negative_controls for g in c.gates)
         assert all(a != b for a, b in zip(c.gates, c.gates[1:], strict=False))
@@ -143,12 +143,12 @@ FUNCTIONS = st.integers(1, 5).flatmap(lambda n: st.tuples(st.just(n), st.permuta
 @given(FUNCTIONS, st.booleans())
 def test_tbs_realises_any_function(case: tuple[int, list[int]], bidirectional: bool) -> None:
     lines, p = case
-    assert tbs(list(p), lines, bidirectional=bidirectional).permutation() == tuple(p)
+    assert transformation_based(list(p), lines, bidirectional=bidirectional).permutation() == tuple(p)
 
 
 def test_tbs_on_identity_and_single_not() -> None:
-    assert len(tbs(list(range(16)), 4)) == 0
-    c = tbs([1, 0, 3, 2], 2, bidirectional=False)
+    assert len(transformation_based(list(range(16)), 4)) == 0
+    c = transformation_based([1, 0, 3, 2], 2, bidirectional=False)
     assert [str(g) for g in c.gates] == ["x(0)"]
 
 
@@ -160,8 +160,8 @@ def test_tbs_never_beats_the_optimum() -> None:
     for _ in range(1500):
         p = random_perm(rng, 3)
         best = table.size(p)
-        assert len(tbs(p, 3, bidirectional=False)) >= best
-        assert len(tbs(p, 3, bidirectional=True)) >= best
+        assert len(transformation_based(p, 3, bidirectional=False)) >= best
+        assert len(transformation_based(p, 3, bidirectional=True)) >= best
 
 
 @st.composite
@@ -176,7 +176,7 @@ def circuits(draw: st.DrawFn) -> Circuit:
 def test_inverse_after_circuit_is_identity(c: Circuit) -> None:
     identity = tuple(range(1 << c.lines))
     assert c.then(c.inverse()).permutation() == identity
-    synthesised = tbs(list(c.permutation()), c.lines)
+    synthesised = transformation_based(list(c.permutation()), c.lines)
     assert synthesised.then(c.inverse()).permutation() == identity
     assert c.inverse().then(synthesised).permutation() == identity
 
@@ -190,4 +190,4 @@ def test_cancel_pairs_cascades() -> None:
 def test_tbs_rejects_bad_input() -> None:
     for perm, lines in [([0, 1, 2], 2), ([0, 0, 1, 2], 2), ([0, 1], 0), ([1, 0], 7)]:
         with pytest.raises(ExactsynError):
-            tbs(perm, lines)
+            transformation_based(perm, lines)

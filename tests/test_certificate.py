@@ -13,16 +13,17 @@ from helpers import random_perm
 
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.certificate import check_certificate, proof_writer, write_result
+from exactsyn.proof.certificate import proof_writer, write_result
+from exactsyn.proof.check import check_certificate
 from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.loop import synthesise
+from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.reversible import from_permutation
 
 NCT3 = make_library("nct", 3)
 
 
 def certify(perm: list[int], directory: Path, library=NCT3) -> Path:  # type: ignore[no-untyped-def]
-    res = synthesise(from_permutation(perm), library, proof_sink=proof_writer(directory), bounds="cheap")
+    res = minimise_gates(from_permutation(perm), library, proof_sink=proof_writer(directory), bounds="cheap")
     assert res.optimal
     return write_result(directory, res)
 
@@ -151,7 +152,7 @@ def test_table_bound_certificate_for_hwb4(tmp_path: Path) -> None:
     from helpers import hwb
 
     d = tmp_path / "hwb4"
-    res = synthesise(from_permutation(hwb(4)), make_library("mct", 4), proof_sink=proof_writer(d))
+    res = minimise_gates(from_permutation(hwb(4)), make_library("mct", 4), proof_sink=proof_writer(d))
     write_result(d, res)
     rep = check_certificate(d)
     assert rep.ok and rep.gate_count == 11
@@ -164,13 +165,13 @@ def test_table_bound_certificate_for_hwb4(tmp_path: Path) -> None:
 def test_raced_queries_give_a_checkable_certificate(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     # Force every query into the two-formulation race; each refutation names the
     # symmetry rules of the CNF it refutes, and the checker re-derives that CNF.
-    import exactsyn.search.loop as search
+    import exactsyn.sat.query as query
 
-    monkeypatch.setattr(search, "QUICK_SECONDS", 0.0)
+    monkeypatch.setattr(query, "QUICK_SECONDS", 0.0)
     table = optimal_sizes(NCT3)
     p = [int(v) for v in table.permutations()[table.sizes == 7][3]]
     d = tmp_path / "raced"
-    res = synthesise(from_permutation(p), NCT3, proof_sink=proof_writer(d), bounds="cheap", jobs=2)
+    res = minimise_gates(from_permutation(p), NCT3, proof_sink=proof_writer(d), bounds="cheap", jobs=2)
     write_result(d, res)
     rep = check_certificate(d)
     assert rep.ok and rep.gate_count == 7
@@ -187,7 +188,7 @@ def test_certificate_of_an_embedded_function_with_solver_choices(tmp_path: Path)
     fn = function_from_mapping(tomllib.loads((root / "instances" / "full-adder.toml").read_text()), "fa")
     spec, _ = embed(fn)
     d = tmp_path / "fa"
-    res = synthesise(spec, make_library("nct", 4), proof_sink=proof_writer(d), bounds="cheap")
+    res = minimise_gates(spec, make_library("nct", 4), proof_sink=proof_writer(d), bounds="cheap")
     write_result(d, res)
     rep = check_certificate(d)
     assert rep.ok and rep.gate_count == 4

@@ -10,14 +10,14 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from exactsyn.cli.main import main
+from exactsyn.cli import main
 
 ROOT = Path(__file__).resolve().parent.parent
 
 
 def run(*args: str) -> subprocess.CompletedProcess[str]:
     return subprocess.run(
-        [sys.executable, "-m", "exactsyn.cli.main", *args], capture_output=True, text=True, cwd=ROOT, timeout=120
+        [sys.executable, "-m", "exactsyn", *args], capture_output=True, text=True, cwd=ROOT, timeout=120
     )
 
 

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from exactsyn.cli.main import main
+from exactsyn.cli import main
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import x_gate
 

@@ -23,11 +23,11 @@ from exactsyn.core.cliffordt import (
     decompose_gate,
     gate_cnot_count,
     gate_t_count,
-    to_qasm2,
-    to_qasm3,
 )
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
+from exactsyn.io.qasm import clifford_t_to_qasm2 as to_qasm2
+from exactsyn.io.qasm import clifford_t_to_qasm3 as to_qasm3
 
 OMEGA = cmath.exp(1j * cmath.pi / 4)
 ONE_QUBIT = {

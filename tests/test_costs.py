@@ -9,10 +9,11 @@ from pathlib import Path
 import pytest
 
 from exactsyn.core.circuit import Circuit
-from exactsyn.core.cliffordt import decompose, to_qasm2
+from exactsyn.core.cliffordt import decompose
 from exactsyn.core.costs import COST_MODELS, circuit_cost, cost_model, load_cost_table
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
+from exactsyn.io.qasm import clifford_t_to_qasm2 as to_qasm2
 
 NCV = COST_MODELS["ncv"]
 

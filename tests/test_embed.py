@@ -16,7 +16,7 @@ import pytest
 from exactsyn.core.library import make_library
 from exactsyn.io.qasm import read_qasm
 from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.loop import synthesise
+from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.boolean import function_from_mapping
 from exactsyn.spec.embed import embed, multiplicity
 from exactsyn.spec.files import load_any
@@ -29,7 +29,7 @@ DATA = Path(__file__).parent / "data"
 def solve(mapping: dict, library: str = "nct"):  # type: ignore[no-untyped-def,type-arg]
     fn = function_from_mapping(mapping, "test")
     spec, emb = embed(fn)
-    res = synthesise(spec, make_library(library, spec.lines), bounds="cheap")
+    res = minimise_gates(spec, make_library(library, spec.lines), bounds="cheap")
     assert res.optimal and res.circuit is not None
     return fn, spec, emb, res
 
@@ -111,7 +111,7 @@ def test_dont_cares_give_the_best_completion() -> None:
     outputs = [1, 0, 3, 2, 0, 0, 0, 0]
     care = [7, 7, 7, 7, 0, 0, 0, 0]
     spec = Spec(3, tuple(outputs), tuple(care), "partial")
-    res = synthesise(spec, make_library("nct", 3), bounds="cheap")
+    res = minimise_gates(spec, make_library("nct", 3), bounds="cheap")
     assert res.optimal and res.circuit is not None and spec.accepts(res.circuit.permutation())
     # Independent: enumerate every completion and take its breadth-first optimum.
     table = optimal_sizes(make_library("nct", 3))
@@ -127,7 +127,7 @@ def test_contradictory_partial_spec_is_refused() -> None:
 
     spec = Spec(2, (1, 1, 0, 0), (3, 3, 0, 0), "clash")  # rows 0 and 1 both must give 1
     with pytest.raises(NoCircuitError, match="distinct"):
-        synthesise(spec, make_library("mct", 2))
+        minimise_gates(spec, make_library("mct", 2))
 
 
 @pytest.mark.parametrize("name", ["mixed.qasm", "modifiers.qasm"])
@@ -149,13 +149,13 @@ def test_circuit_files_are_resynthesised_to_the_same_function(name: str) -> None
     theirs = [int(np.argmax(np.abs(u[:, i]))) for i in range(u.shape[0])]
     assert theirs == list(ours.permutation())
     spec, _ = load_any(DATA / name)
-    res = synthesise(spec, make_library("mct", spec.lines))
+    res = minimise_gates(spec, make_library("mct", spec.lines))
     # (the files use swaps and negative controls, outside mct, so no size comparison)
     assert res.circuit is not None and res.optimal and res.circuit.permutation() == ours.permutation()
 
 
 def run(*args: str) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([sys.executable, "-m", "exactsyn.cli.main", *args], capture_output=True, text=True, cwd=ROOT)
+    return subprocess.run([sys.executable, "-m", "exactsyn", *args], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_synth_reads_a_function_file_and_reports_the_embedding() -> None:

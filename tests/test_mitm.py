@@ -10,7 +10,7 @@ from helpers import random_perm
 from exactsyn.core.library import make_library
 from exactsyn.search.bfs import optimal_sizes
 from exactsyn.search.distance import distance_table, extended_meet, meet_in_the_middle
-from exactsyn.search.loop import synthesise
+from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.reversible import from_permutation
 
 
@@ -51,6 +51,6 @@ def test_table_optimum_equals_sat_optimum_on_four_lines() -> None:
             s = lib.gates[rng.randrange(len(lib))].apply(s)
         p = tuple(int(v) for v in s)
         r = meet_in_the_middle(p, lib, 3)
-        sat = synthesise(from_permutation(list(p)), lib, bounds="cheap")
+        sat = minimise_gates(from_permutation(list(p)), lib, bounds="cheap")
         assert sat.circuit is not None and sat.optimal
         assert r.exact == len(sat.circuit)

@@ -21,14 +21,15 @@ from helpers import naive_bfs, optimal_words
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import cost_model
+from exactsyn.core.costs import library_costs as gate_costs
 from exactsyn.core.gates import x_gate
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.certificate import check_certificate, proof_writer, write_result
-from exactsyn.proof.objective import objective_proof_writer
+from exactsyn.proof.certificate import proof_writer, write_result
+from exactsyn.proof.check import check_certificate
 from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.loop import synthesise
-from exactsyn.search.objectives import gate_costs, optimise
+from exactsyn.search.loop import minimise_gates
+from exactsyn.search.objectives import optimise
 from exactsyn.spec.reversible import from_permutation
 
 Perm = tuple[int, ...]
@@ -69,7 +70,7 @@ def _layer_depths(library: Library) -> dict[Perm, int]:
 
 
 def _gate_result(perm: Perm, lib: Library = NCT3):  # type: ignore[no-untyped-def]
-    res = synthesise(from_permutation(perm), lib)
+    res = minimise_gates(from_permutation(perm), lib)
     assert res.optimal
     return res
 
@@ -141,8 +142,8 @@ def test_cost_objective_refuses_zero_costs() -> None:
 
 def _certify(tmp_path: Path, perm: Perm, objective: str, model_name: str = "ncv") -> Path:
     d = tmp_path / objective
-    res = synthesise(from_permutation(perm), NCT3, proof_sink=proof_writer(d), bounds="cheap")
-    obj = optimise(objective, res, cost_model(model_name), proof_sink=objective_proof_writer(d))
+    res = minimise_gates(from_permutation(perm), NCT3, proof_sink=proof_writer(d), bounds="cheap")
+    obj = optimise(objective, res, cost_model(model_name), proof_sink=proof_writer(d))
     write_result(d, res, obj)
     return d
 
@@ -176,7 +177,7 @@ def test_objective_certificates_check_and_tampering_fails(tmp_path: Path, object
 
 
 def test_affine_test_and_the_nonaffine_bound() -> None:
-    from exactsyn.search.objectives import is_affine, nonaffine_extra
+    from exactsyn.search.bounds import is_affine, nonaffine_extra
 
     # NOT, CNOT and SWAP circuits are affine maps over GF(2); a Toffoli is not (common practice).
     affine = Circuit(3, (x_gate(0), x_gate(1, (0,)), x_gate(2, (1,))))

@@ -27,7 +27,7 @@ from helpers import permutation_matrix
 from svg_readback import MARKS, SVG_NS, by_class, centre, read_back
 
 import exactsyn.cli.pictures  # noqa: F401  (registers the draw command)
-from exactsyn.cli.main import main
+from exactsyn.cli import main
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError

@@ -35,11 +35,11 @@ from click.testing import CliRunner
 from svg_readback import centre, read_back
 
 import exactsyn.cli.pictures  # noqa: F401  (registers the draw and report commands)
-from exactsyn.cli.main import main
-from exactsyn.cli.pictures import render
+from exactsyn.cli import main
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
+from exactsyn.io.files import render
 from exactsyn.io.jsonio import circuit_to_dict
 from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
 from exactsyn.io.svg import to_svg
@@ -262,7 +262,7 @@ def test_synth_result_json_draws_and_render_gives_text_or_bytes(tmp_path: Path) 
     assert (len(by_class(root, "ctrl-pos")), len(by_class(root, "target"))) == (2, 1)  # one Toffoli gate
     assert isinstance(render(MIXED, "svg"), str) and isinstance(render(MIXED, "text"), str)
     assert isinstance(render(MIXED, "png"), bytes)
-    with pytest.raises(ExactsynError, match="unknown picture format"):
+    with pytest.raises(ExactsynError, match="unknown format"):
         render(MIXED, "gif")
 
 

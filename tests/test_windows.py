@@ -11,7 +11,7 @@ from exactsyn.core.library import make_library
 from exactsyn.sat.encode import EncodingOptions
 from exactsyn.sat.windows import allowed_windows, forbidden_windows
 from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.loop import synthesise
+from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.reversible import from_permutation
 
 
@@ -43,6 +43,6 @@ def test_window_rules_keep_an_optimal_circuit() -> None:
     perms = [random_perm(rng, 3) for _ in range(150)]
     perms += [[int(v) for v in r] for r in table.permutations()[table.sizes == 8][:60]]
     for p in perms:
-        res = synthesise(from_permutation(p), lib, encoding=opts, bounds="cheap")
+        res = minimise_gates(from_permutation(p), lib, encoding=opts, bounds="cheap")
         assert res.circuit is not None and list(res.circuit.permutation()) == p
         assert len(res.circuit) == table.size(p), p

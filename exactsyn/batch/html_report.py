@@ -29,11 +29,12 @@ from typing import Any
 
 from exactsyn import __version__
 from exactsyn.batch.store import BatchInfo, Store
-from exactsyn.batch.table import OptimumTable, size_table
+from exactsyn.batch.table import OptimumTable, size_table, write_chart
 from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.svg import to_svg
+from exactsyn.proof.check import check_certificate
 
 OPEN_GROUP_LIMIT = 60  # sections with at most this many items start open
 
@@ -113,8 +114,6 @@ def _certificate(
     if not (path / "result.json").is_file():
         return "missing", f"{location} is not on disk"
     if recheck:
-        from exactsyn.proof.certificate import check_certificate
-
         try:
             rep = check_certificate(path)
             cert = json.loads((path / "result.json").read_text())
@@ -173,8 +172,6 @@ def chart_data_uri(table: OptimumTable) -> str | None:
     """The batch's bar chart (SVG, as ``exactsyn table --chart`` draws it) as a ``data:`` URI."""
     if not table.counts:
         return None
-    from exactsyn.batch.table import write_chart
-
     with tempfile.TemporaryDirectory(prefix="exactsyn-report-") as tmp:
         paths = write_chart(table, Path(tmp) / "chart")
         svg = next(p for p in paths if p.suffix == ".svg").read_bytes()

@@ -16,7 +16,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from exactsyn.batch.sets import Transform, canonical
+from exactsyn.batch.sets import Transform, canonical, transform_circuit
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.task import item_key
 from exactsyn.core.circuit import Circuit
@@ -74,8 +74,6 @@ def member_result(store: Store, batch: BatchInfo, perm: Sequence[int]) -> Member
 
 
 def _transformed(circuit: Circuit, t: Transform, target: tuple[int, ...]) -> Circuit:
-    from exactsyn.batch.sets import transform_circuit
-
     out = transform_circuit(circuit, t)
     if out.permutation() != target:
         raise ExactsynError("internal error: the transformed circuit does not compute the function")

@@ -113,6 +113,7 @@ def pending_tasks(store: Store, plan: Plan, options: RunOptions) -> tuple[list[T
                 certificates=options.certificates,
                 verify=options.verify,
                 bounds=options.bounds,
+                goal=plan.goal,
                 check_files=() if work == "check" else None,
             )
         )

@@ -34,10 +34,10 @@ import math
 import random
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 
+from exactsyn.caches import memo
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.core.gates import invert_permutation as invert
@@ -79,7 +79,7 @@ def _check_sigma(sigma: Sequence[int], lines: int) -> None:
         raise ExactsynError(f"line relabelling {list(sigma)} is not a permutation of 0..{lines - 1}")
 
 
-@lru_cache(maxsize=64)
+@memo(maxsize=64)
 def state_map(sigma: tuple[int, ...]) -> Perm:
     """``π_σ``: the state permutation moving bit ``l`` to bit ``σ[l]``."""
     n = len(sigma)

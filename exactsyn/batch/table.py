@@ -18,6 +18,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from exactsyn import __version__
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.errors import ExactsynError
 
@@ -37,6 +38,12 @@ class OptimumTable:
     verified: int  # ... and whose certificate was re-checked by the batch
     intervals: tuple[tuple[int | None, int | None, int], ...]  # (lower, upper, functions) not proven
     items: int  # rows (representatives) behind the functions
+    unit: str = "gates"  # what the optimum counts: gates, "cost (t-count)", depth
+
+    @property
+    def column(self) -> str:
+        """Name of the optimum column in CSV and JSON: ``gates``, else ``value``."""
+        return "gates" if self.unit == "gates" else "value"
 
     @property
     def average(self) -> float | None:
@@ -51,6 +58,13 @@ class OptimumTable:
         for g, c in self.counts:
             out[g] = c
         return out
+
+
+def objective_unit(objective: Any) -> str:
+    """What a batch's optimum counts, from the ``objective`` of its description."""
+    if isinstance(objective, dict):
+        return f"cost ({objective.get('cost_model')})"
+    return str(objective)
 
 
 def size_table(store: Store, batch: BatchInfo) -> OptimumTable:
@@ -84,6 +98,7 @@ def size_table(store: Store, batch: BatchInfo) -> OptimumTable:
     if desc.get("set") == "classes" and desc.get("reduction"):
         label = f"every {desc.get('lines')}-line function, from {items} class representatives"
     return OptimumTable(
+        unit=objective_unit(desc.get("objective", "gates")),
         batch_id=batch.id,
         label=label,
         library=lib,
@@ -102,11 +117,14 @@ def size_table(store: Store, batch: BatchInfo) -> OptimumTable:
 
 def to_text(t: OptimumTable) -> str:
     out = [f"batch {t.batch_id}: {t.label}", f"library {t.library}; {t.total} functions from {t.items} stored items"]
-    out.append(f"{'gates':>5}  {'functions':>10}")
+    if t.unit != "gates":
+        out.append(f"objective: {t.unit}, proven optimal for each function")
+    out.append(f"{t.column:>5}  {'functions':>10}")
     for g, c in t.counts:
         out.append(f"{g:>5}  {c:>10}")
     avg = t.average
-    out.append(f"total  {t.optimal:>10} proven optimal" + (f"; average {avg:.4f} gates" if avg is not None else ""))
+    what = "gates" if t.unit == "gates" else t.unit
+    out.append(f"total  {t.optimal:>10} proven optimal" + (f"; average {avg:.4f} {what}" if avg is not None else ""))
     cert = "every entry" if t.certified == t.optimal else f"{t.certified} of {t.optimal} entries"
     out.append(f"certificates: {cert}" + (f" (re-checked: {t.verified})" if t.verified else ""))
     if t.timeout:
@@ -121,13 +139,12 @@ def to_text(t: OptimumTable) -> str:
 
 
 def to_dict(t: OptimumTable) -> dict[str, Any]:
-    from exactsyn import __version__
-
     return {
         "batch": t.batch_id,
         "label": t.label,
         "library": t.library,
-        "distribution": [{"gates": g, "functions": c} for g, c in t.counts],
+        "unit": t.unit,
+        "distribution": [{t.column: g, "functions": c} for g, c in t.counts],
         "average": t.average,
         "total": t.total,
         "optimal": t.optimal,
@@ -145,7 +162,7 @@ def to_dict(t: OptimumTable) -> dict[str, Any]:
 def to_csv(t: OptimumTable) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(["gates", "functions"])
+    w.writerow([t.column, "functions"])
     for g, c in t.counts:
         w.writerow([g, c])
     return buf.getvalue()
@@ -153,7 +170,7 @@ def to_csv(t: OptimumTable) -> str:
 
 def write_chart(t: OptimumTable, prefix: str | Path) -> list[Path]:
     """Bar chart of the distribution as ``<prefix>.png`` and ``<prefix>.svg``."""
-    import matplotlib
+    import matplotlib  # slow to import (about half a second): only when a chart is drawn
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
@@ -168,12 +185,12 @@ def write_chart(t: OptimumTable, prefix: str | Path) -> list[Path]:
             bars = ax.bar(xs, ys, color="#3a6ea5")
             ax.bar_label(bars, labels=[str(c) for c in ys], fontsize=8, padding=2)
             ax.set_xticks(xs)
-            ax.set_xlabel("gates in a minimal circuit")
+            ax.set_xlabel("gates in a minimal circuit" if t.unit == "gates" else f"optimal {t.unit}")
             ax.set_ylabel("functions")
             avg = t.average
             ax.set_title(
                 f"{t.label}\nlibrary {t.library}: {t.optimal} functions"
-                + (f", average {avg:.3f} gates" if avg is not None else ""),
+                + (f", average {avg:.3f} {'gates' if t.unit == 'gates' else t.unit}" if avg is not None else ""),
                 fontsize=10,
             )
             ax.margins(y=0.12)

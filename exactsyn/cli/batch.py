@@ -9,35 +9,37 @@ from __future__ import annotations
 
 import signal
 import sys
-from typing import TYPE_CHECKING, NoReturn
 
 import click
 
-from exactsyn.cli.main import main
+from exactsyn.batch.lookup import member_result
+from exactsyn.batch.plan import plan_files, plan_generated
+from exactsyn.batch.progress import BatchProgress
+from exactsyn.batch.run import RunOptions, RunSummary, run_batch
+from exactsyn.batch.store import BatchInfo, Store
+from exactsyn.batch.table import size_table, to_csv, to_json, to_text, write_chart, write_text_file
+from exactsyn.batch.task import Goal, LibraryChoice
+from exactsyn.batch.workers import DaskEngine, LocalPool, default_jobs
+from exactsyn.cli.common import fail
 from exactsyn.cli.options import (
     bounds_option,
+    cost_option,
     coupling_option,
     encoding_option,
     library_option,
     max_controls_option,
+    objective_option,
     solver_option,
 )
-
-if TYPE_CHECKING:
-    from exactsyn.batch.run import RunSummary
-    from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.errors import ExactsynError
+from exactsyn.io.draw import draw_text
 from exactsyn.sat.encode import options_for
+from exactsyn.spec.reversible import parse_perm
 
 DEFAULT_STORE = "exactsyn-results.sqlite"
 
 
-def _fail(message: str, code: int = 2) -> NoReturn:
-    click.echo(f"exactsyn: error: {message}", err=True)
-    sys.exit(code)
-
-
-@main.command()
+@click.command()
 @click.argument("specs", nargs=-1, type=click.Path())
 @click.option(
     "--store",
@@ -62,6 +64,8 @@ def _fail(message: str, code: int = 2) -> NoReturn:
 @library_option
 @max_controls_option
 @coupling_option
+@objective_option
+@cost_option
 @encoding_option
 @solver_option
 @bounds_option(" Not part of the item key: finished items are not redone.")
@@ -109,6 +113,8 @@ def batch(
     library_name: str,
     max_controls: int | None,
     coupling: str,
+    objective: str,
+    cost_name: str,
     encoding: str,
     solver: str,
     bounds: str,
@@ -135,14 +141,10 @@ def batch(
       exactsyn table --store nct3.sqlite --chart nct3
       exactsyn batch specs/ --time-limit 60 --jobs 8
       exactsyn batch --random 4 --count 500 --seed 7 --library mct --scheduler tcp://head:8786
+      exactsyn batch --classes 3 --objective gates-then-cost --cost t-count --store t3.sqlite
 
     Exit status: 0 every item done, 1 some timed out / failed (summarised), 2 bad input.
     """
-    from exactsyn.batch.plan import plan_files, plan_generated
-    from exactsyn.batch.run import RunOptions, run_batch
-    from exactsyn.batch.store import Store
-    from exactsyn.batch.task import LibraryChoice
-    from exactsyn.batch.workers import DaskEngine, LocalPool, default_jobs
 
     try:
         sets = [
@@ -168,11 +170,13 @@ def batch(
             retry=frozenset(retry),
             bounds=bounds,
         )
+        goal = Goal(objective, cost_name)
+        goal.label()  # an unreadable cost table fails now
         if specs:
-            plan = plan_files(specs, choice, options.encoding)
+            plan = plan_files(specs, choice, options.encoding, goal)
         else:
             kind, lines = sets[0]
-            plan = plan_generated(kind, lines, choice, options.encoding, count=count, seed=seed)
+            plan = plan_generated(kind, lines, choice, options.encoding, count=count, seed=seed, goal=goal)
         n_jobs = jobs or default_jobs()
         eng = DaskEngine(scheduler, n_jobs) if (scheduler or engine == "dask") else LocalPool(n_jobs, time_limit)
         for note in plan.notes:
@@ -183,8 +187,6 @@ def batch(
                 if quiet:
                     summary = run_batch(store, plan, options, eng)
                 else:
-                    from exactsyn.batch.progress import BatchProgress
-
                     with BatchProgress() as bar:
                         summary = run_batch(store, plan, options, eng, bar)
             except KeyboardInterrupt:
@@ -194,7 +196,7 @@ def batch(
                 signal.signal(signal.SIGTERM, previous)
             click.echo(_summary_text(summary, store))
     except ExactsynError as e:
-        _fail(e.message)
+        fail(e.message)
     sys.exit(0 if summary.all_done else 1)
 
 
@@ -229,7 +231,7 @@ def _summary_text(s: RunSummary, store: Store) -> str:
     return "\n".join(lines)
 
 
-@main.command()
+@click.command()
 @click.option("--store", "store_path", default=DEFAULT_STORE, show_default=True, type=click.Path(dir_okay=False))
 @click.option("--batch", "batch_id", metavar="ID", help="Batch id (a prefix will do); default the last one run.")
 @click.option("--list", "list_batches", is_flag=True, help="List the batches in the store and stop.")
@@ -260,8 +262,6 @@ def table(
     Example:
       exactsyn table --store nct3.sqlite --csv nct3.csv --json nct3.json --chart nct3
     """
-    from exactsyn.batch.store import Store
-    from exactsyn.batch.table import size_table, to_csv, to_json, to_text, write_chart, write_text_file
 
     try:
         with Store(store_path, create=False) as store:
@@ -283,13 +283,10 @@ def table(
             for p in write_chart(t, chart_prefix):
                 click.echo(f"chart written: {p}", err=True)
     except ExactsynError as e:
-        _fail(e.message)
+        fail(e.message)
 
 
 def _print_lookup(store: Store, batch: BatchInfo, text: str) -> None:
-    from exactsyn.batch.lookup import member_result
-    from exactsyn.io.draw import draw_text
-    from exactsyn.spec.reversible import parse_perm
 
     m = member_result(store, batch, parse_perm(text).outputs)
     head = f"function {','.join(map(str, m.permutation))}: "

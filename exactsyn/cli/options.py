@@ -11,6 +11,7 @@ from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.sat.encode import ENCODINGS
 from exactsyn.sat.solve import SOLVERS
 from exactsyn.search.loop import BOUNDS
+from exactsyn.search.objectives import OBJECTIVES
 
 F = Callable[..., Any]
 
@@ -62,3 +63,22 @@ def bounds_option(extra: str = "") -> Callable[[F], F]:
         help="'table': skip hopeless k with breadth-first distance tables and a meet-in-the-middle test "
         "(up to 4 lines; exact up to 11 gates on 4 lines); 'cheap': SAT (and LRAT) for every k." + extra,
     )
+objective_option = click.option(
+    "--objective",
+    type=click.Choice(list(OBJECTIVES)),
+    default="gates",
+    show_default=True,
+    help="What is minimised and proven: gates; gates-then-cost = fewest gates, then the least --cost among "
+    "them; cost = least --cost over any number of gates (slow beyond small 3-line functions); depth = fewest "
+    "layers, gates on disjoint lines sharing a layer.",
+)
+cost_option = click.option(
+    "--cost",
+    "cost_name",
+    default="ncv",
+    show_default=True,
+    metavar="MODEL|FILE",
+    help="Cost model: ncv (quantum cost: NOT 1, CNOT 1, Toffoli 5, Peres 4, C3X 13; Barenco et al. 1995), "
+    "t-count and cnot-count (of the Clifford+T decomposition written by --clifford-t), gates, or a TOML/JSON "
+    "table of gate names to integer costs (NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..., negative_control).",
+)

@@ -1,4 +1,4 @@
-"""The ``exactsyn draw`` and ``exactsyn report`` commands, and :func:`render` for ``synth``.
+"""The ``exactsyn draw`` and ``exactsyn report`` commands.
 
 ``draw`` draws a saved circuit (JSON or OpenQASM 2/3, as ``exactsyn apply`` reads it) as
 SVG, PNG or a terminal drawing; ``report`` writes one self-contained HTML page for a
@@ -7,24 +7,14 @@ batch of a results store.  Exit status: 0 written, 2 bad input (one line on stde
 
 from __future__ import annotations
 
-import sys
-from pathlib import Path
-from typing import NoReturn
-
 import click
 
-from exactsyn.cli.main import main
-from exactsyn.core.circuit import Circuit
+from exactsyn.batch.html_report import build_report
+from exactsyn.cli.common import emit, fail
 from exactsyn.errors import ExactsynError
-from exactsyn.spec.files import load_circuit
+from exactsyn.io.files import PICTURE_FORMATS, format_for, read_circuit, render
 
-PICTURE_FORMATS = ("text", "svg", "png")
 DEFAULT_WRAP = 40  # gate columns per row of a drawing
-
-
-def _fail(message: str, code: int = 2) -> NoReturn:
-    click.echo(f"exactsyn: error: {message}", err=True)
-    sys.exit(code)
 
 
 def parse_labels(text: str | None) -> list[str] | None:
@@ -37,69 +27,13 @@ def parse_labels(text: str | None) -> list[str] | None:
     return names
 
 
-def render(
-    circuit: Circuit,
-    fmt: str,
-    labels: list[str] | None = None,
-    packed: bool = False,
-    wrap: int | None = DEFAULT_WRAP,
-) -> str | bytes:
-    """The drawing of ``circuit`` in ``fmt`` (``text``, ``svg``: str; ``png``: bytes)."""
-    if fmt == "svg":
-        from exactsyn.io.svg import to_svg
-
-        return to_svg(circuit, labels, packed, wrap)
-    if fmt == "png":
-        from exactsyn.io.png import to_png
-
-        return to_png(circuit, labels, packed, wrap)
-    if fmt == "text":
-        from exactsyn.io.draw import draw_text
-
-        if packed:
-            raise ExactsynError("--packed is for svg and png; the terminal drawing has one gate per column")
-        return draw_text(circuit, labels)
-    raise ExactsynError(f"unknown picture format {fmt!r}; choose one of: {', '.join(PICTURE_FORMATS)}")
-
-
-def write_picture(data: str | bytes, output: str | None) -> None:
-    """Write a rendered picture to ``output``, or to stdout (PNG only when stdout is not a terminal)."""
-    if output is None:
-        if isinstance(data, bytes):
-            if sys.stdout.isatty():
-                raise ExactsynError("PNG is binary: give -o FILE or redirect stdout to a file")
-            click.echo(data, nl=False)  # bytes go to the binary stream
-        else:
-            click.echo(data, nl=not data.endswith("\n"))
-        return
-    try:
-        if isinstance(data, bytes):
-            Path(output).write_bytes(data)
-        else:
-            Path(output).write_text(data, encoding="utf-8")
-    except OSError as e:
-        raise ExactsynError(f"cannot write {output}: {e.strerror}") from None
-
-
-def emit_picture(circuit: Circuit, fmt: str, output: str | None, labels: list[str] | None = None) -> None:
-    """``render`` then ``write_picture``: what ``synth --format svg|png`` calls."""
-    write_picture(render(circuit, fmt, labels), output)
-
-
-def _format_for(fmt: str | None, output: str | None) -> str:
-    if fmt is not None:
-        return fmt
-    suffix = Path(output).suffix.lower() if output else ""
-    return {".svg": "svg", ".png": "png"}.get(suffix, "text")
-
-
-@main.command()
+@click.command()
 @click.argument("circuit_file", type=click.Path(dir_okay=False))
 @click.option(
     "--format",
     "fmt",
     type=click.Choice(PICTURE_FORMATS),
-    help="Picture format; default from the -o suffix (.svg, .png), else text.",
+    help="Picture format; default from the -o suffix (.svg, .png, .txt), text on stdout.",
 )
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the picture here, not stdout.")
 @click.option("--packed", is_flag=True, help="Draw parallel layers: gates on disjoint lines side by side.")
@@ -130,15 +64,16 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
     try:
         if wrap < 0:
             raise ExactsynError("--wrap must be 0 (never wrap) or more")
-        chosen = _format_for(fmt, output)
-        circuit = load_circuit(circuit_file)
-        data = render(circuit, chosen, parse_labels(labels), packed, wrap or None)
-        write_picture(data, output)
+        chosen = format_for(output, fmt, PICTURE_FORMATS)
+        if packed and chosen == "text":
+            raise ExactsynError("--packed is for svg and png; the terminal drawing has one gate per column")
+        circuit = read_circuit(circuit_file)
+        emit(render(circuit, chosen, labels=parse_labels(labels), packed=packed, wrap=wrap or None), output)
     except ExactsynError as e:
-        _fail(e.message)
+        fail(e.message)
 
 
-@main.command()
+@click.command()
 @click.argument("store", type=click.Path(dir_okay=False))
 @click.option("-o", "--output", required=True, type=click.Path(dir_okay=False), help="The HTML file to write.")
 @click.option("--batch", "batch_id", metavar="ID", help="Batch id (a prefix will do); default the last one run.")
@@ -160,11 +95,9 @@ def report(store: str, output: str, batch_id: str | None, recheck: bool) -> None
       exactsyn batch --classes 3 --library nct --store nct3.sqlite --verify
       exactsyn report nct3.sqlite -o nct3.html
     """
-    from exactsyn.batch.html_report import build_report
-
     try:
         page = build_report(store, batch_id, recheck)
-        write_picture(page, output)
+        emit(page, output)
     except ExactsynError as e:
-        _fail(e.message)
+        fail(e.message)
     click.echo(f"report written: {output}", err=True)

@@ -65,7 +65,7 @@ Within the decomposition of one gate, an operation directly followed by its inve
 on the same qubits (``h h``, ``x x``, ``cx cx``, ``t tdg``, ``tdg t``) is removed,
 repeatedly (a stack, no commutation rules).  Nothing is cancelled across gates, so
 the counts of a circuit are the sums of the counts of its gates — the per-gate costs
-of :mod:`exactsyn.core.costs` add up to what :func:`to_qasm2` writes.
+of :mod:`exactsyn.core.costs` add up to what :func:`exactsyn.io.qasm.clifford_t_to_qasm2` writes.
 
 Counts
 ------
@@ -81,10 +81,10 @@ and ``tdg``.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 
+from exactsyn.caches import memo
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import GATE_KINDS, Gate
 from exactsyn.errors import ExactsynError
@@ -189,7 +189,7 @@ def _split(controls: tuple[int, ...]) -> tuple[tuple[int, ...], tuple[int, ...]]
     return controls[:k], controls[k:]
 
 
-@lru_cache(maxsize=4096)
+@memo(maxsize=4096)
 def _mcx(controls: tuple[int, ...], target: int, qubits: int) -> tuple[Op, ...]:
     """C^cX with positive ``controls``, borrowing an untouched line of ``range(qubits)``
     when ``c >= 3`` (Barenco et al. 1995; module docstring).  The caller guarantees a
@@ -258,7 +258,7 @@ def _check_gate(gate: Gate, lines: int) -> None:
 
 
 # ---------------------------------------------------------------------------- public API
-@lru_cache(maxsize=8192)
+@memo(maxsize=8192)
 def decompose_gate(gate: Gate, lines: int) -> CliffordT:
     """One gate on ``lines`` lines as Clifford+T (cached)."""
     _check_gate(gate, lines)
@@ -315,39 +315,3 @@ def gate_t_count(gate: Gate, lines: int) -> int:
 def gate_cnot_count(gate: Gate, lines: int) -> int:
     """CNOT count of the gate's decomposition on ``lines`` lines."""
     return decompose_gate(gate, lines).cnot_count
-
-
-def _operand(ct: CliffordT, q: int) -> str:
-    return f"q[{q}]" if q < ct.lines else f"anc[{q - ct.lines}]"
-
-
-def _header(ct: CliffordT) -> list[str]:
-    out = [
-        f"// Clifford+T (h, t, tdg, cx, x) on {ct.lines} lines: T-count {ct.t_count}, "
-        f"CNOT count {ct.cnot_count}, T-depth {ct.t_depth}",
-        "// line l is q[l]; basis state i has bit l = q[l]",
-    ]
-    if ct.ancillas:
-        plural = "s" if ct.ancillas > 1 else ""
-        out.append(f"// anc: {ct.ancillas} clean ancilla qubit{plural}, each starts in |0> and is returned to |0>")
-    return out
-
-
-def _body(ct: CliffordT) -> list[str]:
-    return [f"{name} {','.join(_operand(ct, q) for q in qubits)};" for name, qubits in ct.ops]
-
-
-def to_qasm2(ct: CliffordT) -> str:
-    """OpenQASM 2.0 text over ``qelib1.inc``: register ``q``, plus ``anc`` when ancillas are used."""
-    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_header(ct), f"qreg q[{ct.lines}];"]
-    if ct.ancillas:
-        out.append(f"qreg anc[{ct.ancillas}];")
-    return "\n".join(out + _body(ct)) + "\n"
-
-
-def to_qasm3(ct: CliffordT) -> str:
-    """OpenQASM 3.0 text over ``stdgates.inc``: register ``q``, plus ``anc`` when ancillas are used."""
-    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_header(ct), f"qubit[{ct.lines}] q;"]
-    if ct.ancillas:
-        out.append(f"qubit[{ct.ancillas}] anc;")
-    return "\n".join(out + _body(ct)) + "\n"

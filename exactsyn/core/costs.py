@@ -19,7 +19,7 @@ the sum over its gates (:func:`circuit_cost`).  Built-in models (:data:`COST_MOD
   published; they are not used here.
 * ``t-count`` and ``cnot-count`` — the T/T† and CNOT counts of the Clifford+T
   decomposition of :mod:`exactsyn.core.cliffordt`, so a circuit's cost equals what
-  :func:`exactsyn.core.cliffordt.to_qasm2` writes for it.  They depend on the line count:
+  :func:`exactsyn.io.qasm.clifford_t_to_qasm2` writes for it.  They depend on the line count:
   C^{n-1}X on ``n >= 4`` lines uses one clean ancilla and is cheaper than with a
   borrowed line (C3X: T-count 21 on 4 lines, 28 on 5).  Some gates cost 0 here
   (NOT and CNOT in ``t-count``, NOT in ``cnot-count``), see :meth:`CostModel.min_cost`.
@@ -54,6 +54,7 @@ from types import MappingProxyType
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.cliffordt import gate_cnot_count, gate_t_count
 from exactsyn.core.gates import GATE_KINDS, Gate
+from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
 
 CostRule = Callable[[Gate, int], int]
@@ -222,3 +223,27 @@ def cost_model(name_or_path: str) -> CostModel:
 def circuit_cost(circuit: Circuit, model: CostModel) -> int:
     """The sum of the gates' costs on the circuit's line count."""
     return sum(model.cost(g, circuit.lines) for g in circuit.gates)
+
+
+def library_costs(library: Library, model: CostModel, *, positive: bool = False) -> tuple[int, ...]:
+    """Costs aligned with the library's gates; ``positive`` requires every cost ≥ 1.
+
+    The ``cost`` objective needs positive costs: it bounds the number of gates by
+    ``cost / (least gate cost)``, and with a zero cost circuits of any length could tie.
+    """
+    model.check(library.gates, library.lines)
+    costs = tuple(model.cost(g, library.lines) for g in library.gates)
+    if positive and min(costs) < 1:
+        zero = library.gates[costs.index(min(costs))]
+        raise ExactsynError(
+            f"cost model {model.name} gives {zero.name()} cost 0, so circuits of any length could tie; "
+            "objective 'cost' needs every gate to cost at least 1 (use gates-then-cost, or a cost table)"
+        )
+    return costs
+
+
+def objective_value(circuit: Circuit, library: Library, costs: tuple[int, ...] | None) -> int:
+    """The circuit's cost under ``costs`` (one per library gate), or its depth when ``costs`` is None."""
+    if costs is None:
+        return circuit.depth()
+    return sum(costs[library.index(g)] for g in circuit.gates)

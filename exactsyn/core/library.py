@@ -33,11 +33,11 @@ breaking in the encoder uses it as the "lexicographic" order of gates.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
 from itertools import combinations, permutations, product
 
 import numpy as np
 
+from exactsyn.caches import memo
 from exactsyn.core.gates import Gate, peres_gate, permutation_is_odd, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
 
@@ -121,7 +121,7 @@ class Library:
         return not any(permutation_is_odd(g.permutation(self.lines)) for g in self.gates)
 
 
-@lru_cache(maxsize=32)
+@memo(maxsize=32)
 def gate_table(library: Library) -> np.ndarray:
     """``(len(library), 2**n)`` uint8 matrix, read-only: row ``j`` is gate ``j`` as a permutation."""
     size = 1 << library.lines

@@ -28,6 +28,10 @@ applied through a ``gate`` definition of our own, written only when used:
   (a controlled swap from a controlled NOT between two CNOTs; common practice, e.g.
   the Fredkin gate from a Toffoli gate).
 
+Clifford+T circuits (:mod:`exactsyn.core.cliffordt`) are written by
+:func:`clifford_t_to_qasm2` / :func:`clifford_t_to_qasm3` over ``h``, ``t``, ``tdg``,
+``cx`` and ``x``, with a second register ``anc`` when the decomposition needs an ancilla.
+
 Peres gates (both versions)
 ---------------------------
 Neither include file has the Peres gate (:func:`exactsyn.core.gates.peres_gate`), so a
@@ -60,9 +64,11 @@ test-only dependency for the same reason.
 from __future__ import annotations
 
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 from exactsyn.core.circuit import Circuit
+from exactsyn.core.cliffordt import CliffordT
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
 
@@ -131,7 +137,12 @@ def _peres_header(circuit: Circuit) -> list[str]:
     return [PERES_DEFINITION] if any(g.kind == "peres" for g in circuit.gates) else []
 
 
-def to_qasm2(circuit: Circuit) -> str:
+def _comments(header: Sequence[str]) -> list[str]:
+    """Header lines as ``//`` comments, written right after the version and include lines."""
+    return [f"// {line}" for line in header]
+
+
+def to_qasm2(circuit: Circuit, header: Sequence[str] = ()) -> str:
     """OpenQASM 2.0 text (``qelib1.inc`` gates plus our definitions where needed)."""
     xc: set[int] = set()
     swapc: set[int] = set()
@@ -142,7 +153,7 @@ def to_qasm2(circuit: Circuit) -> str:
         elif g.kind == "swap" and m >= 2:
             swapc.add(m)
             xc.add(m + 1)
-    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_peres_header(circuit)]
+    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_comments(header), *_peres_header(circuit)]
     for m in sorted(xc):
         out += _xc_definition(m)
     for m in sorted(swapc):
@@ -177,11 +188,49 @@ def _qasm3_statement(g: Gate) -> str:
     return f"{head} {', '.join(_q(i) for i in (*g.controls, *g.targets))};"
 
 
-def to_qasm3(circuit: Circuit) -> str:
+def to_qasm3(circuit: Circuit, header: Sequence[str] = ()) -> str:
     """OpenQASM 3.0 text (``stdgates.inc`` gates and ``ctrl`` / ``negctrl`` modifiers)."""
-    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_peres_header(circuit), f"qubit[{circuit.lines}] q;"]
+    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_comments(header), *_peres_header(circuit)]
+    out.append(f"qubit[{circuit.lines}] q;")
     out += [_qasm3_statement(g) for g in circuit.gates]
     return "\n".join(out) + "\n"
+
+
+# ---------------------------------------------------------------------------- writing Clifford+T
+def _ct_operand(ct: CliffordT, q: int) -> str:
+    return f"q[{q}]" if q < ct.lines else f"anc[{q - ct.lines}]"
+
+
+def _ct_header(ct: CliffordT) -> list[str]:
+    out = [
+        f"// Clifford+T (h, t, tdg, cx, x) on {ct.lines} lines: T-count {ct.t_count}, "
+        f"CNOT count {ct.cnot_count}, T-depth {ct.t_depth}",
+        "// line l is q[l]; basis state i has bit l = q[l]",
+    ]
+    if ct.ancillas:
+        plural = "s" if ct.ancillas > 1 else ""
+        out.append(f"// anc: {ct.ancillas} clean ancilla qubit{plural}, each starts in |0> and is returned to |0>")
+    return out
+
+
+def _ct_body(ct: CliffordT) -> list[str]:
+    return [f"{name} {','.join(_ct_operand(ct, q) for q in qubits)};" for name, qubits in ct.ops]
+
+
+def clifford_t_to_qasm2(ct: CliffordT, header: Sequence[str] = ()) -> str:
+    """OpenQASM 2.0 text over ``qelib1.inc``: register ``q``, plus ``anc`` when ancillas are used."""
+    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_comments(header), *_ct_header(ct), f"qreg q[{ct.lines}];"]
+    if ct.ancillas:
+        out.append(f"qreg anc[{ct.ancillas}];")
+    return "\n".join(out + _ct_body(ct)) + "\n"
+
+
+def clifford_t_to_qasm3(ct: CliffordT, header: Sequence[str] = ()) -> str:
+    """OpenQASM 3.0 text over ``stdgates.inc``: register ``q``, plus ``anc`` when ancillas are used."""
+    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_comments(header), *_ct_header(ct), f"qubit[{ct.lines}] q;"]
+    if ct.ancillas:
+        out.append(f"qubit[{ct.ancillas}] anc;")
+    return "\n".join(out + _ct_body(ct)) + "\n"
 
 
 # ---------------------------------------------------------------------------- reading

@@ -1,4 +1,4 @@
-"""Turn a synthesis :class:`~exactsyn.search.loop.Result` into JSON-ready data and text.
+"""Turn a :class:`~exactsyn.api.Synthesis` into JSON-ready data and text (formatting only).
 
 The JSON object keeps the fields that outside scripts rely on: ``lines``,
 ``gate_count``, ``optimal`` (true only when proven), ``lower_bound``, ``library`` and
@@ -10,33 +10,33 @@ whether it is proven optimal *for the objective*, and ``objective`` holds ``name
 ``cost_model``, ``value``, ``optimal``, ``lower_bound`` (in the objective's unit) and
 ``min_gates`` (the proven minimum gate count).  ``costs`` gives the printed circuit's
 cost under every built-in cost model (and a user table when one was given), and
-``clifford_t`` the counts of its Clifford+T decomposition (``--clifford-t``);
+``clifford_t`` the counts of its Clifford+T decomposition (``--clifford-t``; the caller
+decomposes and simulates it, this module only formats);
 ``circuits`` lists every optimal circuit after ``--all``, ``count`` their number.
 """
 
 from __future__ import annotations
 
-from dataclasses import replace
 from typing import TYPE_CHECKING, Any
 
 from exactsyn import __version__
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.costs import COST_MODELS, CostModel, circuit_cost
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import gate_to_dict
+from exactsyn.sat.status import Status
+from exactsyn.search.all_optima import EQUIVALENCE, Enumeration
 from exactsyn.search.distance import FULL
-from exactsyn.search.loop import Result, Step
-from exactsyn.spec.embed import Embedding
+from exactsyn.search.loop import GateResult
+from exactsyn.search.objectives import ObjectiveResult
 
-if TYPE_CHECKING:
-    from exactsyn.core.circuit import Circuit
-    from exactsyn.core.costs import CostModel
-    from exactsyn.search.all_optima import Enumeration
-    from exactsyn.search.objectives import ObjectiveResult
+if TYPE_CHECKING:  # types only (the API module imports the whole pipeline)
+    from exactsyn.api import Synthesis
+    from exactsyn.core.cliffordt import CliffordT
 
 
 def circuit_costs(circuit: Circuit, extra: CostModel | None = None) -> dict[str, int]:
     """The circuit's cost under every built-in model (and ``extra``)."""
-    from exactsyn.core.costs import COST_MODELS, circuit_cost
-
     models = dict(COST_MODELS)
     if extra is not None:
         models[extra.name] = extra
@@ -53,20 +53,15 @@ def objective_summary(obj: ObjectiveResult) -> str:
     )
 
 
-def result_to_dict(
-    res: Result,
-    embedding: Embedding | None = None,
-    objective: ObjectiveResult | None = None,
-    enumeration: Enumeration | None = None,
-    cost: CostModel | None = None,
-) -> dict[str, Any]:
-    c = res.circuit if objective is None else objective.circuit
-    data = {
+def synthesis_to_dict(syn: Synthesis, clifford_t: CliffordT | None = None) -> dict[str, Any]:
+    """The JSON object of ``synth --format json`` (fields in the module docstring)."""
+    res, objective, c = syn.gate_result, syn.objective_result, syn.circuit
+    data: dict[str, Any] = {
         "name": res.spec.name,
         "lines": res.spec.lines,
         "permutation": list(res.spec.outputs) if res.spec.is_permutation else None,
         "gate_count": None if c is None else len(c),
-        "optimal": res.optimal if objective is None else objective.optimal,
+        "optimal": syn.optimal,
         "lower_bound": res.lower_bound,
         "upper_bound": res.upper_bound,
         "library": res.library.name,
@@ -76,21 +71,19 @@ def result_to_dict(
         "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
         "encoding": res.encoding.describe(),
         "solver": res.solver,
-        "steps": [step_to_dict(s) for s in res.steps],
-        "seconds": round(res.seconds, 4),
+        "steps": [q.summary() for q in res.steps],
+        "seconds": round(syn.seconds, 4),
         "version": __version__,
     }
     if c is not None:
-        from exactsyn.core.cliffordt import decompose
-
-        data["costs"] = circuit_costs(c, cost)
-        ct = decompose(c)
+        data["costs"] = circuit_costs(c, syn.cost_model)
+    if clifford_t is not None:
         data["clifford_t"] = {
-            "t_count": ct.t_count,
-            "cnot_count": ct.cnot_count,
-            "t_depth": ct.t_depth,
-            "h_count": ct.h_count,
-            "ancillas": ct.ancillas,
+            "t_count": clifford_t.t_count,
+            "cnot_count": clifford_t.cnot_count,
+            "t_depth": clifford_t.t_depth,
+            "h_count": clifford_t.h_count,
+            "ancillas": clifford_t.ancillas,
         }
     if objective is not None:
         data["objective"] = {
@@ -101,37 +94,26 @@ def result_to_dict(
             "lower_bound": objective.bound,
             "min_gates": None if res.circuit is None else len(res.circuit),
             "queries": [
-                {"kind": q.kind, "k": q.k, "limit": q.limit, "status": q.status, "seconds": round(q.seconds, 4)}
+                {k: v for k, v in q.summary().items() if k in ("kind", "k", "limit", "status", "seconds")}
                 for q in objective.queries
             ],
         }
-    if enumeration is not None:
-        data["count"] = enumeration.count
-        data["count_complete"] = enumeration.complete
-        if enumeration.circuits:
-            data["circuits"] = [[gate_to_dict(g) for g in circ.gates] for circ in enumeration.circuits]
-    if embedding is not None:
-        data["embedding"] = None if c is None else embedding.describe(res.spec, c.permutation())
+    if syn.optima is not None:
+        data["count"] = syn.optima.count
+        data["count_complete"] = syn.optima.complete
+        if syn.optima.circuits:
+            data["circuits"] = [[gate_to_dict(g) for g in circ.gates] for circ in syn.optima.circuits]
+    if syn.embedding is not None:
+        data["embedding"] = None if c is None else syn.embedding.describe(res.spec, c.permutation())
     elif res.spec.has_choices and c is not None:
         choice = res.spec.find_choice(c.permutation())
         data["choices"] = None if choice is None else {"constants": choice[0], "output_lines": list(choice[1])}
+    if syn.notes:
+        data["notes"] = list(syn.notes)
     return data
 
 
-def step_to_dict(s: Step) -> dict[str, Any]:
-    """One k-query as JSON: answer, time, conflicts, CNF size, proof size."""
-    return {
-        "k": s.k,
-        "status": s.status,
-        "seconds": round(s.seconds, 4),
-        "conflicts": s.conflicts,
-        "variables": s.variables,
-        "clauses": s.clauses,
-        "proof_bytes": s.proof_bytes,
-    }
-
-
-def status_line(res: Result) -> str:
+def status_line(res: GateResult) -> str:
     if res.circuit is None:
         return f"no circuit found; proven lower bound {res.lower_bound} gates"
     if res.optimal:
@@ -140,7 +122,7 @@ def status_line(res: Result) -> str:
             tb = res.table_bound
             depth = "full" if tb.depth >= FULL else f"depth {tb.depth}"
             how = f"; distance table ({depth}): at least {tb.value} gates"
-        refuted = [s.k for s in res.steps if s.status == "unsat"]
+        refuted = [s.k for s in res.steps if s.status == Status.UNSAT]
         if refuted:
             span = str(refuted[0]) if len(refuted) == 1 else f"{refuted[0]}..{refuted[-1]}"
             how += f"; SAT refuted k = {span}"
@@ -151,37 +133,51 @@ def status_line(res: Result) -> str:
     )
 
 
-def result_to_text(
-    res: Result,
-    embedding: Embedding | None = None,
-    objective: ObjectiveResult | None = None,
-    cost: CostModel | None = None,
-) -> str:
+def synthesis_to_text(syn: Synthesis) -> str:
+    """The text output of ``synth``: a summary header, costs, embedding, the drawing, the gates."""
+    res, objective, circuit = syn.gate_result, syn.objective_result, syn.circuit
     out = []
-    labels = embedding.labels() if embedding is not None else None
+    labels = syn.embedding.labels() if syn.embedding is not None else None
     if res.spec.name:
         out.append(f"# {res.spec.name}")
     out.append(f"# {status_line(res)}")
     if objective is not None:
         out.append(f"# {objective_summary(objective)}")
-        res = replace(res, circuit=objective.circuit)
-    if res.circuit is not None:
-        costs = ", ".join(f"{k} {v}" for k, v in circuit_costs(res.circuit, cost).items())
+    out += [f"# note: {n}" for n in syn.notes]
+    if circuit is not None:
+        costs = ", ".join(f"{k} {v}" for k, v in circuit_costs(circuit, syn.cost_model).items())
         out.append(f"# costs: {costs}")
-    if embedding is not None and res.circuit is not None:
-        d = embedding.describe(res.spec, res.circuit.permutation())
+    if syn.embedding is not None and circuit is not None:
+        d = syn.embedding.describe(res.spec, circuit.permutation())
         consts = ", ".join(f"line {k} = {v}" for k, v in d["constants"].items()) or "none"
         chosen = " (chosen by the solver)" if d["constants_chosen_by_solver"] else ""
         outs = ", ".join(f"{k} on line {v}" for k, v in d["outputs"].items())
         placed = " (placed by the solver)" if d["outputs_placed_by_solver"] else ""
         out.append(f"# embedding: {res.spec.lines} lines; constants: {consts}{chosen}")
         out.append(f"# outputs: {outs}{placed}; garbage lines: {d['garbage'] or 'none'}")
-    if res.circuit is not None:
-        if len(res.circuit):
-            out.append(draw_text(res.circuit, labels))
-            out.append("gates (application order): " + "  ".join(str(g) for g in res.circuit.gates))
+    if circuit is not None:
+        if len(circuit):
+            out.append(draw_text(circuit, labels))
+            out.append("gates (application order): " + "  ".join(str(g) for g in circuit.gates))
         else:
             out.append("(the empty circuit: the function is the identity)")
+    text = "\n".join(out) + "\n"
+    if syn.optima is not None:
+        text += listing_text(syn.optima)
+    return text
+
+
+def listing_summary(enum: Enumeration) -> str:
+    more = "" if enum.complete else " (stopped early: there may be more)"
+    what = "optimal circuit" if enum.count == 1 else "optimal circuits"
+    return f"{enum.count} {what} of {_gates(enum.k)} up to reordering adjacent commuting gates{more}"
+
+
+def listing_text(enum: Enumeration) -> str:
+    """Every listed optimal circuit, one per line, after a summary comment."""
+    out = [f"# {listing_summary(enum)}; equivalence: {EQUIVALENCE}"]
+    for i, circ in enumerate(enum.circuits, 1):
+        out.append(f"{i}: " + "  ".join(str(g) for g in circ.gates))
     return "\n".join(out) + "\n"
 
 

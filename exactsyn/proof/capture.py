@@ -40,7 +40,6 @@ How capture works, and why it needs care:
 
 from __future__ import annotations
 
-import functools
 import math
 import os
 import re
@@ -48,9 +47,15 @@ import tempfile
 import time
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import Any
 
+import pysat
+from pysat.solvers import Cadical195
+
+from exactsyn.caches import memo
 from exactsyn.errors import ExactsynError
+from exactsyn.proof.lrat import check_lrat
+from exactsyn.sat.status import Status
 
 HOOK_NAME = "cadical195_tracepr"
 """The python-sat C-module function that proof capture relies on."""
@@ -66,7 +71,6 @@ _MIN_BUDGET = 200
 _MAX_BUDGET = 2_000_000
 _CHUNK_SECONDS = 0.25
 
-Status = Literal["sat", "unsat", "unknown"]
 
 
 @dataclass(frozen=True)
@@ -96,12 +100,10 @@ def _pysolvers() -> Any:
 
 
 def _solver_string() -> str:
-    import pysat
-
     return f"{SOLVER_NAME} via python-sat {getattr(pysat, '__version__', '?')}"
 
 
-@functools.cache
+@memo(maxsize=None)
 def tracer_available() -> bool:
     """True when python-sat's tracing hook exists and yields a checkable LRAT proof.
 
@@ -115,14 +117,12 @@ def tracer_available() -> bool:
     needed = (HOOK_NAME, "cadical195_new", "cadical195_set", "cadical195_add_cl", "cadical195_del")
     if not all(hasattr(mod, name) for name in needed):
         return False
-    from exactsyn.proof.lrat import check_lrat
-
     tiny = [[1, 2], [-1, 2], [1, -2], [-1, -2]]
     try:
         run = solve_with_lrat(tiny)
     except Exception:  # any failure of the probe means "not available"
         return False
-    return run.status == "unsat" and check_lrat(2, tiny, run.proof).ok
+    return run.status == Status.UNSAT and check_lrat(2, tiny, run.proof).ok
 
 
 def _normalise(clauses: Sequence[Sequence[int]]) -> tuple[list[list[int]], int]:
@@ -275,8 +275,6 @@ def solve_with_lrat(clauses: Sequence[Sequence[int]], time_limit: float | None =
     if not tracer_hook_present():
         raise ExactsynError(f"python-sat has no {HOOK_NAME}; proof capture is unavailable")
 
-    from pysat.solvers import Cadical195
-
     mod = _pysolvers()
     started = time.perf_counter()
     fd, path = tempfile.mkstemp(prefix="exactsyn-", suffix=".lrat")
@@ -321,10 +319,10 @@ def solve_with_lrat(clauses: Sequence[Sequence[int]], time_limit: float | None =
         )
 
     if result is None:
-        return finish("unknown", None, b"")
+        return finish(Status.UNKNOWN, None, b"")
     if result:
         value = {abs(v): v for v in model}
-        return finish("sat", tuple(value.get(v, -v) for v in range(1, num_vars + 1)), b"")
+        return finish(Status.SAT, tuple(value.get(v, -v) for v in range(1, num_vars + 1)), b"")
 
     _check_solve_phase(raw[offset:], watch.counter)
     mapping = watch.renumbering()
@@ -335,7 +333,7 @@ def solve_with_lrat(clauses: Sequence[Sequence[int]], time_limit: float | None =
         proof += f"{next_id} 0 {empties[0]} 0\n".encode()
     if not _derives_empty(proof):
         raise ExactsynError("proof capture: solver reported UNSAT but its trace derives no empty clause")
-    return finish("unsat", None, proof)
+    return finish(Status.UNSAT, None, proof)
 
 
 def tracer_hook_present() -> bool:

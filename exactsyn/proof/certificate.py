@@ -1,30 +1,35 @@
-"""Certificates (proof logs) of optimality, and their independent re-check.
+"""Certificates (proof logs) of optimality: the format, and writing it.
 
 Format ``exactsyn-certificate``, version 1 — a directory holding
 
 ``result.json``
     ``format``, ``format_version``, ``tool_version``; ``spec`` (``lines``, ``outputs``,
-    ``care``, ``name``); ``library`` (``preset``, ``lines``, ``max_controls``, ``name``
-    and the full ``gates`` list in library order); ``encoding`` (``name``, ``version``,
-    ``symmetry``); ``circuit`` (gates in application order, JSON as in
-    :mod:`exactsyn.io.jsonio`), ``gate_count``, ``optimal``, ``lower_bound``;
+    ``care``, ``name``, and the embedding choices ``open_lines``, ``output_targets``,
+    ``output_candidates``); ``library`` (``preset``, ``lines``, ``max_controls``,
+    ``coupling``, ``name`` and the full ``gates`` list in library order); ``encoding``
+    (``name``, ``version``, ``symmetry``); ``circuit`` (gates in application order, JSON
+    as in :mod:`exactsyn.io.jsonio`), ``gate_count``, ``optimal``, ``lower_bound``;
     ``initial_bound`` (``value``, ``reason``, ``detail`` — a bound that needs no SAT
-    call, re-derived by the checker); ``queries``: one entry per k-query with ``k``,
-    ``status`` (``unsat`` / ``sat`` / ``unknown``), ``proof`` (file name or null),
+    call, re-derived by the checker); ``table_bound`` (``value``, ``exact``, ``depth``,
+    ``extended``, or null); ``queries``: one entry per k-query with ``k``, ``status``
+    (``unsat`` / ``sat`` / ``unknown``), ``proof`` (file name or null), ``cnf_sha256``,
+    ``num_vars``, ``num_clauses``, ``solver``, ``seconds``, ``conflicts``,
+    ``proof_bytes`` and ``symmetry`` (the query's rules when they differ from
+    ``encoding``'s, e.g. a raced query answered without symmetry breaking).
+``objective`` (only with an objective other than the gate count)
+    ``name`` (``gates-then-cost`` / ``cost`` / ``depth``), ``cost_model``, ``costs`` (one
+    integer per library gate, in library order, or null for depth), ``symmetry`` (rules of
+    the cost queries), ``circuit``, ``value``, ``optimal``, ``bound``,
+    ``nonaffine_extra``, and ``queries``: ``kind`` (``cost`` or ``depth``), ``k`` (gates,
+    or layers for depth), ``limit`` (cost limit or null), ``status``, ``proof``,
     ``proof_format`` (``lrat``), ``cnf_sha256``, ``num_vars``, ``num_clauses``,
-    ``solver``, ``seconds``, ``conflicts``, ``proof_bytes``.
-``k<k>.lrat.gz``
-    the gzip-compressed LRAT refutation (text) of the k-query, clause ids ``1..m`` being
+    ``seconds``, ``conflicts``, ``proof_bytes``.
+``k<k>.lrat.gz``, ``cost-k<k>-c<limit>.lrat.gz``, ``depth-k<d>.lrat.gz``
+    the gzip-compressed LRAT refutation (text) of a query, clause ids ``1..m`` being
     the clauses of the re-derived CNF in order (Cruz-Filipe, Heule, Hunt, Kaufmann,
     Schneider-Kamp, "Efficient certified RAT verification", CADE 2017).
 
-The checker trusts nothing in the directory but the claims it checks: it rebuilds the
-spec and the library from their descriptions, **re-derives each CNF from the spec with
-the encoder**, compares its hash with the stored one (a mismatch is reported, since it
-means the spec, library or encoding was changed after the fact), checks each LRAT
-refutation by unit propagation over its hints (:mod:`exactsyn.proof.lrat`), re-derives the
-initial bound, requires a refutation for every k from that bound to ``gate_count − 1``,
-and simulates the circuit against the spec on every input.
+:mod:`exactsyn.proof.check` re-checks a certificate without trusting the solver.
 """
 
 from __future__ import annotations
@@ -32,22 +37,20 @@ from __future__ import annotations
 import gzip
 import json
 import time
-from collections.abc import Callable
-from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from exactsyn import __version__
-from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
-from exactsyn.sat.dimacs import cnf_sha256
-from exactsyn.sat.encode import ENCODING_VERSION, EncodingOptions, encode
-from exactsyn.search.bounds import lower_bound
-from exactsyn.search.distance import FULL
-from exactsyn.search.loop import Result
+from exactsyn.sat.encode import ENCODING_VERSION, EncodingOptions
 from exactsyn.spec.reversible import Spec
+
+if TYPE_CHECKING:  # types only: writing a certificate needs no solver module
+    from exactsyn.sat.query import ProofSink, Query
+    from exactsyn.search.loop import GateResult
+    from exactsyn.search.objectives import ObjectiveResult
 
 FORMAT = "exactsyn-certificate"
 FORMAT_VERSION = 1
@@ -114,53 +117,76 @@ def library_from_dict(d: Any) -> Library:
     return lib
 
 
+def encoding_from_dict(d: Any) -> EncodingOptions:
+    try:
+        if int(d["version"]) != ENCODING_VERSION:
+            raise ExactsynError(f"certificate: encoding version {d['version']} is not this tool's")
+        return EncodingOptions(str(d["name"]), tuple(str(s) for s in d["symmetry"]))
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'encoding'") from None
+
+
 # ------------------------------------------------------------------ writing
-@dataclass(frozen=True)
-class QueryRecord:
-    k: int
-    status: str
-    proof: str | None
-    cnf_sha256: str
-    num_vars: int
-    num_clauses: int
-    solver: str
-    seconds: float
-    conflicts: int | None
-    proof_bytes: int
-    symmetry: list[str] | None  # the CNF's symmetry rules when they differ from "encoding"
+def gate_query_to_dict(q: Query, encoding: EncodingOptions) -> dict[str, Any]:
+    """A gate-count query as ``queries[]`` holds it; ``symmetry`` only when it differs from ``encoding``."""
+    return {
+        "k": q.k,
+        "status": str(q.status),
+        "proof": q.proof,
+        "cnf_sha256": q.cnf_sha256 or "",
+        "num_vars": q.variables,
+        "num_clauses": q.clauses,
+        "solver": q.solver,
+        "seconds": round(q.seconds, 4),
+        "conflicts": q.conflicts,
+        "proof_bytes": q.proof_bytes,
+        "symmetry": None if q.symmetry is None or q.symmetry == encoding.symmetry else list(q.symmetry),
+    }
 
 
-def write_proof(directory: Path, k: int, proof: bytes) -> str:
-    directory.mkdir(parents=True, exist_ok=True)
-    name = f"k{k:02d}.lrat.gz"
-    with gzip.open(directory / name, "wb", compresslevel=6) as fh:
-        fh.write(proof)
-    return name
+def objective_query_to_dict(q: Query) -> dict[str, Any]:
+    """A cost or depth query as ``objective.queries[]`` holds it."""
+    return {
+        "kind": q.objective,
+        "k": q.k,
+        "limit": q.limit,
+        "status": str(q.status),
+        "proof": q.proof,
+        "proof_format": "lrat",
+        "cnf_sha256": q.cnf_sha256,
+        "num_vars": q.variables,
+        "num_clauses": q.clauses,
+        "seconds": round(q.seconds, 4),
+        "conflicts": q.conflicts,
+        "proof_bytes": q.proof_bytes,
+    }
 
 
-def write_result(directory: Path, res: Result, objective: Any = None) -> Path:
-    """Write ``result.json`` for a search run whose proofs went to ``directory``.
+def objective_to_dict(res: ObjectiveResult) -> dict[str, Any]:
+    """The ``objective`` section (format in :mod:`exactsyn.proof.check`, which re-checks it)."""
+    return {
+        "name": res.objective,
+        "cost_model": res.cost_model,
+        "costs": None if res.costs is None else list(res.costs),
+        "symmetry": list(res.symmetry),
+        "circuit": [gate_to_dict(g) for g in res.circuit.gates],
+        "value": res.value,
+        "optimal": res.optimal,
+        "bound": res.bound,
+        "nonaffine_extra": res.nonaffine_extra,
+        "queries": [objective_query_to_dict(q) for q in res.queries],
+    }
 
-    ``objective`` is an :class:`exactsyn.search.objectives.ObjectiveResult` when the run
-    optimised more than the gate count (section documented in :mod:`exactsyn.proof.objective`).
+
+def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | None = None) -> Path:
+    """Write ``result.json`` for a search run whose proofs went to ``directory`` (atomically).
+
+    ``objective`` is given when the run optimised more than the gate count.
     """
-    directory.mkdir(parents=True, exist_ok=True)
-    queries = [
-        QueryRecord(
-            k=s.k,
-            status=s.status,
-            proof=s.proof,
-            cnf_sha256=s.cnf_sha256 or "",
-            num_vars=s.variables,
-            num_clauses=s.clauses,
-            solver=s.solver,
-            seconds=round(s.seconds, 4),
-            conflicts=s.conflicts,
-            proof_bytes=s.proof_bytes,
-            symmetry=None if s.symmetry is None or s.symmetry == res.encoding.symmetry else list(s.symmetry),
-        )
-        for s in res.steps
-    ]
+    try:
+        directory.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise ExactsynError(f"cannot create certificate directory {directory}: {e.strerror}") from None
     circuit = res.circuit
     data = {
         "format": FORMAT,
@@ -180,65 +206,37 @@ def write_result(directory: Path, res: Result, objective: Any = None) -> Path:
             "detail": res.initial_bound.detail,
         },
         "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
-        "queries": [q.__dict__ for q in queries],
+        "queries": [gate_query_to_dict(q, res.encoding) for q in res.steps],
     }
     if objective is not None:
-        from exactsyn.proof.objective import objective_to_dict
-
         data["objective"] = objective_to_dict(objective)
     path = directory / RESULT_FILE
     tmp = path.with_suffix(".json.tmp")
-    tmp.write_text(json.dumps(data, indent=1) + "\n")
-    tmp.replace(path)
+    try:
+        tmp.write_text(json.dumps(data, indent=1) + "\n")
+        tmp.replace(path)
+    except OSError as e:
+        raise ExactsynError(f"cannot write {path}: {e.strerror}") from None
     return path
 
 
-def proof_writer(directory: Path) -> Callable[[int, bytes], str]:
-    """A ``proof_sink`` for :func:`exactsyn.search.loop.synthesise` that stores into ``directory``."""
-    directory.mkdir(parents=True, exist_ok=True)
-    return lambda k, proof: write_proof(directory, k, proof)
-
-
-# ------------------------------------------------------------------ checking
-@dataclass(frozen=True)
-class CheckLine:
-    what: str  # "bound", "k=5", "circuit", ...
-    ok: bool
-    detail: str
-
-
-@dataclass(frozen=True)
-class CheckReport:
-    ok: bool
-    lines: tuple[CheckLine, ...]
-    optimal_claim: bool
-    gate_count: int | None
-    seconds: float
-
-
-def _load(path: Path) -> tuple[Path, dict[str, Any]]:
-    directory = path if path.is_dir() else path.parent
-    file = directory / RESULT_FILE if path.is_dir() else path
+def proof_writer(directory: Path) -> ProofSink:
+    """A proof sink that stores each refutation as ``<stem>.lrat.gz`` in ``directory``."""
     try:
-        data = json.loads(file.read_text())
+        directory.mkdir(parents=True, exist_ok=True)
     except OSError as e:
-        raise ExactsynError(f"cannot read certificate {file}: {e.strerror}") from None
-    except (json.JSONDecodeError, UnicodeDecodeError) as e:
-        raise ExactsynError(f"certificate {file} is not valid JSON: {e}") from None
-    if not isinstance(data, dict) or data.get("format") != FORMAT:
-        raise ExactsynError(f"{file} is not an exactsyn certificate (no format {FORMAT!r})")
-    if data.get("format_version") != FORMAT_VERSION:
-        raise ExactsynError(f"certificate format version {data.get('format_version')!r} is not supported")
-    return directory, data
+        raise ExactsynError(f"cannot create certificate directory {directory}: {e.strerror}") from None
 
+    def sink(stem: str, proof: bytes) -> str:
+        name = f"{stem}.lrat.gz"
+        try:
+            with gzip.open(directory / name, "wb", compresslevel=6) as fh:
+                fh.write(proof)
+        except OSError as e:
+            raise ExactsynError(f"cannot write proof {directory / name}: {e.strerror}") from None
+        return name
 
-def _encoding_from(d: Any) -> EncodingOptions:
-    try:
-        if int(d["version"]) != ENCODING_VERSION:
-            raise ExactsynError(f"certificate: encoding version {d['version']} is not this tool's")
-        return EncodingOptions(str(d["name"]), tuple(str(s) for s in d["symmetry"]))
-    except (KeyError, TypeError, ValueError):
-        raise ExactsynError("certificate: malformed 'encoding'") from None
+    return sink
 
 
 def read_proof(directory: Path, name: str) -> bytes:
@@ -250,139 +248,3 @@ def read_proof(directory: Path, name: str) -> bytes:
             return fh.read()
     except (OSError, EOFError) as e:
         raise ExactsynError(f"cannot read proof {p}: {e}") from None
-
-
-def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
-    """Re-check a certificate; see the module docstring for what is checked."""
-    from exactsyn.proof.lrat import check_lrat
-
-    start = time.perf_counter()
-    directory, data = _load(Path(path))
-    spec = spec_from_dict(data.get("spec"))
-    library = library_from_dict(data.get("library"))
-    options = _encoding_from(data.get("encoding"))
-    out: list[CheckLine] = []
-
-    def note(what: str, ok: bool, detail: str) -> None:
-        line = CheckLine(what, ok, detail)
-        out.append(line)
-        if progress:
-            progress(line)
-
-    # The circuit, simulated on every input.
-    circuit: Circuit | None = None
-    raw = data.get("circuit")
-    if raw is not None:
-        try:
-            circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in raw))
-        except ExactsynError as e:
-            note("circuit", False, e.message)
-        else:
-            if not all(library.contains(g) for g in circuit.gates):
-                note("circuit", False, "uses a gate outside the library")
-            elif not spec.accepts(circuit.permutation()):
-                note("circuit", False, "simulation: the circuit does not meet the spec")
-            elif data.get("gate_count") != len(circuit):
-                note("circuit", False, f"gate_count {data.get('gate_count')} but the circuit has {len(circuit)}")
-            else:
-                note("circuit", True, f"{len(circuit)} gates, meets the spec on all {spec.size} inputs")
-
-    # The bound that needs no SAT call.
-    bound = lower_bound(spec, library)
-    claimed = data.get("initial_bound", {}).get("value")
-    if not isinstance(claimed, int) or claimed > bound.value:
-        note("bound", False, f"initial bound {claimed!r} is not re-derived (got {bound.value}: {bound.detail})")
-        first = None
-    else:
-        note("bound", True, f"k >= {claimed}: {bound.detail}")
-        first = claimed
-
-    # A bound from the distance tables: re-derived by rebuilding the table at the
-    # recorded depth and repeating the meet-in-the-middle test.
-    table_value = 0
-    tb = data.get("table_bound")
-    if tb is not None:
-        try:
-            depth, extended, value, exact = int(tb["depth"]), bool(tb["extended"]), int(tb["value"]), bool(tb["exact"])
-        except (KeyError, TypeError, ValueError):
-            raise ExactsynError("certificate: malformed 'table_bound'") from None
-        if not spec.is_permutation or not library.involutive or spec.lines > 4 or not 0 <= depth <= FULL:
-            note("table", False, "a table bound needs a full permutation on at most 4 lines")
-        else:
-            from exactsyn.search.distance import extended_meet, meet_in_the_middle
-
-            t0 = time.perf_counter()
-            mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
-            dt = time.perf_counter() - t0
-            got = mr.exact if mr.exact is not None else mr.lower
-            if value > got or (exact and mr.exact != value):
-                note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
-            else:
-                table_value = value
-                note("table", True, f"k >= {value}: meet in the middle over the depth-{depth} table ({dt:.2f} s)")
-
-    # Every refuted k.
-    refuted: set[int] = set()
-    queries = data.get("queries") or []
-    for q in queries:
-        if not isinstance(q, dict) or q.get("status") != "unsat":
-            continue
-        k = q.get("k")
-        if not isinstance(k, int) or k < 0:
-            note("query", False, f"bad k {k!r}")
-            continue
-        q_opts = options
-        if q.get("symmetry") is not None:
-            try:
-                q_opts = EncodingOptions(options.name, tuple(str(x) for x in q["symmetry"]))
-            except (TypeError, ExactsynError):
-                note(f"k={k}", False, "malformed per-query symmetry rules")
-                continue
-        enc = encode(spec, library, k, q_opts)
-        digest = cnf_sha256(enc.num_vars, enc.clauses)
-        if digest != q.get("cnf_sha256"):
-            note(f"k={k}", False, "re-derived CNF differs from the one proved (spec, library or encoding changed)")
-            continue
-        if not q.get("proof"):
-            note(f"k={k}", False, "no proof file")
-            continue
-        try:
-            proof = read_proof(directory, str(q["proof"]))
-        except ExactsynError as e:
-            note(f"k={k}", False, e.message)
-            continue
-        t0 = time.perf_counter()
-        rep = check_lrat(enc.num_vars, enc.clauses, proof)
-        dt = time.perf_counter() - t0
-        if rep.ok:
-            refuted.add(k)
-            note(f"k={k}", True, f"LRAT refutation checked: {rep.steps} steps, {len(proof)} bytes, {dt:.2f} s")
-        else:
-            note(f"k={k}", False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
-
-    gate_count = None if circuit is None else len(circuit)
-    optimal_claim = bool(data.get("optimal"))
-    proven_k: int | None = None
-    if optimal_claim:
-        if circuit is None or first is None:
-            note("optimal", False, "optimality claimed without a checked circuit and bound")
-        else:
-            missing = [k for k in range(first, len(circuit)) if k not in refuted and k >= table_value]
-            if missing:
-                note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
-            else:
-                proven_k = len(circuit)
-                note("optimal", True, f"every k in [{first}, {len(circuit) - 1}] refuted: {len(circuit)} is optimal")
-    if data.get("objective") is not None:
-        from exactsyn.proof.objective import check_objective
-
-        check_objective(directory, data["objective"], spec, library, proven_k, note)
-    lb = data.get("lower_bound")
-    if isinstance(lb, int) and first is not None:
-        support = first
-        while support in refuted or support < table_value:
-            support += 1
-        if lb > support:
-            note("lower_bound", False, f"claims lower bound {lb}, checked only {support}")
-    ok = all(line.ok for line in out)
-    return CheckReport(ok, tuple(out), optimal_claim, gate_count, time.perf_counter() - start)

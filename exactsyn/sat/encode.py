@@ -95,11 +95,11 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
-from functools import lru_cache
 
 from pysat.card import CardEnc, EncType
 from pysat.formula import IDPool
 
+from exactsyn.caches import memo
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, invert_permutation
 from exactsyn.core.library import Library
@@ -170,7 +170,7 @@ class Encoding:
         return Circuit(self.library.lines, tuple(gates))
 
 
-@lru_cache(maxsize=64)
+@memo(maxsize=64)
 def commuting_pairs(library: Library) -> frozenset[tuple[int, int]]:
     """Pairs ``(i, j)``, ``i < j``, of library gates that commute as permutations."""
     n = library.lines
@@ -268,7 +268,7 @@ def gate_clauses(b: _Builder, g: Gate, not_sel: Lit, a: Sequence[Lit], nxt: Sequ
         raise ExactsynError(f"the encoder has no clauses for gate kind {g.kind!r}")
 
 
-@lru_cache(maxsize=64)
+@memo(maxsize=64)
 def inverse_pairs(library: Library) -> tuple[tuple[int, int], ...]:
     """Pairs ``(i, j)`` of library gates with ``g_j ∘ g_i`` the identity (``i == j`` for involutions)."""
     perms = [g.permutation(library.lines) for g in library.gates]

@@ -29,12 +29,13 @@ from dataclasses import dataclass
 
 from exactsyn.proof.capture import solve_with_lrat
 from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.status import Status
 
 
 @dataclass(frozen=True)
 class RaceOutcome:
     winner: int | None  # index of the formulation that answered, or None
-    status: str  # "sat" | "unsat" | "unknown"
+    status: Status
     model: tuple[int, ...] | None
     proof: bytes
     seconds: float
@@ -55,11 +56,12 @@ def _racer(
             with Solver(name="kissat404", bootstrap_with=clauses) as s:
                 ok = s.solve()
                 model = tuple(s.get_model() or ()) if ok else None
-            out.put((index, "sat" if ok else "unsat", model, None, time.perf_counter() - t0, 0, "Kissat 4.0.4"))
+            status = Status.SAT if ok else Status.UNSAT
+            out.put((index, status, model, None, time.perf_counter() - t0, 0, "Kissat 4.0.4"))
         elif certify:
             run = solve_with_lrat(clauses, limit)
             path = None
-            if run.status == "unsat":
+            if run.status == Status.UNSAT:
                 fd, path = tempfile.mkstemp(prefix="exactsyn-race-", suffix=".lrat")
                 with os.fdopen(fd, "wb") as fh:
                     fh.write(run.proof)
@@ -97,7 +99,7 @@ def race(
     for p in procs:
         p.start()
     pending = len(procs)
-    result = RaceOutcome(None, "unknown", None, b"", 0.0, 0, solver)
+    result = RaceOutcome(None, Status.UNKNOWN, None, b"", 0.0, 0, solver)
     errors: list[str] = []
     try:
         while pending:
@@ -115,10 +117,10 @@ def race(
                 with open(path, "rb") as fh:
                     proof = fh.read()
                 os.unlink(path)
-            if status == "unsat" and certify and not path:
+            if status == Status.UNSAT and certify and not path:
                 continue  # a refutation without a proof does not count for a certificate
-            if status in ("sat", "unsat"):
-                result = RaceOutcome(index, status, model, proof, time.perf_counter() - start, conflicts, name)
+            if status in (Status.SAT, Status.UNSAT):
+                result = RaceOutcome(index, Status(status), model, proof, time.perf_counter() - start, conflicts, name)
                 break
     finally:
         for p in procs:

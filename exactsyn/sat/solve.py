@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from pysat.solvers import Solver
 
 from exactsyn.errors import ExactsynError
+from exactsyn.sat.status import Status
 
 SOLVERS = {
     "cadical195": "CaDiCaL 1.9.5 (default; writes LRAT proofs)",
@@ -25,7 +26,7 @@ _SLICE0 = 2_000
 
 @dataclass(frozen=True)
 class SolveOutcome:
-    status: str  # "sat" | "unsat" | "unknown"
+    status: Status
     model: tuple[int, ...] | None
     seconds: float
     conflicts: int
@@ -54,5 +55,5 @@ def solve_cnf(clauses: list[list[int]], solver: str = "cadical195", time_limit: 
         stats = s.accum_stats() or {}
         model = tuple(s.get_model() or ()) if res else None
     seconds = time.perf_counter() - start
-    status = "unknown" if res is None else ("sat" if res else "unsat")
+    status = Status.UNKNOWN if res is None else (Status.SAT if res else Status.UNSAT)
     return SolveOutcome(status, model, seconds, int(stats.get("conflicts", 0)))

@@ -21,10 +21,9 @@ neighbours in library order".
 
 from __future__ import annotations
 
-from functools import lru_cache
-
 import numpy as np
 
+from exactsyn.caches import memo
 from exactsyn.core.library import Library, gate_table
 from exactsyn.search.bfs import row_keys
 
@@ -36,7 +35,7 @@ def window_size_ok(library: Library, w: int) -> bool:
     return len(library.gates) ** w <= MAX_SEQUENCES and library.lines <= 8
 
 
-@lru_cache(maxsize=32)
+@memo(maxsize=32)
 def allowed_windows(library: Library, w: int) -> frozenset[tuple[int, ...]]:
     """The ``w``-sequences that are the least optimal circuit of their own function."""
     if w < 1:
@@ -69,7 +68,7 @@ def allowed_windows(library: Library, w: int) -> frozenset[tuple[int, ...]]:
     return allowed
 
 
-@lru_cache(maxsize=32)
+@memo(maxsize=32)
 def forbidden_windows(library: Library, w: int) -> tuple[tuple[int, ...], ...]:
     """Minimal forbidden ``w``-sequences (see the module docstring), sorted."""
     g = len(library.gates)
@@ -92,7 +91,7 @@ def _all(g: int, w: int) -> list[tuple[int, ...]]:
     return [tuple(int(x) for x in np.unravel_index(i, (g,) * w)) for i in range(g**w)]
 
 
-@lru_cache(maxsize=32)
+@memo(maxsize=32)
 def weighted_forbidden_windows(
     library: Library, w: int, costs: tuple[int, ...], order: str
 ) -> tuple[tuple[int, ...], ...]:

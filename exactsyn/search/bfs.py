@@ -22,12 +22,12 @@ whole layer is the fancy-index ``g[layer]``.
 
 from __future__ import annotations
 
-import functools
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
+from exactsyn.caches import memo
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library, gate_table
@@ -194,7 +194,7 @@ class SizeTable:
         return {tuple(r): int(s) for r, s in zip(rows, self.sizes.tolist(), strict=True)}
 
 
-@functools.lru_cache(maxsize=8)
+@memo(maxsize=8)
 def optimal_sizes(library: Library) -> SizeTable:
     """Full BFS table over ``library`` (at most 3 lines).  Cached per library."""
     _check_library(library)

@@ -9,6 +9,8 @@
   and the number of lines whose output differs from the input on some specified row
   (an ``x`` gate changes only its target line, so each such line is the target of at
   least one gate).  Each bound carries the reason that re-derives it.
+* :func:`nonaffine_extra` — a circuit for a non-affine function contains a non-affine
+  gate, which fixes a least extra cost for the cost objective.
 """
 
 from __future__ import annotations
@@ -86,3 +88,32 @@ def completion_obstruction(spec: Spec) -> str | None:
                 f"outputs (stuck at input {r}); leave more outputs free or add a line"
             )
     return None
+
+
+def is_affine(perm: tuple[int, ...]) -> bool:
+    """True when ``perm(x) = A·x ⊕ b`` over GF(2) (NOT, CNOT and SWAP circuits compute exactly these)."""
+    b = perm[0]
+    cols = [perm[1 << i] ^ b for i in range(len(perm).bit_length() - 1)]
+    for x, y in enumerate(perm):
+        acc = b
+        for i, col in enumerate(cols):
+            if x >> i & 1:
+                acc ^= col
+        if acc != y:
+            return False
+    return True
+
+
+def nonaffine_extra(spec: Spec, library: Library, costs: tuple[int, ...]) -> int:
+    """Extra cost every circuit for a non-affine full permutation pays, above ``k·c_min``.
+
+    Affine gates compose to affine functions, so a circuit for a non-affine function has
+    a non-affine gate, costing at least ``c_N``; a circuit of k gates then costs at least
+    ``(k − 1)·c_min + c_N = k·c_min + (c_N − c_min)``.  Returns ``c_N − c_min`` (0 when the
+    spec is not a full non-affine permutation).  Used to end the k range of ``cost`` early.
+    """
+    if not spec.is_permutation or is_affine(spec.permutation):
+        return 0
+    n = library.lines
+    nonaffine = [c for g, c in zip(library.gates, costs, strict=True) if not is_affine(g.permutation(n))]
+    return min(nonaffine) - min(costs) if nonaffine else 0

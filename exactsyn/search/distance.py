@@ -22,10 +22,10 @@ circuits", DAC 2010); the table sizes are checked against their counts in the te
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 
+from exactsyn.caches import memo
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library, gate_table
@@ -89,7 +89,7 @@ def default_depth(library: Library) -> int:
     return distance_table(library, None).depth
 
 
-@lru_cache(maxsize=8)
+@memo(maxsize=8)
 def distance_table(library: Library, depth: int | None) -> DistanceTable:
     """Breadth-first table of every function of distance ≤ ``depth``.
 

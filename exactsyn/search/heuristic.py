@@ -99,7 +99,7 @@ def _check(perm: Sequence[int], lines: int) -> list[int]:
     return [int(v) for v in values]
 
 
-def tbs(perm: Sequence[int], lines: int, bidirectional: bool = True) -> Circuit:
+def transformation_based(perm: Sequence[int], lines: int, bidirectional: bool = True) -> Circuit:
     """An MCT circuit realising ``perm`` (``perm[i]`` = output for input ``i``).
 
     Bookkeeping: we drive ``A∘f∘B`` to the identity, with output-side gates

@@ -11,6 +11,7 @@ proven lower bound and clearly marked as not proven optimal.
 
 from __future__ import annotations
 
+import functools
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -18,13 +19,12 @@ from dataclasses import dataclass
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.capture import solve_with_lrat
-from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding, EncodingOptions, encode
-from exactsyn.sat.race import race
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.query import ProofSink, Query, run_query
+from exactsyn.sat.status import Status
 from exactsyn.search.bounds import Bound, completion_obstruction, lower_bound, parity_obstruction
 from exactsyn.search.distance import extended_meet
+from exactsyn.search.heuristic import transformation_based
 from exactsyn.spec.reversible import Spec
 
 BOUNDS = {
@@ -43,24 +43,9 @@ class NoCircuitError(ExactsynError):
 
 
 @dataclass(frozen=True)
-class Step:
-    """One k-query: its answer, time and size."""
+class GateResult:
+    """The outcome of the gate-count search: the circuit, what is proven, and every query asked."""
 
-    k: int
-    status: str  # "sat" | "unsat" | "unknown"
-    seconds: float
-    conflicts: int
-    variables: int
-    clauses: int
-    solver: str = ""
-    cnf_sha256: str | None = None  # set when certifying
-    proof: str | None = None  # where the sink stored the LRAT refutation
-    proof_bytes: int = 0
-    symmetry: tuple[str, ...] | None = None  # rules of the CNF that answered (certificates)
-
-
-@dataclass(frozen=True)
-class Result:
     spec: Spec
     library: Library
     circuit: Circuit | None
@@ -69,7 +54,7 @@ class Result:
     upper_bound: int | None
     initial_bound: Bound
     table_bound: TableBound | None
-    steps: tuple[Step, ...]
+    steps: tuple[Query, ...]
     encoding: EncodingOptions
     solver: str
     seconds: float
@@ -90,83 +75,14 @@ def heuristic_circuit(spec: Spec, library: Library) -> Circuit | None:
     """A quick circuit from transformation-based synthesis, if it fits the library."""
     if not spec.is_permutation:
         return None
-    from exactsyn.search.heuristic import tbs
-
-    circ = tbs(spec.permutation, spec.lines)
+    circ = transformation_based(spec.permutation, spec.lines)
     if all(library.contains(g) for g in circ.gates) and spec.accepts(circ.permutation()):
         return circ
     return None
 
 
-# With jobs ≥ 2, a query still open after this long on its own is raced against the
-# formulation without symmetry breaking (see exactsyn.sat.race).
-QUICK_SECONDS = 1.0
+#: Without symmetry breaking: the second formulation a hard query is raced against.
 PLAIN = EncodingOptions("onehot", ())
-RACE_SOLVER = "kissat404"  # for the formulation without symmetry breaking (see exactsyn.sat.race)
-
-
-def _query(
-    spec: Spec,
-    library: Library,
-    k: int,
-    enc: Encoding,
-    solver: str,
-    left: float | None,
-    proof_sink: Callable[[int, bytes], str] | None,
-    jobs: int,
-) -> tuple[Step, tuple[int, ...] | None, Encoding]:
-    """Answer one k-query: alone first, then (jobs ≥ 2) as a race of two formulations."""
-    t0 = time.perf_counter()
-    racing = bool(jobs >= 2 and enc.options.symmetry and (left is None or left > QUICK_SECONDS))
-    first_limit = left
-    if racing:
-        first_limit = QUICK_SECONDS if left is None else min(QUICK_SECONDS, left)
-    status, model, conflicts, name, proof = "unknown", None, 0, solver, b""
-    if first_limit is None or first_limit > 0:
-        if proof_sink is None:
-            out = solve_cnf(enc.clauses, solver, first_limit)
-            status, model, conflicts, name = out.status, out.model, out.conflicts, solver
-        else:
-            run = solve_with_lrat(enc.clauses, first_limit)
-            status, model, conflicts, name, proof = run.status, run.model, run.conflicts or 0, run.solver, run.proof
-    if status == "unknown" and racing:
-        plain = encode(spec, library, k, PLAIN)
-        rest = None if left is None else left - (time.perf_counter() - t0)
-        outcome = race(
-            [enc.clauses, plain.clauses],
-            certify=proof_sink is not None,
-            solver=solver,
-            time_limit=rest,
-            solvers=[solver if proof_sink is None else "cadical195", RACE_SOLVER],
-        )
-        status, model, conflicts, name, proof = (
-            outcome.status,
-            outcome.model,
-            outcome.conflicts,
-            outcome.solver,
-            outcome.proof,
-        )
-        if outcome.winner == 1:
-            enc = plain
-    seconds = time.perf_counter() - t0
-    if proof_sink is None:
-        step = Step(k, status, seconds, conflicts, enc.num_vars, len(enc.clauses), name)
-    else:
-        stored = proof_sink(k, proof) if status == "unsat" else None
-        step = Step(
-            k,
-            status,
-            seconds,
-            conflicts,
-            enc.num_vars,
-            len(enc.clauses),
-            name,
-            cnf_sha256(enc.num_vars, enc.clauses),
-            stored,
-            len(proof),
-            enc.options.symmetry,
-        )
-    return step, model, enc
 
 
 def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
@@ -177,7 +93,7 @@ def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
         raise RuntimeError("internal error: decoded circuit uses a gate outside the library")
 
 
-def synthesise(
+def minimise_gates(
     spec: Spec,
     library: Library,
     *,
@@ -188,17 +104,18 @@ def synthesise(
     use_heuristic: bool = True,
     bounds: str = "table",
     jobs: int = 1,
-    progress: Callable[[Step], None] | None = None,
-    proof_sink: Callable[[int, bytes], str] | None = None,
+    progress: Callable[[Query], None] | None = None,
+    proof_sink: ProofSink | None = None,
     cnf_sink: Callable[[Encoding], None] | None = None,
-) -> Result:
+) -> GateResult:
     """Find a minimum-gate circuit; see the module docstring.
 
     With ``proof_sink`` every k-query is solved by CaDiCaL 1.9.5 with LRAT output and
-    each refutation is handed to ``proof_sink(k, proof)``, which stores it and returns
-    its name (see :mod:`exactsyn.proof.certificate`).  ``cnf_sink`` receives every k-query's
-    encoding (for DIMACS export).  Raises :class:`NoCircuitError` when parity rules
-    every circuit out.
+    each refutation is handed to ``proof_sink(stem, proof)``, which stores it and returns
+    its name (see :mod:`exactsyn.proof.certificate`).  With ``jobs >= 2`` a query still
+    open after a second is raced against the formulation without symmetry breaking.
+    ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  Raises
+    :class:`NoCircuitError` when parity rules every circuit out.
     """
     opts = encoding or EncodingOptions()
     start = time.perf_counter()
@@ -207,7 +124,7 @@ def synthesise(
         raise NoCircuitError(reason)
     bound = lower_bound(spec, library)
     upper = heuristic_circuit(spec, library) if use_heuristic else None
-    steps: list[Step] = []
+    steps: list[Query] = []
     table: TableBound | None = None
     if bounds not in BOUNDS:
         raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
@@ -215,10 +132,10 @@ def synthesise(
         bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
     )
 
-    def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> Result:
+    def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
         if circuit is not None:
             verify(circuit, spec, library)
-        return Result(
+        return GateResult(
             spec=spec,
             library=library,
             circuit=circuit,
@@ -259,13 +176,16 @@ def synthesise(
         enc = encode(spec, library, k, opts)
         if cnf_sink:
             cnf_sink(enc)
-        step, model, enc = _query(spec, library, k, enc, solver, left, proof_sink, jobs)
-        steps.append(step)
+        rival = None
+        if jobs >= 2 and enc.options.symmetry:
+            rival = functools.partial(encode, spec, library, k, PLAIN)
+        ans = run_query(enc, solver=solver, time_limit=left, proof_sink=proof_sink, rival=rival)
+        steps.append(ans.query)
         if progress:
-            progress(step)
-        if step.status == "sat":
-            assert model is not None
-            return result(enc.decode(model), True, k, "sat")
-        if step.status == "unknown":
+            progress(ans.query)
+        if ans.query.status == Status.SAT:
+            assert ans.circuit is not None
+            return result(ans.circuit, True, k, "sat")
+        if ans.query.status == Status.UNKNOWN:
             return result(upper, False, k, "heuristic" if upper else "none")
         k += 1

@@ -13,47 +13,20 @@ from __future__ import annotations
 import tomllib
 from pathlib import Path
 
-from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
+from exactsyn.io.files import circuit_from_text, read_text
 from exactsyn.spec.boolean import function_from_mapping, is_function_mapping
 from exactsyn.spec.embed import Embedding, embed
 from exactsyn.spec.reversible import Spec, from_permutation, spec_from_mapping
 
 
-def _read_text(p: Path, what: str) -> str:
-    try:
-        raw = p.read_bytes()
-    except OSError as e:
-        raise ExactsynError(f"cannot read {what} {p}: {e.strerror}") from None
-    try:
-        return raw.decode("utf-8")
-    except UnicodeDecodeError:
-        raise ExactsynError(f"{what} {p} is not UTF-8 text") from None
-
-
-def _circuit_from_text(text: str) -> Circuit:
-    """A saved circuit: JSON when it starts with ``{``, OpenQASM otherwise."""
-    if text.lstrip().startswith("{"):
-        from exactsyn.io.jsonio import load_json_circuit
-
-        return load_json_circuit(text)
-    from exactsyn.io.qasm import read_qasm
-
-    return read_qasm(text)
-
-
-def load_circuit(path: str | Path) -> Circuit:
-    """Read a saved circuit (JSON or OpenQASM 2/3)."""
-    return _circuit_from_text(_read_text(Path(path), "circuit file"))
-
-
 def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
     p = Path(path)
-    text = _read_text(p, "spec file")
+    text = read_text(p, "spec file")
     stripped = text.lstrip()
     is_qasm = p.suffix.lower() in (".qasm", ".qasm2", ".qasm3") or stripped.startswith("OPENQASM")
     if is_qasm or p.suffix.lower() == ".json" or stripped.startswith("{"):
-        circ = _circuit_from_text(text)
+        circ = circuit_from_text(text)
         return from_permutation(list(circ.permutation()), p.stem), None
     try:
         data = tomllib.loads(text)
