@@ -10,9 +10,9 @@ import sys
 from pathlib import Path
 
 import pytest
+from helpers import perm_from_bits
 
 import exactsyn as ex
-from helpers import perm_from_bits
 
 ROOT = Path(__file__).resolve().parent.parent
 
