@@ -3,6 +3,13 @@
 from __future__ import annotations
 
 import random
+from pathlib import Path
+
+#: the repository (instances/ and the README live here); test modules may sit in subfolders
+ROOT = Path(__file__).resolve().parent.parent
+INSTANCES = ROOT / "instances"
+#: small input files of the tests
+DATA = Path(__file__).resolve().parent / "data"
 
 
 def random_perm(rng: random.Random, lines: int) -> list[int]:

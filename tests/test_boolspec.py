@@ -10,16 +10,14 @@ import builtins
 import copy
 import random
 import tomllib
-from pathlib import Path
 from typing import Any
 
 import pytest
+from helpers import INSTANCES
 
 from exactsyn.errors import ExactsynError
 from exactsyn.spec.boolean import BooleanFunction, evaluate_expression, function_from_mapping, is_function_mapping
 from exactsyn.spec.reversible import spec_from_mapping
-
-INSTANCES = Path(__file__).resolve().parent.parent / "instances"
 
 
 def load(name: str) -> BooleanFunction:

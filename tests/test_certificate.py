@@ -9,7 +9,7 @@ import shutil
 from pathlib import Path
 
 import pytest
-from helpers import random_perm
+from helpers import INSTANCES, random_perm
 
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
@@ -183,8 +183,7 @@ def test_certificate_of_an_embedded_function_with_solver_choices(tmp_path: Path)
     from exactsyn.spec.boolean import function_from_mapping
     from exactsyn.spec.embed import embed
 
-    root = Path(__file__).resolve().parent.parent
-    fn = function_from_mapping(tomllib.loads((root / "instances" / "full-adder.toml").read_text()), "fa")
+    fn = function_from_mapping(tomllib.loads((INSTANCES / "full-adder.toml").read_text()), "fa")
     spec, _ = embed(fn)
     d = tmp_path / "fa"
     res = synthesise(spec, make_library("nct", 4), proof_sink=proof_writer(d), bounds="cheap")

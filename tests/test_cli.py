@@ -9,10 +9,9 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from helpers import ROOT
 
 from exactsyn.cli.main import main
-
-ROOT = Path(__file__).resolve().parent.parent
 
 
 def run(*args: str) -> subprocess.CompletedProcess[str]:

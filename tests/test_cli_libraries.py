@@ -7,6 +7,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from helpers import ROOT
 
 from exactsyn.cli.main import main
 from exactsyn.core.circuit import Circuit
@@ -119,7 +120,7 @@ def test_every_runnable_example_in_synth_help_runs(monkeypatch: pytest.MonkeyPat
     examples = [ln.strip().split("#")[0] for ln in out.splitlines() if ln.strip().startswith("exactsyn synth")]
     runnable = [e for e in examples if "..." not in e and " -o " not in e and "--certificate" not in e]
     assert len(runnable) >= 8
-    monkeypatch.chdir(Path(__file__).resolve().parent.parent)  # examples name files under instances/
+    monkeypatch.chdir(ROOT)  # examples name files under instances/
     for example in runnable:
         code, _, err = run(*shlex.split(example)[1:], "-q")
         assert code == 0, (example, err)

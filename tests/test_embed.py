@@ -12,6 +12,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from helpers import DATA, INSTANCES, ROOT
 
 from exactsyn.core.library import make_library
 from exactsyn.io.qasm import read_qasm
@@ -21,9 +22,6 @@ from exactsyn.spec.boolean import function_from_mapping
 from exactsyn.spec.embed import embed, multiplicity
 from exactsyn.spec.files import load_any
 from exactsyn.spec.reversible import Spec
-
-ROOT = Path(__file__).resolve().parent.parent
-DATA = Path(__file__).parent / "data"
 
 
 def solve(mapping: dict, library: str = "nct"):  # type: ignore[no-untyped-def,type-arg]
@@ -50,7 +48,7 @@ def outputs_of(fn, spec: Spec, emb, circuit):  # type: ignore[no-untyped-def]
 def test_full_adder_embeds_in_four_lines_and_needs_four_gates() -> None:
     # Full adder: 4 NCT gates (two Toffoli, two CNOT) on 4 lines, common practice; an
     # output pattern occurs 3 times, so 2 garbage outputs (Maslov & Dueck 2004).
-    data = tomllib.loads((ROOT / "instances" / "full-adder.toml").read_text())
+    data = tomllib.loads((INSTANCES / "full-adder.toml").read_text())
     fn, spec, emb, res = solve(data)
     assert multiplicity(fn) == 3 and emb.min_garbage == 2 and spec.lines == 4
     assert len(res.circuit) == 4
@@ -64,7 +62,7 @@ def test_full_adder_embeds_in_four_lines_and_needs_four_gates() -> None:
 
 
 def test_output_placement_by_the_solver_helps_the_full_adder() -> None:
-    data = tomllib.loads((ROOT / "instances" / "full-adder.toml").read_text())
+    data = tomllib.loads((INSTANCES / "full-adder.toml").read_text())
     fixed = dict(data, output_lines=[0, 1])
     assert len(solve(fixed)[3].circuit) == 5  # measured: the fixed placement costs one more gate
 
