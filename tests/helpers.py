@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import io
 import random
 from pathlib import Path
+from typing import Any
 
 #: the repository (instances/ and the README live here); test modules may sit in subfolders
 ROOT = Path(__file__).resolve().parent.parent
@@ -92,3 +94,10 @@ def permutation_matrix(c):  # type: ignore[no-untyped-def]
     for i, o in enumerate(p):
         m[o, i] = 1.0
     return m
+
+
+def png_grey(data: bytes) -> Any:
+    """Decode a PNG with Pillow (a test dependency), as grey levels."""
+    from PIL import Image
+
+    return Image.open(io.BytesIO(data)).convert("L")
