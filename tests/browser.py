@@ -21,8 +21,8 @@ import time
 from pathlib import Path
 from typing import Any
 
-import pytest
 from helpers import png_grey
+from optional import missing
 
 CHROMIUM = shutil.which("chromium") or ("/usr/bin/chromium" if Path("/usr/bin/chromium").exists() else None)
 
@@ -184,12 +184,9 @@ class Browser:
 
 
 def needs_chromium() -> None:
-    """Skip the calling test when Chromium is missing (fail under CI)."""
+    """Skip the calling test when Chromium is missing; fail under CI (tests/optional.py)."""
     if CHROMIUM is None:
-        reason = "headless Chromium not found (Debian: apt-get install chromium)"
-        if os.environ.get("CI"):
-            pytest.fail(reason + "; CI must install it (.ci/run)")
-        pytest.skip(reason)
+        missing("headless Chromium not found (Debian: apt-get install chromium; .ci/run installs it)")
 
 
 def non_blank(png: bytes, background: int) -> float:

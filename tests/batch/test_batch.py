@@ -21,6 +21,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from optional import need
 
 from exactsyn.batch.lookup import member_result
 from exactsyn.batch.plan import choose_classes, plan_generated
@@ -186,7 +187,7 @@ def test_class_batch_expands_to_the_plain_batch_and_certificates_check(tmp_path:
 
 
 def test_dask_local_cluster_gives_the_same_table_as_the_process_pool(tmp_path: Path) -> None:
-    pytest.importorskip("distributed", reason="dask.distributed is not installed (pip install 'exactsyn[cluster]')")
+    need("distributed", "dask.distributed: pip install 'exactsyn[cluster]'")
     plan = plan_generated("random", 3, LibraryChoice("nct"), EncodingOptions(), count=16, seed=2)
     tables = []
     for name, engine in (("pool", LocalPool(2)), ("dask", DaskEngine(None, 2))):

@@ -8,6 +8,7 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 from helpers import ROOT
+from optional import need_qiskit
 
 from exactsyn.cli.main import main
 from exactsyn.core.circuit import Circuit
@@ -84,7 +85,7 @@ def test_cost_table_file(tmp_path: Path) -> None:
 
 @pytest.mark.parametrize("fmt", ["qasm2", "qasm3"])
 def test_clifford_t_output_is_read_by_qiskit(fmt: str) -> None:
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     code, out, err = run("synth", "--perm", "1,0,3,2,5,7,4,6", "--format", fmt, "--clifford-t", "-q")
@@ -127,7 +128,7 @@ def test_every_runnable_example_in_synth_help_runs(monkeypatch: pytest.MonkeyPat
 
 
 def test_json_reports_the_clifford_t_counts_of_the_emitted_decomposition() -> None:
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     data = synth_json("--perm", "1,0,3,2,5,7,4,6")
     code, out, _ = run("synth", "--perm", "1,0,3,2,5,7,4,6", "--format", "qasm2", "--clifford-t", "-q")
     ops = qiskit.qasm2.loads(out).count_ops()

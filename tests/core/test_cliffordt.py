@@ -15,6 +15,7 @@ from functools import cache
 
 import numpy as np
 import pytest
+from optional import need
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.cliffordt import (
@@ -222,11 +223,14 @@ def test_ancilla_only_when_no_line_is_free() -> None:
 
 # ---------------------------------------------------------------------------- qiskit as reader
 def _qiskit():  # type: ignore[no-untyped-def]
-    """qiskit's OpenQASM 2 / 3 readers and Operator (test-only); the test is skipped without them."""
-    qasm2 = pytest.importorskip("qiskit.qasm2", reason="qiskit is the test-only reference reader")
-    qasm3 = pytest.importorskip("qiskit.qasm3")
-    pytest.importorskip("qiskit_qasm3_import", reason="qiskit.qasm3.loads needs qiskit-qasm3-import")
-    quantum_info = pytest.importorskip("qiskit.quantum_info")
+    """qiskit's OpenQASM 2 / 3 readers and Operator (test-only).
+
+    The test is skipped without them, and fails under CI (tests/optional.py).
+    """
+    qasm2 = need("qiskit.qasm2", "qiskit is the test-only reference reader: pip install qiskit")
+    qasm3 = need("qiskit.qasm3", "pip install qiskit")
+    need("qiskit_qasm3_import", "qiskit.qasm3.loads needs it: pip install qiskit-qasm3-import")
+    quantum_info = need("qiskit.quantum_info", "pip install qiskit")
     return qasm2, qasm3, quantum_info.Operator
 
 

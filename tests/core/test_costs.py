@@ -7,6 +7,7 @@ import random
 from pathlib import Path
 
 import pytest
+from optional import need
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.cliffordt import decompose, to_qasm2
@@ -75,7 +76,7 @@ def _random_circuit(rng: random.Random, n: int) -> Circuit:
 
 
 def test_clifford_t_costs_equal_what_qiskit_reads() -> None:
-    qasm2 = pytest.importorskip("qiskit.qasm2", reason="qiskit is the test-only reference reader")
+    qasm2 = need("qiskit.qasm2", "qiskit is the test-only reference reader: pip install qiskit")
     rng = random.Random(11)
     for n in (3, 4, 5):
         for _ in range(8):

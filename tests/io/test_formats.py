@@ -2,8 +2,8 @@
 
 External references: qiskit reads our OpenQASM 2.0 and gives the unitary; the
 ``openqasm3`` reference parser reads our OpenQASM 3.0 (skipped where it is not
-installed); the operand order of control modifiers is taken from the example in the
-OpenQASM 3 specification.
+installed, required under CI: tests/optional.py); the operand order of control
+modifiers is taken from the example in the OpenQASM 3 specification.
 """
 
 from __future__ import annotations
@@ -14,6 +14,7 @@ import random
 import numpy as np
 import pytest
 from helpers import permutation_matrix
+from optional import need_openqasm3_parser, need_qiskit
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, swap_gate, x_gate
@@ -115,7 +116,7 @@ def test_json_errors(text: str, fragment: str) -> None:
 
 # ---------------------------------------------------------------------------- OpenQASM
 def test_qasm2_matches_qiskit_unitary() -> None:
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     for c in CIRCUITS:
@@ -129,7 +130,7 @@ def test_qasm2_matches_qiskit_unitary() -> None:
 
 @pytest.mark.parametrize("m", [3, 4, 5, 6])
 def test_qasm2_multi_control_definitions_are_exact(m: int) -> None:
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     c = Circuit(m + 1, (x_gate(m, list(range(m))),))
@@ -195,12 +196,7 @@ def _interpret_openqasm3_ast(program: object) -> Circuit:
 
 
 def test_qasm3_accepted_by_reference_parser() -> None:
-    try:
-        import openqasm3
-
-        openqasm3.parse("OPENQASM 3.0;\nqubit[1] q;\nx q[0];\n")
-    except ImportError as e:
-        pytest.skip(f"openqasm3[parser] not installed (pip install 'openqasm3[parser]'): {e}")
+    openqasm3 = need_openqasm3_parser()
     for c in CIRCUITS:
         # openqasm3 reference parser (ANTLR grammar of the specification) as reference reader
         program = openqasm3.parse(to_qasm3(c))
@@ -324,7 +320,7 @@ def test_drawing_layout_and_labels() -> None:
 
 
 def test_reads_what_qiskit_writes() -> None:
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     # qiskit as reference writer: its exporters for OpenQASM 2 and 3 on our gate set

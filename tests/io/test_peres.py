@@ -24,6 +24,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 from helpers import permutation_matrix
+from optional import need_openqasm3_parser, need_qiskit
 from svg_readback import MARKS, SVG_NS, by_class, centre, read_back
 
 import exactsyn.cli.pictures  # noqa: F401  (registers the draw command)
@@ -103,7 +104,7 @@ def test_the_peres_map_is_the_published_one() -> None:
         a, b, c = state & 1, state >> 1 & 1, state >> 2 & 1
         expected.append(a | (a ^ b) << 1 | (c ^ (a & b)) << 2)
     assert Circuit(3, (peres_gate(0, 1, 2),)).permutation() == tuple(expected)
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     for a, b, c in ((0, 1, 2), (2, 0, 3), (3, 2, 1), (1, 3, 0)):
@@ -188,7 +189,7 @@ def test_qasm_round_trip_through_our_reader() -> None:
 
 @pytest.mark.filterwarnings(QISKIT_INTERNAL)
 def test_qiskit_reads_our_qasm2_and_qasm3_as_the_same_operator() -> None:
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     for c in CIRCUITS:
@@ -202,12 +203,7 @@ def test_qiskit_reads_our_qasm2_and_qasm3_as_the_same_operator() -> None:
 
 
 def test_qasm3_is_accepted_by_the_reference_parser() -> None:
-    try:
-        import openqasm3
-
-        openqasm3.parse("OPENQASM 3.0;\nqubit[1] q;\nx q[0];\n")
-    except ImportError as e:
-        pytest.skip(f"openqasm3[parser] not installed: {e}")
+    openqasm3 = need_openqasm3_parser()
     from openqasm3 import ast
 
     for c in CIRCUITS[:20]:
@@ -221,7 +217,7 @@ def test_qasm3_is_accepted_by_the_reference_parser() -> None:
 
 @pytest.mark.filterwarnings(QISKIT_INTERNAL)
 def test_negative_controls_are_exported_as_negative_controls() -> None:
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     c = Circuit(4, (x_gate(2, [0], [1]), swap_gate(0, 3, [2], [1]), peres_gate(1, 2, 3)))

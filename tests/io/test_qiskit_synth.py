@@ -5,15 +5,15 @@ from __future__ import annotations
 import random
 
 import numpy as np
-import pytest
 from helpers import random_perm
+from optional import need_qiskit
 
 from exactsyn.core.library import make_library
 from exactsyn.io.qasm import to_qasm2
 from exactsyn.search.loop import synthesise
 from exactsyn.spec.reversible import from_permutation
 
-qiskit = pytest.importorskip("qiskit", reason="qiskit is the test-only reference reader (pip install qiskit)")
+qiskit = need_qiskit()  # the test-only reference reader
 from qiskit import QuantumCircuit  # noqa: E402
 from qiskit.quantum_info import Operator  # noqa: E402
 

@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from helpers import DATA, INSTANCES, ROOT
+from optional import need, need_qiskit
 
 from exactsyn.core.library import make_library
 from exactsyn.io.qasm import read_qasm
@@ -133,13 +134,11 @@ def test_circuit_files_are_resynthesised_to_the_same_function(name: str) -> None
     text = (DATA / name).read_text()
     ours = read_qasm(text)
     # qiskit as the reference reader (OpenQASM 2: qiskit.qasm2; 3: qiskit.qasm3).
-    qiskit = pytest.importorskip("qiskit")
+    qiskit = need_qiskit()
     from qiskit.quantum_info import Operator
 
     if "OPENQASM 3" in text:
-        pytest.importorskip(
-            "qiskit_qasm3_import", reason="qiskit's OpenQASM 3 reader (pip install qiskit-qasm3-import)"
-        )
+        need("qiskit_qasm3_import", "qiskit's OpenQASM 3 reader: pip install qiskit-qasm3-import")
         qc = qiskit.qasm3.loads(text)
     else:
         qc = qiskit.QuantumCircuit.from_qasm_str(text)
