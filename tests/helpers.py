@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import heapq
 import io
+import itertools
 import random
 from pathlib import Path
 from typing import Any
@@ -101,3 +103,41 @@ def png_grey(data: bytes) -> Any:
     from PIL import Image
 
     return Image.open(io.BytesIO(data)).convert("L")
+
+
+def dijkstra(library, costs: tuple[int, ...]) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Least total cost of every function reachable with the library's gates (Dijkstra, no SAT).
+
+    ``costs[j]`` is the cost of ``library.gates[j]``.
+    """
+    perms = [g.permutation(library.lines) for g in library.gates]
+    start = tuple(range(1 << library.lines))
+    dist = {start: 0}
+    heap = [(0, start)]
+    while heap:
+        c, f = heapq.heappop(heap)
+        if dist[f] < c:
+            continue
+        for j, p in enumerate(perms):
+            h = tuple(p[x] for x in f)
+            if c + costs[j] < dist.get(h, 1 << 30):
+                dist[h] = c + costs[j]
+                heapq.heappush(heap, (c + costs[j], h))
+    return dist
+
+
+def layer_depths(library) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Least depth of every reachable function: breadth-first search whose steps are whole
+    layers (every set of the library's gates on pairwise disjoint lines), no SAT."""
+    import numpy as np
+
+    size = 1 << library.lines
+    layers = set()
+    for r in range(1, library.lines + 1):
+        for combo in itertools.combinations(library.gates, r):
+            if all(not (a.lines & b.lines) for a, b in itertools.combinations(combo, 2)):
+                f = np.arange(size)
+                for g in combo:
+                    f = g.apply(f)
+                layers.add(tuple(int(x) for x in f))
+    return naive_bfs(sorted(layers), size)

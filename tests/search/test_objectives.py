@@ -9,15 +9,12 @@
 
 from __future__ import annotations
 
-import heapq
-import itertools
 import random
 from functools import lru_cache
 from pathlib import Path
 
-import numpy as np
 import pytest
-from helpers import naive_bfs, optimal_words
+from helpers import dijkstra, layer_depths, optimal_words
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import cost_model
@@ -38,34 +35,12 @@ NCV = cost_model("ncv")
 
 @lru_cache(maxsize=4)
 def _dijkstra(library: Library, costs: tuple[int, ...]) -> dict[Perm, int]:
-    perms = [g.permutation(library.lines) for g in library.gates]
-    start = tuple(range(1 << library.lines))
-    dist = {start: 0}
-    heap = [(0, start)]
-    while heap:
-        c, f = heapq.heappop(heap)
-        if dist[f] < c:
-            continue
-        for j, p in enumerate(perms):
-            h = tuple(p[x] for x in f)
-            if c + costs[j] < dist.get(h, 1 << 30):
-                dist[h] = c + costs[j]
-                heapq.heappush(heap, (c + costs[j], h))
-    return dist
+    return dijkstra(library, costs)
 
 
 @lru_cache(maxsize=4)
 def _layer_depths(library: Library) -> dict[Perm, int]:
-    size = 1 << library.lines
-    layers = set()
-    for r in range(1, library.lines + 1):
-        for combo in itertools.combinations(library.gates, r):
-            if all(not (a.lines & b.lines) for a, b in itertools.combinations(combo, 2)):
-                f = np.arange(size)
-                for g in combo:
-                    f = g.apply(f)
-                layers.add(tuple(int(x) for x in f))
-    return naive_bfs(sorted(layers), size)
+    return layer_depths(library)
 
 
 def _gate_result(perm: Perm, lib: Library = NCT3):  # type: ignore[no-untyped-def]
