@@ -141,3 +141,24 @@ def layer_depths(library) -> dict[tuple[int, ...], int]:  # type: ignore[no-unty
                     f = g.apply(f)
                 layers.add(tuple(int(x) for x in f))
     return naive_bfs(sorted(layers), size)
+
+
+def trace_normal_form(word, library) -> tuple[int, ...]:  # type: ignore[no-untyped-def]
+    """Representative of a gate sequence (library indices) up to swapping adjacent commuting gates.
+
+    The greedy lexicographic normal form of traces (Anisimov & Knuth 1979; Diekert &
+    Rozenberg, "The Book of Traces", 1995): repeatedly take the least gate that commutes
+    with every gate before it.  Commutation is decided on the gates' permutations.
+    """
+    perms = [g.permutation(library.lines) for g in library.gates]
+
+    def commute(a: int, b: int) -> bool:
+        pa, pb = perms[a], perms[b]
+        return all(pa[pb[s]] == pb[pa[s]] for s in range(len(pa)))
+
+    rest, out = list(word), []
+    while rest:
+        movable = [i for i, g in enumerate(rest) if all(commute(g, h) for h in rest[:i])]
+        best = min(movable, key=lambda i: rest[i])
+        out.append(rest.pop(best))
+    return tuple(out)

@@ -12,6 +12,8 @@ from click.testing import CliRunner
 from helpers import ROOT
 
 from exactsyn.cli.main import main
+from exactsyn.core.library import make_library
+from exactsyn.search.bfs import optimal_sizes
 
 
 def run(*args: str) -> subprocess.CompletedProcess[str]:
@@ -68,7 +70,14 @@ def test_spec_file_instance() -> None:
     r = run("synth", "instances/lift-gray-step.toml", "--format", "json", "-q")
     assert r.returncode == 0, r.stderr
     data = json.loads(r.stdout)
-    assert data["optimal"] is True and data["name"]
+    # the file's definition: Gray code g(f) = f ^ (f >> 1) of floor f moves to g(f + 1 mod 8)
+    gray = [f ^ (f >> 1) for f in range(8)]
+    step = [0] * 8
+    for f in range(8):
+        step[gray[f]] = gray[(f + 1) % 8]
+    assert data["name"] == "lift-gray-step" and data["permutation"] == step
+    # breadth-first search (no SAT) gives the optimum
+    assert data["optimal"] is True and data["gate_count"] == optimal_sizes(make_library("nct", 3)).size(step)
 
 
 BAD_INPUTS = [

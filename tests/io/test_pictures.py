@@ -237,8 +237,14 @@ def test_synth_result_json_draws_and_render_gives_text_or_bytes(tmp_path: Path) 
     drawn = runner.invoke(main, ["draw", str(out), "--format", "svg"])
     root = ET.fromstring(drawn.output)
     assert (len(by_class(root, "ctrl-pos")), len(by_class(root, "target"))) == (2, 1)  # one Toffoli gate
-    assert isinstance(render(MIXED, "svg"), str) and isinstance(render(MIXED, "text"), str)
-    assert isinstance(render(MIXED, "png"), bytes)
+    svg, text, png = render(MIXED, "svg"), render(MIXED, "text"), render(MIXED, "png")
+    assert isinstance(svg, str) and read_back(svg).gates == MIXED.gates  # read back from geometry alone
+    body = "".join(row.split(" ", 1)[1] for row in text.splitlines() if row.startswith("q"))
+    assert [body.count(s) for s in "●○⊕×"] == list(expected_counts(MIXED).values())
+    assert isinstance(png, bytes)
+    root = ET.fromstring(svg)
+    w, h = float(root.get("width", "0")), float(root.get("height", "0"))
+    assert png_grey(png).size == (round(2 * w), round(2 * h))  # decoded by Pillow: the SVG at PNG scale 2
     with pytest.raises(ExactsynError, match="unknown picture format"):
         render(MIXED, "gif")
 

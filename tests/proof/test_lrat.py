@@ -110,9 +110,16 @@ def hints_entail(hint_clauses: list[tuple[int, ...]], clause: tuple[int, ...]) -
     return minisat([list(c) for c in hint_clauses] + [[-lit] for lit in clause]) is None
 
 
+def _timed(clauses: list[list[int]]) -> tuple[ProofRun, float]:
+    """The run and the wall-clock time around it, measured here."""
+    started = time.perf_counter()
+    run = solve_with_lrat(clauses)
+    return run, time.perf_counter() - started
+
+
 @pytest.fixture(scope="module")
-def php_runs() -> dict[int, tuple[list[list[int]], ProofRun]]:
-    return {n: (php(n), solve_with_lrat(php(n))) for n in (2, 3, 4, 5, 6, 7)}
+def php_runs() -> dict[int, tuple[list[list[int]], ProofRun, float]]:
+    return {n: (php(n), *_timed(php(n))) for n in (2, 3, 4, 5, 6, 7)}
 
 
 # ------------------------------------------------ capture + check end to end
@@ -120,12 +127,15 @@ def php_runs() -> dict[int, tuple[list[list[int]], ProofRun]]:
 
 @pytest.mark.parametrize("n", [2, 3, 4, 5, 6, 7])
 def test_pigeonhole_refutations_check(php_runs, n):
-    clauses, run = php_runs[n]
+    clauses, run, wall = php_runs[n]
     assert run.status == "unsat"  # PHP(n) is UNSAT (Haken 1985; common practice)
     assert run.model is None
     assert run.num_clauses == len(clauses) and run.num_vars == n * (n + 1)
     assert run.solver.startswith("CaDiCaL 1.9.5")
-    assert isinstance(run.conflicts, int) and run.seconds >= 0
+    # a CDCL solver concludes UNSAT only from a conflict (common practice), so at least one
+    assert isinstance(run.conflicts, int) and run.conflicts >= 1
+    # the run's own time lies within the wall-clock time measured around the call
+    assert 0 < run.seconds <= wall
     report = check_lrat(run.num_vars, clauses, run.proof)
     assert report.ok, report.reason
     assert report.failed_step is None
@@ -136,7 +146,7 @@ def test_pigeonhole_refutations_check(php_runs, n):
 def test_every_step_is_entailed_by_its_hints_per_another_solver(php_runs, n):
     # Soundness cross-check that does not trust our checker: each derived
     # clause must follow from the clauses its hints name (decided by MiniSat).
-    clauses, run = php_runs[n]
+    clauses, run, _ = php_runs[n]
     lines = parse(run.proof)
     content = contents(clauses, lines)
     adds = [ln for ln in lines if isinstance(ln, Add)]

@@ -13,7 +13,7 @@ import random
 from collections.abc import Sequence
 
 import pytest
-from helpers import optimal_words
+from helpers import optimal_words, trace_normal_form
 
 from exactsyn.core.library import Library, make_library
 from exactsyn.sat.encode import CostLimit
@@ -22,19 +22,8 @@ from exactsyn.search.bfs import optimal_sizes
 from exactsyn.spec.reversible import from_permutation
 
 
-def _commute(library: Library, a: int, b: int) -> bool:
-    pa = library.gates[a].permutation(library.lines)
-    pb = library.gates[b].permutation(library.lines)
-    return all(pa[pb[s]] == pb[pa[s]] for s in range(1 << library.lines))
-
-
 def _normal_form(word: Sequence[int], library: Library) -> tuple[int, ...]:
-    rest, out = list(word), []
-    while rest:
-        movable = [i for i, g in enumerate(rest) if all(_commute(library, g, h) for h in rest[:i])]
-        best = min(movable, key=lambda i: rest[i])
-        out.append(rest.pop(best))
-    return tuple(out)
+    return trace_normal_form(word, library)
 
 
 @pytest.mark.parametrize("name", ["nct", "nct-peres", "mixed"])
@@ -58,13 +47,19 @@ def test_all_optimal_count_matches_breadth_first_enumeration(name: str) -> None:
 def test_count_only_and_limit() -> None:
     lib = make_library("nct", 3)
     sizes = optimal_sizes(lib).as_dict()
-    perm = next(p for p, k in sorted(sizes.items()) if k == 4)
+    # the first 4-gate function with more than one class of optimal circuits (reference above)
+    perm, classes = next(
+        (p, c)
+        for p, k in sorted(sizes.items())
+        if k == 4 and len(c := {_normal_form(w, lib) for w in optimal_words(p, lib, sizes)}) > 1
+    )
     full = enumerate_optimal(from_permutation(perm), lib, 4)
     counted = enumerate_optimal(from_permutation(perm), lib, 4, keep=False)
-    assert counted.count == full.count and counted.circuits == ()
-    if full.count > 1:
-        part = enumerate_optimal(from_permutation(perm), lib, 4, limit=1)
-        assert part.count == 1 and not part.complete
+    assert full.complete and counted.complete
+    assert counted.count == full.count == len(classes) and counted.circuits == ()
+    part = enumerate_optimal(from_permutation(perm), lib, 4, limit=1)
+    assert part.count == 1 and not part.complete and len(part.circuits) == 1
+    assert part.circuits[0].permutation() == perm
 
 
 def test_cheapest_minimum_gate_circuits_under_a_cost_limit() -> None:

@@ -11,6 +11,7 @@ from helpers import hwb, perm_from_bits, random_perm
 from exactsyn.core.library import make_library
 from exactsyn.sat.encode import EncodingOptions, encode, options_for
 from exactsyn.search.bfs import optimal_sizes
+from exactsyn.search.distance import meet_in_the_middle
 from exactsyn.search.loop import NoCircuitError, synthesise
 from exactsyn.spec.reversible import from_permutation
 
@@ -124,8 +125,11 @@ def test_odd_permutation_with_nct_on_four_lines_is_refused_at_once() -> None:
     with pytest.raises(NoCircuitError, match="odd"):
         synthesise(from_permutation(odd), make_library("nct", 4))
     # ... while mct (which has 3-control gates, odd on 4 lines) finds one at once.
-    res = synthesise(from_permutation(odd), make_library("mct", 4))
-    assert res.circuit is not None and res.optimal
+    mct4 = make_library("mct", 4)
+    res = synthesise(from_permutation(odd), mct4)
+    assert res.circuit is not None and res.optimal and list(res.circuit.permutation()) == odd
+    # independent method: meet in the middle over the depth-3 table (exact up to 6 gates, no SAT)
+    assert len(res.circuit) == meet_in_the_middle(tuple(odd), mct4, 3).exact
 
 
 def test_time_limit_returns_a_labelled_heuristic_circuit() -> None:

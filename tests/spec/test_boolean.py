@@ -106,7 +106,13 @@ def test_greenhouse_demo_has_dont_cares() -> None:
 def test_permutation_files_are_not_function_files() -> None:
     data = tomllib.loads((INSTANCES / "lift-gray-step.toml").read_text())
     assert not is_function_mapping(data)
-    spec_from_mapping(data, "lift")  # still read by the permutation reader
+    spec = spec_from_mapping(data, "lift")  # still read by the permutation reader
+    # the file's own definition: Gray code g(f) = f ^ (f >> 1) of floor f moves to g(f + 1 mod 8)
+    gray = [f ^ (f >> 1) for f in range(8)]
+    step = [0] * 8
+    for f in range(8):
+        step[gray[f]] = gray[(f + 1) % 8]
+    assert spec.is_permutation and spec.lines == 3 and list(spec.outputs) == step
 
 
 # ------------------------------------------------------------ the table form
@@ -363,8 +369,16 @@ def test_bad_spec_mappings(label: str, data: dict[str, Any], needle: str) -> Non
 
 def test_good_bases_are_accepted() -> None:
     # the bad cases above are single edits of these, so the error comes from that edit
-    function_from_mapping(base_expr(), "x")
-    function_from_mapping(base_table(), "x")
+    f = function_from_mapping(base_expr(), "x")
+    # common practice: s and k are the two bits of a + b + c (the full adder)
+    adder = {r: (sum(bits(r, 3)) % 2, sum(bits(r, 3)) // 2) for r in range(8)}
+    assert f.inputs == ("a", "b", "c") and f.outputs == ("s", "k") and table_of(f) == adder
+    assert f.lines == 5 and f.constants == ((3, 0), (4, None)) and f.output_lines == (0, 1)
+    g = function_from_mapping(base_table(), "x")
+    # read by hand: "00 01" is p = q = 0 (row 0) -> u = 0, v = 1; "11 1-" is row 3 -> u = 1, v free
+    assert g.inputs == ("p", "q") and g.outputs == ("u", "v")
+    assert table_of(g) == {0: (0, 1), 3: (1, None)}
+    assert g.lines is None and g.constants == () and g.output_lines is None
 
 
 def test_toml_integer_keys_reach_constants() -> None:

@@ -15,7 +15,9 @@ import pytest
 from helpers import DATA, INSTANCES, ROOT
 from optional import need, need_qiskit
 
+from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
+from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.qasm import read_qasm
 from exactsyn.search.bfs import optimal_sizes
 from exactsyn.search.loop import synthesise
@@ -160,6 +162,16 @@ def test_synth_reads_a_function_file_and_reports_the_embedding() -> None:
     assert r.returncode == 0, r.stderr
     data = json.loads(r.stdout)
     assert data["optimal"] and data["embedding"]["outputs"].keys() == {"sum", "carry"}
+    # a Toffoli onto the 0 line, then a CNOT (common practice); breadth-first search agrees
+    spec, _ = load_any(INSTANCES / "half-adder.toml")
+    best = min(k for p, k in optimal_sizes(make_library("nct", 3)).as_dict().items() if spec.accepts(p))
+    assert data["gate_count"] == best == 2
+    # the printed circuit computes sum and carry on the lines it names (integer addition)
+    perm = Circuit(3, tuple(gate_from_dict(g) for g in data["gates"])).permutation()
+    at = data["embedding"]["outputs"]
+    for x in range(4):
+        y = perm[x]  # line 2 starts at 0
+        assert (y >> at["sum"] & 1, y >> at["carry"] & 1) == ((x & 1) ^ (x >> 1), (x & 1) & (x >> 1))
 
 
 BAD = {
