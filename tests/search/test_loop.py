@@ -29,7 +29,7 @@ def sat_optimum(perm: list[int], library=NCT3, encoding: str = "onehot") -> int:
 
 def test_sat_matches_breadth_first_on_500_random_3bit_functions() -> None:
     # Independent method: breadth-first enumeration (exactsyn.search.bfs), whose distribution
-    # is checked against Shende et al., IEEE TCAD 2003, in test_bfs_tbs.py.
+    # is checked against Shende et al., IEEE TCAD 2003, in tests/search/test_bfs_heuristic.py.
     table = optimal_sizes(NCT3)
     rng = random.Random(20261201)
     for _ in range(500):
