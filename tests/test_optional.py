@@ -60,6 +60,7 @@ def _run(pytester: pytest.Pytester, monkeypatch: pytest.MonkeyPatch, env: dict[s
         else:
             monkeypatch.setenv(name, value)
     monkeypatch.setenv("PYTHONPATH", str(TESTS))
+    monkeypatch.setenv("PYTEST_DISABLE_PLUGIN_AUTOLOAD", "1")  # only pytest and tests/optional.py
     pytester.makepyfile(test_inner=INNER, test_inner_module=INNER_MODULE_LEVEL)
     args = ("-p", "optional", "-p", "no:cacheprovider", "-rA", "--continue-on-collection-errors")
     return pytester.runpytest_subprocess(*args)
