@@ -239,6 +239,7 @@ def test_synth_result_json_draws_and_render_gives_text_or_bytes(tmp_path: Path) 
     assert (len(by_class(root, "ctrl-pos")), len(by_class(root, "target"))) == (2, 1)  # one Toffoli gate
     svg, text, png = render(MIXED, "svg"), render(MIXED, "text"), render(MIXED, "png")
     assert isinstance(svg, str) and read_back(svg).gates == MIXED.gates  # read back from geometry alone
+    assert isinstance(text, str)
     body = "".join(row.split(" ", 1)[1] for row in text.splitlines() if row.startswith("q"))
     assert [body.count(s) for s in "●○⊕×"] == list(expected_counts(MIXED).values())
     assert isinstance(png, bytes)
