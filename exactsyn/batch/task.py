@@ -99,10 +99,23 @@ def library_identity(library: Library) -> dict[str, Any]:
 
 
 def item_key(spec: Spec, library: Library, encoding: EncodingOptions, goal: Goal = GATES) -> str:
-    """SHA-256 of (spec outputs and care masks, library, objective, encoding options)."""
+    """SHA-256 of (spec, library, objective, encoding options).
+
+    The spec enters with every field that defines the problem (those of
+    :func:`exactsyn.proof.certificate.spec_to_dict` but its name): outputs, care masks and
+    the embedding choices left to the solver.  Those choices enter only when there are
+    any, so a plain spec keeps the key earlier versions gave it and older stores resume.
+    """
+    problem: dict[str, Any] = {"lines": spec.lines, "outputs": list(spec.outputs), "care": list(spec.care)}
+    if spec.open_lines or spec.output_targets or spec.output_candidates:
+        problem |= {
+            "open_lines": list(spec.open_lines),
+            "output_targets": [list(t) for t in spec.output_targets],
+            "output_candidates": list(spec.output_candidates),
+        }
     return _digest(
         {
-            "spec": {"lines": spec.lines, "outputs": list(spec.outputs), "care": list(spec.care)},
+            "spec": problem,
             "library": library_identity(library),
             "objective": goal.identity(library),
             "encoding": encoding.describe(),
