@@ -42,7 +42,7 @@ _EXPORTS: dict[str, tuple[str, str]] = {
     "COST_MODELS": ("exactsyn.core.costs", "COST_MODELS"),
     "cost_model": ("exactsyn.core.costs", "cost_model"),
     "ExactsynError": ("exactsyn.errors", "ExactsynError"),
-    "NoCircuitError": ("exactsyn.search.loop", "NoCircuitError"),
+    "NoCircuitError": ("exactsyn.errors", "NoCircuitError"),
     "Spec": ("exactsyn.spec.reversible", "Spec"),
     "from_permutation": ("exactsyn.spec.reversible", "from_permutation"),
     "parse_perm": ("exactsyn.spec.reversible", "parse_perm"),
@@ -128,13 +128,12 @@ if TYPE_CHECKING:  # the same names, for type checkers and editors
     from exactsyn.core.costs import COST_MODELS, CostModel, cost_model
     from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
     from exactsyn.core.library import PRESETS, Library, make_library
-    from exactsyn.errors import ExactsynError
+    from exactsyn.errors import ExactsynError, NoCircuitError
     from exactsyn.io.files import read_circuit, render, write_circuit, write_json, write_qasm2, write_qasm3
     from exactsyn.io.jsonio import circuit_from_dict, circuit_to_dict
     from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
     from exactsyn.proof.check import CheckReport, check_certificate
     from exactsyn.sat.query import Query
     from exactsyn.sat.status import Status
-    from exactsyn.search.loop import NoCircuitError
     from exactsyn.spec.files import load_any as load_spec
     from exactsyn.spec.reversible import Spec, from_permutation, parse_cycles, parse_perm

@@ -157,7 +157,7 @@ def synthesise(
     ``progress`` receives every answered query.
 
     Raises :class:`~exactsyn.errors.ExactsynError` for bad input and
-    :class:`~exactsyn.search.loop.NoCircuitError` when no circuit can exist (parity).
+    :class:`~exactsyn.errors.NoCircuitError` when no circuit of the library can exist.
     """
     start = time.perf_counter()
     _check_options(objective, optima, optima_limit, time_limit, max_gates, jobs)

@@ -17,3 +17,7 @@ class ExactsynError(Exception):
 
     def __str__(self) -> str:
         return self.message
+
+
+class NoCircuitError(ExactsynError):
+    """No circuit of the library computes the function, or none was found within the limits (exit 1)."""

@@ -13,7 +13,7 @@ from __future__ import annotations
 import hashlib
 import json
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -193,7 +193,7 @@ def plan_files(
             continue
         forget.append(bad_key)
         if not spec.name:
-            spec = Spec(spec.lines, spec.outputs, spec.care, f.stem)
+            spec = replace(spec, name=f.stem)  # keeps the embedding choices
         items.append(PlanItem(item_key(spec, lib, encoding, goal), spec, lib, 1, str(f)))
     merged = _merge(items)
     notes = []

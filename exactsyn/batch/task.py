@@ -27,11 +27,10 @@ from exactsyn.api import synthesise
 from exactsyn.caches import memo
 from exactsyn.core.costs import cost_model, library_costs
 from exactsyn.core.library import Library, make_library
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.jsonio import gate_to_dict
 from exactsyn.proof.check import check_certificate
 from exactsyn.sat.encode import EncodingOptions
-from exactsyn.search.loop import NoCircuitError
 from exactsyn.spec.reversible import Spec
 
 STATUSES = ("done", "timeout", "failed")

@@ -25,7 +25,7 @@ from exactsyn.cli.options import (
 )
 from exactsyn.core.cliffordt import decompose
 from exactsyn.core.cliffordt import verify as verify_clifford_t
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.files import CIRCUIT_FORMATS, render
 from exactsyn.io.qasm import clifford_t_to_qasm2, clifford_t_to_qasm3
 from exactsyn.io.report import (
@@ -36,7 +36,6 @@ from exactsyn.io.report import (
     synthesis_to_text,
 )
 from exactsyn.sat.query import Query
-from exactsyn.search.loop import NoCircuitError
 from exactsyn.spec.reversible import Spec, parse_cycles, parse_perm
 
 

@@ -37,6 +37,7 @@ from __future__ import annotations
 import gzip
 import json
 import time
+import zlib
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -246,5 +247,5 @@ def read_proof(directory: Path, name: str) -> bytes:
     try:
         with gzip.open(p, "rb") as fh:
             return fh.read()
-    except (OSError, EOFError) as e:
+    except (OSError, EOFError, zlib.error) as e:
         raise ExactsynError(f"cannot read proof {p}: {e}") from None

@@ -9,6 +9,7 @@
   and the number of lines whose output differs from the input on some specified row
   (an ``x`` gate changes only its target line, so each such line is the target of at
   least one gate).  Each bound carries the reason that re-derives it.
+* :func:`affine_obstruction` — NOT, CNOT and SWAP circuits compute only affine maps.
 * :func:`nonaffine_extra` — a circuit for a non-affine function contains a non-affine
   gate, which fixes a least extra cost for the cost objective.
 """
@@ -36,6 +37,22 @@ def parity_obstruction(spec: Spec, library: Library) -> str | None:
             f"the permutation is odd, but every gate of library {library.name} on {library.lines} lines "
             "is an even permutation, so no circuit exists (Shende et al., IEEE TCAD 2003); "
             "allow a gate with n-1 controls (e.g. --library mct) or add a line"
+        )
+    return None
+
+
+def affine_obstruction(spec: Spec, library: Library) -> str | None:
+    """A reason when every gate is affine over GF(2) but the permutation is not, else ``None``.
+
+    Affine maps compose to affine maps, so NOT, CNOT and SWAP circuits compute exactly
+    the affine permutations ``x ↦ A·x ⊕ b`` (common practice).
+    """
+    if not spec.is_permutation or is_affine(spec.permutation):
+        return None
+    if all(is_affine(g.permutation(library.lines)) for g in library.gates):
+        return (
+            f"every gate of library {library.name} is affine (x -> A.x + b over GF(2)) but the permutation "
+            "is not, so no circuit exists; allow a Toffoli gate (e.g. --library nct)"
         )
     return None
 

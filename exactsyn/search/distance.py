@@ -29,6 +29,7 @@ from exactsyn.caches import memo
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library, gate_table
+from exactsyn.errors import NoCircuitError
 from exactsyn.search.bfs import row_keys
 
 # Build the next layer only while the table stays below this many entries and the
@@ -231,7 +232,10 @@ def meet_in_the_middle(perm: tuple[int, ...], library: Library, depth: int | Non
             best, best_r, best_q = int(totals[k]), start + int(hit[k]), int(q_idx[hit[k]])
     if best is None:
         if table.depth == FULL:
-            raise RuntimeError("function not reachable over the library")
+            raise NoCircuitError(
+                f"no circuit of library {library.name} computes the function: the table holds every "
+                f"function its gates generate ({len(table.rows)} of them)"
+            )
         return MeetResult(2 * table.depth + 1, None, None, table.depth)
     r_gates = table.circuit_of(best_r)
     q_gates = table.circuit_of(best_q)

@@ -18,11 +18,17 @@ from dataclasses import dataclass
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Library
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.sat.encode import Encoding, EncodingOptions, encode
 from exactsyn.sat.query import ProofSink, Query, run_query
 from exactsyn.sat.status import Status
-from exactsyn.search.bounds import Bound, completion_obstruction, lower_bound, parity_obstruction
+from exactsyn.search.bounds import (
+    Bound,
+    affine_obstruction,
+    completion_obstruction,
+    lower_bound,
+    parity_obstruction,
+)
 from exactsyn.search.distance import extended_meet
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.spec.reversible import Spec
@@ -36,10 +42,6 @@ BOUNDS = {
 TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
 # The table is not built when less time than this is left (it cannot be interrupted).
 TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0}
-
-
-class NoCircuitError(ExactsynError):
-    """No circuit exists in the library, or none was found within the limits (exit 1)."""
 
 
 @dataclass(frozen=True)
@@ -119,7 +121,7 @@ def minimise_gates(
     """
     opts = encoding or EncodingOptions()
     start = time.perf_counter()
-    reason = parity_obstruction(spec, library) or completion_obstruction(spec)
+    reason = parity_obstruction(spec, library) or affine_obstruction(spec, library) or completion_obstruction(spec)
     if reason:
         raise NoCircuitError(reason)
     bound = lower_bound(spec, library)

@@ -12,8 +12,6 @@ from __future__ import annotations
 from dataclasses import replace
 from pathlib import Path
 
-import pytest
-
 from exactsyn.batch.plan import plan_files
 from exactsyn.batch.task import LibraryChoice, item_key
 from exactsyn.core.library import make_library
@@ -71,11 +69,6 @@ def test_a_plan_keeps_both_files(tmp_path: Path) -> None:
     assert sorted(item.spec.open_lines for item in plan.items) == [(), (2,)]
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="known bug, exactsyn/batch/plan.py::plan_files: a spec file without 'name' is rebuilt as "
-    "Spec(lines, outputs, care, stem), which drops open_lines, output_targets and output_candidates",
-)
 def test_a_plan_keeps_the_embedding_of_files_without_a_name(tmp_path: Path) -> None:
     plan = plan_files(list(_nand_files(tmp_path, named=False)), LibraryChoice("nct"), EncodingOptions())
     assert sorted(item.spec.open_lines for item in plan.items) == [(), (2,)]

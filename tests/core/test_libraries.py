@@ -10,9 +10,9 @@ from helpers import naive_bfs
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import peres_gate, swap_gate, x_gate
 from exactsyn.core.library import connected, make_library, parse_coupling
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.loop import NoCircuitError, minimise_gates
+from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.reversible import Spec, from_permutation
 
 NEW_LIBRARIES = [

@@ -13,7 +13,6 @@ from __future__ import annotations
 import gzip
 import json
 import shutil
-import zlib
 from pathlib import Path
 from typing import Any
 
@@ -193,13 +192,7 @@ def test_a_changed_spec_output_is_rejected(name: str, tmp_path: Path) -> None:
     assert _rejected(d)
 
 
-# ------------------------------------------------------------------ known bugs of the checker (strict xfail)
-@pytest.mark.xfail(
-    strict=True,
-    raises=zlib.error,
-    reason="known bug, exactsyn/proof/certificate.py::read_proof catches OSError and EOFError but not "
-    "zlib.error, so a proof whose deflate data is damaged crashes the check with a traceback",
-)
+# ------------------------------------------------------------------ damaged input is a clean rejection
 def test_damaged_deflate_data_in_a_proof_is_a_clean_rejection(tmp_path: Path) -> None:
     d = _copy("table-cnot-chain4", tmp_path)
     raw = bytearray((d / "k04.lrat.gz").read_bytes())
@@ -212,13 +205,6 @@ def test_damaged_deflate_data_in_a_proof_is_a_clean_rejection(tmp_path: Path) ->
     assert not rep.ok
 
 
-@pytest.mark.xfail(
-    strict=True,
-    raises=RuntimeError,
-    reason="known bug, exactsyn/proof/certificate.py::check_certificate re-derives a table bound with "
-    "meet_in_the_middle, which raises RuntimeError for a spec the library cannot reach: a tampered "
-    "spec crashes the check with a traceback",
-)
 def test_a_spec_the_library_cannot_reach_is_a_clean_rejection(tmp_path: Path) -> None:
     d = _copy("table-cnot-chain4", tmp_path)
     data = _data(d)

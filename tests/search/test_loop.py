@@ -9,11 +9,12 @@ import pytest
 from helpers import hwb, perm_from_bits, random_perm
 
 from exactsyn.core.library import make_library
+from exactsyn.errors import NoCircuitError
 from exactsyn.sat.encode import EncodingOptions, encode, options_for
 from exactsyn.search.bfs import optimal_sizes
 from exactsyn.search.distance import meet_in_the_middle
-from exactsyn.search.loop import NoCircuitError, minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.search.loop import minimise_gates
+from exactsyn.spec.reversible import from_permutation, parse_cycles
 
 NCT3 = make_library("nct", 3)
 
@@ -157,3 +158,15 @@ def test_hwb4_needs_eleven_mct_gates() -> None:
     assert res.optimal and res.circuit is not None
     assert len(res.circuit) == 11
     assert list(res.circuit.permutation()) == hwb(4)
+
+
+def test_a_function_outside_the_group_a_library_generates_is_no_circuit() -> None:
+    # NOT and CNOT circuits compute only affine maps (common practice); (3 7)(4 5) on 3 lines
+    # is even (so parity allows it) but not affine. Breadth-first search over the whole
+    # group NOT/CNOT generate agrees that it is unreachable.
+    spec = parse_cycles("(3 7)(4 5)", 3)
+    lib = make_library("not,cnot", 3)
+    assert spec.permutation not in optimal_sizes(lib)
+    for bounds in ("table", "cheap"):
+        with pytest.raises(NoCircuitError, match="affine"):
+            minimise_gates(spec, lib, bounds=bounds)

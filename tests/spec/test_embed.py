@@ -124,7 +124,7 @@ def test_dont_cares_give_the_best_completion() -> None:
 
 
 def test_contradictory_partial_spec_is_refused() -> None:
-    from exactsyn.search.loop import NoCircuitError
+    from exactsyn.errors import NoCircuitError
 
     spec = Spec(2, (1, 1, 0, 0), (3, 3, 0, 0), "clash")  # rows 0 and 1 both must give 1
     with pytest.raises(NoCircuitError, match="distinct"):
