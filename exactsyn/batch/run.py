@@ -48,7 +48,7 @@ class RunOptions:
 class Event:
     """``start`` (``total`` items to run, ``skipped`` already finished) or ``item`` (one outcome)."""
 
-    kind: str
+    phase: str
     total: int = 0
     skipped: int = 0
     status: str = ""
@@ -162,7 +162,7 @@ def run_batch(
         nonlocal item_seconds, checked
         store.record(out)
         ran[out.status] = ran.get(out.status, 0) + 1
-        checked += out.kind == "check"
+        checked += out.work == "check"
         secs = float(out.row.get("wall_seconds") or out.row.get("verify_seconds") or 0.0)
         item_seconds += secs
         if on_event:

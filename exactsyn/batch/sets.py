@@ -97,9 +97,9 @@ def relabel(perm: Sequence[int], sigma: Sequence[int]) -> Perm:
 def relabel_gate(gate: Gate, sigma: Sequence[int]) -> Gate:
     ctl = [sigma[c] for c in gate.controls]
     neg = [sigma[c] for c in gate.negative_controls]
-    if gate.kind == "x":
+    if gate.family == "x":
         return x_gate(sigma[gate.targets[0]], ctl, neg)
-    if gate.kind == "peres":
+    if gate.family == "peres":
         return peres_gate(sigma[gate.controls[0]], sigma[gate.targets[0]], sigma[gate.targets[1]])
     return swap_gate(sigma[gate.targets[0]], sigma[gate.targets[1]], ctl, neg)
 

@@ -304,7 +304,7 @@ class Store:
         the certificate was rejected) of the existing row.
         """
         row = dict(outcome.row)
-        if outcome.kind == "check":
+        if outcome.work == "check":
             cols = [c for c in row if c in COLUMNS and c != "key"]
             if not cols:
                 return

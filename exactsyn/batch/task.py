@@ -148,7 +148,7 @@ class Task:
 class Outcome:
     """What a worker hands back; ``row`` holds the store's columns for this item.
 
-    ``kind`` is ``solve`` (a whole row) or ``check`` (only the verification columns of
+    ``work`` is ``solve`` (a whole row) or ``check`` (only the verification columns of
     an existing row, and status ``failed`` with the reason if the certificate was rejected).
     """
 
@@ -156,7 +156,7 @@ class Outcome:
     status: str
     row: dict[str, Any]
     files: tuple[tuple[str, bytes], ...] = field(default=(), repr=False)
-    kind: str = "solve"
+    work: str = "solve"
 
 
 def _row_base(task: Task) -> dict[str, Any]:
@@ -185,7 +185,7 @@ def failed(task: Task, reason: str, status: str = "failed", **extra: Any) -> Out
     left as it was (and checked again by the next ``--verify`` run).
     """
     if task.check_files is not None:
-        return Outcome(task.key, status, {}, kind="check")
+        return Outcome(task.key, status, {}, work="check")
     row = _row_base(task) | {"status": status, "reason": reason} | extra
     return Outcome(task.key, status, row)
 
@@ -249,7 +249,7 @@ def _check(task: Task) -> Outcome:
     row: dict[str, Any] = {"verified": int(ok), "verify_seconds": round(time.perf_counter() - started, 4)}
     if not ok:
         row |= {"status": "failed", "reason": reason}
-    return Outcome(task.key, "done" if ok else "failed", row, kind="check")
+    return Outcome(task.key, "done" if ok else "failed", row, work="check")
 
 
 def _run(task: Task, started: float) -> Outcome:

@@ -86,7 +86,7 @@ import numpy as np
 
 from exactsyn.caches import memo
 from exactsyn.core.circuit import Circuit
-from exactsyn.core.gates import GATE_KINDS, Gate
+from exactsyn.core.gates import GATE_FAMILIES, Gate
 from exactsyn.errors import ExactsynError
 
 Op = tuple[str, tuple[int, ...]]
@@ -234,12 +234,12 @@ def _cancel(ops: tuple[Op, ...]) -> tuple[Op, ...]:
 
 
 def _gate_ops(gate: Gate, lines: int) -> tuple[tuple[Op, ...], int]:
-    if gate.kind == "peres":
+    if gate.family == "peres":
         (a,), (b, c) = gate.controls, gate.targets
         return _toffoli(a, b, c) + (("cx", (a, b)),), 0
     flips: tuple[Op, ...] = tuple(("x", (q,)) for q in gate.negative_controls)
     controls = tuple(sorted(gate.controls + gate.negative_controls))
-    if gate.kind == "x":
+    if gate.family == "x":
         core, anc = _mcx_top(controls, gate.target, lines)
     else:
         a, b = gate.targets
@@ -251,8 +251,8 @@ def _gate_ops(gate: Gate, lines: int) -> tuple[tuple[Op, ...], int]:
 def _check_gate(gate: Gate, lines: int) -> None:
     if isinstance(lines, bool) or not isinstance(lines, int) or lines < 1:
         raise ExactsynError(f"line count must be a positive integer, not {lines!r}")
-    if gate.kind not in GATE_KINDS:
-        raise ExactsynError(f"unknown gate kind {gate.kind!r}; expected one of {', '.join(GATE_KINDS)}")
+    if gate.family not in GATE_FAMILIES:
+        raise ExactsynError(f"unknown gate family {gate.family!r}; expected one of {', '.join(GATE_FAMILIES)}")
     if any(line >= lines for line in gate.lines):
         raise ExactsynError(f"gate {gate} uses a line outside 0..{lines - 1}")
 

@@ -53,7 +53,7 @@ from types import MappingProxyType
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.cliffordt import gate_cnot_count, gate_t_count
-from exactsyn.core.gates import GATE_KINDS, Gate
+from exactsyn.core.gates import GATE_FAMILIES, Gate
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
 
@@ -75,8 +75,8 @@ class CostModel:
 
     def cost(self, gate: Gate, lines: int) -> int:
         """The cost of ``gate`` in a circuit on ``lines`` lines."""
-        if gate.kind not in GATE_KINDS:
-            raise ExactsynError(f"unknown gate kind {gate.kind!r}; expected one of {', '.join(GATE_KINDS)}")
+        if gate.family not in GATE_FAMILIES:
+            raise ExactsynError(f"unknown gate family {gate.family!r}; expected one of {', '.join(GATE_FAMILIES)}")
         return self.rule(gate, lines)
 
     def check(self, gates: Iterable[Gate], lines: int | None = None) -> None:
@@ -106,10 +106,10 @@ def _ncv_mcx(c: int) -> int:
 
 
 def _ncv(gate: Gate, lines: int) -> int:
-    if gate.kind == "peres":
+    if gate.family == "peres":
         return 4
     c = gate.num_controls
-    if gate.kind == "x":
+    if gate.family == "x":
         base = _ncv_mcx(c)
     else:
         base = {0: 3, 1: 5}.get(c, _ncv_mcx(c + 1) + 2)

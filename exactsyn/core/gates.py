@@ -3,14 +3,14 @@
 Conventions (kept stable, scripts outside the project rely on them): a state of ``n``
 lines is an integer; line ``l`` carries bit ``l`` (line 0 is the least significant bit).
 
-* ``kind == "x"``: one target; the target bit is flipped when every positive control
+* ``family == "x"``: one target; the target bit is flipped when every positive control
   is 1 and every negative control is 0.  NOT, CNOT, Toffoli and the multiple-control
   Toffoli gates (MCT) are the cases with 0, 1, 2 and more positive controls
   (Toffoli, "Reversible computing", ICALP 1980).
-* ``kind == "swap"``: two targets whose bits are exchanged under the same control rule
+* ``family == "swap"``: two targets whose bits are exchanged under the same control rule
   (SWAP, Fredkin and its multiple-control relatives; Fredkin & Toffoli, "Conservative
   logic", 1982).
-* ``kind == "peres"``: the Peres gate (Peres, "Reversible logic and quantum
+* ``family == "peres"``: the Peres gate (Peres, "Reversible logic and quantum
   computers", Phys. Rev. A 32, 1985) as a gate of its own: ``controls == (a,)`` and
   ``targets == (b, c)``; it maps ``c ← c ⊕ a·b`` and then ``b ← b ⊕ a`` (a Toffoli
   on ``c`` followed by a CNOT on ``b``).  It has no negative controls.
@@ -28,14 +28,14 @@ import numpy as np
 
 from exactsyn.errors import ExactsynError
 
-GATE_KINDS = ("x", "swap", "peres")
+GATE_FAMILIES = ("x", "swap", "peres")
 
 
 @dataclass(frozen=True)
 class Gate:
     """One gate.  Build with :func:`x_gate` / :func:`swap_gate`, which validate."""
 
-    kind: str
+    family: str
     targets: tuple[int, ...]
     controls: tuple[int, ...] = ()
     negative_controls: tuple[int, ...] = ()
@@ -69,32 +69,27 @@ class Gate:
 
     @property
     def is_involution(self) -> bool:
-        """True when the gate is its own inverse (every kind but Peres)."""
-        return self.kind != "peres"
+        """True when the gate is its own inverse (every family but Peres)."""
+        return self.family != "peres"
 
     def inverse_gates(self) -> tuple[Gate, ...]:
         """Gates whose product is this gate's inverse (itself, or CNOT then Toffoli for Peres)."""
-        if self.kind != "peres":
+        if self.family != "peres":
             return (self,)
         (a,), (b, c) = self.controls, self.targets
         return (Gate("x", (b,), (a,), ()), Gate("x", (c,), tuple(sorted((a, b))), ()))
 
-    @property
-    def control_count(self) -> int:
-        """Controls for a library's control cap: a Peres gate counts as its Toffoli (2)."""
-        return 2 if self.kind == "peres" else self.num_controls
-
     def name(self) -> str:
         """The trade's name for the gate: NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..."""
         c = self.num_controls
-        if self.kind == "peres":
+        if self.family == "peres":
             return "Peres"
-        if self.kind == "x":
+        if self.family == "x":
             return {0: "NOT", 1: "CNOT", 2: "Toffoli"}.get(c, f"C{c}X")
         return {0: "SWAP", 1: "Fredkin"}.get(c, f"C{c}SWAP")
 
     def __str__(self) -> str:
-        parts = [f"{self.kind}(" + ",".join(map(str, self.targets))]
+        parts = [f"{self.family}(" + ",".join(map(str, self.targets))]
         ctl = [str(c) for c in self.controls] + [f"~{c}" for c in self.negative_controls]
         if ctl:
             parts.append("; " + ",".join(ctl))
@@ -104,13 +99,13 @@ class Gate:
     def apply(self, states: np.ndarray) -> np.ndarray:
         """Apply the gate to an integer array of states (a new array is returned)."""
         pm, nm = self.positive_mask, self.negative_mask
-        if self.kind == "peres":
+        if self.family == "peres":
             (a,), (b, c) = self.controls, self.targets
             abit = (states >> a) & 1
             out = states ^ ((abit & (states >> b) & 1) << c)
             return out ^ (abit << b)
         active = ((states & pm) == pm) & ((states & nm) == 0)
-        if self.kind == "x":
+        if self.family == "x":
             flip = np.int64(1 << self.targets[0])
         else:
             a, b = self.targets
@@ -122,14 +117,14 @@ class Gate:
     def apply_int(self, state: int) -> int:
         """Apply the gate to one state."""
         pm, nm = self.positive_mask, self.negative_mask
-        if self.kind == "peres":
+        if self.family == "peres":
             (a,), (b, c) = self.controls, self.targets
             abit = (state >> a) & 1
             state ^= (abit & (state >> b) & 1) << c
             return state ^ (abit << b)
         if (state & pm) != pm or (state & nm) != 0:
             return state
-        if self.kind == "x":
+        if self.family == "x":
             return state ^ (1 << self.targets[0])
         a, b = self.targets
         if ((state >> a) ^ (state >> b)) & 1:
@@ -143,7 +138,7 @@ class Gate:
     def sort_key(self) -> tuple[int, int, int, tuple[int, ...], tuple[int, ...], tuple[int, ...]]:
         """Fewer controls first, then by target, then by controls."""
         return (
-            GATE_KINDS.index(self.kind),
+            GATE_FAMILIES.index(self.family),
             self.num_controls,
             len(self.negative_controls),
             self.targets,

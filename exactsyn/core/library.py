@@ -98,7 +98,7 @@ class Library:
 
     @property
     def only_x(self) -> bool:
-        return all(g.kind == "x" for g in self.gates)
+        return all(g.family == "x" for g in self.gates)
 
     @property
     def involutive(self) -> bool:
@@ -247,6 +247,11 @@ def connected(lines: frozenset[int], edges: tuple[Edge, ...]) -> bool:
     return not todo
 
 
+def capped_controls(gate: Gate) -> int:
+    """The controls ``--max-controls`` counts: a Peres gate counts as its Toffoli (2)."""
+    return 2 if gate.family == "peres" else gate.num_controls
+
+
 def make_library(
     name: str,
     lines: int,
@@ -265,9 +270,9 @@ def make_library(
     for a, b in edges:
         _edge(a, b, lines, str(coupling))
     full = _gates(lines, kinds)
-    most = max((g.control_count for g in full), default=0)
+    most = max((capped_controls(g) for g in full), default=0)
     cap = most if max_controls is None else min(most, max_controls)
-    gates = [g for g in full if g.control_count <= cap and (not edges or connected(g.lines, edges))]
+    gates = [g for g in full if capped_controls(g) <= cap and (not edges or connected(g.lines, edges))]
     if not gates:
         raise ExactsynError(f"library {key!r} has no gate on {lines} lines with these limits")
     label = key

@@ -37,10 +37,10 @@ _ALLOWED = {"x": _X_KEYS, "swap": _SWAP_KEYS, "peres": _PERES_KEYS}
 
 def gate_to_dict(g: Gate) -> dict[str, Any]:
     """One gate as a JSON-ready dict."""
-    if g.kind == "peres":
+    if g.family == "peres":
         return {"type": "peres", "controls": list(g.controls), "targets": list(g.targets)}
-    d: dict[str, Any] = {"type": g.kind}
-    if g.kind == "x":
+    d: dict[str, Any] = {"type": g.family}
+    if g.family == "x":
         d["target"] = g.targets[0]
     else:
         d["targets"] = list(g.targets)

@@ -125,16 +125,16 @@ def _swapc_definition(m: int) -> list[str]:
 
 def _qasm2_name(g: Gate) -> str:
     m = g.num_controls
-    if g.kind == "peres":
+    if g.family == "peres":
         return "peres"
-    if g.kind == "x":
+    if g.family == "x":
         return {0: "x", 1: "cx", 2: "ccx"}.get(m, f"xc{m}")
     return {0: "swap", 1: "cswap"}.get(m, f"swapc{m}")
 
 
 def _peres_header(circuit: Circuit) -> list[str]:
     """The Peres definition when the circuit has a Peres gate (written once), else nothing."""
-    return [PERES_DEFINITION] if any(g.kind == "peres" for g in circuit.gates) else []
+    return [PERES_DEFINITION] if any(g.family == "peres" for g in circuit.gates) else []
 
 
 def _comments(header: Sequence[str]) -> list[str]:
@@ -148,9 +148,9 @@ def to_qasm2(circuit: Circuit, header: Sequence[str] = ()) -> str:
     swapc: set[int] = set()
     for g in circuit.gates:
         m = g.num_controls
-        if g.kind == "x" and m >= 3:
+        if g.family == "x" and m >= 3:
             xc.add(m)
-        elif g.kind == "swap" and m >= 2:
+        elif g.family == "swap" and m >= 2:
             swapc.add(m)
             xc.add(m + 1)
     out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_comments(header), *_peres_header(circuit)]
@@ -174,14 +174,14 @@ def _modifier(name: str, count: int) -> str:
 
 def _qasm3_statement(g: Gate) -> str:
     pos, neg = len(g.controls), len(g.negative_controls)
-    if g.kind == "peres":  # operands a, b, c as in the definition
+    if g.family == "peres":  # operands a, b, c as in the definition
         return f"peres {', '.join(_q(i) for i in (*g.controls, *g.targets))};"
-    if neg == 0 and g.kind == "x" and pos <= 2:
+    if neg == 0 and g.family == "x" and pos <= 2:
         head = ("x", "cx", "ccx")[pos]
-    elif neg == 0 and g.kind == "swap" and pos <= 1:
+    elif neg == 0 and g.family == "swap" and pos <= 1:
         head = ("swap", "cswap")[pos]
     else:
-        head = _modifier("negctrl", neg) + _modifier("ctrl", pos) + g.kind
+        head = _modifier("negctrl", neg) + _modifier("ctrl", pos) + g.family
         # operand order follows the modifiers: negative controls, positive, targets
         operands = (*g.negative_controls, *g.controls, *g.targets)
         return f"{head} {', '.join(_q(i) for i in operands)};"

@@ -241,13 +241,13 @@ def gate_clauses(b: _Builder, g: Gate, not_sel: Lit, a: Sequence[Lit], nxt: Sequ
     """
     fail = [_neg(a[c]) for c in g.controls] + [a[c] for c in g.negative_controls]
     blocked = [a[c] for c in g.controls] + [_neg(a[c]) for c in g.negative_controls]
-    if g.kind == "x":
+    if g.family == "x":
         tau = g.target
         b.add([not_sel, *fail, a[tau], nxt[tau]])
         b.add([not_sel, *fail, _neg(a[tau]), _neg(nxt[tau])])
         for lit in blocked:
             _iff_clauses(b, [not_sel, lit], a[tau], nxt[tau])
-    elif g.kind == "swap":
+    elif g.family == "swap":
         p, q = g.targets
         # fires: the targets exchange their values; blocked: each keeps its own.
         _iff_clauses(b, [not_sel, *fail], a[q], nxt[p])
@@ -255,7 +255,7 @@ def gate_clauses(b: _Builder, g: Gate, not_sel: Lit, a: Sequence[Lit], nxt: Sequ
         for lit in blocked:
             _iff_clauses(b, [not_sel, lit], a[p], nxt[p])
             _iff_clauses(b, [not_sel, lit], a[q], nxt[q])
-    elif g.kind == "peres":
+    elif g.family == "peres":
         (x,), (m, t) = g.controls, g.targets
         # m' = m ⊕ x
         _iff_clauses(b, [not_sel, a[x]], a[m], nxt[m])
@@ -265,7 +265,7 @@ def gate_clauses(b: _Builder, g: Gate, not_sel: Lit, a: Sequence[Lit], nxt: Sequ
         _iff_clauses(b, [not_sel, a[x]], a[t], nxt[t])
         _iff_clauses(b, [not_sel, a[m]], a[t], nxt[t])
     else:  # pragma: no cover - Gate validates its kind
-        raise ExactsynError(f"the encoder has no clauses for gate kind {g.kind!r}")
+        raise ExactsynError(f"the encoder has no clauses for gate kind {g.family!r}")
 
 
 @memo(maxsize=64)

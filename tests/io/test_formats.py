@@ -62,10 +62,10 @@ CIRCUITS = random_circuits()
 
 def test_random_circuits_cover_the_cases() -> None:
     gates = [g for c in CIRCUITS for g in c.gates]
-    assert any(g.kind == "x" and len(g.controls) == 4 for g in gates)
-    assert any(g.kind == "x" and g.num_controls >= 3 and g.negative_controls for g in gates)
-    assert any(g.kind == "swap" and g.num_controls >= 2 for g in gates)
-    assert any(g.kind == "swap" and g.num_controls == 0 for g in gates)
+    assert any(g.family == "x" and len(g.controls) == 4 for g in gates)
+    assert any(g.family == "x" and g.num_controls >= 3 and g.negative_controls for g in gates)
+    assert any(g.family == "swap" and g.num_controls >= 2 for g in gates)
+    assert any(g.family == "swap" and g.num_controls == 0 for g in gates)
 
 
 # ---------------------------------------------------------------------------- JSON
@@ -294,8 +294,8 @@ def test_drawing_symbols_and_widths(ascii_only: bool) -> None:
         body = text.replace("q", "").translate(str.maketrans("", "", "0123456789"))  # labels out
         assert body.count(sym[0]) == sum(len(g.controls) for g in c.gates)
         assert body.count(sym[1]) == sum(len(g.negative_controls) for g in c.gates)
-        assert body.count(sym[2]) == sum(1 for g in c.gates if g.kind == "x")
-        assert body.count(sym[3]) == sum(2 for g in c.gates if g.kind == "swap")
+        assert body.count(sym[2]) == sum(1 for g in c.gates if g.family == "x")
+        assert body.count(sym[3]) == sum(2 for g in c.gates if g.family == "swap")
         blocks = text.rstrip("\n").split("\n\n")
         assert len(blocks) == max(1, -(-len(c.gates) // ((width - 5) // 3)))
         for block in blocks:

@@ -89,11 +89,11 @@ SHOWCASE = Circuit(
 
 def test_random_circuits_cover_the_cases() -> None:
     gates = [g for c in CIRCUITS for g in c.gates]
-    assert sum(g.kind == "peres" for g in gates) >= 40
-    assert any(g.kind == "x" and g.negative_controls and g.controls for g in gates)
-    assert any(g.kind == "x" and g.num_controls == 3 for g in gates)  # needs xc3 in OpenQASM 2
-    assert any(g.kind == "swap" and g.controls for g in gates)
-    assert any(g.kind == "swap" and g.negative_controls for g in gates)
+    assert sum(g.family == "peres" for g in gates) >= 40
+    assert any(g.family == "x" and g.negative_controls and g.controls for g in gates)
+    assert any(g.family == "x" and g.num_controls == 3 for g in gates)  # needs xc3 in OpenQASM 2
+    assert any(g.family == "swap" and g.controls for g in gates)
+    assert any(g.family == "swap" and g.negative_controls for g in gates)
     assert any(c.lines == 3 for c in CIRCUITS) and any(c.lines == 4 for c in CIRCUITS)
 
 
@@ -161,7 +161,7 @@ def test_bad_json_peres_gates_are_one_line_errors(gate: dict[str, Any], fragment
 # ------------------------------------------------------------------ OpenQASM
 def test_qasm_writes_the_definition_once_and_one_call_per_gate() -> None:
     for c in CIRCUITS:
-        peres = [g for g in c.gates if g.kind == "peres"]
+        peres = [g for g in c.gates if g.family == "peres"]
         for text in (to_qasm2(c), to_qasm3(c)):
             lines = text.splitlines()
             assert lines.count(PERES_DEFINITION) == (1 if peres else 0)
@@ -182,7 +182,7 @@ def test_qasm_round_trip_through_our_reader() -> None:
         back2 = read_qasm(to_qasm2(c))
         assert back2.permutation() == c.permutation()
         # version 2 writes negative controls as x gates around the gate; Peres gates stay Peres gates
-        assert [g for g in back2.gates if g.kind == "peres"] == [g for g in c.gates if g.kind == "peres"]
+        assert [g for g in back2.gates if g.family == "peres"] == [g for g in c.gates if g.family == "peres"]
         if not any(g.negative_controls for g in c.gates):
             assert back2 == c
 
@@ -210,8 +210,8 @@ def test_qasm3_is_accepted_by_the_reference_parser() -> None:
         program = openqasm3.parse(to_qasm3(c))  # the specification's grammar
         defs = [st for st in program.statements if isinstance(st, ast.QuantumGateDefinition)]
         calls = [st for st in program.statements if isinstance(st, ast.QuantumGate) and st.name.name == "peres"]
-        assert len(defs) == (1 if any(g.kind == "peres" for g in c.gates) else 0)
-        assert len(calls) == sum(g.kind == "peres" for g in c.gates)
+        assert len(defs) == (1 if any(g.family == "peres" for g in c.gates) else 0)
+        assert len(calls) == sum(g.family == "peres" for g in c.gates)
         assert all(not call.modifiers and len(call.qubits) == 3 for call in calls)
 
 
@@ -277,9 +277,9 @@ def expected_counts(c: Circuit) -> dict[str, int]:
     return {
         "ctrl-pos": sum(len(g.controls) for g in c.gates),  # a Peres gate's a is a positive control
         "ctrl-neg": sum(len(g.negative_controls) for g in c.gates),
-        "target": sum(1 for g in c.gates if g.kind in ("x", "peres")),  # a Peres gate's c is a ⊕
-        "swap": sum(2 for g in c.gates if g.kind == "swap"),
-        "peres": sum(1 for g in c.gates if g.kind == "peres"),  # the P box on b
+        "target": sum(1 for g in c.gates if g.family in ("x", "peres")),  # a Peres gate's c is a ⊕
+        "swap": sum(2 for g in c.gates if g.family == "swap"),
+        "peres": sum(1 for g in c.gates if g.family == "peres"),  # the P box on b
     }
 
 
@@ -424,7 +424,7 @@ def test_draw_command_reads_peres_gates_from_json_and_openqasm(tmp_path: Path) -
         assert res.exit_code == 0, res.output
         back = read_back(res.output)
         assert back.permutation() == SHOWCASE.permutation()
-        assert [g for g in back.gates if g.kind == "peres"] == [g for g in SHOWCASE.gates if g.kind == "peres"]
+        assert [g for g in back.gates if g.family == "peres"] == [g for g in SHOWCASE.gates if g.family == "peres"]
     (tmp_path / "bad.json").write_text(
         '{"lines": 3, "gates": [{"type": "peres", "controls": [0], "targets": [1, 2], "negative_controls": [0]}]}'
     )

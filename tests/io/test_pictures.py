@@ -76,8 +76,8 @@ def expected_counts(c: Circuit) -> dict[str, int]:
     return {
         "ctrl-pos": sum(len(g.controls) for g in c.gates),
         "ctrl-neg": sum(len(g.negative_controls) for g in c.gates),
-        "target": sum(1 for g in c.gates if g.kind == "x"),
-        "swap": sum(2 for g in c.gates if g.kind == "swap"),
+        "target": sum(1 for g in c.gates if g.family == "x"),
+        "swap": sum(2 for g in c.gates if g.family == "swap"),
     }
 
 

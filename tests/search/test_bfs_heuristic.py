@@ -132,7 +132,7 @@ def test_tbs_realises_seeded_random_functions(lines: int, bidirectional: bool) -
         p = random_perm(rng, lines)
         c = transformation_based(p, lines, bidirectional=bidirectional)
         assert c.permutation() == tuple(p)
-        assert all(g.kind == "x" and not g.negative_controls for g in c.gates)
+        assert all(g.family == "x" and not g.negative_controls for g in c.gates)
         assert all(a != b for a, b in zip(c.gates, c.gates[1:], strict=False))
 
 
