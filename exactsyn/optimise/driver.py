@@ -39,6 +39,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.optimise.commute import relabel
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
 from exactsyn.optimise.gateset import GateSet, gate_set
+from exactsyn.optimise.meet import CombinedResynthesis, MeetResynthesis
 from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis
 from exactsyn.optimise.windows import GatePool, Window, grow
@@ -123,6 +124,8 @@ class _Passes:
         self.model = model
         self.resynthesis = resynthesis
         self.width = width
+        # a 4-line window the distance table cannot settle may still hold a 3-line improvement
+        self.widths = (width, width - 1) if width >= 4 else (width,)
         self.horizon = horizon
         self.progress = progress
         self.pool = GatePool()
@@ -161,7 +164,8 @@ class _Passes:
         ids = [self.seq[p] for p in win.members]
         lines = win.lines
         perm = self.window_perm(ids, lines)
-        problem = WindowProblem(perm, len(lines), self.gates.induced(lines))
+        below = len(ids) + (0 if self.model is None else 1)  # gates-then-cost: as many gates may do
+        problem = WindowProblem(perm, len(lines), self.gates.induced(lines), below)
         best = self.resynthesis.optimum(problem)
         if best is None:
             return None
@@ -190,6 +194,26 @@ class _Passes:
         self.methods.add(best.method)
         return new_ids
 
+    def wide_pair(self, i: int, forward: bool) -> Window | None:
+        """A gate wider than the windows and an identical partner it can be moved next to: the
+        pair is the identity (see :func:`exactsyn.optimise.windows.grow`), so both go."""
+        gid = self.seq[i]
+        g = self.pool.gates[gid]
+        if not g.is_involution:
+            return None
+        win = grow(self.seq, self.pool, i, self.width, self.horizon, forward, partner=True)
+        if win is None:
+            return None
+        self.tried += 1
+        if [self.seq[p] for p in win.members] != [gid, gid]:  # pragma: no cover - grow's contract
+            raise RuntimeError("internal error: a wide pair that is not two identical gates")
+        row = self.stats.setdefault(len(g.lines), [0, 0, 0])
+        row[0] += 1
+        row[1] += 2
+        row[2] += 2 * self.cost(gid)
+        self.methods.add("identical self-inverse gates cancel")
+        return win
+
     def splice(self, win: Window, new_ids: list[int]) -> int:
         """Put the reordered span in place; return the position of the first new gate."""
         seq = self.seq
@@ -207,8 +231,17 @@ class _Passes:
             if self.progress is not None and count % report_every == 0:
                 done = i if forward else len(self.seq) - 1 - i
                 self.progress(ProgressEvent("optimise", self.round, done, len(self.seq), len(self.seq)))
-            win = grow(self.seq, self.pool, i, self.width, self.horizon, forward)
-            new_ids = None if win is None else self.improve(win)
+            win: Window | None = None
+            new_ids: list[int] | None = None
+            if self.pool.masks[self.seq[i]].bit_count() > self.width:
+                win = self.wide_pair(i, forward)
+                new_ids = None if win is None else []
+            else:
+                for width in self.widths:
+                    win = grow(self.seq, self.pool, i, width, self.horizon, forward)
+                    new_ids = None if win is None else self.improve(win)
+                    if new_ids is not None:
+                        break
             if win is None or new_ids is None:
                 i += 1 if forward else -1
                 continue
@@ -274,7 +307,12 @@ def optimise_circuit(
     model = cost_model(cost) if objective == "gates-then-cost" else None
     if model is not None:
         model.check(circuit.gates, n)
-    resynthesis = resynthesis or TableResynthesis(gates, n, model)
+    if resynthesis is None:
+        resynthesis = TableResynthesis(gates, n, model)
+        if window == 4:
+            if model is not None:
+                raise ExactsynError("window 4 minimises gates only (objective gates); use window 3 for gates-then-cost")
+            resynthesis = CombinedResynthesis(resynthesis, MeetResynthesis(gates))
     if not 1 <= window <= resynthesis.max_lines:
         raise ExactsynError(
             f"window {window}: the window resynthesis proves optima for 1 to {resynthesis.max_lines} lines"

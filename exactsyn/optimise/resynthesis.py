@@ -40,11 +40,15 @@ from exactsyn.search.bfs import optimal_sizes
 
 @dataclass(frozen=True)
 class WindowProblem:
-    """A window's function on its local lines ``0..lines-1`` and the coupling its lines induce."""
+    """A window's function on its local lines ``0..lines-1`` and the coupling its lines induce.
+
+    ``below``: only an optimum of fewer gates is of use (None: any); an answerer may then
+    stop early and return None.  Answerers that find every optimum directly ignore it."""
 
     perm: tuple[int, ...]
     lines: int
     coupling: tuple[Edge, ...] = ()
+    below: int | None = None
 
 
 @dataclass(frozen=True)

@@ -84,10 +84,25 @@ class Window:
         return tuple(i for i in range(self.mask.bit_length()) if self.mask >> i & 1)
 
 
-def grow(seq: list[int], pool: GatePool, seed: int, width: int, horizon: int, forward: bool = True) -> Window | None:
-    """The window grown from position ``seed`` (module docstring); None when it has one gate."""
+def grow(
+    seq: list[int],
+    pool: GatePool,
+    seed: int,
+    width: int,
+    horizon: int,
+    forward: bool = True,
+    partner: bool = False,
+) -> Window | None:
+    """The window grown from position ``seed`` (module docstring); None when it has one gate.
+
+    With ``partner`` only a gate identical to the seed may join, and the growth stops when one
+    has: a pair of identical self-inverse gates (every ``x`` and swap gate is a product of
+    disjoint transpositions) that can be made adjacent is the identity, however many lines
+    it has — the one replacement the optimiser makes on windows wider than ``width``."""
     masks = pool.masks
     window_mask = masks[seq[seed]]
+    if partner:
+        width = window_mask.bit_count()
     if window_mask.bit_count() > width:
         return None
     members = [seed]
@@ -111,12 +126,15 @@ def grow(seq: list[int], pool: GatePool, seed: int, width: int, horizon: int, fo
                         on_reached = True
                         break
             joined = window_mask | mh
-            if mh & window_mask and not on_reached and joined.bit_count() <= width:
+            fits = mh & window_mask and joined.bit_count() <= width and (not partner or h == seq[seed])
+            if fits and not on_reached:
                 members.append(j)
                 window_mask = joined
                 touched |= mh
                 scanned.append((mh, h, True))
                 last_join = j
+                if partner:
+                    break
             elif on_window or on_reached:
                 reached.append(j)
                 scanned.append((mh, h, False))
