@@ -25,6 +25,7 @@ from exactsyn.io.jsonio import circuit_to_dict, load_json_circuit
 from exactsyn.io.layout import Layout, apply_layout, check_layout, layout_from_dict
 from exactsyn.io.qasm import read_qasm_layout, to_qasm2, to_qasm3
 from exactsyn.optimise import EquivalenceError, ProgressEvent, check_equivalent, optimise_circuit
+from exactsyn.optimise.driver import DEFAULT_HORIZON
 from exactsyn.optimise.report import result_to_dict, summary_text
 
 FORMATS = ("qasm2", "qasm3", "json")
@@ -202,6 +203,13 @@ class _Bar:
     "distance table (about 3 s to build) and a bounded meet in the middle; objective gates only.",
 )
 @click.option(
+    "--horizon",
+    type=click.IntRange(1, None),
+    default=DEFAULT_HORIZON,
+    show_default=True,
+    help="Gates a window's growth looks past the last gate that joined it (more: finds more, slower).",
+)
+@click.option(
     "--seed",
     type=int,
     default=0,
@@ -227,6 +235,7 @@ def optimise(
     objective: str,
     cost_name: str,
     window: int,
+    horizon: int,
     seed: int,
     log_path: str | None,
     no_log: bool,
@@ -268,6 +277,7 @@ def optimise(
                 coupling=coupling,
                 max_controls=max_controls,
                 window=window,
+                horizon=horizon,
                 seed=seed,
                 progress=bar,
             )

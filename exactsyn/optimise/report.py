@@ -54,7 +54,11 @@ def summary_text(result: OptimiseResult) -> str:
         b, a = getattr(result.before, name), getattr(result.after, name)
         out.append(f"{LABELS[name]:<12}{b:>10}{a:>10}  {_change(b, a)}")
     if result.replaced:
-        parts = [f"{w.windows} of {w.lines} line(s) (-{w.gates_removed} gates)" for w in result.replaced]
+        parts = [
+            f"{w.windows} window{'s' if w.windows != 1 else ''} of {w.lines} line{'s' if w.lines != 1 else ''} "
+            f"(-{w.gates_removed} gates)"
+            for w in result.replaced
+        ]
         out.append("windows replaced: " + ", ".join(parts) + f"; {result.windows_tried} windows tried")
     else:
         out.append(f"windows replaced: none ({result.windows_tried} windows tried; every window was already optimal)")

@@ -38,8 +38,9 @@ class GatePool:
 
     gates: list[Gate] = field(default_factory=list)
     masks: list[int] = field(default_factory=list)
+    lines: list[tuple[int, ...]] = field(default_factory=list)
     _ids: dict[Gate, int] = field(default_factory=dict)
-    _commute: dict[tuple[int, int], bool] = field(default_factory=dict)
+    _commute: dict[int, bool] = field(default_factory=dict)  # key: smaller id << 32 | larger id
 
     def intern(self, g: Gate) -> int:
         gid = self._ids.get(g)
@@ -51,10 +52,11 @@ class GatePool:
             for line in g.lines:
                 mask |= 1 << line
             self.masks.append(mask)
+            self.lines.append(tuple(sorted(g.lines)))
         return gid
 
     def commute(self, a: int, b: int) -> bool:
-        key = (a, b) if a <= b else (b, a)
+        key = a << 32 | b if a <= b else b << 32 | a
         found = self._commute.get(key)
         if found is None:
             found = commute(self.gates[a], self.gates[b])
@@ -99,54 +101,68 @@ def grow(
     has: a pair of identical self-inverse gates (every ``x`` and swap gate is a product of
     disjoint transpositions) that can be made adjacent is the identity, however many lines
     it has — the one replacement the optimiser makes on windows wider than ``width``."""
-    masks = pool.masks
-    window_mask = masks[seq[seed]]
+    masks, lines_of, memo = pool.masks, pool.lines, pool._commute
+    seed_id = seq[seed]
+    window_mask = masks[seed_id]
     if partner:
         width = window_mask.bit_count()
     if window_mask.bit_count() > width:
         return None
     members = [seed]
     reached: list[int] = []
-    scanned: list[tuple[int, int, bool]] = [(window_mask, seq[seed], True)]  # (mask, gate id, in window)
+    # gate ids of the window and of the reached gates, by line (a gate is listed on each of its lines)
+    in_window: dict[int, list[int]] = {line: [seed_id] for line in lines_of[seed_id]}
+    in_reached: dict[int, list[int]] = {}
     touched = window_mask
     last_join = seed
     step = 1 if forward else -1
     j = seed + step
     end = len(seq) if forward else -1
+
+    def blocked(h: int, table: dict[int, list[int]]) -> bool:
+        """Does gate ``h`` fail to commute with a gate listed in ``table`` on one of its lines?"""
+        for line in lines_of[h]:
+            for g in table.get(line, ()):
+                key = g << 32 | h if g <= h else h << 32 | g
+                ok = memo.get(key)
+                if ok is None:
+                    ok = pool.commute(g, h)
+                if not ok:
+                    return True
+        return False
+
     while j != end and abs(j - last_join) <= horizon:
         h = seq[j]
         mh = masks[h]
         if mh & touched:
-            on_window = on_reached = False
-            for m, g, inside in scanned:
-                if m & mh and not pool.commute(g, h):
-                    if inside:
-                        on_window = True
-                    else:
-                        on_reached = True
-                        break
-            joined = window_mask | mh
-            fits = mh & window_mask and joined.bit_count() <= width and (not partner or h == seq[seed])
-            if fits and not on_reached:
+            if in_reached and blocked(h, in_reached):
+                pass  # depends on a reached gate: reached too
+            elif mh & window_mask and (window_mask | mh).bit_count() <= width and (not partner or h == seed_id):
                 members.append(j)
-                window_mask = joined
+                window_mask |= mh
                 touched |= mh
-                scanned.append((mh, h, True))
+                for line in lines_of[h]:
+                    in_window.setdefault(line, []).append(h)
                 last_join = j
                 if partner:
                     break
-            elif on_window or on_reached:
-                reached.append(j)
-                scanned.append((mh, h, False))
-                touched |= mh
+                j += step
+                continue
+            elif not blocked(h, in_window):
+                j += step
+                continue  # depends on nothing in the window or reached: it may move in front
+            reached.append(j)
+            touched |= mh
+            for line in lines_of[h]:
+                in_reached.setdefault(line, []).append(h)
         j += step
     if len(members) < 2:
         return None
     members.sort()
     lo, hi = members[0], members[-1]
-    in_window = set(members)
+    chosen = set(members)
     late = {p for p in reached if lo <= p <= hi}
-    rest = [p for p in range(lo, hi + 1) if p not in in_window]
+    rest = [p for p in range(lo, hi + 1) if p not in chosen]
     if forward:
         before = tuple(p for p in rest if p not in late)
         after = tuple(p for p in rest if p in late)
