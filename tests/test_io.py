@@ -512,3 +512,15 @@ def test_layout_in_json_and_its_errors() -> None:
         layout_from_dict([{"name": "1a", "size": 3}], 3)
     with pytest.raises(ExactsynError, match="clashes"):
         apply_layout(to_qasm2(c), Layout((("cx", 2), ("b", 1))))
+
+
+def test_apply_draw_and_synth_read_several_registers(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    from exactsyn.spec.files import load_any, load_circuit
+
+    text = 'OPENQASM 2.0;\ninclude "qelib1.inc";\nqreg a[2];\nqreg c[1];\nccx a[0],a[1],c[0];\ncx c[0],a[0];\n'
+    path = tmp_path / "two.qasm"
+    path.write_text(text)
+    c = load_circuit(path)  # what apply and draw call
+    assert c == Circuit(3, (x_gate(2, [0, 1]), x_gate(0, [2])))
+    spec, _ = load_any(path)  # what synth FILE.qasm calls
+    assert spec.permutation == c.permutation()

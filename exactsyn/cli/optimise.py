@@ -24,7 +24,13 @@ from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import circuit_to_dict, load_json_circuit
 from exactsyn.io.layout import Layout, apply_layout, check_layout, layout_from_dict
 from exactsyn.io.qasm import read_qasm_layout, to_qasm2, to_qasm3
-from exactsyn.optimise import EquivalenceError, ProgressEvent, check_equivalent, optimise_circuit
+from exactsyn.optimise import (
+    EquivalenceError,
+    InternalCheckError,
+    ProgressEvent,
+    check_equivalent,
+    optimise_circuit,
+)
 from exactsyn.optimise.driver import DEFAULT_HORIZON
 from exactsyn.optimise.report import result_to_dict, summary_text
 
@@ -303,7 +309,7 @@ def optimise(
             click.echo(summary_text(result), nl=False, err=output is None)
             if log is not None:
                 click.echo(f"log written: {log}", err=output is None)
-    except EquivalenceError as e:
+    except InternalCheckError as e:
         _fail(e.message, 1)
     except ExactsynError as e:
         _fail(e.message)

@@ -55,8 +55,12 @@ MAX_LINES = 1024
 DEFAULT_HORIZON = 24
 
 
-class EquivalenceError(ExactsynError):
-    """The output differs from the input: a bug, reported instead of a wrong circuit."""
+class InternalCheckError(ExactsynError):
+    """A check of the optimiser's own work failed (a bug): no circuit is returned."""
+
+
+class EquivalenceError(InternalCheckError):
+    """A replacement, or the whole output, differs from what it stands for."""
 
 
 @dataclass(frozen=True)
@@ -177,16 +181,19 @@ class _Passes:
             step = g.permutation(len(lines))
             check = tuple(step[v] for v in check)
         if check != perm or len(best.gates) != best.gate_count:
-            raise RuntimeError(f"internal error: the replacement does not compute its window ({best.method})")
+            raise EquivalenceError(
+                f"internal error: a replacement does not compute its window's function ({best.method}); "
+                "nothing was written"
+            )
         back = dict(enumerate(lines))
         new: list[Gate] = [relabel(g, back) for g in best.gates]
         for g in new:
             reason = self.gates.why_not(g)
             if reason is not None:
-                raise RuntimeError(f"internal error: replacement gate {g} is outside the library: {reason}")
+                raise InternalCheckError(f"internal error: replacement gate {g} is outside the library: {reason}")
         new_ids = [self.pool.intern(g) for g in new]
         if (len(new_ids), sum(self.cost(g) for g in new_ids)) != (best.gate_count, best.cost):
-            raise RuntimeError("internal error: the replacement's cost differs from the table's")
+            raise InternalCheckError("internal error: the replacement's cost differs from the table's")
         row = self.stats.setdefault(len(lines), [0, 0, 0])
         row[0] += 1
         row[1] += now[0] - best.gate_count
@@ -286,8 +293,8 @@ def optimise_circuit(
     input's gates); every input gate must be in it.  ``cost`` (a model name or a cost table
     file) is used by ``objective="gates-then-cost"``.  ``window`` is the largest number of
     lines of a window; ``seed`` picks the random sample of the equivalence check beyond 24
-    lines.  Raises :class:`ExactsynError` for bad input and :class:`EquivalenceError` if the
-    output is not equal to the input.
+    lines.  Raises :class:`ExactsynError` for bad input and :class:`InternalCheckError`
+    (:class:`EquivalenceError` when a function changed) if a check of the work fails.
     """
     start = time.perf_counter()
     n = circuit.lines

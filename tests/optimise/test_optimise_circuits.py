@@ -21,7 +21,17 @@ from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.io.qasm import to_qasm3
-from exactsyn.optimise import MAX_LINES, OptimiseResult, ProgressEvent, gate_set, optimise_circuit
+from exactsyn.optimise import (
+    MAX_LINES,
+    EquivalenceError,
+    OptimiseResult,
+    Optimum,
+    ProgressEvent,
+    TableResynthesis,
+    WindowProblem,
+    gate_set,
+    optimise_circuit,
+)
 from exactsyn.optimise.report import result_to_dict, summary_text
 from exactsyn.search.loop import synthesise
 from exactsyn.spec.reversible import from_permutation
@@ -239,8 +249,9 @@ def test_bad_input_is_refused_with_one_line() -> None:
 def test_progress_and_report() -> None:
     events: list[ProgressEvent] = []
     rng = random.Random(1)
-    c = random_circuit(rng, 10, 3000, ("x",))
+    c = random_circuit(rng, 8, 3000, ("x",))
     res = optimise_circuit(c, progress=events.append)
+    qiskit_agrees(c, res.output)
     assert any(e.phase == "optimise" for e in events) and any(e.phase == "check" for e in events)
     log = result_to_dict(res, input="in.qasm")
     assert log["before"]["gates"] == 3000 and log["after"]["gates"] == res.output.gate_count
@@ -249,6 +260,42 @@ def test_progress_and_report() -> None:
     assert log["equivalence"]["method"] == "exhaustive" and log["equivalence"]["equal"] is True
     assert log["input"] == "in.qasm"
     text = summary_text(res)
-    assert "T-count" in text and "exhaustive simulation of all 1024 input states" in text
+    assert "T-count" in text and "exhaustive simulation of all 256 input states" in text
     # the measures are those of exactsyn.core.costs on the circuits
-    assert res.after.t_count == sum(COST_MODELS["t-count"].cost(g, 10) for g in res.output.gates)
+    assert res.after.t_count == sum(COST_MODELS["t-count"].cost(g, 8) for g in res.output.gates)
+
+
+# ------------------------------------------------------------------ the safety net
+class WrongAnswers:
+    """A window answerer with a bug: it drops the last gate of every true optimum."""
+
+    def __init__(self, inner: TableResynthesis) -> None:
+        self.inner = inner
+
+    @property
+    def max_lines(self) -> int:
+        return 3
+
+    def optimum(self, problem: WindowProblem) -> Optimum | None:
+        best = self.inner.optimum(problem)
+        if best is None or not best.gates:
+            return best
+        return Optimum(best.gates[:-1], best.gate_count - 1, best.cost - 1, "a buggy table")
+
+
+def test_a_wrong_replacement_is_caught_before_it_is_used() -> None:
+    c = Circuit(3, (x_gate(2, [0, 1]), x_gate(1, [0]), x_gate(2, [0, 1]), x_gate(1, [0]), x_gate(0)))
+    buggy = WrongAnswers(TableResynthesis(gate_set("nct", 3), 3))
+    with pytest.raises(EquivalenceError, match="does not compute its window's function"):
+        optimise_circuit(c, resynthesis=buggy)
+
+
+def test_a_wrong_reordering_is_caught_by_the_whole_circuit_check(monkeypatch: pytest.MonkeyPatch) -> None:
+    import exactsyn.optimise.windows as windows
+
+    # a bug in commutation: every pair "commutes", so gates are moved past gates they do not
+    monkeypatch.setattr(windows, "commute", lambda a, b: True)
+    # the CNOT pair on (0, 1) cannot cancel: the Toffoli between them reads line 1
+    c = Circuit(3, (x_gate(1, [0]), x_gate(2, [0, 1]), x_gate(1, [0])))
+    with pytest.raises(EquivalenceError, match="differs from the input on input"):
+        optimise_circuit(c, window=2)

@@ -67,6 +67,7 @@ def test_optimises_a_multi_register_file_and_writes_log_and_registers(group: cli
     assert back_layout == layout and [name for name, _ in layout.registers] == ["cin", "a", "b", "cout"]
     assert out.read_text().startswith("OPENQASM 2.0")  # .qasm keeps the input's version
     assert after.gate_count == 10 and after.permutation() == before.permutation()
+    qiskit_reads_the_same(out.read_text(), before)
     log = json.loads((tmp_path / "adder-opt.log.json").read_text())
     assert log["before"]["gates"] == 13 and log["after"]["gates"] == 10
     assert log["window"] == 4 and log["registers"][0] == {"name": "cin", "size": 1}
@@ -82,6 +83,8 @@ def test_formats_by_suffix_and_option(group: click.Group, tmp_path: Path) -> Non
         assert code == 0, stderr
         assert (tmp_path / name).read_text().startswith(head)
         assert not (tmp_path / name).with_suffix(".log.json").exists()
+    for name in ("o.qasm3", "o.qasm2"):
+        qiskit_reads_the_same((tmp_path / name).read_text(), c)
     code, stdout, stderr = invoke(group, str(src), "--format", "json")
     assert code == 0
     data = json.loads(stdout)
@@ -120,6 +123,34 @@ def test_missing_file_and_help(group: click.Group, tmp_path: Path) -> None:
     assert code == 2 and "cannot read" in stderr
     res = CliRunner().invoke(group, ["optimise", "--help"])
     assert res.exit_code == 0 and "exactsyn optimise adder.qasm -o adder-opt.qasm" in res.stdout
+
+
+def qiskit_reads_the_same(text: str, before: Circuit) -> None:
+    """qiskit (reference reader and simulator) reads OUT; its operator is the input's permutation matrix."""
+    qiskit = pytest.importorskip("qiskit")
+    from qiskit.quantum_info import Operator
+
+    qc = qiskit.qasm2.loads(text) if text.startswith("OPENQASM 2") else qiskit.qasm3.loads(text)
+    perm = before.permutation()
+    expected = np.zeros((len(perm), len(perm)))
+    expected[list(perm), np.arange(len(perm))] = 1.0
+    assert np.allclose(Operator(qc).data, expected)
+
+
+def test_an_internal_check_failure_exits_1_and_writes_nothing(
+    group: click.Group, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import exactsyn.cli.optimise as command
+    from exactsyn.optimise import EquivalenceError
+
+    def broken(*args: object, **kwargs: object) -> None:
+        raise EquivalenceError("internal error: the optimised circuit differs from the input on input 5")
+
+    monkeypatch.setattr(command, "optimise_circuit", broken)
+    src = tmp_path / "in.qasm"
+    src.write_text(ADDER_QASM)
+    code, _, stderr = invoke(group, str(src), "-o", str(tmp_path / "out.qasm"))
+    assert code == 1 and "differs from the input" in stderr and list(tmp_path.iterdir()) == [src]
 
 
 def test_qasm2_out_is_read_by_qiskit_with_registers(group: click.Group, tmp_path: Path) -> None:
