@@ -17,6 +17,10 @@ Sets (``--set``, several allowed):
     optimization_level=0)``.  Gates: lowered, qiskit's ``optimization_level=3`` with the
     same basis (same run), exactsyn with windows of 3 and of 4 lines.  The input of
     exactsyn is the OpenQASM 2 that qiskit writes, read by exactsyn's reader.
+``check``
+    The equivalence check alone (:func:`exactsyn.optimise.equivalence.check_equivalent`) of a
+    seeded random ``--lines``-line circuit of ``--sizes`` gates against itself: exhaustive up
+    to 24 lines.  ``--chunk`` sets the words per line simulated at a time.
 ``tbs``
     Seeded random permutations of 5 and 6 lines, realised by exactsyn's
     transformation-based synthesis (:func:`exactsyn.search.heuristic.tbs`, MCT gates),
@@ -26,6 +30,7 @@ Examples:
   python scripts/bench_optimise.py --set speed --sizes 1000,100000 --repeat 3
   python scripts/bench_optimise.py --set qiskit
   python scripts/bench_optimise.py --set tbs --count 30
+  python scripts/bench_optimise.py --set check --lines 24 --sizes 10000 --chunk 4096
 """
 
 from __future__ import annotations
@@ -157,6 +162,22 @@ def run_qiskit(bits: list[int]) -> None:
     print(f"# all circuits: {tally}")
 
 
+# ---------------------------------------------------------------------------- check
+def run_check(sizes: list[int], repeat: int, lines: int, seed: int, chunk: int | None) -> None:
+    import exactsyn.optimise.equivalence as eq
+
+    if chunk is not None:
+        eq.CHUNK_WORDS = chunk
+    print(f"# equivalence check of a random {lines}-line NCT circuit with itself, chunk {eq.CHUNK_WORDS} words")
+    for size in sizes:
+        c = random_nct(lines, size, seed)
+        times = []
+        for _ in range(repeat):
+            res = eq.check_equivalent(c, c)
+            times.append(res.seconds)
+        print(f"{size:>8} gates  {res.method} ({res.inputs} inputs)  median {statistics.median(times):.2f} s")
+
+
 # ---------------------------------------------------------------------------- tbs
 def run_tbs(count: int, seed: int) -> None:
     from exactsyn.optimise import optimise_circuit
@@ -189,7 +210,8 @@ def run_tbs(count: int, seed: int) -> None:
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
-    ap.add_argument("--set", action="append", choices=("speed", "qiskit", "tbs"), help="what to run (repeatable)")
+    sets = ("speed", "qiskit", "tbs", "check")
+    ap.add_argument("--set", action="append", choices=sets, help="what to run (repeatable)")
     ap.add_argument("--sizes", default="1000,100000", help="gate counts of the speed set")
     ap.add_argument("--repeat", type=int, default=3)
     ap.add_argument("--lines", type=int, default=16)
@@ -197,6 +219,7 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--bits", default="2-16", help="adder sizes of the qiskit set, e.g. 2-16 or 2,4,8")
     ap.add_argument("--count", type=int, default=30, help="functions per size of the tbs set")
+    ap.add_argument("--chunk", type=int, help="words per line and chunk of the check set")
     ap.add_argument("--child-speed", help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child_speed:
@@ -213,6 +236,8 @@ def main() -> None:
             else:
                 bits = [int(x) for x in args.bits.split(",")]
             run_qiskit(bits)
+        elif name == "check":
+            run_check([int(x) for x in args.sizes.split(",")], args.repeat, args.lines, args.seed, args.chunk)
         else:
             run_tbs(args.count, args.seed)
 
