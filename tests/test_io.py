@@ -474,7 +474,7 @@ def _lowered_adders() -> list[object]:
     from qiskit.circuit.library import CDKMRippleCarryAdder, VBERippleCarryAdder
 
     return [
-        qiskit.transpile(cls(3), basis_gates=["x", "cx", "ccx"], optimization_level=0)
+        qiskit.transpile(cls(2), basis_gates=["x", "cx", "ccx"], optimization_level=0)
         for cls in (CDKMRippleCarryAdder, VBERippleCarryAdder)
     ]
 

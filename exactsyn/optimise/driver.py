@@ -231,7 +231,7 @@ class _Passes:
     def run_pass(self, forward: bool) -> bool:
         changed = False
         i = 0 if forward else len(self.seq) - 1
-        report_every = 2048
+        report_every = max(64, len(self.seq) // 200)  # about 200 updates a pass
         count = 0
         while 0 <= i < len(self.seq):
             count += 1

@@ -249,14 +249,14 @@ def test_bad_input_is_refused_with_one_line() -> None:
 def test_progress_and_report() -> None:
     events: list[ProgressEvent] = []
     rng = random.Random(1)
-    c = random_circuit(rng, 8, 3000, ("x",))
+    c = random_circuit(rng, 8, 2200, ("x",))
     res = optimise_circuit(c, progress=events.append)
     qiskit_agrees(c, res.output)
     assert any(e.phase == "optimise" for e in events) and any(e.phase == "check" for e in events)
     log = result_to_dict(res, input="in.qasm")
-    assert log["before"]["gates"] == 3000 and log["after"]["gates"] == res.output.gate_count
+    assert log["before"]["gates"] == 2200 and log["after"]["gates"] == res.output.gate_count
     assert set(log["before"]) == {"gates", "ncv", "t_count", "cnot_count", "depth"}
-    assert sum(w["gates_removed"] for w in log["windows_replaced"]) == 3000 - res.output.gate_count
+    assert sum(w["gates_removed"] for w in log["windows_replaced"]) == 2200 - res.output.gate_count
     assert log["equivalence"]["method"] == "exhaustive" and log["equivalence"]["equal"] is True
     assert log["input"] == "in.qasm"
     text = summary_text(res)
