@@ -524,3 +524,23 @@ def test_apply_draw_and_synth_read_several_registers(tmp_path) -> None:  # type:
     assert c == Circuit(3, (x_gate(2, [0, 1]), x_gate(0, [2])))
     spec, _ = load_any(path)  # what synth FILE.qasm calls
     assert spec.permutation == c.permutation()
+
+
+def test_definitions_of_reversible_gates_expand_to_their_gates() -> None:
+    # MAJ(a, b, c) -> (a^c, b^c, maj(a, b, c)) in 3 gates (Cuccaro, Draper, Kutin, Moulton 2004)
+    text = """OPENQASM 3.0;
+qubit[3] q;
+gate maj(unused) a, b, c { cx c, b; cx c, a; ccx a, b, c; }
+gate there_and_back a, b, c { maj(0.5) a, b, c; inv @ maj(1) a, b, c; }
+maj(pi) q[0], q[1], q[2];
+there_and_back q[2], q[1], q[0];
+"""
+    c = read_qasm(text)
+    assert c.gates[:3] == (x_gate(1, [2]), x_gate(0, [2]), x_gate(2, [0, 1]))
+    assert len(c.gates) == 9 and Circuit(3, c.gates[3:]).permutation() == tuple(range(8))
+    for x in range(8):
+        a, b, cc = x & 1, x >> 1 & 1, x >> 2 & 1
+        y = Circuit(3, c.gates[:3]).permutation()[x]
+        assert (y & 1, y >> 1 & 1, y >> 2 & 1) == (a ^ cc, b ^ cc, int(a + b + cc >= 2))
+    with pytest.raises(ExactsynError, match="'maj' takes 1 parameter"):
+        read_qasm(text.replace("maj(pi) q[0]", "maj q[0]"))

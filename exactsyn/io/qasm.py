@@ -81,7 +81,6 @@ from exactsyn.io.layout import Layout
 from exactsyn.io.qasm_defs import (
     MAX_UNITARY_QUBITS,
     PRELUDE,
-    REVERSIBLE,
     STANDARD,
     Call,
     Definition,
@@ -92,6 +91,7 @@ from exactsyn.io.qasm_defs import (
     modified_gates,
     parse_call,
     parse_definition,
+    reversible_meaning,
 )
 
 SUPPORTED = (
@@ -430,14 +430,9 @@ class _Reader:
             raise ExactsynError(f"gate '{name}' at line {ln} comes before any quantum register is declared")
         qubits = [self.operand(ln, part) for part in call.operands]
         try:
-            if not call.params:
-                if defn is not None and defn.gates is not None and not defn.params:
-                    return modified_gates(defn.gates, defn.arity, call.modifiers, qubits)
-                plain = self.base(name) if defn is None else None
-                if plain is None and defn is None:
-                    plain = REVERSIBLE.get(name)
-                if plain is not None:
-                    return modified_gates(plain[1], plain[0], call.modifiers, qubits)
+            plain = reversible_meaning(call, self.lookup, self.base)
+            if plain is not None:
+                return modified_gates(plain[1], plain[0], call.modifiers, qubits)
             return self.unitary_call(ln, call, qubits)
         except ExactsynError as e:
             if e.message.startswith(("needs ", "uses a qubit twice")):

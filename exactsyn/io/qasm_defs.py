@@ -466,16 +466,19 @@ def parse_definition(ln: int, stmt: str, lookup: Lookup, base: BaseLookup) -> De
     return Definition(name, params, args, tuple(calls), ln, gates)
 
 
-def _reversible_base(name: str, lookup: Lookup, base: BaseLookup) -> tuple[int, tuple[Gate, ...]] | None:
-    if name in REVERSIBLE:
-        return REVERSIBLE[name]
-    own = base(name)
-    if own is not None:
-        return own
-    defn = lookup(name)
-    if defn is not None and defn.gates is not None and not defn.params:
+def reversible_meaning(call: Call, lookup: Lookup, base: BaseLookup) -> tuple[int, tuple[Gate, ...]] | None:
+    """``(operand count, gates on operands 0..k-1)`` when the called gate is a gate sequence
+    whatever its parameters, else None.  Names resolve as in the reader: definitions of the
+    file first, then exactsyn's own definitions, then the reversible standard gates."""
+    defn = lookup(call.name)
+    if defn is not None:
+        if defn.gates is None or len(call.params) != len(defn.params):
+            return None
         return defn.arity, defn.gates
-    return None
+    if call.params:
+        return None
+    own = base(call.name)
+    return own if own is not None else REVERSIBLE.get(call.name)
 
 
 def _as_gates(defn: Definition, lookup: Lookup, base: BaseLookup) -> tuple[Gate, ...] | None:
@@ -483,7 +486,7 @@ def _as_gates(defn: Definition, lookup: Lookup, base: BaseLookup) -> tuple[Gate,
     out: list[Gate] = []
     index = {a: i for i, a in enumerate(defn.args)}
     for call in defn.body:
-        known = None if call.params else _reversible_base(call.name, lookup, base)
+        known = reversible_meaning(call, lookup, base)
         if known is None:
             return None
         if any(m.arg is not None and not re.fullmatch(r"-?\d+", m.arg.strip()) for m in call.modifiers):
@@ -511,21 +514,21 @@ def _apply(state: Matrix, matrix: Matrix, qubits: Sequence[int], k: int) -> Matr
 def call_matrix(call: Call, env: Mapping[str, float], lookup: Lookup, base: BaseLookup) -> Matrix:
     """The unitary of one call on its operands (operand j = bit j), modifiers applied."""
     values = tuple(evaluate(p, env) for p in call.params)
-    if call.name in STANDARD:
+    defn = lookup(call.name)
+    own = base(call.name)
+    if defn is not None:
+        matrix = definition_unitary(defn, values, lookup, base)
+    elif own is not None:
+        if values:
+            raise ExactsynError(f"'{call.name}' takes no parameters")
+        matrix = permutation_matrix(own[1], own[0])
+    elif call.name in STANDARD:
         nparams, _, build = STANDARD[call.name]
         if len(values) != nparams:
             raise ExactsynError(f"'{call.name}' takes {nparams} parameter(s), not {len(values)}")
         matrix = build(*values)
     else:
-        defn = lookup(call.name)
-        if defn is not None:
-            matrix = definition_unitary(defn, values, lookup, base)
-        else:
-            own = base(call.name)
-            if own is None or values:
-                raise ExactsynError(f"unsupported gate '{call.name}'")
-            arity, gates = own
-            matrix = permutation_matrix(gates, arity)
+        raise ExactsynError(f"unsupported gate '{call.name}'")
     for mod in reversed(call.modifiers):
         if mod.word in ("ctrl", "negctrl"):
             matrix = controlled(matrix, modifier_count(mod, env), mod.word == "negctrl")
