@@ -60,6 +60,10 @@ _EXPORTS: dict[str, tuple[str, str]] = {
     "circuit_to_dict": ("exactsyn.io.jsonio", "circuit_to_dict"),
     "circuit_from_dict": ("exactsyn.io.jsonio", "circuit_from_dict"),
     "check_certificate": ("exactsyn.proof.check", "check_certificate"),
+    "optimise_circuit": ("exactsyn.optimise", "optimise_circuit"),
+    "OptimiseResult": ("exactsyn.optimise", "OptimiseResult"),
+    "read_circuit_layout": ("exactsyn.io.files", "read_circuit_layout"),
+    "Layout": ("exactsyn.io.layout", "Layout"),
     "CheckReport": ("exactsyn.proof.check", "CheckReport"),
     "Query": ("exactsyn.sat.query", "Query"),
     "Status": ("exactsyn.sat.status", "Status"),
@@ -74,8 +78,10 @@ __all__ = [
     "CostModel",
     "ExactsynError",
     "Gate",
+    "Layout",
     "Library",
     "NoCircuitError",
+    "OptimiseResult",
     "PRESETS",
     "Query",
     "Spec",
@@ -89,10 +95,12 @@ __all__ = [
     "from_permutation",
     "load_spec",
     "make_library",
+    "optimise_circuit",
     "parse_cycles",
     "parse_perm",
     "peres_gate",
     "read_circuit",
+    "read_circuit_layout",
     "read_qasm",
     "render",
     "swap_gate",
@@ -129,9 +137,19 @@ if TYPE_CHECKING:  # the same names, for type checkers and editors
     from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
     from exactsyn.core.library import PRESETS, Library, make_library
     from exactsyn.errors import ExactsynError, NoCircuitError
-    from exactsyn.io.files import read_circuit, render, write_circuit, write_json, write_qasm2, write_qasm3
+    from exactsyn.io.files import (
+        read_circuit,
+        read_circuit_layout,
+        render,
+        write_circuit,
+        write_json,
+        write_qasm2,
+        write_qasm3,
+    )
     from exactsyn.io.jsonio import circuit_from_dict, circuit_to_dict
+    from exactsyn.io.layout import Layout
     from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
+    from exactsyn.optimise import OptimiseResult, optimise_circuit
     from exactsyn.proof.check import CheckReport, check_certificate
     from exactsyn.sat.query import Query
     from exactsyn.sat.status import Status

@@ -12,6 +12,7 @@ from exactsyn import __version__
 from exactsyn.cli.apply import apply
 from exactsyn.cli.batch import batch, table
 from exactsyn.cli.check import check
+from exactsyn.cli.optimise import optimise
 from exactsyn.cli.pictures import draw, report
 from exactsyn.cli.synth import synth
 
@@ -32,5 +33,5 @@ def main() -> None:
     """
 
 
-for command in (synth, check, apply, batch, table, draw, report):
+for command in (synth, optimise, check, apply, batch, table, draw, report):
     main.add_command(command)

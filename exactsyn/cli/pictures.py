@@ -12,7 +12,7 @@ import click
 from exactsyn.batch.html_report import build_report
 from exactsyn.cli.common import emit, fail
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import PICTURE_FORMATS, format_for, read_circuit, render
+from exactsyn.io.files import PICTURE_FORMATS, format_for, read_circuit_layout, render
 
 DEFAULT_WRAP = 40  # gate columns per row of a drawing
 
@@ -67,8 +67,9 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
         chosen = format_for(output, fmt, PICTURE_FORMATS)
         if packed and chosen == "text":
             raise ExactsynError("--packed is for svg and png; the terminal drawing has one gate per column")
-        circuit = read_circuit(circuit_file)
-        emit(render(circuit, chosen, labels=parse_labels(labels), packed=packed, wrap=wrap or None), output)
+        circuit, layout, _ = read_circuit_layout(circuit_file)  # several registers label the lines
+        drawing = render(circuit, chosen, labels=parse_labels(labels), packed=packed, wrap=wrap or None, layout=layout)
+        emit(drawing, output)
     except ExactsynError as e:
         fail(e.message)
 

@@ -26,7 +26,8 @@ from exactsyn.cli.options import (
 from exactsyn.core.cliffordt import decompose
 from exactsyn.core.cliffordt import verify as verify_clifford_t
 from exactsyn.errors import ExactsynError, NoCircuitError
-from exactsyn.io.files import CIRCUIT_FORMATS, render
+from exactsyn.io.files import CIRCUIT_FORMATS, read_circuit_layout, render
+from exactsyn.io.layout import Layout
 from exactsyn.io.qasm import clifford_t_to_qasm2, clifford_t_to_qasm3
 from exactsyn.io.report import (
     listing_summary,
@@ -66,7 +67,19 @@ def _show_query(q: Query) -> None:
         click.echo(f"{q.label():<18} {q.status.upper():<7} {q.seconds:8.2f} s", err=True)
 
 
-def _print_result(syn: Synthesis, fmt: str, output: str | None, clifford_t: bool, quiet: bool) -> None:
+def _layout_of(spec_file: str | None) -> Layout | None:
+    """The register names of a circuit file given as the spec (written back under those names)."""
+    if spec_file is None or not spec_file.lower().endswith((".qasm", ".qasm2", ".qasm3", ".json")):
+        return None
+    try:
+        return read_circuit_layout(spec_file)[1]
+    except ExactsynError:
+        return None
+
+
+def _print_result(
+    syn: Synthesis, fmt: str, output: str | None, clifford_t: bool, quiet: bool, layout: Layout | None = None
+) -> None:
     if not quiet:
         click.echo(status_line(syn.gate_result), err=True)
         for note in syn.notes:
@@ -92,7 +105,7 @@ def _print_result(syn: Synthesis, fmt: str, output: str | None, clifford_t: bool
     elif ct is not None:
         emit(clifford_t_to_qasm2(ct) if fmt == "qasm2" else clifford_t_to_qasm3(ct), output)
     else:
-        emit(render(circuit, fmt), output)
+        emit(render(circuit, fmt, layout=layout), output)
 
 
 @click.command()
@@ -235,6 +248,6 @@ def synth(
             )
         except NoCircuitError as e:
             fail(e.message, 1)
-        _print_result(syn, fmt, output, clifford_t, quiet)
+        _print_result(syn, fmt, output, clifford_t, quiet, _layout_of(spec_file))
     except ExactsynError as e:
         fail(e.message)

@@ -18,7 +18,8 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import circuit_to_dict, load_json_circuit
-from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
+from exactsyn.io.layout import Layout, apply_layout, layout_from_dict
+from exactsyn.io.qasm import read_qasm_layout, to_qasm2, to_qasm3
 from exactsyn.io.svg import to_svg
 
 CIRCUIT_FORMATS = ("text", "json", "qasm2", "qasm3", "svg", "png")
@@ -64,16 +65,28 @@ def render(
     packed: bool = False,
     wrap: int | None = 40,
     header: Sequence[str] = (),
+    layout: Layout | None = None,
 ) -> str | bytes:
-    """The circuit as ``fmt`` text (bytes for ``png``).  ``header`` lines become QASM comments."""
+    """The circuit as ``fmt`` text (bytes for ``png``).
+
+    ``header`` lines become QASM comments; ``layout`` names the registers (OpenQASM and
+    JSON keep them, pictures label the lines with them unless ``labels`` are given).
+    """
     if packed and fmt not in ("svg", "png"):
         raise ExactsynError("packed drawing is for svg and png; the terminal drawing has one gate per column")
+    named = layout is not None and not layout.is_single
+    if labels is None and named:
+        assert layout is not None
+        labels = layout.labels()
     if fmt == "json":
-        return json.dumps(circuit_to_dict(circuit), indent=2) + "\n"
-    if fmt == "qasm2":
-        return to_qasm2(circuit, header)
-    if fmt == "qasm3":
-        return to_qasm3(circuit, header)
+        data = circuit_to_dict(circuit)
+        if named:
+            assert layout is not None
+            data["registers"] = layout.to_dict()
+        return json.dumps(data, indent=2) + "\n"
+    if fmt in ("qasm2", "qasm3"):
+        text = to_qasm2(circuit, header) if fmt == "qasm2" else to_qasm3(circuit, header)
+        return apply_layout(text, layout) if named and layout is not None else text
     if fmt == "text":
         return draw_text(circuit, labels)
     if fmt == "svg":
@@ -120,16 +133,35 @@ def read_text(path: str | Path, what: str) -> str:
         raise ExactsynError(f"{what} {p} is not UTF-8 text") from None
 
 
+def circuit_layout_from_text(text: str) -> tuple[Circuit, Layout, str]:
+    """A saved circuit, its register layout, and its format (``json``, ``qasm2`` or ``qasm3``).
+
+    JSON when the text starts with ``{`` (registers from its optional ``registers`` key),
+    OpenQASM otherwise (registers in declaration order).
+    """
+    if text.lstrip().startswith("{"):
+        circuit = load_json_circuit(text)
+        data = json.loads(text)
+        regs = data.get("registers") if isinstance(data, dict) else None
+        layout = Layout.single(circuit.lines) if regs is None else layout_from_dict(regs, circuit.lines)
+        return circuit, layout, "json"
+    circuit, layout = read_qasm_layout(text)
+    return circuit, layout, "qasm2" if text.lstrip().startswith("OPENQASM 2") else "qasm3"
+
+
 def circuit_from_text(text: str) -> Circuit:
     """A saved circuit: JSON when it starts with ``{``, OpenQASM otherwise."""
-    if text.lstrip().startswith("{"):
-        return load_json_circuit(text)
-    return read_qasm(text)
+    return circuit_layout_from_text(text)[0]
+
+
+def read_circuit_layout(path: str | Path) -> tuple[Circuit, Layout, str]:
+    """Read a saved circuit (JSON or OpenQASM 2/3) with its register layout and format."""
+    return circuit_layout_from_text(read_text(path, "circuit file"))
 
 
 def read_circuit(path: str | Path) -> Circuit:
     """Read a saved circuit (JSON or OpenQASM 2/3)."""
-    return circuit_from_text(read_text(path, "circuit file"))
+    return read_circuit_layout(path)[0]
 
 
 def write_qasm2(circuit: Circuit, path: str | Path) -> Path:

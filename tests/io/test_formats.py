@@ -27,7 +27,9 @@ from exactsyn.io.jsonio import (
     gate_to_dict,
     load_json_circuit,
 )
-from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
+from exactsyn.io.layout import Layout, apply_layout, layout_from_dict
+from exactsyn.io.qasm import read_qasm, read_qasm_layout, to_qasm2, to_qasm3
+from exactsyn.io.qasm_defs import STANDARD, definition_unitary, parse_definition
 
 N_RANDOM = 120
 
@@ -240,17 +242,25 @@ ccx r[0],r[1],r[2];
         ("OPENQASM 3.0;\nqubit[2] q;\nbit[2] c;\nc[0] = measure q[0];\n", "unsupported statement"),
         ("OPENQASM 2.0;\nqreg q[2];\ncreg c[2];\nmeasure q[0] -> c[0];\n", "unsupported statement 'measure'"),
         ("OPENQASM 2.0;\nqreg q[2];\ncreg c[2];\nif (c==1) x q[0];\n", "unsupported statement 'if'"),
-        ("OPENQASM 2.0;\nqreg q[2];\nqreg r[2];\n", "second quantum register"),
-        ("OPENQASM 3.0;\nqubit[2] q;\nqubit[1] r;\ncx q[0], r[0];\n", "second quantum register"),
+        ("OPENQASM 2.0;\nqreg q[2];\nqreg q[2];\n", "declared a second time"),
+        ("OPENQASM 3.0;\nqubit[2] q;\nqubit[1] r;\ncx q[0], s[0];\n", "unknown register 's'"),
         ("OPENQASM 2.0;\nqreg q[2];\ncx q[0],q[2];\n", "out of range"),
         ("OPENQASM 2.0;\nqreg q[2];\ncx q[0],q[0];\n", "twice"),
         ("OPENQASM 2.0;\nqreg q[2];\ncx q[0];\n", "needs 2 qubits"),
         ("OPENQASM 2.0;\nqreg q[2];\nx q;\n", "whole register"),
         ("OPENQASM 2.0;\nqreg q[2];\nctrl @ x q[0], q[1];\n", "needs OpenQASM 3"),
-        ("OPENQASM 3.0;\nqubit[2] q;\ninv @ x q[0];\n", "unsupported gate modifier 'inv'"),
-        ("OPENQASM 3.0;\nqubit[2] q;\nrx(0.5) q[0];\n", "unsupported gate 'rx'"),
+        ("OPENQASM 3.0;\nqubit[2] q;\npow(0.5) @ x q[0];\n", "needs an integer"),
+        ("OPENQASM 3.0;\nqubit[2] q;\nrx(0.5) q[0];\n", "unsupported gate 'rx' at line 3: its unitary is not"),
+        ("OPENQASM 3.0;\nqubit[2] q;\nz q[0];\n", "different phases"),
         ("OPENQASM 2.0;\nqreg q[4];\nxc3 q[0],q[1],q[2],q[3];\n", "unsupported gate 'xc3'"),
-        ("OPENQASM 2.0;\nqreg q[2];\ngate foo a { x a; }\n", "unsupported gate definition 'foo'"),
+        ("OPENQASM 2.0;\nqreg q[2];\ngate foo a { h a; }\nfoo q[1];\n", "unsupported gate 'foo' at line 4"),
+        ("OPENQASM 2.0;\nqreg q[2];\ngate foo a { bar a; }\n", "calls 'bar', which is neither"),
+        ("OPENQASM 2.0;\nqreg q[2];\ngate foo a { x b; }\n", "'b' is not one of its qubit arguments"),
+        ("OPENQASM 2.0;\nqreg q[2];\ngate foo a,b { cx a,b; }\nfoo q[0];\n", "needs 2 qubits, not 1"),
+        ("OPENQASM 2.0;\nqreg q[3];\ngate f a,b { swap a,b; cx a,b; }\nh q[0];\n", "unsupported gate 'h'"),
+        ("OPENQASM 3.0;\nqubit[3] q;\ngate f a,b,c { h c; h c; cx a,c; cx b,c; }\nf q[0],q[1],q[2];\n", "not as one"),
+        ("OPENQASM 3.0;\nqubit[2] q;\nrx(pi/0) q[0];\n", "no finite value"),
+        ("OPENQASM 3.0;\nqubit[2] q;\nrx(__import__) q[0];\n", "unknown name"),
         ("OPENQASM 4.0;\nqreg q[2];\n", "version"),
         ('OPENQASM 2.0;\ninclude "other.inc";\nqreg q[2];\n', "include"),
         ("OPENQASM 2.0;\nx q[0];\nqreg q[2];\n", "before any quantum register"),
@@ -334,3 +344,200 @@ def test_reads_what_qiskit_writes() -> None:
     expected = Operator(qc).data
     for text in (qiskit.qasm2.dumps(qc), qiskit.qasm3.dumps(qc)):
         assert np.allclose(permutation_matrix(read_qasm(text)), expected), text
+
+
+# ---------------------------------------------------------------------------- files other tools write
+QISKIT_WARNINGS = "ignore::DeprecationWarning"
+
+
+def _qiskit_mcx(controls: int) -> object:
+    qiskit = pytest.importorskip("qiskit")
+    qc = qiskit.QuantumCircuit(controls + 2)
+    qc.mcx(list(range(controls)), controls + 1)
+    qc.mcx(list(range(1, controls + 1)), 0)  # a second call reuses the definition
+    return qc
+
+
+@pytest.mark.filterwarnings(QISKIT_WARNINGS)
+@pytest.mark.parametrize("controls", [2, 3, 4, 5])
+def test_qiskit_mcx_definitions_read_as_the_right_gates(controls: int) -> None:
+    qiskit = pytest.importorskip("qiskit")
+    from qiskit.quantum_info import Operator
+
+    qc = _qiskit_mcx(controls)
+    expected = (x_gate(controls + 1, list(range(controls))), x_gate(0, list(range(1, controls + 1))))
+    # qiskit as the outside writer: its OpenQASM 2 and 3 exporters define mcx through h, p/cp, crx, cx
+    for text in (qiskit.qasm2.dumps(qc), qiskit.qasm3.dumps(qc)):
+        assert (controls > 2) == ("gate mcx" in text)
+        c = read_qasm(text)
+        assert c.gates == expected, text
+        assert np.allclose(permutation_matrix(c), Operator(qc).data)
+
+
+@pytest.mark.filterwarnings(QISKIT_WARNINGS)
+def test_qiskit_open_controls_and_phase_gates_that_are_permutations() -> None:
+    qiskit = pytest.importorskip("qiskit")
+    from qiskit.quantum_info import Operator
+
+    qc = qiskit.QuantumCircuit(4)
+    qc.mcx([0, 1], 2, ctrl_state="01")  # qiskit writes a definition with x around a ccx
+    qc.mcx([0, 1, 2], 3, ctrl_state="100")
+    qc.rx(np.pi, 1)  # −i·X: a NOT up to a global phase
+    for text in (qiskit.qasm2.dumps(qc), qiskit.qasm3.dumps(qc)):
+        c = read_qasm(text)
+        got = permutation_matrix(c)
+        ref = Operator(qc).data
+        # equal up to the global phase of rx(pi)
+        assert np.allclose(got * ref[np.argmax(np.abs(ref[:, 0])), 0], ref), text
+    qc.cz(0, 3)  # a permutation with two phases: refused, each call is judged on its own
+    for text in (qiskit.qasm2.dumps(qc), qiskit.qasm3.dumps(qc)):
+        with pytest.raises(ExactsynError, match="unsupported gate 'cz' at line .*different phases"):
+            read_qasm(text)
+
+
+def test_phase_bodies_become_gates_or_are_refused() -> None:
+    text = """OPENQASM 3.0;
+include "stdgates.inc";
+gate hcz a, b { h b; cz a, b; h b; }
+gate negated a, b { x a; hcz a, b; x a; }
+gate both(theta) a, b { rz(theta) a; rz(-theta) a; ctrl @ x a, b; }
+qubit[1] c;
+qubit[2] r;
+hcz c, r[1];
+negated r[0], r[1];
+both(0.25) r[1], c;
+inv @ ctrl @ negated r[0], c, r[1];
+"""
+    c = read_qasm(text)
+    assert c.gates == (
+        x_gate(2, [0]),  # h·cz·h is a CNOT (common practice)
+        x_gate(2, [], [1]),  # a CNOT between x gates: negative control; the definition is rebuilt as one gate
+        x_gate(0, [2]),
+        x_gate(2, [1], [0]),  # the ctrl operand r[0] is line 1; negated's control c is line 0
+    )
+    half = text.replace("gate hcz a, b { h b; cz a, b; h b; }", "gate hcz a, b { h b; cz a, b; }")
+    with pytest.raises(ExactsynError, match="unsupported gate 'hcz' at line 8: .*superpositions"):
+        read_qasm(half)
+
+
+@pytest.mark.filterwarnings(QISKIT_WARNINGS)
+@pytest.mark.parametrize("name", [n for n, (_, q, _f) in STANDARD.items() if q > 0])
+def test_standard_gate_matrices_are_qiskits(name: str) -> None:
+    qiskit = pytest.importorskip("qiskit")
+    from qiskit.quantum_info import Operator
+
+    nparams, nq, _ = STANDARD[name]
+    values = "(" + ",".join(str(v) for v in (0.3, -1.1, 0.7, 2.0)[:nparams]) + ")" if nparams else ""
+    args = ",".join("abcde"[:nq])
+    defn = parse_definition(1, f"gate w {args} {{ {name}{values} {args}; }}", lambda n: None, lambda n: None)
+    ours = definition_unitary(defn, (), lambda n: None, lambda n: None)
+    ops = ",".join(f"q[{i}]" for i in range(nq))
+    checked = 0
+    # qiskit as reference reader, each version with its include file; a gate it does not know is skipped
+    for head, load in (
+        ('OPENQASM 2.0;\ninclude "qelib1.inc";\nqreg q[%d];\n', "qasm2"),
+        ('OPENQASM 3.0;\ninclude "stdgates.inc";\nqubit[%d] q;\n', "qasm3"),
+    ):
+        text = head % nq + f"{name}{values} {ops};\n"
+        try:
+            if load == "qasm2":
+                qc = qiskit.qasm2.loads(text, custom_instructions=qiskit.qasm2.LEGACY_CUSTOM_INSTRUCTIONS)
+            else:
+                qc = qiskit.qasm3.loads(text)
+        except Exception:  # noqa: BLE001  (a name outside that include file)
+            continue
+        assert np.allclose(Operator(qc).data, ours), (name, load)  # global phase included
+        checked += 1
+    assert checked >= 1, f"qiskit read {name} in neither version"
+
+
+@pytest.mark.filterwarnings(QISKIT_WARNINGS)
+def test_relative_phase_toffolis_match_qiskit() -> None:
+    qiskit = pytest.importorskip("qiskit")
+    from qiskit.quantum_info import Operator
+
+    from exactsyn.io.qasm import _prelude
+
+    for name, defn in _prelude().items():
+        ops = ",".join(f"q[{i}]" for i in range(defn.arity))
+        text = f'OPENQASM 2.0;\ninclude "qelib1.inc";\nqreg q[{defn.arity}];\n{name} {ops};\n'
+        qc = qiskit.qasm2.loads(text, custom_instructions=qiskit.qasm2.LEGACY_CUSTOM_INSTRUCTIONS)
+        assert np.allclose(Operator(qc).data, definition_unitary(defn, (), lambda n: None, lambda n: None))
+
+
+def _lowered_adders() -> list[object]:
+    qiskit = pytest.importorskip("qiskit")
+    from qiskit.circuit.library import CDKMRippleCarryAdder, VBERippleCarryAdder
+
+    return [
+        qiskit.transpile(cls(2), basis_gates=["x", "cx", "ccx"], optimization_level=0)
+        for cls in (CDKMRippleCarryAdder, VBERippleCarryAdder)
+    ]
+
+
+@pytest.mark.filterwarnings(QISKIT_WARNINGS)
+def test_several_registers_read_in_declaration_order_and_written_back() -> None:
+    qiskit = pytest.importorskip("qiskit")
+    from qiskit.quantum_info import Operator
+
+    for qc in _lowered_adders():
+        names = [(r.name, r.size) for r in qc.qregs]  # type: ignore[attr-defined]
+        assert len(names) >= 4
+        for text in (qiskit.qasm2.dumps(qc), qiskit.qasm3.dumps(qc)):
+            c, layout = read_qasm_layout(text)
+            assert list(layout.registers) == names
+            assert np.allclose(permutation_matrix(c), Operator(qc).data)
+            for written in (apply_layout(to_qasm2(c), layout), apply_layout(to_qasm3(c), layout)):
+                back = qiskit.qasm2.loads(written) if written.startswith("OPENQASM 2") else qiskit.qasm3.loads(written)
+                assert [(r.name, r.size) for r in back.qregs] == names, written
+                assert np.allclose(Operator(back).data, Operator(qc).data)
+                assert read_qasm_layout(written) == (c, layout)
+
+
+def test_layout_in_json_and_its_errors() -> None:
+    c = Circuit(3, (x_gate(2, [0, 1]),))
+    layout = Layout((("a", 2), ("carry", 1)))
+    data = circuit_to_dict(c) | {"registers": layout.to_dict()}
+    back = json.loads(json.dumps(data))
+    assert circuit_from_dict(back) == c
+    assert layout_from_dict(back["registers"], 3) == layout
+    assert layout.labels() == ["a[0]", "a[1]", "carry[0]"]
+    with pytest.raises(ExactsynError, match="hold 3 qubits but the circuit has 4"):
+        layout_from_dict(back["registers"], 4)
+    with pytest.raises(ExactsynError, match="not an identifier"):
+        layout_from_dict([{"name": "1a", "size": 3}], 3)
+    with pytest.raises(ExactsynError, match="clashes"):
+        apply_layout(to_qasm2(c), Layout((("cx", 2), ("b", 1))))
+
+
+def test_apply_draw_and_synth_read_several_registers(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    from exactsyn.io.files import read_circuit as load_circuit
+    from exactsyn.spec.files import load_any
+
+    text = 'OPENQASM 2.0;\ninclude "qelib1.inc";\nqreg a[2];\nqreg c[1];\nccx a[0],a[1],c[0];\ncx c[0],a[0];\n'
+    path = tmp_path / "two.qasm"
+    path.write_text(text)
+    c = load_circuit(path)  # what apply and draw call
+    assert c == Circuit(3, (x_gate(2, [0, 1]), x_gate(0, [2])))
+    spec, _ = load_any(path)  # what synth FILE.qasm calls
+    assert spec.permutation == c.permutation()
+
+
+def test_definitions_of_reversible_gates_expand_to_their_gates() -> None:
+    # MAJ(a, b, c) -> (a^c, b^c, maj(a, b, c)) in 3 gates (Cuccaro, Draper, Kutin, Moulton 2004)
+    text = """OPENQASM 3.0;
+qubit[3] q;
+gate maj(unused) a, b, c { cx c, b; cx c, a; ccx a, b, c; }
+gate there_and_back a, b, c { maj(0.5) a, b, c; inv @ maj(1) a, b, c; }
+maj(pi) q[0], q[1], q[2];
+there_and_back q[2], q[1], q[0];
+"""
+    c = read_qasm(text)
+    assert c.gates[:3] == (x_gate(1, [2]), x_gate(0, [2]), x_gate(2, [0, 1]))
+    assert len(c.gates) == 9 and Circuit(3, c.gates[3:]).permutation() == tuple(range(8))
+    for x in range(8):
+        a, b, cc = x & 1, x >> 1 & 1, x >> 2 & 1
+        y = Circuit(3, c.gates[:3]).permutation()[x]
+        assert (y & 1, y >> 1 & 1, y >> 2 & 1) == (a ^ cc, b ^ cc, int(a + b + cc >= 2))
+    with pytest.raises(ExactsynError, match="'maj' takes 1 parameter"):
+        read_qasm(text.replace("maj(pi) q[0]", "maj q[0]"))
