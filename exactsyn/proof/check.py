@@ -6,7 +6,8 @@ the encoder**, compares its hash with the stored one (a mismatch is reported, si
 means the spec, library or encoding was changed after the fact), checks each LRAT
 refutation by unit propagation over its hints (:mod:`exactsyn.proof.lrat`), re-derives the
 initial bound and any distance-table bound (by rebuilding the table and repeating the
-meet-in-the-middle test), requires a refutation for every k from the bound to
+meet-in-the-middle test), checks a query split into cubes cube by cube together with the
+cubes' coverage (:mod:`exactsyn.proof.cubes`), requires a refutation for every k from the bound to
 ``gate_count − 1``, and simulates the circuit against the spec on every input.
 
 The ``objective`` section: each refuted cost or depth CNF is re-derived
@@ -50,6 +51,7 @@ from exactsyn.proof.certificate import (
     read_proof,
     spec_from_dict,
 )
+from exactsyn.proof.cubes import check_split
 from exactsyn.proof.lrat import check_lrat
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import CostLimit, EncodingOptions, encode
@@ -184,6 +186,10 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         digest = cnf_sha256(enc.num_vars, enc.clauses)
         if digest != q.get("cnf_sha256"):
             note(f"k={k}", False, "re-derived CNF differs from the one proved (spec, library or encoding changed)")
+            continue
+        if q.get("split") is not None:  # refuted cube by cube (proof/cubes.py)
+            if check_split(directory, q["split"], enc.num_vars, enc.clauses, f"k={k}", note):
+                refuted.add(k)
             continue
         if not q.get("proof"):
             note(f"k={k}", False, "no proof file")

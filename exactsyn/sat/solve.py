@@ -7,7 +7,9 @@ clauses between calls, so slicing costs little) and checking the clock in betwee
 
 from __future__ import annotations
 
+import math
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
 
 from pysat.solvers import Solver
@@ -32,20 +34,26 @@ class SolveOutcome:
     conflicts: int
 
 
-def solve_cnf(clauses: list[list[int]], solver: str = "cadical195", time_limit: float | None = None) -> SolveOutcome:
-    """Solve; ``status`` is ``"unknown"`` when ``time_limit`` seconds ran out."""
+def solve_cnf(
+    clauses: list[list[int]],
+    solver: str = "cadical195",
+    time_limit: float | None = None,
+    stop: Callable[[], bool] | None = None,
+) -> SolveOutcome:
+    """Solve; ``status`` is ``"unknown"`` when ``time_limit`` seconds ran out or ``stop()``
+    (asked between budget slices) said so."""
     if solver not in SOLVERS:
         raise ExactsynError(f"unknown solver {solver!r}; choose one of: {', '.join(SOLVERS)}")
     start = time.perf_counter()
     with Solver(name=solver, bootstrap_with=clauses) as s:
-        if time_limit is None:
+        if time_limit is None and stop is None:
             res: bool | None = s.solve()
         else:
             budget = _SLICE0
             res = None
             while True:
-                left = time_limit - (time.perf_counter() - start)
-                if left <= 0:
+                left = math.inf if time_limit is None else time_limit - (time.perf_counter() - start)
+                if left <= 0 or (stop is not None and stop()):
                     break
                 s.conf_budget(budget)
                 res = s.solve_limited()

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError, NoCircuitError
+from exactsyn.sat.conquer import CubeOptions, CubeProgress
 from exactsyn.sat.encode import Encoding, EncodingOptions, encode
 from exactsyn.sat.query import ProofSink, Query, run_query
 from exactsyn.sat.status import Status
@@ -109,6 +110,8 @@ def minimise_gates(
     progress: Callable[[Query], None] | None = None,
     proof_sink: ProofSink | None = None,
     cnf_sink: Callable[[Encoding], None] | None = None,
+    split: CubeOptions | None = None,
+    cube_progress: CubeProgress | None = None,
 ) -> GateResult:
     """Find a minimum-gate circuit; see the module docstring.
 
@@ -116,7 +119,9 @@ def minimise_gates(
     each refutation is handed to ``proof_sink(stem, proof)``, which stores it and returns
     its name (see :mod:`exactsyn.proof.certificate`).  With ``jobs >= 2`` a query still
     open after a second is raced against the formulation without symmetry breaking.
-    ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  Raises
+    ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  With ``split``
+    a query still open after a second is split into cubes instead of raced
+    (:mod:`exactsyn.sat.conquer`), and ``cube_progress`` hears about each cube.  Raises
     :class:`NoCircuitError` when parity rules every circuit out.
     """
     opts = encoding or EncodingOptions()
@@ -181,7 +186,15 @@ def minimise_gates(
         rival = None
         if jobs >= 2 and enc.options.symmetry:
             rival = functools.partial(encode, spec, library, k, PLAIN)
-        ans = run_query(enc, solver=solver, time_limit=left, proof_sink=proof_sink, rival=rival)
+        ans = run_query(
+            enc,
+            solver=solver,
+            time_limit=left,
+            proof_sink=proof_sink,
+            rival=rival,
+            split=split,
+            cube_progress=cube_progress,
+        )
         steps.append(ans.query)
         if progress:
             progress(ans.query)
