@@ -59,6 +59,8 @@ from exactsyn.sat.encode_depth import encode_depth
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import lower_bound, nonaffine_extra
 from exactsyn.search.distance import FULL, extended_meet, meet_in_the_middle
+from exactsyn.search.five import MAX_DEPTH as FIVE_MAX_DEPTH
+from exactsyn.search.five import five_meet, five_table_ok
 from exactsyn.spec.reversible import Spec
 
 
@@ -146,12 +148,16 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
             depth, extended, value, exact = int(tb["depth"]), bool(tb["extended"]), int(tb["value"]), bool(tb["exact"])
         except (KeyError, TypeError, ValueError):
             raise ExactsynError("certificate: malformed 'table_bound'") from None
-        if not spec.is_permutation or not library.involutive or spec.lines > 4 or not 0 <= depth <= FULL:
-            note("table", False, "a table bound needs a full permutation on at most 4 lines")
+        five = spec.lines == 5 and five_table_ok(library) and 1 <= depth <= FIVE_MAX_DEPTH and not extended
+        if not spec.is_permutation or not library.involutive or (spec.lines > 4 and not five) or not 0 <= depth <= FULL:
+            note("table", False, "a table bound needs a full permutation on at most 4 lines (5 with hashed tables)")
         else:
             t0 = time.perf_counter()
             try:
-                mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
+                if five:  # the hashed 5-line table of search/five.py, rebuilt at the recorded depth
+                    mr = five_meet(spec.permutation, library, depth)
+                else:
+                    mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
             except NoCircuitError as e:
                 mr = None
                 note("table", False, e.message)

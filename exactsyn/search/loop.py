@@ -31,18 +31,20 @@ from exactsyn.search.bounds import (
     parity_obstruction,
 )
 from exactsyn.search.distance import extended_meet
+from exactsyn.search.five import FIVE_FROM, FIVE_MIN_SECONDS, five_depth, five_meet, five_table_ok
 from exactsyn.search.heuristic import transformation_based
+from exactsyn.search.upper import better_fallback
 from exactsyn.spec.reversible import Spec
 
 BOUNDS = {
-    "table": "cheap bounds, then distance tables with meet in the middle (up to 4 lines, full specs)",
+    "table": "cheap bounds, then distance tables with meet in the middle (up to 5 lines, full specs)",
     "cheap": "only bounds without tables; every refuted k gets an LRAT proof when certifying",
 }
 # Number of gates from which the distance table is consulted, by line count: building
 # the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
-TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
+TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8, 5: FIVE_FROM}
 # The table is not built when less time than this is left (it cannot be interrupted).
-TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0}
+TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0, 5: FIVE_MIN_SECONDS}
 
 
 @dataclass(frozen=True)
@@ -137,7 +139,7 @@ def minimise_gates(
         raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
     want_table = (
         bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
-    )
+    ) or (bounds == "table" and spec.is_permutation and five_table_ok(library))
 
     def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
         if circuit is not None:
@@ -158,6 +160,10 @@ def minimise_gates(
             source=source,
         )
 
+    def fallback() -> Circuit | None:
+        """The circuit handed back unproven: the quick one, improved where that pays (search/upper.py)."""
+        return None if upper is None else better_fallback(upper, spec, library)
+
     k = bound.value
     if k == 0:
         return result(Circuit(spec.lines), True, 0, "bound")
@@ -165,7 +171,10 @@ def minimise_gates(
         elapsed = time.perf_counter() - start
         room = time_limit is None or time_limit - elapsed >= TABLE_MIN_SECONDS.get(spec.lines, 0.0)
         if want_table and table is None and k >= TABLE_FROM.get(spec.lines, 99) and room:
-            mr = extended_meet(spec.permutation, library)
+            if spec.lines == 5:  # hashed 5-line tables (search/five.py)
+                mr = five_meet(spec.permutation, library, five_depth())
+            else:
+                mr = extended_meet(spec.permutation, library)
             if mr.exact is not None and mr.circuit is not None:
                 table = TableBound(mr.exact, True, mr.depth, mr.extended)
                 return result(mr.circuit, True, mr.exact, "table")
@@ -179,7 +188,7 @@ def minimise_gates(
             return result(upper, True, k, "heuristic")
         left = None if time_limit is None else time_limit - (time.perf_counter() - start)
         if left is not None and left <= 0:
-            return result(upper, False, k, "heuristic" if upper else "none")
+            return result(fallback(), False, k, "heuristic" if upper else "none")
         enc = encode(spec, library, k, opts)
         if cnf_sink:
             cnf_sink(enc)
@@ -202,5 +211,5 @@ def minimise_gates(
             assert ans.circuit is not None
             return result(ans.circuit, True, k, "sat")
         if ans.query.status == Status.UNKNOWN:
-            return result(upper, False, k, "heuristic" if upper else "none")
+            return result(fallback(), False, k, "heuristic" if upper else "none")
         k += 1
