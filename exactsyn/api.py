@@ -29,7 +29,7 @@ from exactsyn.core.costs import CostModel, cost_model, library_costs
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
-from exactsyn.sat.conquer import DEFAULT_DEPTH, DEFAULT_SCHEME, CubeProgress, split_options
+from exactsyn.sat.conquer import DEFAULT_DEPTH, DEFAULT_SCHEME, SPLIT_AFTER, CubeProgress, split_options
 from exactsyn.sat.dimacs import dimacs_writer
 from exactsyn.sat.encode import CostLimit, EncodingOptions, options_for
 from exactsyn.sat.query import Query
@@ -148,6 +148,7 @@ def synthesise(
     scheduler: str | None = None,
     cube_scheme: str = DEFAULT_SCHEME,
     cube_depth: int = DEFAULT_DEPTH,
+    split_after: float = SPLIT_AFTER,
     cube_progress: CubeProgress | None = None,
 ) -> Synthesis:
     """Find a minimum circuit for ``spec`` and prove it minimal (see the module docstring).
@@ -162,7 +163,8 @@ def synthesise(
     query against the formulation without symmetry breaking on a second process;
     ``split`` (``auto``, ``cubes``, ``race``, ``off``; :data:`exactsyn.sat.conquer.SPLIT_MODES`)
     splits a hard gate query into cubes on ``jobs`` processes or on the Dask ``scheduler``
-    (an address, or ``"local"``), branching on ``cube_depth`` positions by ``cube_scheme``.
+    (an address, or ``"local"``), branching on ``cube_depth`` positions by ``cube_scheme``,
+    once the query has been open ``split_after`` seconds on its own.
     ``progress`` receives every answered query, ``cube_progress`` every solved cube.
 
     Raises :class:`~exactsyn.errors.ExactsynError` for bad input and
@@ -170,7 +172,7 @@ def synthesise(
     """
     start = time.perf_counter()
     _check_options(objective, optima, optima_limit, time_limit, max_gates, jobs)
-    cubes = split_options(split, jobs, scheduler, cube_scheme, cube_depth)
+    cubes = split_options(split, jobs, scheduler, cube_scheme, cube_depth, split_after)
     spec, embedding = resolve_spec(spec, embedding)
     lib = library if isinstance(library, Library) else make_library(library, spec.lines, max_controls, coupling)
     model = cost if isinstance(cost, CostModel) else cost_model(cost)

@@ -12,16 +12,22 @@ import sys
 import click
 
 from exactsyn.api import Synthesis, synthesise
+from exactsyn.batch.progress import CubeProgressView
 from exactsyn.cli.common import emit, fail
 from exactsyn.cli.options import (
     bounds_option,
     cost_option,
     coupling_option,
+    cube_depth_option,
+    cube_scheme_option,
     encoding_option,
     library_option,
     max_controls_option,
     objective_option,
+    scheduler_option,
     solver_option,
+    split_after_option,
+    split_option,
 )
 from exactsyn.core.cliffordt import decompose
 from exactsyn.core.cliffordt import verify as verify_clifford_t
@@ -60,7 +66,8 @@ def _show_query(q: Query) -> None:
     if q.objective == "gates":
         click.echo(
             f"k={q.k:<3} {q.status.upper():<7} {q.seconds:8.2f} s"
-            f"   ({q.variables} vars, {q.clauses} clauses, {q.conflicts} conflicts)",
+            f"   ({q.variables} vars, {q.clauses} clauses, {q.conflicts} conflicts"
+            + ("" if q.split is None else f", {len(q.split.cubes)} cubes") + ")",
             err=True,
         )
     else:
@@ -148,9 +155,15 @@ def _print_result(
     type=int,
     default=2,
     show_default=True,
-    help="Processes per query: with 2, a query still open after 1 s is raced against the "
-    "formulation without symmetry breaking (faster on satisfiable queries); 1 = sequential.",
+    help="Processes this command may use. With 2 (and --split auto), a query still open after 1 s is raced "
+    "against the formulation without symmetry breaking; from 3 up it is split into cubes solved on that many "
+    "processes; 1 = sequential.",
 )
+@split_option
+@scheduler_option
+@cube_depth_option
+@cube_scheme_option
+@split_after_option
 @objective_option
 @cost_option
 @click.option(
@@ -187,6 +200,11 @@ def synth(
     cert_dir: str | None,
     dimacs_dir: str | None,
     jobs: int,
+    split: str,
+    scheduler: str | None,
+    cube_depth: int,
+    cube_scheme: str,
+    split_after: float,
     objective: str,
     cost_name: str,
     all_circuits: bool,
@@ -245,6 +263,12 @@ def synth(
                 solver=solver,
                 jobs=jobs,
                 progress=None if quiet else _show_query,
+                split=split,
+                scheduler=scheduler,
+                cube_depth=cube_depth,
+                cube_scheme=cube_scheme,
+                split_after=split_after,
+                cube_progress=None if quiet else CubeProgressView(),
             )
         except NoCircuitError as e:
             fail(e.message, 1)

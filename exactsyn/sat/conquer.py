@@ -63,6 +63,8 @@ class CubeOptions:
             raise ExactsynError("jobs must be 1 or more")
         if self.depth < 1:
             raise ExactsynError("the cube depth must be 1 or more")
+        if not self.after >= 0:
+            raise ExactsynError("the time before splitting must be 0 or more seconds")
 
 
 SPLIT_MODES = {
@@ -74,7 +76,12 @@ SPLIT_MODES = {
 
 
 def split_options(
-    mode: str, jobs: int, scheduler: str | None = None, scheme: str = DEFAULT_SCHEME, depth: int = DEFAULT_DEPTH
+    mode: str,
+    jobs: int,
+    scheduler: str | None = None,
+    scheme: str = DEFAULT_SCHEME,
+    depth: int = DEFAULT_DEPTH,
+    after: float = SPLIT_AFTER,
 ) -> CubeOptions | None:
     """The cube options of a run, or ``None`` when queries are not split (see :data:`SPLIT_MODES`)."""
     if mode not in SPLIT_MODES:
@@ -82,7 +89,7 @@ def split_options(
     if scheduler is not None and mode in ("race", "off"):
         raise ExactsynError(f"a Dask scheduler runs cubes; it does not go with split mode {mode!r}")
     if mode == "cubes" or (mode == "auto" and (scheduler is not None or jobs >= 3)):
-        return CubeOptions(jobs, scheduler, scheme, depth)
+        return CubeOptions(jobs, scheduler, scheme, depth, after)
     return None
 
 

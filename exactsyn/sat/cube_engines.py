@@ -46,10 +46,14 @@ def make_engine(options: CubeOptions) -> CubeEngine:
 
 
 # ------------------------------------------------------------------ local processes
-def _worker_main(conn: Connection, scratch: str) -> None:
+def _worker_main(conn: Connection, scratch: str, parent: int) -> None:
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent handles Ctrl-C and stops us
     os.environ["TMPDIR"] = scratch  # proof traces go below the engine's directory, removed at the end
     tempfile.tempdir = scratch
+
+    def orphaned() -> bool:  # the parent was killed before it could stop us: give up the cube
+        return os.getppid() != parent
+
     while True:
         try:
             job = conn.recv()
@@ -57,7 +61,7 @@ def _worker_main(conn: Connection, scratch: str) -> None:
             return
         if job is None:
             return
-        out = solve_cube(job)
+        out = solve_cube(job, orphaned)
         try:
             conn.send(out)
         except OSError:
@@ -102,7 +106,8 @@ class LocalCubes:
         try:
             for _ in range(min(self.jobs, len(jobs))):
                 parent, child = ctx.Pipe()
-                proc = ctx.Process(target=_worker_main, args=(child, scratch), daemon=True, name="exactsyn-cube")
+                args = (child, scratch, os.getpid())
+                proc = ctx.Process(target=_worker_main, args=args, daemon=True, name="exactsyn-cube")
                 proc.start()
                 child.close()
                 slot = _Slot(proc, parent)
