@@ -20,8 +20,8 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     object: ``scheme``, ``positions``, ``engine`` (informative) and ``cubes``, one entry
     per cube with ``index``, ``label``, ``clauses`` (the clauses appended to the CNF, as
     lists of literals, one per branching from the root), ``status``, ``proof`` (the
-    cube's own refutation, ``k<k>-c<index>.lrat.gz``), ``seconds``, ``conflicts``,
-    ``proof_bytes``.  Certificates without ``split`` read as before (same version).
+    cube's own refutation, ``k<k>-c<index>.lrat.gz``), ``seconds``, ``cpu_seconds``,
+    ``conflicts``, ``proof_bytes``.  Certificates without ``split`` read as before (same version).
 ``objective`` (only with an objective other than the gate count)
     ``name`` (``gates-then-cost`` / ``cost`` / ``depth``), ``cost_model``, ``costs`` (one
     integer per library gate, in library order, or null for depth), ``symmetry`` (rules of
@@ -149,6 +149,7 @@ def split_to_dict(split: SplitRecord) -> dict[str, Any]:
                 "status": str(c.status),
                 "proof": c.proof,
                 "seconds": round(c.seconds, 4),
+                "cpu_seconds": round(c.cpu_seconds, 4),
                 "conflicts": c.conflicts,
                 "proof_bytes": c.proof_bytes,
             }

@@ -121,6 +121,7 @@ class CubeOutcome:
     conflicts: int
     solver: str
     error: str = ""
+    cpu_seconds: float = 0.0  # processor time of the worker on this cube
 
 
 @dataclass(frozen=True)
@@ -135,6 +136,7 @@ class CubeRecord:
     seconds: float = 0.0
     conflicts: int = 0
     proof_bytes: int = 0
+    cpu_seconds: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -190,7 +192,7 @@ def _encoding(spec: Spec, library: Library, k: int, options: EncodingOptions, di
 
 def solve_cube(job: CubeJob, stop: Callable[[], bool] | None = None) -> CubeOutcome:
     """Solve one cube (in a worker process); errors come back as ``status="error"``."""
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), time.process_time()
     try:
         enc = _encoding(job.spec, job.library, job.k, job.options, job.cnf_sha256)
         clauses = enc.clauses + [list(c) for c in job.clauses]
@@ -199,11 +201,12 @@ def solve_cube(job: CubeJob, stop: Callable[[], bool] | None = None) -> CubeOutc
             return CubeOutcome(job.index, Status.UNKNOWN, None, b"", 0.0, 0, job.solver)
         if job.certify:
             run = solve_with_lrat(clauses, limit, stop=stop)
-            return CubeOutcome(
-                job.index, run.status, run.model, run.proof, time.perf_counter() - t0, run.conflicts or 0, run.solver
-            )
-        out = solve_cnf(clauses, job.solver, limit, stop=stop)
-        return CubeOutcome(job.index, out.status, out.model, b"", time.perf_counter() - t0, out.conflicts, job.solver)
+            status, model, proof, conflicts, name = run.status, run.model, run.proof, run.conflicts or 0, run.solver
+        else:
+            out = solve_cnf(clauses, job.solver, limit, stop=stop)
+            status, model, proof, conflicts, name = out.status, out.model, b"", out.conflicts, job.solver
+        wall, cpu = time.perf_counter() - t0, time.process_time() - c0
+        return CubeOutcome(job.index, status, model, proof, wall, conflicts, name, cpu_seconds=cpu)
     except Exception as e:  # noqa: BLE001 - reported to the caller, which stops the query
         msg = e.message if isinstance(e, ExactsynError) else f"{type(e).__name__}: {e}"
         return CubeOutcome(job.index, "error", None, b"", time.perf_counter() - t0, 0, job.solver, msg)
@@ -273,6 +276,7 @@ def conquer(
             out.seconds,
             out.conflicts,
             len(out.proof) if stored else 0,
+            out.cpu_seconds,
         )
         names.append(out.solver)
         if progress:

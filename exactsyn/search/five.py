@@ -26,9 +26,11 @@ simulated; if that ever failed (a shared key), only the lower bound is reported.
 scan side is complete without hashing: the inner rows are exact, and the last layer is
 generated from them.
 
-Which depth pays is measured by ``scripts/bench_five.py``: depth 3 is built in well under
-a second and settles optima up to 6 gates; depth 4 takes tens of seconds and hundreds of
-megabytes, and settles optima up to 8 (bound 9).
+Which depth pays is measured by ``scripts/bench_five.py``: depth 3 is built in a tenth of
+a second and settles optima up to 6 gates (bound 7); depth 4 takes about 13 s and 1.3 GB
+to build and 8 s per function, and settles optima up to 8 (bound 9).  SAT refutes k ≤ 7
+in about two seconds but k = 8 alone in 20–40 s, so the search uses both, in two stages
+(:func:`five_next_depth`).
 """
 
 from __future__ import annotations
@@ -55,26 +57,35 @@ _MULT = np.array(
 _FINAL = np.uint64(0xFF51AFD7ED558CCD)
 _CHUNK = 1 << 19
 MAX_DEPTH = 4
-#: The depth the gate search uses (``EXACTSYN_FIVE_DEPTH`` overrides it; see scripts/bench_five.py).
-DEFAULT_DEPTH = 3
-#: The search consults the table once it reaches this many gates …
-FIVE_FROM = 1
-#: … and only with this much time left (building the table cannot be interrupted).
-FIVE_MIN_SECONDS = 0.0
+#: The gate search consults the depth-3 table at once (a fraction of a second: optima up to
+#: 6, else the bound 7), and the depth-4 table once SAT has refuted k = 7 (about 20 s the
+#: first time in a process, 8 s after: optima up to 8, else the bound 9) — measured with
+#: scripts/bench_five.py: SAT settles k <= 7 in about 2 s, k = 8 alone takes 20–40 s.
+SHALLOW, DEEP, DEEP_FROM = 3, 4, 8
+#: The deeper table is not built with less time than this left (it cannot be interrupted).
+DEEP_MIN_SECONDS = 60.0
 
 
-def five_depth() -> int:
-    """The table depth of the gate search: ``DEFAULT_DEPTH`` unless ``EXACTSYN_FIVE_DEPTH`` says 1 to 4."""
+def five_next_depth(k: int, current: int | None, time_left: float | None) -> int | None:
+    """The table depth the gate search should consult before asking SAT for ``k`` gates, or None.
+
+    ``current`` is the depth already consulted (None: none yet).  ``EXACTSYN_FIVE_DEPTH``
+    (1 to 4) replaces the two stages by one table of that depth.
+    """
     raw = os.environ.get("EXACTSYN_FIVE_DEPTH", "")
-    if not raw:
-        return DEFAULT_DEPTH
-    try:
-        depth = int(raw)
-    except ValueError:
-        depth = -1
-    if not 1 <= depth <= MAX_DEPTH:
-        raise ExactsynError(f"EXACTSYN_FIVE_DEPTH must be 1 to {MAX_DEPTH}, not {raw!r}")
-    return depth
+    if raw:
+        try:
+            only = int(raw)
+        except ValueError:
+            only = -1
+        if not 1 <= only <= MAX_DEPTH:
+            raise ExactsynError(f"EXACTSYN_FIVE_DEPTH must be 1 to {MAX_DEPTH}, not {raw!r}")
+        return only if current is None else None
+    if current is None:
+        return SHALLOW
+    if current < DEEP and k >= DEEP_FROM and (time_left is None or time_left >= DEEP_MIN_SECONDS):
+        return DEEP
+    return None
 
 
 def five_table_ok(library: Library) -> bool:

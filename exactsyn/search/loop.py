@@ -31,7 +31,7 @@ from exactsyn.search.bounds import (
     parity_obstruction,
 )
 from exactsyn.search.distance import extended_meet
-from exactsyn.search.five import FIVE_FROM, FIVE_MIN_SECONDS, five_depth, five_meet, five_table_ok
+from exactsyn.search.five import five_meet, five_next_depth, five_table_ok
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.upper import better_fallback
 from exactsyn.spec.reversible import Spec
@@ -42,9 +42,9 @@ BOUNDS = {
 }
 # Number of gates from which the distance table is consulted, by line count: building
 # the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
-TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8, 5: FIVE_FROM}
+TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
 # The table is not built when less time than this is left (it cannot be interrupted).
-TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0, 5: FIVE_MIN_SECONDS}
+TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0}
 
 
 @dataclass(frozen=True)
@@ -170,9 +170,12 @@ def minimise_gates(
     while True:
         elapsed = time.perf_counter() - start
         room = time_limit is None or time_limit - elapsed >= TABLE_MIN_SECONDS.get(spec.lines, 0.0)
-        if want_table and table is None and k >= TABLE_FROM.get(spec.lines, 99) and room:
-            if spec.lines == 5:  # hashed 5-line tables (search/five.py)
-                mr = five_meet(spec.permutation, library, five_depth())
+        left_now = None if time_limit is None else time_limit - elapsed
+        five = None if spec.lines != 5 else five_next_depth(k, None if table is None else table.depth, left_now)
+        consult = five is not None or (spec.lines != 5 and table is None and k >= TABLE_FROM.get(spec.lines, 99))
+        if want_table and consult and room:
+            if five is not None:  # hashed 5-line tables: a shallow one first, a deeper one later (search/five.py)
+                mr = five_meet(spec.permutation, library, five)
             else:
                 mr = extended_meet(spec.permutation, library)
             if mr.exact is not None and mr.circuit is not None:
