@@ -60,7 +60,7 @@ class Query:
     limit: int | None
     status: Status
     seconds: float
-    conflicts: int
+    conflicts: int | None  # None when the answering solver does not report it (Kissat in a race)
     variables: int
     clauses: int
     solver: str = ""
@@ -140,7 +140,8 @@ def run_query(
     first = time_limit
     if racing:
         first = QUICK_SECONDS if time_limit is None else min(QUICK_SECONDS, time_limit)
-    status, model, conflicts, name, proof = Status.UNKNOWN, None, 0, solver, b""
+    status, model, name, proof = Status.UNKNOWN, None, solver, b""
+    conflicts: int | None = 0
     if first is None or first > 0:
         status, model, conflicts, name, proof = _solve(enc.clauses, solver, first, certify)
     if status == Status.UNKNOWN and racing:
