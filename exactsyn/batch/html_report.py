@@ -20,7 +20,6 @@ from __future__ import annotations
 import base64
 import html
 import json
-import re
 import tempfile
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -28,6 +27,7 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn import __version__
+from exactsyn.batch.plan import GENERATED_SOURCE
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.table import OptimumTable, size_table, write_chart
 from exactsyn.core.circuit import Circuit
@@ -133,7 +133,7 @@ def _certificate(
     return "not re-checked", "on disk; not re-checked yet (run the batch again with --verify, or report --check)"
 
 
-_GENERATED = re.compile(r"(all|classes|random):\d+")
+_GENERATED = GENERATED_SOURCE
 
 
 def collect(store: Store, batch: BatchInfo, recheck: bool = False) -> BatchReport:
