@@ -317,8 +317,9 @@ def _statements(text: str) -> list[tuple[int, str]]:
             if stmt.endswith(";"):
                 stmt = stmt[:-1].strip()
             assert start is not None
-            if stmt:
-                out.append((start, stmt))
+            if not stmt:
+                raise ExactsynError(f"empty statement (a ';' with nothing before it) at line {start}")
+            out.append((start, stmt))
             buf, start = [], None
     if start is not None:
         what = "'{' is never closed" if depth else "does not end with ';'"

@@ -46,6 +46,7 @@ import numpy as np
 
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
+from exactsyn.io.words import count
 
 #: Largest gate whose unitary is multiplied out (a 2^10 × 2^10 complex matrix is 16 MiB).
 MAX_UNITARY_QUBITS = 10
@@ -525,7 +526,7 @@ def call_matrix(call: Call, env: Mapping[str, float], lookup: Lookup, base: Base
     elif call.name in STANDARD:
         nparams, _, build = STANDARD[call.name]
         if len(values) != nparams:
-            raise ExactsynError(f"'{call.name}' takes {nparams} parameter(s), not {len(values)}")
+            raise ExactsynError(f"'{call.name}' takes {count(nparams, 'parameter')}, not {len(values)}")
         matrix = build(*values)
     else:
         raise ExactsynError(f"unsupported gate '{call.name}'")
@@ -546,7 +547,7 @@ def definition_unitary(defn: Definition, values: Sequence[float], lookup: Lookup
     if key in defn._unitaries:
         return defn._unitaries[key]
     if len(values) != len(defn.params):
-        raise ExactsynError(f"'{defn.name}' takes {len(defn.params)} parameter(s), not {len(values)}")
+        raise ExactsynError(f"'{defn.name}' takes {count(len(defn.params), 'parameter')}, not {len(values)}")
     k = defn.arity
     if k > MAX_UNITARY_QUBITS:
         raise ExactsynError(

@@ -57,7 +57,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, did_you_mean
 from exactsyn.spec.reversible import MAX_LINES
 
 Evaluator = Callable[[int], int]
@@ -314,7 +314,7 @@ def function_from_mapping(data: dict[str, Any], where: str = "spec") -> BooleanF
     """Validate a parsed TOML mapping (format in the module docstring)."""
     unknown = sorted(set(data) - _KNOWN_KEYS)
     if unknown:
-        raise _fail(where, f"unknown key {unknown[0]!r}")
+        raise _fail(where, f"unknown key {unknown[0]!r}{did_you_mean(unknown[0], sorted(_KNOWN_KEYS))}")
     name = data.get("name", "")
     if not isinstance(name, str):
         raise _fail(where, "'name' must be a string")
