@@ -130,6 +130,8 @@ def minimise_gates(
     if reason:
         raise NoCircuitError(reason)
     bound = lower_bound(spec, library)
+    hopeless = max_gates is not None and bound.value > max_gates  # no circuit within the limit: no fallback either
+    use_heuristic = use_heuristic and not hopeless
     fallback = initial_upper(spec, library, deadline, progress) if use_heuristic else Fallback(None, "")
     upper = fallback.circuit
     steps: list[Query] = []
