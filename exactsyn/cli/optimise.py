@@ -49,7 +49,7 @@ def output_format(fmt: str | None, output: str | None, input_format: str) -> str
 
 
 def _read_back(text: str) -> tuple[Circuit, Layout]:
-    circuit, layout, _ = circuit_layout_from_text(text)
+    circuit, layout, _ = circuit_layout_from_text(text)  # our own output: no path to judge by
     return circuit, layout
 
 

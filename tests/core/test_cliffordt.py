@@ -288,7 +288,7 @@ def test_toffoli_t_depth_matches_qiskit() -> None:
 def test_bad_input_raises() -> None:
     with pytest.raises(ExactsynError, match="outside"):
         decompose_gate(x_gate(3, (0, 1)), 3)
-    with pytest.raises(ExactsynError, match="kind"):
+    with pytest.raises(ExactsynError, match="family"):
         decompose_gate(Gate("y", (0,)), 2)
     with pytest.raises(ExactsynError, match="line count"):
         decompose_gate(x_gate(0), 0)
