@@ -37,6 +37,16 @@ def result_to_dict(result: OptimiseResult, **extra: Any) -> dict[str, Any]:
     }
 
 
+def qasm_header(result: OptimiseResult) -> list[str]:
+    """The comment lines at the top of an optimised OpenQASM file (the style of ``synth``'s)."""
+    return [
+        f"exactsyn {__version__}",
+        f"{count(result.output.gate_count, 'gate')} (input: {result.input.gate_count}), NOT proven optimal "
+        f"(no lower bound: every window of up to {result.window} lines is optimal)",
+        f"library: {result.library}",
+    ]
+
+
 def _change(before: int, after: int) -> str:
     diff = after - before
     pct = f" ({100.0 * diff / before:+.1f}%)" if before else ""

@@ -168,7 +168,8 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
             else:
                 table_value = value
-                note("table", True, f"k >= {value}: meet in the middle over the depth-{depth} table ({dt:.2f} s)")
+                which = "full" if depth >= FULL else f"depth-{depth}"
+                note("table", True, f"k >= {value}: meet in the middle over the {which} table ({dt:.2f} s)")
 
     # Every refuted k.
     refuted: set[int] = set()
