@@ -14,7 +14,6 @@ from __future__ import annotations
 import argparse
 import json
 import random
-import resource
 import subprocess
 import sys
 import time
@@ -57,13 +56,27 @@ def cases(which: str, seeds: list[int]) -> list[tuple[str, str, list[int]]]:
     return out
 
 
+# Runs the command line in a fresh interpreter and reports its peak resident memory (and its
+# largest child's: the racers) on stderr at exit.
+PEAK = (
+    "import atexit, resource, sys\n"
+    "def peak():\n"
+    "    own = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
+    "    kids = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss\n"
+    "    print('PEAK_KIB', own + kids, file=sys.stderr)\n"
+    "atexit.register(peak)\n"
+    "from exactsyn.cli import main\n"
+    "main(args=sys.argv[1:], prog_name='exactsyn')\n"
+)
+
+
 def run(perm: list[int], library: str, limit: float) -> dict[str, object]:
-    cmd = [sys.executable, "-m", "exactsyn", "synth", "--perm", ",".join(map(str, perm)), "--library", library,
+    cmd = [sys.executable, "-c", PEAK, "synth", "--perm", ",".join(map(str, perm)), "--library", library,
            "--time-limit", str(limit), "--format", "json", "-q"]
     t0 = time.perf_counter()
     r = subprocess.run(cmd, capture_output=True, text=True)
     wall = time.perf_counter() - t0
-    peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024  # MiB, the largest child so far
+    peak = int(r.stderr.split("PEAK_KIB")[1].split()[0]) / 1024 if "PEAK_KIB" in r.stderr else float("nan")
     data = json.loads(r.stdout) if r.stdout.strip().startswith("{") else {}
     return {"code": r.returncode, "wall": wall, "peak": peak, "gates": data.get("gate_count"),
             "optimal": data.get("optimal"), "lower": data.get("lower_bound"), "err": r.stderr.strip()[-200:]}

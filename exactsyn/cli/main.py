@@ -27,7 +27,7 @@ from exactsyn.cli.check import check
 from exactsyn.cli.optimise import optimise
 from exactsyn.cli.pictures import draw, report
 from exactsyn.cli.synth import synth
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, did_you_mean
 
 DEBUG_VARIABLE = "EXACTSYN_DEBUG"
 
@@ -41,6 +41,10 @@ def click_message(e: click.ClickException) -> str:
     """A click exception as one line: the command, what is wrong, where to read more."""
     text = e.format_message().strip().rstrip(".")
     ctx = getattr(e, "ctx", None)
+    if isinstance(e, click.NoSuchOption) and ctx is not None:
+        # click also suggests hidden options (old spellings): suggest among the visible ones only
+        shown = [o for p in ctx.command.params if not getattr(p, "hidden", False) for o in p.opts]
+        text = f"No such option '{e.option_name}'{did_you_mean(e.option_name, shown)}"
     where = ctx.command_path if ctx is not None else "exactsyn"
     if isinstance(e, click.UsageError):
         text = text[0].lower() + text[1:] if text else text

@@ -179,15 +179,20 @@ def _relabel_perm(perm: tuple[int, ...], sigma: tuple[int, ...]) -> tuple[int, .
     return tuple(out)
 
 
-def _mct_candidates(perm: tuple[int, ...], lines: int) -> list[Circuit]:
-    """Transformation-based circuits of ``perm`` over line relabellings and both directions (step 2)."""
+def _mct_candidates(perm: tuple[int, ...], lines: int, deadline: float | None = None) -> list[Circuit]:
+    """Transformation-based circuits of ``perm`` over line relabellings and both directions (step 2).
+
+    The identity relabelling always; the others while ``deadline`` has not passed.
+    """
     sigmas: list[tuple[int, ...]] = list(itertools.permutations(range(lines)))
     if len(sigmas) > VARIANTS:
         rest = sigmas[1:]
         random.Random(lines).shuffle(rest)
         sigmas = sigmas[:1] + rest[: VARIANTS - 1]
-    out = []
+    out: list[Circuit] = []
     for sigma in sigmas:
+        if out and deadline is not None and time.perf_counter() >= deadline:
+            break
         q = _relabel_perm(perm, sigma)
         back = {sigma[i]: i for i in range(lines)}
         for c in (transformation_based(q, lines), transformation_based(invert_permutation(q), lines).inverse()):
@@ -284,7 +289,10 @@ def fallback_circuit(spec: Spec, library: Library, deadline: float | None = None
             raw = Circuit(n, tuple(gates))
             return _finish(spec, library, [raw], deadline, "Gaussian elimination of the affine function")
         has = uncoupled(library).contains
-        ranked = sorted(_mct_candidates(perm, n), key=lambda c: (_estimate(c, has), len(c)))
+        # candidates may use a third of the time, rewriting and shrinking the rest
+        start = time.perf_counter()
+        until = None if deadline is None else start + max(0.0, deadline - start) / 3
+        ranked = sorted(_mct_candidates(perm, n, until), key=lambda c: (_estimate(c, has), len(c)))
         how = "transformation-based synthesis (Miller, Maslov & Dueck 2003)"
         return _finish(spec, library, ranked[:FINALISTS], deadline, how)
     except CannotRewrite as e:

@@ -167,6 +167,7 @@ def minimise_gates(
         )
 
     k = bound.value
+    per_k = 0.0  # seconds the last encoding took per gate position
     if k == 0:
         return result(Circuit(spec.lines), True, 0, "bound")
     while True:
@@ -199,14 +200,24 @@ def minimise_gates(
         left = None if time_limit is None else time_limit - (time.perf_counter() - start)
         if left is not None and left <= 0:
             return result(upper, False, k, "heuristic" if upper else "none")
+        if left is not None and left < per_k * k:  # the encoding alone would overrun (the last one's rate)
+            return result(upper, False, k, "heuristic" if upper else "none")
         emit(progress, SearchEvent("query-start", k=k, seconds=left))
+        t_enc = time.perf_counter()
         enc = encode(spec, library, k, opts)
+        per_k = (time.perf_counter() - t_enc) / max(k, 1)
         if cnf_sink:
             cnf_sink(enc)
+        if time_limit is not None:  # encoding took time too
+            left = time_limit - (time.perf_counter() - start)
+            if left <= 0:
+                return result(upper, False, k, "heuristic" if upper else "none")
         rival = None
         if jobs >= 2 and enc.options.symmetry:
             rival = functools.partial(encode, spec, library, k, PLAIN)
-        ans = run_query(enc, solver=solver, time_limit=left, proof_sink=proof_sink, rival=rival)
+        ans = run_query(
+            enc, solver=solver, time_limit=left, proof_sink=proof_sink, rival=rival, rival_seconds=per_k * k
+        )
         steps.append(ans.query)
         if progress:
             progress(ans.query)
