@@ -38,6 +38,7 @@ import ast
 import cmath
 import math
 import re
+import warnings
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from itertools import permutations
@@ -83,8 +84,10 @@ def evaluate(text: str, env: Mapping[str, float] | None = None) -> float:
     env = env or {}
     source = text.strip().replace("^", "**")
     try:
-        tree = ast.parse(source, mode="eval")
-    except SyntaxError:
+        with warnings.catch_warnings():  # a SyntaxWarning would be a second line on stderr
+            warnings.simplefilter("ignore")
+            tree = ast.parse(source, mode="eval")
+    except (SyntaxError, ValueError, RecursionError, MemoryError):
         raise ExactsynError(f"cannot read the parameter '{text.strip()}'") from None
 
     def walk(node: ast.AST) -> float:

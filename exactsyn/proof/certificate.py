@@ -73,13 +73,21 @@ def spec_to_dict(spec: Spec) -> dict[str, Any]:
     }
 
 
+def json_int(v: Any) -> int:
+    """An integer as JSON holds it: not a float (1.5 is not 1), not a boolean."""
+    if isinstance(v, bool) or not isinstance(v, int):
+        raise TypeError(f"not an integer: {v!r}")
+    return v
+
+
 def spec_from_dict(d: Any) -> Spec:
     try:
-        lines, outputs, care = int(d["lines"]), [int(v) for v in d["outputs"]], [int(v) for v in d["care"]]
+        lines = json_int(d["lines"])
+        outputs, care = [json_int(v) for v in d["outputs"]], [json_int(v) for v in d["care"]]
         name = str(d.get("name", ""))
-        open_lines = tuple(int(v) for v in d.get("open_lines", []))
-        targets = tuple(tuple(int(v) for v in t) for t in d.get("output_targets", []))
-        cands = tuple(int(v) for v in d.get("output_candidates", []))
+        open_lines = tuple(json_int(v) for v in d.get("open_lines", []))
+        targets = tuple(tuple(json_int(v) for v in t) for t in d.get("output_targets", []))
+        cands = tuple(json_int(v) for v in d.get("output_candidates", []))
     except (KeyError, TypeError, ValueError, AttributeError):
         raise ExactsynError("certificate: malformed 'spec'") from None
     if not 1 <= lines <= 6 or len(outputs) != 1 << lines or len(care) != 1 << lines:
@@ -110,8 +118,9 @@ def library_to_dict(lib: Library) -> dict[str, Any]:
 def library_from_dict(d: Any) -> Library:
     """Rebuild the library from its preset and require the stored gate list to match."""
     try:
-        coupling = tuple((int(a), int(b)) for a, b in d.get("coupling", []))
-        lib = make_library(str(d["preset"]), int(d["lines"]), d.get("max_controls"), coupling)
+        coupling = tuple((json_int(a), json_int(b)) for a, b in d.get("coupling", []))
+        cap = d.get("max_controls")
+        lib = make_library(str(d["preset"]), json_int(d["lines"]), None if cap is None else json_int(cap), coupling)
         stored = tuple(gate_from_dict(g) for g in d["gates"])
     except (KeyError, TypeError, ValueError, AttributeError):
         raise ExactsynError("certificate: malformed 'library'") from None
@@ -122,7 +131,7 @@ def library_from_dict(d: Any) -> Library:
 
 def encoding_from_dict(d: Any) -> EncodingOptions:
     try:
-        if int(d["version"]) != ENCODING_VERSION:
+        if json_int(d["version"]) != ENCODING_VERSION:
             raise ExactsynError(f"certificate: encoding version {d['version']} is not this tool's")
         return EncodingOptions(str(d["name"]), tuple(str(s) for s in d["symmetry"]))
     except (KeyError, TypeError, ValueError, AttributeError):

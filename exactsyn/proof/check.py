@@ -47,6 +47,7 @@ from exactsyn.proof.certificate import (
     FORMAT_VERSION,
     RESULT_FILE,
     encoding_from_dict,
+    json_int,
     library_from_dict,
     read_proof,
     spec_from_dict,
@@ -148,7 +149,8 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     if tb is not None:
         try:
             raw_depth = FULL if tb["depth"] == "full" else tb["depth"]
-            depth, extended, value, exact = int(raw_depth), bool(tb["extended"]), int(tb["value"]), bool(tb["exact"])
+            depth, value = json_int(raw_depth), json_int(tb["value"])
+            extended, exact = bool(tb["extended"]), bool(tb["exact"])
         except (KeyError, TypeError, ValueError):
             raise ExactsynError("certificate: malformed 'table_bound'") from None
         if not spec.is_permutation or not library.involutive or spec.lines > 4 or not 0 <= depth <= FULL:
@@ -177,7 +179,10 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     if not isinstance(queries, list):
         raise ExactsynError("certificate: malformed 'queries' (not a list)")
     for q in queries:
-        if not isinstance(q, dict) or q.get("status") != Status.UNSAT:
+        if not isinstance(q, dict) or q.get("status") not in tuple(Status):
+            note("query", False, f"malformed query entry {str(q)[:40]!r}")
+            continue
+        if q.get("status") != Status.UNSAT:
             continue
         k = q.get("k")
         if not isinstance(k, int) or k < 0:
@@ -268,11 +273,11 @@ def _check_objective(
     """Re-check the ``objective`` section; ``k_star`` is the gate count the gate part proved (or None)."""
     try:
         name = str(d["name"])
-        costs = None if d.get("costs") is None else tuple(int(c) for c in d["costs"])
+        costs = None if d.get("costs") is None else tuple(json_int(c) for c in d["costs"])
         options = EncodingOptions("onehot", tuple(str(s) for s in d.get("symmetry") or ()))
         circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in d["circuit"]))
-        value, optimal, queries = int(d["value"]), bool(d["optimal"]), list(d.get("queries") or [])
-    except (KeyError, TypeError, ValueError):
+        value, optimal, queries = json_int(d["value"]), bool(d["optimal"]), list(d.get("queries") or [])
+    except (KeyError, TypeError, ValueError, AttributeError):
         raise ExactsynError("certificate: malformed 'objective'") from None
     if name not in ("gates-then-cost", "cost", "depth") or (name != "depth") == (costs is None):
         raise ExactsynError(f"certificate: objective {name!r} is not known or lacks its costs")
@@ -298,7 +303,10 @@ def _check_objective(
 
     refuted: dict[tuple[str, int], int] = {}  # (kind, k) -> largest refuted limit (depth: k itself)
     for q in queries:
-        if not isinstance(q, dict) or q.get("status") != Status.UNSAT:
+        if not isinstance(q, dict) or q.get("status") not in tuple(Status):
+            note("objective query", False, f"malformed query entry {str(q)[:40]!r}")
+            continue
+        if q.get("status") != Status.UNSAT:
             continue
         kind, k, limit = q.get("kind"), q.get("k"), q.get("limit")
         label = f"{kind} k={k}" + ("" if limit is None else f" cost<={limit}")

@@ -53,6 +53,7 @@ from __future__ import annotations
 import ast
 import keyword
 import re
+import warnings
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -164,7 +165,9 @@ def evaluate_expression(text: str, inputs: tuple[str, ...], *, what: str = "expr
     if not isinstance(text, str):
         raise ExactsynError(f"{what} must be a string")
     try:
-        tree = ast.parse(text.strip(), mode="eval")
+        with warnings.catch_warnings():  # e.g. "1and b": a SyntaxWarning would be a second line on stderr
+            warnings.simplefilter("ignore")
+            tree = ast.parse(text.strip(), mode="eval")
     except SyntaxError as e:
         raise ExactsynError(f"syntax error in {what}: {' '.join(str(e.msg).split())}") from None
     except (ValueError, RecursionError, MemoryError):

@@ -30,6 +30,7 @@ import json
 import random
 import re
 import tomllib
+import warnings
 from collections import Counter
 from pathlib import Path
 from typing import Any
@@ -57,9 +58,13 @@ MANY = dict(FAST, max_examples=1500, derandomize=False)
 
 
 def invoke(args: list[str]) -> tuple[int, str, str]:
-    r = CliRunner().invoke(main, args)
+    with warnings.catch_warnings(record=True) as caught:  # a warning is one more line on a user's stderr
+        warnings.simplefilter("always")
+        r = CliRunner().invoke(main, args)
     if r.exception is not None and not isinstance(r.exception, SystemExit):
         raise AssertionError(f"exception escaped: {r.exception!r} for {args!r}") from r.exception
+    shown = [w for w in caught if not issubclass(w.category, (DeprecationWarning, PendingDeprecationWarning))]
+    assert not shown, [str(w.message) for w in shown]
     return r.exit_code, r.stdout, r.stderr
 
 
@@ -182,6 +187,17 @@ cycle_texts = st.one_of(
 @settings(**FAST)
 @given(cycle_texts)
 def test_fuzz_cycles(text: str) -> None:
+    _fuzz_cycles(text)
+
+
+@pytest.mark.slow
+@settings(**MANY)
+@given(cycle_texts)
+def test_fuzz_cycles_many(text: str) -> None:
+    _fuzz_cycles(text)
+
+
+def _fuzz_cycles(text: str) -> None:
     if text.startswith("-"):
         text = " " + text
     code, out, err = invoke(["synth", "--cycles", text, "--max-gates", "0", "--format", "json", "-q"])
@@ -269,6 +285,17 @@ expressions = st.one_of(
 @settings(**FAST)
 @given(expressions)
 def test_fuzz_expressions(tmp_path: Path, expr: str) -> None:
+    _fuzz_expression(tmp_path, expr)
+
+
+@pytest.mark.slow
+@settings(**MANY)
+@given(expressions)
+def test_fuzz_expressions_many(tmp_path: Path, expr: str) -> None:
+    _fuzz_expression(tmp_path, expr)
+
+
+def _fuzz_expression(tmp_path: Path, expr: str) -> None:
     f = tmp_path / "f.toml"
     f.write_text(
         'inputs = ["a", "b", "c"]\noutputs = ["y"]\n[expressions]\ny = ' + json.dumps(expr) + "\n", encoding="utf-8"
@@ -431,7 +458,13 @@ gate_like = st.fixed_dictionaries(
         "extra": st.integers(),
     },
 )
+def _valid_circuit(seed: int) -> Any:
+    rng = random.Random(seed)
+    return json.loads(_circuit_json(random_circuit(rng, rng.randint(1, 5), rng.randint(0, 8))))
+
+
 circuit_like = st.one_of(
+    st.integers(0, 10**6).map(_valid_circuit),
     st.fixed_dictionaries({"lines": st.integers(-1, 4), "gates": st.lists(gate_like, max_size=5)}),
     st.fixed_dictionaries(
         {"lines": st.one_of(st.integers(1, 4), json_values), "gates": st.one_of(st.lists(gate_like), json_values)}
@@ -443,6 +476,17 @@ circuit_like = st.one_of(
 @settings(**FAST)
 @given(circuit_like)
 def test_fuzz_json_circuits(tmp_path: Path, data: Any) -> None:
+    _fuzz_json(tmp_path, data)
+
+
+@pytest.mark.slow
+@settings(**MANY)
+@given(circuit_like)
+def test_fuzz_json_circuits_many(tmp_path: Path, data: Any) -> None:
+    _fuzz_json(tmp_path, data)
+
+
+def _fuzz_json(tmp_path: Path, data: Any) -> None:
     f = tmp_path / "c.json"
     f.write_text(json.dumps(data), encoding="utf-8")
     code, out, err = invoke(["apply", str(f), "--perm"])
@@ -457,6 +501,17 @@ def test_fuzz_json_circuits(tmp_path: Path, data: Any) -> None:
 @settings(**FAST)
 @given(st.integers(0, 10**6), st.integers(1, 3))
 def test_fuzz_json_text(tmp_path: Path, seed: int, steps: int) -> None:
+    _fuzz_json_text(tmp_path, seed, steps)
+
+
+@pytest.mark.slow
+@settings(**MANY)
+@given(st.integers(0, 10**6), st.integers(1, 3))
+def test_fuzz_json_text_many(tmp_path: Path, seed: int, steps: int) -> None:
+    _fuzz_json_text(tmp_path, seed, steps)
+
+
+def _fuzz_json_text(tmp_path: Path, seed: int, steps: int) -> None:
     rng = random.Random(seed)
     c = random_circuit(rng, rng.randint(1, 4), rng.randint(0, 5))
     text = mutate(json.dumps({"lines": c.lines, "gates": []}) if not c.gates else _circuit_json(c), rng, steps)
@@ -480,8 +535,14 @@ def _circuit_json(c: Circuit) -> str:
 @pytest.fixture(scope="module")
 def certificate(tmp_path_factory: pytest.TempPathFactory) -> Path:
     d = tmp_path_factory.mktemp("cert") / "c"
-    r = CliRunner().invoke(main, ["synth", "--perm", "1,0,3,2,5,7,4,6", "--certificate", str(d), "--bounds", "cheap"])
+    # an objective section too, so its reader is fuzzed as well
+    r = CliRunner().invoke(
+        main,
+        ["synth", "--perm", "1,0,3,2,5,7,4,6", "--certificate", str(d), "--bounds", "cheap",
+         "--objective", "gates-then-cost", "--cost", "t-count"],
+    )
     assert r.exit_code == 0, r.stderr
+    assert "objective" in json.loads((d / "result.json").read_text())
     return d
 
 
@@ -507,11 +568,18 @@ def _set(obj: Any, path: tuple[Any, ...], value: Any) -> Any:
 CRITICAL = (
     ("spec", "outputs"), ("spec", "care"), ("spec", "lines"), ("circuit",), ("gate_count",),
     ("library", "gates"), ("library", "preset"), ("library", "lines"), ("queries", "*", "k"),
-    ("queries", "*", "cnf_sha256"), ("queries", "*", "proof"),
+    ("queries", "*", "cnf_sha256"), ("queries", "*", "proof"), ("objective", "value"), ("objective", "circuit"),
+    ("objective", "costs"), ("objective", "queries", "*", "cnf_sha256"), ("objective", "queries", "*", "proof"),
 )
 
 
-def _critical(path: tuple[Any, ...]) -> bool:
+def _critical(path: tuple[Any, ...], before: Any) -> bool:
+    # a query's fields matter when it is a refutation the claim uses (a satisfiable one is not checked)
+    for prefix in (("queries",), ("objective", "queries")):
+        if path[: len(prefix)] == prefix and len(path) > len(prefix) + 1:
+            entry = _get(before, path[: len(prefix) + 1])
+            if not isinstance(entry, dict) or entry.get("status") != "unsat":
+                return False
     for c in CRITICAL:
         if len(path) >= len(c) and all(a == "*" or a == b for a, b in zip(c, path, strict=False)):
             return True
@@ -520,9 +588,23 @@ def _critical(path: tuple[Any, ...]) -> bool:
     return False
 
 
+HOW = st.sampled_from(["replace", "drop", "swap-outputs", "truncate-proof"])
+
+
 @settings(**dict(FAST, max_examples=40))
-@given(st.integers(0, 10**6), st.sampled_from(["replace", "drop", "swap-outputs", "truncate-proof"]))
+@given(st.integers(0, 10**6), HOW)
 def test_fuzz_certificate_result_json(certificate: Path, tmp_path: Path, seed: int, how: str) -> None:
+    _fuzz_certificate(certificate, tmp_path, seed, how)
+
+
+@pytest.mark.slow
+@settings(**dict(MANY, max_examples=400))
+@given(st.integers(0, 10**6), HOW)
+def test_fuzz_certificate_result_json_many(certificate: Path, tmp_path: Path, seed: int, how: str) -> None:
+    _fuzz_certificate(certificate, tmp_path, seed, how)
+
+
+def _fuzz_certificate(certificate: Path, tmp_path: Path, seed: int, how: str) -> None:
     import shutil
 
     d = tmp_path / f"c{seed}-{how}"
@@ -549,10 +631,12 @@ def test_fuzz_certificate_result_json(certificate: Path, tmp_path: Path, seed: i
             del _get(data, path[:-1])[path[-1]]
         else:
             data = _set(data, path, value)
-        must_fail = _critical(path) and _changed(certificate, data)
+        before = json.loads((certificate / "result.json").read_text())
+        must_fail = _critical(path, before) and _changed(certificate, data)
     (d / "result.json").write_text(json.dumps(data))
     code, out, err = invoke(["check", str(d), "-q"])
     check_outcome("certificate", code, out, err, None)
+    MALFORMED["certificate"] += must_fail  # changed where the claim rests: must be rejected
     if must_fail:
         assert code in (1, 2), (how, out, err)
     if code == 1:
@@ -566,7 +650,17 @@ def _get(obj: Any, path: tuple[Any, ...]) -> Any:
 
 
 def _changed(original: Path, data: Any) -> bool:
-    return json.loads((original / "result.json").read_text()) != data
+    """Does ``data`` mean something else than the original? (A key holding its default, [] or
+    null, means the same when it is left out.)"""
+
+    def norm(obj: Any) -> Any:
+        if isinstance(obj, dict):
+            return {k: norm(v) for k, v in obj.items() if v not in ([], None)}
+        if isinstance(obj, list):
+            return [norm(v) for v in obj]
+        return obj
+
+    return norm(json.loads((original / "result.json").read_text())) != norm(data)
 
 
 def test_zz_fuzz_counts() -> None:
