@@ -149,9 +149,9 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
     type=click.FloatRange(min=0, min_open=True),
     metavar="SECONDS",
     help="Wall-clock limit for the whole search: the fallback circuit, distance tables, every SAT query, "
-    "the objective and the listing of optima (kept to within about 10%% + 1 s; start-up and printing come on "
-    "top). When it runs out, the best circuit found so far is printed, marked not proven optimal, with the "
-    "proven lower bound.",
+    "the objective and the listing of optima; the whole command, start-up and printing included, ends within "
+    "about 10% + 1 s of it. When it runs out, the best circuit found so far is printed, marked not proven "
+    "optimal, with the proven lower bound.",
 )
 @click.option(
     "--max-gates",
