@@ -126,7 +126,8 @@ def configurations(quick: bool) -> Iterator[tuple[str, Encoding]]:
             for opts in (EncodingOptions("textbook", ()), EncodingOptions(), EncodingOptions("onehot", SYMMETRY_RULES)):
                 pool = IDPool()
                 for k in ks:
-                    yield f"{tag}|guard-shared|{_name(opts)}|k={k}", encode(spec, lib, k, opts, guard=True, pool=pool)
+                    name = f"{tag}|guard-shared{_seq(ks)}|{_name(opts)}|k={k}"
+                    yield name, encode(spec, lib, k, opts, guard=True, pool=pool)
                 yield f"{tag}|guard|{_name(opts)}|k=3", encode(spec, lib, 3, opts, guard=True)
             # Cost limits, both window orders, limits below, inside and above the reachable range.
             for model in ("ncv",) if heavy else ("ncv", "t-count"):
@@ -143,10 +144,11 @@ def configurations(quick: bool) -> Iterator[tuple[str, Encoding]]:
                                     encode(spec, lib, k, opts, cost_limit=CostLimit(costs, limit, order)),
                                 )
                 pool = IDPool()
-                for k in few if heavy else cost_ks:
+                shared = few if heavy else cost_ks
+                for k in shared:
                     limit = CostLimit(costs, 2 * k + 2, "cost")
                     yield (
-                        f"{tag}|cost:{model}:guard-shared|k={k}",
+                        f"{tag}|cost:{model}:guard-shared{_seq(shared)}|k={k}",
                         encode(spec, lib, k, EncodingOptions(), guard=True, pool=pool, cost_limit=limit),
                     )
             # Depth encoding, and explicit slots with each allowed rule set.
@@ -156,6 +158,11 @@ def configurations(quick: bool) -> Iterator[tuple[str, Encoding]]:
                 for opts in (EncodingOptions("textbook", ()), EncodingOptions("onehot", ()),
                              EncodingOptions("onehot", ("touch",))):
                     yield f"{tag}|slots={depth}|{_name(opts)}", encode(spec, lib, len(slots), opts, slots=slots)
+
+
+def _seq(ks: range) -> str:
+    """The k sequence of one shared pool: its variable numbering depends on all of it."""
+    return "(" + ",".join(map(str, ks)) + ")"
 
 
 def _name(opts: EncodingOptions) -> str:
@@ -187,7 +194,7 @@ def main() -> int:
     changed = [k for k in new_map if k in old_map and old_map[k] != new_map[k]]
     missing = [k for k in old_map if k not in new_map]
     added = [k for k in new_map if k not in old_map]
-    for k in changed[:20]:
+    for k in changed:
         print(f"CHANGED {k}", file=sys.stderr)
     print(
         f"compare: {len(new_map) - len(changed) - len(added)} equal, {len(changed)} changed, "
