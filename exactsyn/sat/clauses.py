@@ -79,6 +79,12 @@ class Layout:
         first use.  Rows whose outputs are entirely unspecified are left out.
     ``("act", k)``
         the activation literal of a guarded query.
+
+    The families name their own auxiliaries: ``("const", l)`` (open constant lines),
+    ``("y", o, l)`` (output placement), ``("cost", d, u)`` (cost limit), ``("comm", i, h)``,
+    ``("gt", i, h)``, ``("cb", j, i)`` (the ``trace`` rule) and ``("false",)`` (the
+    contradiction of a trivially UNSAT query); the cardinality encodings of python-sat add
+    unnamed ones.
     """
 
     query: Query
@@ -89,6 +95,8 @@ class Layout:
     rows: tuple[int, ...]
     allowed: tuple[frozenset[int], ...]  # library gates allowed per position
     open_lines: frozenset[int]
+    inputs_known: bool  # input_end == "constant": input bits substituted
+    outputs_known: bool  # output_end == "constant": specified output bits substituted
 
     def value(self, r: int, d: int, line: int) -> Lit:
         """Line ``line`` on row ``r`` after ``d`` gates: a variable, or a known bit.
@@ -99,13 +107,12 @@ class Layout:
         variables that :func:`spec_at_ends` fixes.  An open constant line has one
         variable ``("const", l)``, its input value on every row, chosen by the solver.
         """
-        q = self.query
         if d == 0 and line in self.open_lines:
             return self.pool.id(("const", line))
-        if d == 0 and q.input_end == "constant":
+        if d == 0 and self.inputs_known:
             return bool(r >> line & 1)
-        if d == q.k and q.output_end == "constant" and q.spec.care[r] >> line & 1:
-            return bool(q.spec.outputs[r] >> line & 1)
+        if d == self.query.k and self.outputs_known and self.query.spec.care[r] >> line & 1:
+            return bool(self.query.spec.outputs[r] >> line & 1)
         return self.pool.id(("x", r, d, line))
 
 
@@ -117,7 +124,18 @@ def layout(b: ClauseBuilder, q: Query) -> Layout:
     tvars = tuple(tuple(b.var("t", d, line) for line in range(n)) for d in range(q.k))
     everything = frozenset(range(m))
     allowed = tuple(everything for _ in range(q.k)) if q.slots is None else tuple(frozenset(s) for s in q.slots)
-    return Layout(q, b.pool, act, gvars, tvars, tuple(q.spec.specified_rows()), allowed, frozenset(q.spec.open_lines))
+    return Layout(
+        q,
+        b.pool,
+        act,
+        gvars,
+        tvars,
+        tuple(q.spec.specified_rows()),
+        allowed,
+        frozenset(q.spec.open_lines),
+        inputs_known=q.input_end == "constant",
+        outputs_known=q.output_end == "constant",
+    )
 
 
 ClauseFamily = Callable[[ClauseBuilder, Layout], None]
@@ -216,9 +234,12 @@ def row_semantics(b: ClauseBuilder, v: Layout) -> None:
     q = v.query
     n, gates = q.spec.lines, q.library.gates
     value = v.value
+    if q.k == 0:
+        return  # no position; asking for the values before it would name variables no clause uses
     for r in v.rows:
+        nxt = [value(r, 0, line) for line in range(n)]
         for d in range(q.k):
-            a = [value(r, d, line) for line in range(n)]
+            a = nxt  # the values after d gates were made (named) by the previous step
             nxt = [value(r, d + 1, line) for line in range(n)]
             tv = v.target_vars[d]
             for line in range(n):
