@@ -3,13 +3,13 @@
 The formulation is that of Große, Chen, Dueck, Drechsler, "Exact multiple-control Toffoli
 network synthesis with SAT techniques", IEEE TCAD 28(5), 2009: a one-hot gate choice per
 position and, for every specified truth-table row, the value of every line between
-consecutive gates.  :func:`exactsyn.sat.encode.encode_query` runs the families in a fixed
+consecutive gates.  :func:`exactsyn.sat.encode.encode_question` runs the families in a fixed
 order; the order and the variable names are part of the certificate format (certificates
 store the SHA-256 of the DIMACS text), so neither may change.
 
 Every family has the signature ``family(b, v)``: ``b`` collects the clauses, ``v`` is the
-query's :class:`Layout` (its variables and line values).  A family that does not apply to
-the query's mode adds nothing.  With no symmetry breaking the models are exactly the
+question's :class:`VariableLayout` (its variables and line values).  A family that does not apply to
+the question's mode adds nothing.  With no symmetry breaking the models are exactly the
 k-gate circuits of the library that meet the spec (each model decodes to one circuit and
 each circuit gives one model: the line values are functions of the gates).
 """
@@ -24,7 +24,7 @@ from pysat.formula import IDPool
 
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.sat.query import Query
+from exactsyn.sat.question import Question
 
 Lit = int | bool
 
@@ -67,8 +67,8 @@ def iff_clauses(b: ClauseBuilder, pre: list[Lit], x: Lit, y: Lit) -> None:
 
 
 @dataclass(frozen=True)
-class Layout:
-    """The variables of one query (all named through :class:`pysat.formula.IDPool`).
+class VariableLayout:
+    """The variables of one question (all named through :class:`pysat.formula.IDPool`).
 
     ``("g", d, j)``
         position ``d`` (0 ≤ d < k) holds library gate ``j`` (one-hot over the library).
@@ -78,16 +78,16 @@ class Layout:
         value of line ``l`` on row ``r`` after ``d`` gates (:meth:`value`), created on
         first use.  Rows whose outputs are entirely unspecified are left out.
     ``("act", k)``
-        the activation literal of a guarded query.
+        the activation literal of a guarded question.
 
     The families name their own auxiliaries: ``("const", l)`` (open constant lines),
     ``("y", o, l)`` (output placement), ``("cost", d, u)`` (cost limit), ``("comm", i, h)``,
     ``("gt", i, h)``, ``("cb", j, i)`` (the ``trace`` rule) and ``("false",)`` (the
-    contradiction of a trivially UNSAT query); the cardinality encodings of python-sat add
+    contradiction of a trivially UNSAT question); the cardinality encodings of python-sat add
     unnamed ones.
     """
 
-    query: Query
+    question: Question
     pool: IDPool
     act: int | None
     gate_vars: tuple[tuple[int, ...], ...]
@@ -102,7 +102,7 @@ class Layout:
         """Line ``line`` on row ``r`` after ``d`` gates: a variable, or a known bit.
 
         At ``d = 0`` the value is the row's input bit and at ``d = k`` the specified
-        output bit; an end whose :class:`~exactsyn.sat.query.End` is ``constant``
+        output bit; an end whose :class:`~exactsyn.sat.question.End` is ``constant``
         substitutes them (only unspecified output bits remain variables), the others keep
         variables that :func:`spec_at_ends` fixes.  An open constant line has one
         variable ``("const", l)``, its input value on every row, chosen by the solver.
@@ -111,20 +111,20 @@ class Layout:
             return self.pool.id(("const", line))
         if d == 0 and self.inputs_known:
             return bool(r >> line & 1)
-        if d == self.query.k and self.outputs_known and self.query.spec.care[r] >> line & 1:
-            return bool(self.query.spec.outputs[r] >> line & 1)
+        if d == self.question.k and self.outputs_known and self.question.spec.care[r] >> line & 1:
+            return bool(self.question.spec.outputs[r] >> line & 1)
         return self.pool.id(("x", r, d, line))
 
 
-def layout(b: ClauseBuilder, q: Query) -> Layout:
-    """Create the query's fixed variables, in this order: ``act``, then ``g``, then ``t``."""
+def layout(b: ClauseBuilder, q: Question) -> VariableLayout:
+    """Create the question's fixed variables, in this order: ``act``, then ``g``, then ``t``."""
     n, m = q.spec.lines, len(q.library.gates)
     act = b.var("act", q.k) if q.guarded else None
     gvars = tuple(tuple(b.var("g", d, j) for j in range(m)) for d in range(q.k))
     tvars = tuple(tuple(b.var("t", d, line) for line in range(n)) for d in range(q.k))
     everything = frozenset(range(m))
     allowed = tuple(everything for _ in range(q.k)) if q.slots is None else tuple(frozenset(s) for s in q.slots)
-    return Layout(
+    return VariableLayout(
         q,
         b.pool,
         act,
@@ -138,17 +138,17 @@ def layout(b: ClauseBuilder, q: Query) -> Layout:
     )
 
 
-ClauseFamily = Callable[[ClauseBuilder, Layout], None]
+ClauseFamily = Callable[[ClauseBuilder, VariableLayout], None]
 
 
-def spec_at_ends(b: ClauseBuilder, v: Layout) -> None:
+def spec_at_ends(b: ClauseBuilder, v: VariableLayout) -> None:
     """The spec on line variables, where the ends are not substituted.
 
     Row by row and line by line: the input bit as a unit clause (``unit`` inputs, open
     constant lines excepted), then the specified output bit after the last gate, as a
     unit clause (``unit``) or as ``¬act ∨ bit`` (``guarded``).
     """
-    q = v.query
+    q = v.question
     units_in, out_end = q.input_end == "unit", q.output_end
     if not units_in and out_end == "constant":
         return
@@ -164,14 +164,14 @@ def spec_at_ends(b: ClauseBuilder, v: Layout) -> None:
                 b.add([*pre, y if spec.outputs[r] >> line & 1 else neg(y)])
 
 
-def output_placement(b: ClauseBuilder, v: Layout) -> None:
+def output_placement(b: ClauseBuilder, v: VariableLayout) -> None:
     """Outputs placed by the solver (:mod:`exactsyn.spec.embed`).
 
     ``y[o][l]``: output ``o`` is read on line ``l`` — exactly one line per output
     (pairwise at-most-one), at most one output per line — and then
     ``¬y[o][l] ∨ (x[r][k][l] = f_o(r))`` for every row where the output is specified.
     """
-    spec, k = v.query.spec, v.query.k
+    spec, k = v.question.spec, v.question.k
     if not spec.output_targets:
         return
     cands = spec.output_candidates
@@ -194,7 +194,7 @@ def output_placement(b: ClauseBuilder, v: Layout) -> None:
                     b.add([-yv[o][li], x if target[r] else neg(x)])
 
 
-def gate_choice(b: ClauseBuilder, v: Layout) -> None:
+def gate_choice(b: ClauseBuilder, v: VariableLayout) -> None:
     """One gate per position, and the target variables.
 
     Per position: a unit ``¬g[d][j]`` for every gate outside the position's slot, an
@@ -203,7 +203,7 @@ def gate_choice(b: ClauseBuilder, v: Layout) -> None:
     sequential counter otherwise — Sinz, CP 2005), and ``t[d][l] ↔ ∨ {g[d][j] : j
     targets l}`` in both directions.
     """
-    q = v.query
+    q = v.question
     gates, n = q.library.gates, q.spec.lines
     amo_enc = EncType.pairwise if q.textbook or len(gates) <= 24 else EncType.seqcounter
     by_target = [[j for j, g in enumerate(gates) if line in g.targets] for line in range(n)]
@@ -224,14 +224,14 @@ def gate_choice(b: ClauseBuilder, v: Layout) -> None:
                 b.add([-row[j], t])
 
 
-def row_semantics(b: ClauseBuilder, v: Layout) -> None:
+def row_semantics(b: ClauseBuilder, v: VariableLayout) -> None:
     """For every row and position: the frame, then each allowed gate's clauses.
 
     **frame**: ``t[d][l] ∨ (a_l ↔ b_l)`` for every line — an untargeted line keeps its
     value (``a = x[r][d]``, ``b = x[r][d+1]``); the gate clauses are :func:`gate_clauses`.
     An empty position (slots) targets nothing, so the frame keeps every line.
     """
-    q = v.query
+    q = v.question
     n, gates = q.spec.lines, q.library.gates
     value = v.value
     if q.k == 0:
@@ -296,7 +296,7 @@ def gate_clauses(b: ClauseBuilder, g: Gate, not_sel: Lit, a: Sequence[Lit], nxt:
         raise ExactsynError(f"the encoder has no clauses for gate kind {g.kind!r}")
 
 
-def within_cost_limit(b: ClauseBuilder, v: Layout) -> None:
+def within_cost_limit(b: ClauseBuilder, v: VariableLayout) -> None:
     """Total cost ≤ limit, as a cardinality constraint over unary per-position costs.
 
     Every gate costs at least ``base = min(costs)``, so the total is ``k·base`` plus the
@@ -305,7 +305,7 @@ def within_cost_limit(b: ClauseBuilder, v: Layout) -> None:
     literals are at least the extra cost, so a totalizer (Bailleux & Boufkhad, CP 2003)
     bounding their number by ``limit − k·base`` bounds the total cost.
     """
-    cl = v.query.cost_limit
+    cl = v.question.cost_limit
     if cl is None:
         return
     base = min(cl.costs)
@@ -329,8 +329,8 @@ def within_cost_limit(b: ClauseBuilder, v: Layout) -> None:
             b.add(c)
 
 
-def no_gates(b: ClauseBuilder, v: Layout) -> None:
+def no_gates(b: ClauseBuilder, v: VariableLayout) -> None:
     """``k = 0`` (unguarded): the empty circuit must meet the spec, else the CNF is UNSAT."""
-    q = v.query
+    q = v.question
     if q.k == 0 and not q.guarded and not q.spec.is_identity():
         b.empty = True

@@ -7,7 +7,7 @@ specified truth-table row, the value of every line between consecutive gates.
 
 The encoder is a pipeline over data:
 
-1. a :class:`~exactsyn.sat.query.Query` names the CNF — spec, library, k, and the mode
+1. a :class:`~exactsyn.sat.question.Question` names the CNF — spec, library, k, and the mode
    (encoding and symmetry rules, cost limit, slots, guarded or not) as fields;
 2. :func:`~exactsyn.sat.clauses.layout` creates the fixed variables (``act``, ``g``, ``t``)
    and the line values, substituting known bits at the ends where the mode allows;
@@ -59,14 +59,14 @@ from exactsyn.sat.clauses import (
     spec_at_ends,
     within_cost_limit,
 )
-from exactsyn.sat.query import (
+from exactsyn.sat.question import (
     DEFAULT_SYMMETRY,
     ENCODING_VERSION,
     ENCODINGS,
     SYMMETRY_RULES,
     CostLimit,
     EncodingOptions,
-    Query,
+    Question,
     options_for,
 )
 from exactsyn.sat.symmetry import commuting_pairs, inverse_pairs, symmetry_breaking
@@ -82,10 +82,10 @@ __all__ = [
     "Encoding",
     "EncodingOptions",
     "Lit",
-    "Query",
+    "Question",
     "commuting_pairs",
     "encode",
-    "encode_query",
+    "encode_question",
     "gate_clauses",
     "inverse_pairs",
     "options_for",
@@ -130,11 +130,11 @@ class Encoding:
         return Circuit(self.library.lines, tuple(gates))
 
 
-def encode_query(query: Query, pool: IDPool | None = None) -> Encoding:
-    """Build the CNF of ``query`` (see the module docstring); ``pool`` shares variable names
+def encode_question(question: Question, pool: IDPool | None = None) -> Encoding:
+    """Build the CNF of ``question`` (see the module docstring); ``pool`` shares variable names
     between queries, as guarded queries in one incremental solver need."""
     b = ClauseBuilder(pool)
-    v = layout(b, query)
+    v = layout(b, question)
     for family in PIPELINE:
         family(b, v)
     if b.empty:
@@ -143,15 +143,15 @@ def encode_query(query: Query, pool: IDPool | None = None) -> Encoding:
         z = b.var("false")
         b.clauses.extend([[z], [-z]])
     return Encoding(
-        spec=query.spec,
-        library=query.library,
-        k=query.k,
-        options=query.options,
+        spec=question.spec,
+        library=question.library,
+        k=question.k,
+        options=question.options,
         clauses=b.clauses,
         num_vars=b.pool.top,
         gate_vars=v.gate_vars,
         trivially_unsat=b.empty,
-        optional=query.slots is not None,
+        optional=question.slots is not None,
     )
 
 
@@ -166,7 +166,7 @@ def encode(
     cost_limit: CostLimit | None = None,
     slots: Sequence[Sequence[int]] | None = None,
 ) -> Encoding:
-    """Build the CNF for exactly ``k`` gates: :func:`encode_query` of the :class:`Query` with these fields.
+    """Build the CNF for exactly ``k`` gates: :func:`encode_question` of the :class:`Question` with these fields.
 
     ``guard=True`` (for incremental solving across k, measured in
     ``scripts/exp_incremental.py``) keeps the line values after the last gate as
@@ -174,7 +174,7 @@ def encode(
     ``touch`` rule — conditional on the activation literal ``("act", k)``, so one solver
     can hold the queries of several k at once; ``pool`` shares variable names.
     """
-    query = Query(
+    question = Question(
         spec,
         library,
         k,
@@ -183,4 +183,4 @@ def encode(
         slots=None if slots is None else tuple(tuple(s) for s in slots),
         guarded=guard,
     )
-    return encode_query(query, pool)
+    return encode_question(question, pool)

@@ -6,12 +6,12 @@ Order circuits of equal length lexicographically by their sequence of library in
 Every rule here is satisfied by ``C*`` — the argument is in each rule's docstring — hence
 by at least one optimal circuit, whatever combination of rules is switched on.
 
-Under a cost limit (:class:`exactsyn.sat.query.CostLimit`, for the cost objectives of
-:mod:`exactsyn.search.objectives`) the query is "k gates and total cost ≤ C", and ``C*``
+Under a cost limit (:class:`exactsyn.sat.question.CostLimit`, for the cost objectives of
+:mod:`exactsyn.search.objectives`) the question is "k gates and total cost ≤ C", and ``C*``
 is the lexicographically smallest among the circuits of minimum length that meet the spec
 with cost ≤ C; each rule's docstring says why it still holds for that ``C*``.
 
-:data:`RULES` maps each name of :data:`exactsyn.sat.query.SYMMETRY_RULES` to its clause
+:data:`RULES` maps each name of :data:`exactsyn.sat.question.SYMMETRY_RULES` to its clause
 family, in the order :func:`symmetry_breaking` emits them (part of the certificate format:
 do not reorder).  The rules are used by the ``onehot`` encoding only.
 """
@@ -22,8 +22,8 @@ from functools import lru_cache
 
 from exactsyn.core.gates import invert_permutation
 from exactsyn.core.library import Library
-from exactsyn.sat.clauses import ClauseBuilder, ClauseFamily, Layout
-from exactsyn.sat.query import SYMMETRY_RULES
+from exactsyn.sat.clauses import ClauseBuilder, ClauseFamily, VariableLayout
+from exactsyn.sat.question import SYMMETRY_RULES
 from exactsyn.sat.windows import forbidden_windows, weighted_forbidden_windows, window_size_ok
 
 
@@ -58,7 +58,7 @@ def inverse_pairs(library: Library) -> tuple[tuple[int, int], ...]:
     return tuple(out)
 
 
-def no_repeat(b: ClauseBuilder, v: Layout) -> None:
+def no_repeat(b: ClauseBuilder, v: VariableLayout) -> None:
     """``no-repeat`` — ``¬g[d][i] ∨ ¬g[d+1][j]`` for every inverse pair ``(i, j)`` (:func:`inverse_pairs`).
 
     A gate followed by its inverse (for the self-inverse kinds: the gate itself) cancels,
@@ -68,11 +68,11 @@ def no_repeat(b: ClauseBuilder, v: Layout) -> None:
     """
     gv = v.gate_vars
     for d in range(len(gv) - 1):
-        for i, j in inverse_pairs(v.query.library):
+        for i, j in inverse_pairs(v.question.library):
             b.add([-gv[d][i], -gv[d + 1][j]])
 
 
-def commute(b: ClauseBuilder, v: Layout) -> None:
+def commute(b: ClauseBuilder, v: VariableLayout) -> None:
     """``commute`` — ``¬g[d][j] ∨ ¬g[d+1][i]`` for ``i < j`` when gates ``i`` and ``j`` commute.
 
     Commuting is checked by composing the two permutations both ways
@@ -82,7 +82,7 @@ def commute(b: ClauseBuilder, v: Layout) -> None:
     cost limit.
     """
     gv = v.gate_vars
-    pairs = commuting_pairs(v.query.library)
+    pairs = commuting_pairs(v.question.library)
     for d in range(len(gv) - 1):
         for i, j in pairs:
             b.add([-gv[d][j], -gv[d + 1][i]])
@@ -105,8 +105,8 @@ def window_rule(w: int) -> ClauseFamily:
     replace a window by a shorter one of higher cost.
     """
 
-    def window(b: ClauseBuilder, v: Layout) -> None:
-        library, cl, gv = v.query.library, v.query.cost_limit, v.gate_vars
+    def window(b: ClauseBuilder, v: VariableLayout) -> None:
+        library, cl, gv = v.question.library, v.question.cost_limit, v.gate_vars
         if not window_size_ok(library, w):
             return
         forbidden = (
@@ -122,7 +122,7 @@ def window_rule(w: int) -> ClauseFamily:
     return window
 
 
-def trace(b: ClauseBuilder, v: Layout) -> None:
+def trace(b: ClauseBuilder, v: VariableLayout) -> None:
     """``trace`` — lexicographic normal form of traces (Anisimov & Knuth 1979; Diekert &
     Rozenberg, "The Book of Traces", 1995): no position ``j`` holds a gate that commutes
     with every gate at positions ``i..j−1`` and is smaller than the gate at ``i``.
@@ -138,7 +138,7 @@ def trace(b: ClauseBuilder, v: Layout) -> None:
     than ``h``.  Each auxiliary is only forced true (implications from the gate choice),
     which is all the forbidding clause ``¬cb[j][i] ∨ ¬g[j][h] ∨ ¬gt[i][h]`` needs.
     """
-    library, gvars = v.query.library, v.gate_vars
+    library, gvars = v.question.library, v.gate_vars
     k, m = len(gvars), len(library.gates)
     if k < 2:
         return
@@ -167,16 +167,16 @@ def trace(b: ClauseBuilder, v: Layout) -> None:
                 b.add([-cb, -gvars[j][h], -b.var("gt", i, h)])
 
 
-def touch(b: ClauseBuilder, v: Layout) -> None:
+def touch(b: ClauseBuilder, v: VariableLayout) -> None:
     """``touch`` (redundant, implied) — ``∨_d t[d][l]`` for every line ``l`` whose output
     differs from its input on a specified row (:meth:`exactsyn.spec.reversible.Spec.changed_lines`).
 
     Only a gate targeting ``l`` changes ``l``, so every circuit meeting the spec satisfies
-    it, under a cost limit too.  In a guarded query the clause depends on k and holds only
+    it, under a cost limit too.  In a guarded question the clause depends on k and holds only
     under ``("act", k)``.
     """
     pre = [-v.act] if v.act is not None else []
-    for line in v.query.spec.changed_lines():
+    for line in v.question.spec.changed_lines():
         b.add(pre + [t[line] for t in v.target_vars])
 
 
@@ -193,9 +193,9 @@ if set(RULES) != set(SYMMETRY_RULES):  # pragma: no cover - a rule named in one 
     raise RuntimeError("exactsyn.sat.symmetry.RULES and SYMMETRY_RULES disagree")
 
 
-def symmetry_breaking(b: ClauseBuilder, v: Layout) -> None:
-    """The query's symmetry rules, in the order of :data:`RULES` (not the order they were named in)."""
-    chosen = v.query.options.symmetry
+def symmetry_breaking(b: ClauseBuilder, v: VariableLayout) -> None:
+    """The question's symmetry rules, in the order of :data:`RULES` (not the order they were named in)."""
+    chosen = v.question.options.symmetry
     for name, rule in RULES.items():
         if name in chosen:
             rule(b, v)

@@ -1,6 +1,6 @@
 """What the encoder is asked: a spec, a library, a gate count k, and the mode, as data.
 
-A :class:`Query` names one CNF (Große, Chen, Dueck, Drechsler, "Exact multiple-control
+A :class:`Question` names one CNF (Große, Chen, Dueck, Drechsler, "Exact multiple-control
 Toffoli network synthesis with SAT techniques", IEEE TCAD 28(5), 2009, with the
 extensions of :mod:`exactsyn.sat.encode`).  The modes that used to be flags of the
 encoder are fields here, and :mod:`exactsyn.sat.clauses` reads them:
@@ -81,7 +81,7 @@ class CostLimit:
 
 
 @dataclass(frozen=True)
-class Query:
+class Question:
     """One CNF to build: exactly ``k`` positions of ``library`` gates meeting ``spec``, in a mode."""
 
     spec: Spec
