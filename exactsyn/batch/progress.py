@@ -25,6 +25,7 @@ from rich.progress import (
 from rich.text import Text
 
 from exactsyn.batch.run import Event
+from exactsyn.io.words import count
 
 
 class _Rate(ProgressColumn):
@@ -80,7 +81,8 @@ class BatchProgress:
     def __call__(self, event: Event) -> None:
         if event.phase == "start":
             if event.skipped:
-                self.console.print(f"{event.skipped} items already finished in the store: skipped", highlight=False)
+                done = count(event.skipped, "item")
+                self.console.print(f"{done} already finished in the store: skipped", highlight=False)
             self._total = event.total
             self._started = self._last = time.monotonic()
             fields: dict[str, Any] = dict(self._counts)

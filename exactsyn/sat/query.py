@@ -60,7 +60,7 @@ class Query:
     limit: int | None
     status: Status
     seconds: float
-    conflicts: int
+    conflicts: int | None  # None when the answering solver does not report it (Kissat in a race)
     variables: int
     clauses: int
     solver: str = ""
@@ -119,6 +119,7 @@ def run_query(
     time_limit: float | None = None,
     proof_sink: ProofSink | None = None,
     rival: Callable[[], Encoding] | None = None,
+    rival_seconds: float = 0.0,
 ) -> Answer:
     """Answer one query within ``time_limit`` seconds (``None``: no limit).
 
@@ -129,7 +130,9 @@ def run_query(
     second formulation of the same question) a query still open after
     :data:`QUICK_SECONDS` is raced against it; whichever answers first decides, and its
     encoding is the one recorded (both are exact for the question; see
-    :mod:`exactsyn.sat.race`).
+    :mod:`exactsyn.sat.race`).  ``rival_seconds`` is what building the rival is expected
+    to take: under a time limit the race starts only when more than that (and
+    :data:`QUICK_SECONDS`) is left, else the first solver goes on alone.
     """
     if objective not in QUERY_OBJECTIVES:
         raise ValueError(f"unknown query objective {objective!r}")
@@ -140,9 +143,16 @@ def run_query(
     first = time_limit
     if racing:
         first = QUICK_SECONDS if time_limit is None else min(QUICK_SECONDS, time_limit)
-    status, model, conflicts, name, proof = Status.UNKNOWN, None, 0, solver, b""
+    status, model, name, proof = Status.UNKNOWN, None, solver, b""
+    conflicts: int | None = 0
     if first is None or first > 0:
         status, model, conflicts, name, proof = _solve(enc.clauses, solver, first, certify)
+    if status == Status.UNKNOWN and racing and time_limit is not None:
+        remaining = time_limit - (time.perf_counter() - t0)
+        if remaining <= rival_seconds + QUICK_SECONDS:  # no time to build the rival: one solver to the end
+            racing = False
+            if remaining > 0:
+                status, model, conflicts, name, proof = _solve(enc.clauses, solver, remaining, certify)
     if status == Status.UNKNOWN and racing:
         assert rival is not None
         other = rival()
