@@ -12,15 +12,16 @@
 5. the **certificate** (:mod:`exactsyn.proof.certificate`): LRAT refutations and
    ``result.json``, re-checked by :func:`exactsyn.proof.check.check_certificate`.
 
-The time limit covers steps 2–4 (the objective gets what the gate search left).  Every
-circuit is simulated against the spec before it is returned.
+The time limit covers steps 2–4 (the objective and the listing get what the gate search
+left).  Every circuit is simulated against the spec before it is returned.  When the gate
+search ends without a circuit, the notes say why and what to try next.
 """
 
 from __future__ import annotations
 
 import os
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -34,6 +35,8 @@ from exactsyn.sat.dimacs import dimacs_writer
 from exactsyn.sat.encode import CostLimit, EncodingOptions, options_for
 from exactsyn.sat.query import Query
 from exactsyn.search.all_optima import Enumeration, enumerate_optimal
+from exactsyn.search.events import Progress
+from exactsyn.search.fallback import next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import OBJECTIVES, ObjectiveResult, optimise
 from exactsyn.spec.embed import Embedding
@@ -143,7 +146,7 @@ def synthesise(
     solver: str = "cadical195",
     jobs: int = 1,
     embedding: Embedding | None = None,
-    progress: Callable[[Query], None] | None = None,
+    progress: Progress | None = None,
     split: str = "auto",
     scheduler: str | None = None,
     cube_scheme: str = DEFAULT_SCHEME,
@@ -165,7 +168,9 @@ def synthesise(
     splits a hard gate query into cubes on ``jobs`` processes or on the Dask ``scheduler``
     (an address, or ``"local"``), branching on ``cube_depth`` positions by ``cube_scheme``,
     once the query has been open ``split_after`` seconds on its own.
-    ``progress`` receives every answered query, ``cube_progress`` every solved cube.
+    ``progress`` receives every answered query (:class:`~exactsyn.sat.query.Query`) and a
+    :class:`~exactsyn.search.events.SearchEvent` for the other phases (tables, the start
+    of each query, the fallback circuit); ``cube_progress`` every solved cube.
 
     Raises :class:`~exactsyn.errors.ExactsynError` for bad input and
     :class:`~exactsyn.errors.NoCircuitError` when no circuit of the library can exist.
@@ -198,6 +203,16 @@ def synthesise(
         cube_progress=cube_progress,
     )
     notes: list[str] = []
+    if gates.source == "heuristic" and gates.how and not gates.optimal:
+        notes.append(f"the circuit is a fallback, not proven optimal: {gates.how}")
+    if gates.circuit is None:
+        if gates.how:
+            notes.append(gates.how)
+        notes.append(
+            next_steps(
+                spec, lib, lower_bound=gates.lower_bound, time_limit=time_limit, max_gates=max_gates, reason=gates.how
+            )
+        )
     obj: ObjectiveResult | None = None
     if objective != "gates" and gates.circuit is not None:
         if not gates.optimal:
@@ -214,8 +229,15 @@ def synthesise(
         limit_cost = None
         if obj is not None and obj.costs is not None and obj.optimal:
             limit_cost = CostLimit(obj.costs, obj.value)
+        left = None if time_limit is None else max(0.0, time_limit - (time.perf_counter() - start))
         listing = enumerate_optimal(
-            spec, lib, len(gates.circuit), cost_limit=limit_cost, keep=optima == "all", limit=optima_limit
+            spec,
+            lib,
+            len(gates.circuit),
+            cost_limit=limit_cost,
+            keep=optima == "all",
+            limit=optima_limit,
+            time_limit=left,
         )
     elif optima is not None:
         notes.append("the gate count was not proven, so the optimal circuits were not listed")

@@ -84,7 +84,7 @@ def _run_one(inst: dict, config: str, cap: float, out: mp.Queue) -> None:  # typ
             "check": check_s,
             "steps": [(s.k, s.status, round(s.seconds, 2), s.conflicts) for s in res.steps],
             "table": None if res.table_bound is None else res.table_bound.value,
-            "conflicts": sum(s.conflicts for s in res.steps),
+            "conflicts": sum(s.conflicts or 0 for s in res.steps),  # a Kissat racer reports none
             "peak_mib": peak,
             "proven": res.optimal,
         }

@@ -20,7 +20,6 @@ from __future__ import annotations
 import base64
 import html
 import json
-import re
 import tempfile
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -28,12 +27,14 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn import __version__
+from exactsyn.batch.plan import GENERATED_SOURCE
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.table import OptimumTable, size_table, write_chart
 from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.svg import to_svg
+from exactsyn.io.words import plural
 from exactsyn.proof.check import check_certificate
 
 OPEN_GROUP_LIMIT = 60  # sections with at most this many items start open
@@ -133,7 +134,7 @@ def _certificate(
     return "not re-checked", "on disk; not re-checked yet (run the batch again with --verify, or report --check)"
 
 
-_GENERATED = re.compile(r"(all|classes|random):\d+")
+_GENERATED = GENERATED_SOURCE
 
 
 def collect(store: Store, batch: BatchInfo, recheck: bool = False) -> BatchReport:
@@ -327,6 +328,7 @@ def render_html(report: BatchReport, chart_uri: str | None) -> str:
     show_source = any(e.source for e in entries)
     avg = t.average
     cert_counts = {s: sum(1 for e in entries if e.certificate == s) for s in CERT_STATES}
+    checked = cert_counts["checked"]
     out = [
         "<!DOCTYPE html>",
         '<html lang="en">',
@@ -349,13 +351,13 @@ def render_html(report: BatchReport, chart_uri: str | None) -> str:
         + "</td></tr>",
         "</tbody></table>",
         '<div class="cards">',
-        f'<div class="card"><b>{t.total}</b>functions</div>',
+        f'<div class="card"><b>{t.total}</b>{plural("function", t.total)}</div>',
         f'<div class="card"><b>{t.optimal}</b>proven optimal</div>',
         f'<div class="card"><b>{t.timeout}</b>not proven (time limit)</div>',
         f'<div class="card"><b>{t.failed}</b>failed</div>',
         f'<div class="card"><b>{t.missing}</b>not yet run</div>',
-        f'<div class="card"><b>{len(entries)}</b>stored items</div>',
-        f'<div class="card"><b>{cert_counts["checked"]}</b>certificates checked</div>',
+        f'<div class="card"><b>{len(entries)}</b>stored {plural("item", len(entries))}</div>',
+        f'<div class="card"><b>{checked}</b>{plural("certificate", checked)} checked</div>',
         "</div>",
         "<h2>Distribution of optimal circuit sizes</h2>",
         '<div class="dist-row">',

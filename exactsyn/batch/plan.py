@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -28,6 +29,8 @@ from exactsyn.spec.reversible import Spec, from_permutation
 
 REDUCTION = "line relabelling and inversion"
 SET_KINDS = ("all", "classes", "random")
+#: The source label of a generated item: its set, its line count and its index in the set.
+GENERATED_SOURCE = re.compile(r"(all|classes|random):\d+( #\d+)?")
 
 
 @dataclass(frozen=True)
@@ -145,8 +148,8 @@ def plan_generated(
             notes.append(f"class reduction is off: {obstacle}; solving every function instead")
     desc["label"] = label
     items = [
-        PlanItem(item_key(spec, lib, encoding, goal), spec, lib, w, f"{kind}:{lines}")
-        for p, w in pairs
+        PlanItem(item_key(spec, lib, encoding, goal), spec, lib, w, f"{kind}:{lines} #{index}")
+        for index, (p, w) in enumerate(pairs)
         for spec in (from_permutation(list(p)),)
     ]
     return Plan(_batch_id(desc), desc, _merge(items), notes=tuple(notes), goal=goal)

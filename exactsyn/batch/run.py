@@ -10,11 +10,12 @@ the rate and the ETA honest from the start).
 
 from __future__ import annotations
 
+import json
 import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field, replace
 
-from exactsyn.batch.plan import Plan
+from exactsyn.batch.plan import GENERATED_SOURCE, Plan
 from exactsyn.batch.store import Member, StatusCounts, Store
 from exactsyn.batch.task import Outcome, Task
 from exactsyn.batch.workers import Engine
@@ -151,6 +152,7 @@ def run_batch(
     """Register ``plan``, run what is not finished on ``engine``, return the summary."""
     start = time.perf_counter()
     register(store, plan)
+    store.sweep()  # certificate directories a killed run left behind
     tasks, skipped = pending_tasks(store, plan, options)
     if on_event:
         on_event(Event("start", total=len(tasks), skipped=skipped))
@@ -173,6 +175,22 @@ def run_batch(
     return replace(summary, checked=checked)
 
 
+def _label(row: dict[str, object]) -> str:
+    """How the "not done" list names an item: its spec file, or its set, index and permutation."""
+    source = str(row.get("member_source") or row.get("source") or "")
+    if not source:
+        return str(row["key"])[:16]
+    outputs = row.get("outputs")
+    if GENERATED_SOURCE.fullmatch(source) and isinstance(outputs, str):
+        try:
+            perm = [int(v) for v in json.loads(outputs)]
+        except (ValueError, TypeError):
+            return source
+        shown = ",".join(map(str, perm[:16])) + (",…" if len(perm) > 16 else "")
+        return f"{source} ({shown})"
+    return source
+
+
 def summarise(
     store: Store,
     plan: Plan,
@@ -183,7 +201,7 @@ def summarise(
     item_seconds: float,
 ) -> RunSummary:
     unfinished = [
-        (r["status"] or "missing", r["member_source"] or r["source"] or r["key"][:16], r["reason"] or "")
+        (r["status"] or "missing", _label(r), r["reason"] or "")
         for r in store.batch_rows(plan.batch_id)
         if r["status"] != "done"
     ]

@@ -21,6 +21,7 @@ from typing import Any
 from exactsyn import __version__
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.errors import ExactsynError
+from exactsyn.io.words import count
 
 
 @dataclass(frozen=True)
@@ -116,7 +117,10 @@ def size_table(store: Store, batch: BatchInfo) -> OptimumTable:
 
 
 def to_text(t: OptimumTable) -> str:
-    out = [f"batch {t.batch_id}: {t.label}", f"library {t.library}; {t.total} functions from {t.items} stored items"]
+    out = [
+        f"batch {t.batch_id}: {t.label}",
+        f"library {t.library}; {count(t.total, 'function')} from {count(t.items, 'stored item')}",
+    ]
     if t.unit != "gates":
         out.append(f"objective: {t.unit}, proven optimal for each function")
     out.append(f"{t.column:>5}  {'functions':>10}")
@@ -125,16 +129,16 @@ def to_text(t: OptimumTable) -> str:
     avg = t.average
     what = "gates" if t.unit == "gates" else t.unit
     out.append(f"total  {t.optimal:>10} proven optimal" + (f"; average {avg:.4f} {what}" if avg is not None else ""))
-    cert = "every entry" if t.certified == t.optimal else f"{t.certified} of {t.optimal} entries"
+    cert = "every entry" if t.certified == t.optimal else f"{t.certified} of {count(t.optimal, 'entry')}"
     out.append(f"certificates: {cert}" + (f" (re-checked: {t.verified})" if t.verified else ""))
     if t.timeout:
-        out.append(f"not proven optimal (time limit): {t.timeout} functions")
+        out.append(f"not proven optimal (time limit): {count(t.timeout, 'function')}")
         for lo, hi, c in t.intervals:
             out.append(f"  optimum in [{lo}, {'?' if hi is None else hi}]: {c}")
     if t.failed:
-        out.append(f"failed: {t.failed} functions (exactsyn batch prints the reasons)")
+        out.append(f"failed: {count(t.failed, 'function')} (exactsyn batch prints the reasons)")
     if t.missing:
-        out.append(f"not yet run: {t.missing} functions (re-run the batch command to resume)")
+        out.append(f"not yet run: {count(t.missing, 'function')} (re-run the batch command to resume)")
     return "\n".join(out) + "\n"
 
 

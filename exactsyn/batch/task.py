@@ -287,10 +287,9 @@ def _run(task: Task, started: float) -> Outcome:
     if reason:
         status = "failed"
     elif status == "timeout":
-        if syn.notes:
-            reason = "time limit: " + "; ".join(syn.notes)
-        else:
-            reason = f"time limit: the optimum lies in [{res.lower_bound}, {res.upper_bound if circuit else '?'}]"
+        reason = "; ".join(
+            [f"time limit: the optimum lies in [{res.lower_bound}, {res.upper_bound if circuit else '?'}]", *syn.notes]
+        )
     optimum = None
     if circuit is not None and syn.optimal:
         obj = syn.objective_result
@@ -307,7 +306,7 @@ def _run(task: Task, started: float) -> Outcome:
         "seconds": round(syn.seconds, 4),
         "wall_seconds": round(time.perf_counter() - started, 4),
         "verify_seconds": verify_seconds,
-        "conflicts": sum(s.conflicts for s in syn.steps),
+        "conflicts": sum(s.conflicts or 0 for s in syn.steps),  # as reported (a Kissat racer reports none)
         "steps": json.dumps([s.summary() for s in syn.steps]),
     }
     return Outcome(task.key, status, row, files)

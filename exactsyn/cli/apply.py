@@ -1,4 +1,8 @@
-"""``exactsyn apply``: run a saved circuit on inputs and print its truth table."""
+"""``exactsyn apply``: run a saved circuit on inputs and print its truth table.
+
+Columns are labelled with the lines their bits stand for: bits are written as binary
+numbers (line n-1 first, line 0 last).
+"""
 
 from __future__ import annotations
 
@@ -19,8 +23,12 @@ def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
 
     \b
     Example:
-      exactsyn synth --cycles "(6 7)" --format qasm2 -o t.qasm && exactsyn apply t.qasm
-    Columns show the bits line n-1 ... line 0 (line 0 rightmost) and the integer.
+      exactsyn synth --cycles "(6 7)" -o t.qasm && exactsyn apply t.qasm
+
+    Each row: the input as an integer, its bits, the output bits and the output as an
+    integer.  Bits are written as binary numbers, line n-1 first and line 0 last (the
+    header says so), the reverse of the bit strings of a spec file's 'table' rows, which
+    list line 0 first.
     """
     try:
         circ = read_circuit(circuit_file)
@@ -28,8 +36,11 @@ def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
         if inputs is None:
             xs = list(range(size))
         else:
+            parts = [t.strip() for t in inputs.split(",")]
+            if not parts or any(not t for t in parts):
+                raise ExactsynError(f"--inputs {inputs!r}: expected comma-separated integers, without empty entries")
             try:
-                xs = [int(t, 0) for t in inputs.replace(" ", "").split(",") if t]
+                xs = [int(t, 0) for t in parts]
             except ValueError:
                 raise ExactsynError(f"--inputs {inputs!r}: expected comma-separated integers") from None
             bad = [x for x in xs if not 0 <= x < size]
@@ -40,9 +51,10 @@ def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
             click.echo(",".join(map(str, outs)))
             return
         w = max(2, len(str(size - 1)))
-        head = "in".rjust(w) + "  " + "bits".ljust(n) + "  ->  " + "bits".ljust(n) + "  " + "out".rjust(w)
-        click.echo(head)
+        label = f"line {n - 1}..0" if n > 1 else "line 0"
+        col = max(n, len(label))
+        click.echo(f"{'in':>{w}}  {label:<{col}}  ->  {label:<{col}}  {'out':>{w}}")
         for x, y in zip(xs, outs, strict=True):
-            click.echo(f"{x:>{w}}  {x:0{n}b}{' ' * max(0, 4 - n)}  ->  {y:0{n}b}{' ' * max(0, 4 - n)}  {y:>{w}}")
+            click.echo(f"{x:>{w}}  {x:0{n}b}{' ' * (col - n)}  ->  {y:0{n}b}{' ' * (col - n)}  {y:>{w}}")
     except ExactsynError as e:
         fail(e.message)

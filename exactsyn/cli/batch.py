@@ -22,17 +22,22 @@ from exactsyn.batch.task import Goal, LibraryChoice
 from exactsyn.batch.workers import DaskEngine, LocalPool, default_jobs
 from exactsyn.cli.common import fail
 from exactsyn.cli.options import (
+    Choice,
     bounds_option,
     cost_option,
     coupling_option,
+    deprecated,
     encoding_option,
+    jobs_option,
     library_option,
     max_controls_option,
     objective_option,
     solver_option,
+    store_option,
 )
 from exactsyn.errors import ExactsynError
 from exactsyn.io.draw import draw_text
+from exactsyn.io.words import count
 from exactsyn.sat.encode import options_for
 from exactsyn.spec.reversible import parse_perm
 
@@ -41,15 +46,9 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
 
 @click.command()
 @click.argument("specs", nargs=-1, type=click.Path())
-@click.option(
-    "--store",
-    "store_path",
-    default=DEFAULT_STORE,
-    show_default=True,
-    type=click.Path(dir_okay=False),
-    help="Results store (SQLite); certificates go to <store>.certs/.",
-)
-@click.option("--all", "all_lines", type=int, metavar="N", help="Every N-line function (N <= 3).")
+@store_option(DEFAULT_STORE, "Results store (SQLite); certificates go to <store>.certs/.")
+@click.option("--every", "every_lines", type=int, metavar="N", help="Every N-line function (N <= 3).")
+@click.option("--all", "all_lines", type=int, hidden=True)
 @click.option(
     "--classes",
     "class_lines",
@@ -59,7 +58,13 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
     "(N <= 3); 'table' expands them to class sizes.",
 )
 @click.option("--random", "random_lines", type=int, metavar="N", help="A seeded random sample of N-line functions.")
-@click.option("--count", type=int, default=100, show_default=True, help="Size of the random sample.")
+@click.option(
+    "--sample",
+    type=click.IntRange(min=1),
+    metavar="K",
+    help="How many functions --random draws.  [default: 100]",
+)
+@click.option("--count", type=int, hidden=True)
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the random sample.")
 @library_option
 @max_controls_option
@@ -75,10 +80,10 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
     metavar="SECONDS",
     help="Per item; past it the item is recorded as timed out with its interval [lower, upper].",
 )
-@click.option("--jobs", "-j", type=int, help="Worker processes (default: every core).")
+@jobs_option(None, "Processes this command may use: worker processes, one item each (default: every core).")
 @click.option(
     "--engine",
-    type=click.Choice(["local", "dask"]),
+    type=Choice(["local", "dask"]),
     default="local",
     show_default=True,
     help="local = process pool; dask = Dask distributed (a local cluster unless --scheduler).",
@@ -98,17 +103,19 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
 @click.option(
     "--retry",
     multiple=True,
-    type=click.Choice(["timeout", "failed"]),
+    type=Choice(["timeout", "failed"]),
     help="Solve items recorded with this status again (repeatable); finished work is skipped otherwise.",
 )
 @click.option("-q", "--quiet", is_flag=True, help="No progress bar.")
 def batch(
     specs: tuple[str, ...],
     store_path: str,
+    every_lines: int | None,
     all_lines: int | None,
     class_lines: int | None,
     random_lines: int | None,
-    count: int,
+    sample: int | None,
+    count: int | None,
     seed: int,
     library_name: str,
     max_controls: int | None,
@@ -130,7 +137,7 @@ def batch(
     """Solve many functions into a results store; re-running the same command resumes.
 
     The functions are spec files (TOML; a directory is searched for *.toml) or a
-    generated set: --all N, --classes N or --random N --count K --seed S.  Every
+    generated set: --every N, --classes N or --random N --sample K --seed S.  Every
     completed item is committed at once, so a killed run loses at most the items in
     flight; an item that fails or times out is recorded with its reason and the batch
     goes on.
@@ -140,22 +147,36 @@ def batch(
       exactsyn batch --classes 3 --library nct --store nct3.sqlite
       exactsyn table --store nct3.sqlite --chart nct3
       exactsyn batch specs/ --time-limit 60 --jobs 8
-      exactsyn batch --random 4 --count 500 --seed 7 --library mct --scheduler tcp://head:8786
+      exactsyn batch --random 4 --sample 500 --seed 7 --library mct --scheduler tcp://head:8786
       exactsyn batch --classes 3 --objective gates-then-cost --cost t-count --store t3.sqlite
 
     Exit status: 0 every item done, 1 some timed out / failed (summarised), 2 bad input.
     """
 
     try:
+        if all_lines is not None:
+            deprecated(f"--all {all_lines}", f"--every {all_lines}")
+            if every_lines is not None:
+                raise ExactsynError("give --every once (--all N is its old spelling)")
+            every_lines = all_lines
+        if count is not None:
+            deprecated(f"--count {count}", f"--sample {count}")
+            if sample is not None:
+                raise ExactsynError("give --sample once (--count K is its old spelling)")
+            sample = count
+        if sample is not None and random_lines is None:
+            raise ExactsynError("--sample K is the size of a --random sample; give --random N too")
         sets = [
-            (k, n) for k, n in (("all", all_lines), ("classes", class_lines), ("random", random_lines)) if n is not None
+            (k, n)
+            for k, n in (("all", every_lines), ("classes", class_lines), ("random", random_lines))
+            if n is not None
         ]
         if len(sets) + bool(specs) != 1:
-            raise ExactsynError("give the functions exactly once: spec files/directories, --all, --classes or --random")
+            raise ExactsynError(
+                "give the functions exactly once: spec files/directories, --every, --classes or --random"
+            )
         if scheduler is not None and not scheduler.strip():
             raise ExactsynError("--scheduler needs an address such as tcp://scheduler-host:8786")
-        if jobs is not None and jobs < 1:
-            raise ExactsynError("--jobs must be 1 or more")
         choice = LibraryChoice(library_name.strip().lower(), max_controls, coupling.strip().lower())
         if sets:
             choice.build(max(1, sets[0][1]))  # validates the preset, the cap and the coupling
@@ -176,7 +197,7 @@ def batch(
             plan = plan_files(specs, choice, options.encoding, goal)
         else:
             kind, lines = sets[0]
-            plan = plan_generated(kind, lines, choice, options.encoding, count=count, seed=seed, goal=goal)
+            plan = plan_generated(kind, lines, choice, options.encoding, count=sample or 100, seed=seed, goal=goal)
         n_jobs = jobs or default_jobs()
         eng = DaskEngine(scheduler, n_jobs) if (scheduler or engine == "dask") else LocalPool(n_jobs, time_limit)
         for note in plan.notes:
@@ -211,15 +232,16 @@ def _summary_text(s: RunSummary, store: Store) -> str:
     per_item = f"; {s.item_seconds / ran:.3f} s per item" if ran else ""
     lines = [
         f"batch {s.batch_id}: {s.label}",
-        f"  {s.planned} items standing for {total_weight} functions; {s.skipped} already finished (skipped)"
-        + (f"; {s.unreadable} unreadable spec files" if s.unreadable else ""),
-        f"  this run: {ran} items in {s.wall_seconds:.1f} s wall on {s.engine}{per_item}: "
+        f"  {count(s.planned, 'item')} standing for {count(total_weight, 'function')}; "
+        f"{s.skipped} already finished (skipped)"
+        + (f"; {count(s.unreadable, 'unreadable spec file')}" if s.unreadable else ""),
+        f"  this run: {count(ran, 'item')} in {s.wall_seconds:.1f} s wall on {s.engine}{per_item}: "
         + ", ".join(f"{k} {s.ran.get(k, 0)}" for k in ("done", "timeout", "failed"))
         + (f" ({s.checked} of them certificate re-checks only)" if s.checked else ""),
         "  store: "
         + ", ".join(f"{k} {c.of(k)}" for k in ("done", "timeout", "failed"))
         + (f", missing {c.of('missing')}" if c.of("missing") else "")
-        + f" of {sum(c.items.values())} items; {c.certificates} with a certificate",
+        + f" of {count(sum(c.items.values()), 'item')}; {c.certificates} with a certificate",
         f"  results in {store.path}" + (f", certificates in {store.cert_root}/" if c.certificates else ""),
     ]
     if s.failures:
@@ -232,7 +254,7 @@ def _summary_text(s: RunSummary, store: Store) -> str:
 
 
 @click.command()
-@click.option("--store", "store_path", default=DEFAULT_STORE, show_default=True, type=click.Path(dir_okay=False))
+@store_option(DEFAULT_STORE)
 @click.option("--batch", "batch_id", metavar="ID", help="Batch id (a prefix will do); default the last one run.")
 @click.option("--list", "list_batches", is_flag=True, help="List the batches in the store and stop.")
 @click.option("--csv", "csv_path", type=click.Path(dir_okay=False), help="Write the distribution as CSV here.")
@@ -268,7 +290,8 @@ def table(
             if list_batches:
                 for b in store.batches():
                     label = b.description.get("label", "")
-                    click.echo(f"{b.id}  {b.updated}  {b.items:>7} items  {b.weight:>8} functions  {label}")
+                    items, weight = count(b.items, "item"), count(b.weight, "function")
+                    click.echo(f"{b.id}  {b.updated}  {items:>13}  {weight:>18}  {label}")
                 return
             if lookup is not None:
                 _print_lookup(store, store.batch(batch_id), lookup)
@@ -291,9 +314,10 @@ def _print_lookup(store: Store, batch: BatchInfo, text: str) -> None:
     m = member_result(store, batch, parse_perm(text).outputs)
     head = f"function {','.join(map(str, m.permutation))}: "
     if m.status == "done":
-        head += f"{m.optimum} gate{'' if m.optimum == 1 else 's'}, proven optimal"
+        head += f"{count(m.optimum or 0, 'gate')}, proven optimal"
     else:
-        head += f"{m.status} ({'no circuit' if m.circuit is None else f'{len(m.circuit)} gates, not proven optimal'})"
+        got = "no circuit" if m.circuit is None else count(len(m.circuit), "gate") + ", not proven optimal"
+        head += f"{m.status} ({got})"
     click.echo(head)
     if m.representative != m.permutation or m.transform.inverted:
         inv = ", inverted" if m.transform.inverted else ""

@@ -11,6 +11,7 @@ import click
 
 from exactsyn.cli.common import fail
 from exactsyn.errors import ExactsynError
+from exactsyn.io.words import count
 from exactsyn.proof.check import CheckLine, check_certificate
 
 
@@ -40,7 +41,8 @@ def check(certificate: str, quiet: bool) -> None:
         fail(e.message)
     if rep.ok:
         what = "optimal" if rep.optimal_claim else "not claimed optimal"
-        click.echo(f"certificate OK: {rep.gate_count} gates, {what} ({rep.seconds:.2f} s)")
+        gates = "no circuit" if rep.gate_count is None else count(rep.gate_count, "gate")
+        click.echo(f"certificate OK: {gates}, {what} ({rep.seconds:.2f} s)")
     else:
         click.echo("certificate REJECTED")
         sys.exit(1)

@@ -15,7 +15,7 @@ from typing import Any
 import click
 
 from exactsyn.cli.common import fail
-from exactsyn.cli.options import coupling_option, max_controls_option
+from exactsyn.cli.options import Choice, coupling_option, max_controls_option
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
@@ -29,7 +29,7 @@ from exactsyn.optimise import (
     optimise_circuit,
 )
 from exactsyn.optimise.driver import DEFAULT_HORIZON
-from exactsyn.optimise.report import result_to_dict, summary_text
+from exactsyn.optimise.report import qasm_header, result_to_dict, summary_text
 
 FORMATS = ("qasm2", "qasm3", "json")
 
@@ -49,7 +49,7 @@ def output_format(fmt: str | None, output: str | None, input_format: str) -> str
 
 
 def _read_back(text: str) -> tuple[Circuit, Layout]:
-    circuit, layout, _ = circuit_layout_from_text(text)
+    circuit, layout, _ = circuit_layout_from_text(text)  # our own output: no path to judge by
     return circuit, layout
 
 
@@ -109,7 +109,7 @@ class _Bar:
 @click.option(
     "--format",
     "fmt",
-    type=click.Choice(FORMATS),
+    type=Choice(FORMATS),
     help="Output format; default from the suffix of OUT (.qasm2, .qasm3, .json; .qasm keeps the input's "
     "OpenQASM version), else the input's format.",
 )
@@ -130,7 +130,7 @@ class _Bar:
 @coupling_option
 @click.option(
     "--objective",
-    type=click.Choice(["gates", "gates-then-cost"]),
+    type=Choice(["gates", "gates-then-cost"]),
     default="gates",
     show_default=True,
     help="What a replacement must lower: the gate count, or the gate count and then the --cost among "
@@ -234,7 +234,7 @@ def optimise(
             )
         finally:
             bar.close()
-        text = str(render(result.output, out_format, layout=layout))
+        text = str(render(result.output, out_format, layout=layout, header=qasm_header(result)))
         back, back_layout = _read_back(text)
         again = check_equivalent(back, result.output, seed=seed)
         if not again.equal or back_layout != layout:

@@ -1,13 +1,29 @@
-"""Click options shared by several commands (one definition, one help text)."""
+"""Click options shared by several commands (one definition, one help text, one meaning).
+
+The scheme every command follows (README "Options"):
+
+* ``-o/--output FILE`` is where the result goes and its suffix picks the format;
+  ``--format`` wins over the suffix; an unknown suffix is refused.
+* ``-j/--jobs N`` is how many processes the command may use.
+* ``--store FILE`` is the results store of ``batch``, ``table`` and ``report``.
+* ``--time-limit SECONDS`` bounds the search of one function (all of ``synth``, one item
+  of ``batch``).
+* ``-q/--quiet``: nothing on stderr but errors; ``--progress``: live progress even when
+  stderr is not a terminal.
+
+Spellings of an earlier release stay for one release and print a one-line note
+(:func:`deprecated`).
+"""
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from typing import Any
 
 import click
 
 from exactsyn.core.library import KINDS, PRESETS
+from exactsyn.errors import did_you_mean
 from exactsyn.sat.conquer import SPLIT_MODES
 from exactsyn.sat.cubes import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
@@ -16,6 +32,55 @@ from exactsyn.search.loop import BOUNDS
 from exactsyn.search.objectives import OBJECTIVES
 
 F = Callable[..., Any]
+
+
+class Choice(click.Choice):  # type: ignore[type-arg]
+    """:class:`click.Choice` whose error names the closest choice ("did you mean")."""
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> Any:
+        try:
+            return super().convert(value, param, ctx)
+        except click.BadParameter:
+            names = [str(c) for c in self.choices]
+            self.fail(f"{value!r} is not one of {', '.join(names)}{did_you_mean(value, names)}", param, ctx)
+
+
+def deprecated(old: str, new: str) -> None:
+    """The one-line note for an old spelling (kept for one release)."""
+    click.echo(f"exactsyn: note: {old} is deprecated and goes in the next release; use {new}", err=True)
+
+
+def jobs_option(default: int | None, help_text: str) -> Callable[[F], F]:
+    """``-j/--jobs N``: how many processes the command may use."""
+    shown = "" if default is None else f" [default: {default}]"
+    return click.option(
+        "-j", "--jobs", type=click.IntRange(min=1), default=default, metavar="N", help=help_text + shown
+    )
+
+
+def store_option(default: str, help_text: str = "Results store (SQLite).") -> Callable[[F], F]:
+    """``--store FILE``: the results store of batch, table and report."""
+    return click.option(
+        "--store",
+        "store_path",
+        default=default,
+        show_default=True,
+        type=click.Path(dir_okay=False),
+        metavar="FILE",
+        help=help_text,
+    )
+
+
+def choice(values: Sequence[str]) -> Choice:
+    return Choice(list(values))
+
+
+progress_option = click.option(
+    "--progress",
+    "show_progress",
+    is_flag=True,
+    help="Show live progress on stderr even when it is not a terminal (it is shown on a terminal unless -q).",
+)
 
 library_option = click.option(
     "--library",
@@ -42,14 +107,14 @@ coupling_option = click.option(
 )
 encoding_option = click.option(
     "--encoding",
-    type=click.Choice(list(ENCODINGS)),
+    type=Choice(list(ENCODINGS)),
     default="onehot",
     show_default=True,
     help="CNF encoding; 'textbook' is the baseline without symmetry breaking.",
 )
 solver_option = click.option(
     "--solver",
-    type=click.Choice(list(SOLVERS)),
+    type=Choice(list(SOLVERS)),
     default="cadical195",
     show_default=True,
     help="SAT solver for the k-queries (with certificates, CaDiCaL 1.9.5 always, for its LRAT output).",
@@ -59,7 +124,7 @@ solver_option = click.option(
 def bounds_option(extra: str = "") -> Callable[[F], F]:
     return click.option(
         "--bounds",
-        type=click.Choice(list(BOUNDS)),
+        type=Choice(list(BOUNDS)),
         default="table",
         show_default=True,
         help="'table': skip hopeless k with breadth-first distance tables and a meet-in-the-middle test "
@@ -67,7 +132,7 @@ def bounds_option(extra: str = "") -> Callable[[F], F]:
     )
 objective_option = click.option(
     "--objective",
-    type=click.Choice(list(OBJECTIVES)),
+    type=Choice(list(OBJECTIVES)),
     default="gates",
     show_default=True,
     help="What is minimised and proven: gates; gates-then-cost = fewest gates, then the least --cost among "
@@ -87,7 +152,7 @@ cost_option = click.option(
 
 split_option = click.option(
     "--split",
-    type=click.Choice(list(SPLIT_MODES)),
+    type=Choice(list(SPLIT_MODES)),
     default="auto",
     show_default=True,
     help="What a gate query still open after a second does: "
@@ -119,7 +184,7 @@ split_after_option = click.option(
 )
 cube_scheme_option = click.option(
     "--cube-scheme",
-    type=click.Choice(list(SCHEMES)),
+    type=Choice(list(SCHEMES)),
     default="targets",
     show_default=True,
     help="How a position branches: " + "; ".join(f"{k} = {v}" for k, v in SCHEMES.items()) + ".",

@@ -7,12 +7,16 @@ batch of a results store.  Exit status: 0 written, 2 bad input (one line on stde
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import click
 
 from exactsyn.batch.html_report import build_report
+from exactsyn.cli.batch import DEFAULT_STORE
 from exactsyn.cli.common import emit, fail
+from exactsyn.cli.options import Choice, deprecated, store_option
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import PICTURE_FORMATS, format_for, read_circuit_layout, render
+from exactsyn.io.files import PICTURE_FORMATS, check_writable, format_for, read_circuit_layout, render
 
 DEFAULT_WRAP = 40  # gate columns per row of a drawing
 
@@ -32,7 +36,7 @@ def parse_labels(text: str | None) -> list[str] | None:
 @click.option(
     "--format",
     "fmt",
-    type=click.Choice(PICTURE_FORMATS),
+    type=Choice(PICTURE_FORMATS),
     help="Picture format; default from the -o suffix (.svg, .png, .txt), text on stdout.",
 )
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the picture here, not stdout.")
@@ -75,7 +79,8 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
 
 
 @click.command()
-@click.argument("store", type=click.Path(dir_okay=False))
+@click.argument("old_store", metavar="[STORE]", required=False, type=click.Path(dir_okay=False))
+@store_option(DEFAULT_STORE)
 @click.option("-o", "--output", required=True, type=click.Path(dir_okay=False), help="The HTML file to write.")
 @click.option("--batch", "batch_id", metavar="ID", help="Batch id (a prefix will do); default the last one run.")
 @click.option(
@@ -84,7 +89,7 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
     is_flag=True,
     help="Re-check every certificate now (as 'exactsyn check' does) instead of reporting the stored verdict.",
 )
-def report(store: str, output: str, batch_id: str | None, recheck: bool) -> None:
+def report(old_store: str | None, store_path: str, output: str, batch_id: str | None, recheck: bool) -> None:
     """Write one self-contained HTML page for a batch of a results store.
 
     The page shows the distribution table and its bar chart, and for each stored
@@ -94,10 +99,16 @@ def report(store: str, output: str, batch_id: str | None, recheck: bool) -> None
     \b
     Examples:
       exactsyn batch --classes 3 --library nct --store nct3.sqlite --verify
-      exactsyn report nct3.sqlite -o nct3.html
+      exactsyn report --store nct3.sqlite -o nct3.html
     """
     try:
-        page = build_report(store, batch_id, recheck)
+        if old_store is not None:
+            deprecated(f"'report {old_store}'", f"'report --store {old_store}'")
+            store_path = old_store
+        if Path(output).suffix.lower() not in (".html", ".htm"):
+            raise ExactsynError(f"the report is an HTML page: give -o a file ending .html, not {output}")
+        check_writable(output, "report file")
+        page = build_report(store_path, batch_id, recheck)
         emit(page, output)
     except ExactsynError as e:
         fail(e.message)

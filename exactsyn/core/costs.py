@@ -55,7 +55,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.cliffordt import gate_cnot_count, gate_t_count
 from exactsyn.core.gates import GATE_FAMILIES, Gate
 from exactsyn.core.library import Library
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, did_you_mean
 
 CostRule = Callable[[Gate, int], int]
 
@@ -216,7 +216,8 @@ def cost_model(name_or_path: str) -> CostModel:
     if path.suffix.lower() in (".toml", ".json") or path.exists():
         return load_cost_table(path)
     raise ExactsynError(
-        f"unknown cost model {name_or_path!r}; choose one of: {', '.join(COST_MODELS)}, or a .toml/.json cost table"
+        f"unknown cost model {name_or_path!r}{did_you_mean(key, COST_MODELS)} "
+        f"(choose one of: {', '.join(COST_MODELS)}, or a .toml/.json cost table)"
     )
 
 

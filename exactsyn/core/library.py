@@ -39,7 +39,7 @@ import numpy as np
 
 from exactsyn.caches import memo
 from exactsyn.core.gates import Gate, peres_gate, permutation_is_odd, swap_gate, x_gate
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, did_you_mean
 
 KINDS = {
     "not": "NOT (x gate, no control)",
@@ -142,9 +142,14 @@ def kinds_of(name: str) -> tuple[str, ...]:
     kinds = tuple(k.strip() for k in key.split(",") if k.strip())
     bad = [k for k in kinds if k not in KINDS]
     if bad or not kinds:
+        if len(kinds) > 1:
+            raise ExactsynError(
+                f"unknown gate kind {bad[0]!r} in library {name!r}{did_you_mean(bad[0], KINDS)} "
+                f"(kinds: {', '.join(KINDS)})"
+            )
         raise ExactsynError(
-            f"unknown library {name!r}; choose a preset ({', '.join(PRESETS)}) "
-            f"or a comma-separated list of kinds ({', '.join(KINDS)})"
+            f"unknown library {name!r}{did_you_mean(key, list(PRESETS) + list(KINDS))} "
+            f"(choose a preset: {', '.join(PRESETS)}; or a comma-separated list of kinds: {', '.join(KINDS)})"
         )
     if kinds == ("negative",):
         raise ExactsynError("library 'negative' has no gates: add a kind such as mct")

@@ -11,6 +11,7 @@ given.  Reading tells JSON from OpenQASM by the first character (``{``).
 from __future__ import annotations
 
 import json
+import tomllib
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -98,6 +99,33 @@ def render(
     raise ExactsynError(f"unknown format {fmt!r}; choose one of: {', '.join(CIRCUIT_FORMATS)}")
 
 
+def path_problem(path: str | Path, error: OSError) -> str:
+    """The real reason a path cannot be used: a parent that is a file, a missing folder, or the OS's words."""
+    p = Path(path)
+    for parent in p.parents:
+        if parent.exists():
+            if not parent.is_dir():
+                return f"{parent} is not a directory"
+            break
+    return error.strerror or str(error)
+
+
+def check_writable(path: str | Path, what: str = "output file") -> None:
+    """Fail now, before any work, when ``path`` cannot be written (by creating and removing its temporary file)."""
+    p = Path(path)
+    if p.is_dir():
+        raise ExactsynError(f"{what} {p} is a directory")
+    tmp = p.with_name(p.name + ".tmp")
+    try:
+        with open(tmp, "xb"):
+            pass
+    except FileExistsError:
+        return  # a stale temporary file: it is replaced when writing
+    except OSError as e:
+        raise ExactsynError(f"cannot write {what} {p}: {path_problem(p, e)}") from None
+    tmp.unlink(missing_ok=True)
+
+
 def write_data(data: str | bytes, path: str | Path) -> Path:
     """Write text or bytes atomically (a temporary file renamed into place)."""
     p = Path(path)
@@ -109,8 +137,11 @@ def write_data(data: str | bytes, path: str | Path) -> Path:
             tmp.write_text(data if data.endswith("\n") else data + "\n", encoding="utf-8")
         tmp.replace(p)
     except OSError as e:
-        tmp.unlink(missing_ok=True)
-        raise ExactsynError(f"cannot write {p}: {e.strerror}") from None
+        try:
+            tmp.unlink(missing_ok=True)
+        except OSError:
+            pass
+        raise ExactsynError(f"cannot write {p}: {path_problem(p, e)}") from None
     return p
 
 
@@ -133,13 +164,74 @@ def read_text(path: str | Path, what: str) -> str:
         raise ExactsynError(f"{what} {p} is not UTF-8 text") from None
 
 
-def circuit_layout_from_text(text: str) -> tuple[Circuit, Layout, str]:
+#: Keys that mark a TOML spec file (permutation specs and Boolean functions).
+SPEC_KEYS = frozenset({"permutation", "cycles", "inputs", "outputs", "expressions", "table", "constants"})
+
+
+def kind_of_text(text: str, suffix: str = "") -> str:
+    """What a file holds, by suffix and content: ``json``, ``qasm``, ``spec`` (TOML), ``empty`` or ``unknown``.
+
+    ``.json``, a first character ``{`` or a JSON list is JSON; ``.qasm*`` or a first statement
+    ``OPENQASM`` is OpenQASM; a text that parses as TOML with a spec key (``permutation``,
+    ``cycles``, ``inputs``, ...) is a spec file.
+    """
+    stripped = text.lstrip("\ufeff \t\r\n")
+    if not stripped:
+        return "empty"
+    suffix = suffix.lower()
+    if suffix == ".json" or stripped[0] == "{":
+        return "json"
+    if stripped[0] == "[" and suffix != ".toml":  # a JSON list, or a TOML table header such as [constants]
+        try:
+            json.loads(text)
+            return "json"
+        except (json.JSONDecodeError, RecursionError):
+            pass
+    if stripped.startswith("OPENQASM"):
+        return "qasm"
+    try:
+        data = tomllib.loads(text)
+    except (tomllib.TOMLDecodeError, ValueError, RecursionError):
+        data = None
+    if isinstance(data, dict) and SPEC_KEYS & set(data):
+        return "spec"
+    return "qasm" if suffix in (".qasm", ".qasm2", ".qasm3") else "unknown"
+
+
+def _refuse_non_circuit(kind: str, text: str, where: str) -> None:
+    if kind == "empty":
+        raise ExactsynError(f"{where} is empty: expected a circuit (OpenQASM 2/3 or exactsyn JSON)")
+    if kind == "spec":
+        raise ExactsynError(
+            f"{where} is a spec file (TOML), not a circuit: this command reads circuits (OpenQASM 2/3 or "
+            "exactsyn JSON); give spec files to 'exactsyn synth'"
+        )
+    if kind == "json":
+        try:
+            data = json.loads(text)
+        except (json.JSONDecodeError, RecursionError):
+            return  # the JSON reader names the position
+        if isinstance(data, dict) and data.get("format") == "exactsyn-certificate":
+            raise ExactsynError(
+                f"{where} is a certificate's result.json, not a circuit: check it with 'exactsyn check'"
+            )
+        if isinstance(data, list):
+            raise ExactsynError(
+                f"{where} holds a JSON list, not a circuit: a circuit is an object with 'lines' and 'gates' "
+                "(a permutation goes to 'exactsyn synth --perm' or a TOML spec with 'permutation = [...]')"
+            )
+
+
+def circuit_layout_from_text(text: str, path: str | Path | None = None) -> tuple[Circuit, Layout, str]:
     """A saved circuit, its register layout, and its format (``json``, ``qasm2`` or ``qasm3``).
 
-    JSON when the text starts with ``{`` (registers from its optional ``registers`` key),
-    OpenQASM otherwise (registers in declaration order).
+    JSON when the text starts with ``{`` or the file ends ``.json`` (registers from its
+    optional ``registers`` key), OpenQASM otherwise (registers in declaration order).  An
+    empty file, a spec file, a JSON list or a certificate is refused with what it is.
     """
-    if text.lstrip().startswith("{"):
+    kind = kind_of_text(text, Path(path).suffix if path is not None else "")
+    _refuse_non_circuit(kind, text, str(path) if path is not None else "the input")
+    if kind == "json":
         circuit = load_json_circuit(text)
         data = json.loads(text)
         regs = data.get("registers") if isinstance(data, dict) else None
@@ -149,14 +241,14 @@ def circuit_layout_from_text(text: str) -> tuple[Circuit, Layout, str]:
     return circuit, layout, "qasm2" if text.lstrip().startswith("OPENQASM 2") else "qasm3"
 
 
-def circuit_from_text(text: str) -> Circuit:
+def circuit_from_text(text: str, path: str | Path | None = None) -> Circuit:
     """A saved circuit: JSON when it starts with ``{``, OpenQASM otherwise."""
-    return circuit_layout_from_text(text)[0]
+    return circuit_layout_from_text(text, path)[0]
 
 
 def read_circuit_layout(path: str | Path) -> tuple[Circuit, Layout, str]:
     """Read a saved circuit (JSON or OpenQASM 2/3) with its register layout and format."""
-    return circuit_layout_from_text(read_text(path, "circuit file"))
+    return circuit_layout_from_text(read_text(path, "circuit file"), path)
 
 
 def read_circuit(path: str | Path) -> Circuit:

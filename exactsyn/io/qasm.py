@@ -317,8 +317,9 @@ def _statements(text: str) -> list[tuple[int, str]]:
             if stmt.endswith(";"):
                 stmt = stmt[:-1].strip()
             assert start is not None
-            if stmt:
-                out.append((start, stmt))
+            if not stmt:
+                raise ExactsynError(f"empty statement (a ';' with nothing before it) at line {start}")
+            out.append((start, stmt))
             buf, start = [], None
     if start is not None:
         what = "'{' is never closed" if depth else "does not end with ';'"
@@ -372,6 +373,13 @@ def _check_definition(ln: int, stmt: str, defined: dict[str, tuple[str, int]]) -
     return name, ("x" if family == "xc" else "swap"), m
 
 
+def _number(ln: int, digits: str) -> int:
+    """A register size or qubit index: decimal, no leading zero (OpenQASM 2.0: ``[1-9][0-9]*|0``)."""
+    if len(digits) > 1 and digits.startswith("0"):
+        raise ExactsynError(f"the number '{digits}' at line {ln} has a leading zero")
+    return int(digits)
+
+
 def _operand(ln: int, text: str, regs: dict[str, _Register]) -> int:
     m = _OPERAND.fullmatch(text)
     if not m:
@@ -386,7 +394,7 @@ def _operand(ln: int, text: str, regs: dict[str, _Register]) -> int:
             )
         first = next(iter(regs))
         raise ExactsynError(f"cannot read operand '{text}' at line {ln}; expected e.g. {first}[0]")
-    name, idx = m.group(1), int(m.group(2))
+    name, idx = m.group(1), _number(ln, m.group(2))
     reg = regs.get(name)
     if reg is None:
         raise ExactsynError(f"unknown register '{name}' at line {ln}; {_declared(regs)}")
@@ -533,7 +541,7 @@ def _register(ln: int, stmt: str) -> _Register:
     )
     if m:
         a, b = m.group(1), m.group(2)
-        name, size = (a, int(b)) if stmt.startswith("qreg") else (b, int(a))
+        name, size = (a, _number(ln, b)) if stmt.startswith("qreg") else (b, _number(ln, a))
     else:
         single = re.fullmatch(rf"qubit\s+({_IDENT})", stmt)
         if not single:
@@ -554,12 +562,12 @@ def read_qasm_layout(text: str) -> tuple[Circuit, Layout]:
         word_match = re.match(_IDENT, stmt)
         word = word_match.group(0) if word_match else ""
         if word == "OPENQASM":
-            v = re.fullmatch(r"OPENQASM\s+(\d+)(?:\.\d+)?", stmt)
+            v = re.fullmatch(r"OPENQASM\s+(2)\.0|OPENQASM\s+(3)(?:\.[01])?", stmt)
             if index != 0:
                 raise ExactsynError(f"the OPENQASM header at line {ln} must be the first statement")
-            if not v or v.group(1) not in ("2", "3"):
+            if not v:
                 raise ExactsynError(f"unsupported OpenQASM version '{stmt}' at line {ln}; exactsyn reads 2.0 and 3.0")
-            r.version = int(v.group(1))
+            r.version = int(v.group(1) or v.group(2))
         elif word == "include":
             inc = re.fullmatch(r'include\s+"([^"]*)"', stmt)
             if not inc or inc.group(1) not in _INCLUDES:

@@ -38,6 +38,7 @@ import ast
 import cmath
 import math
 import re
+import warnings
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from itertools import permutations
@@ -46,6 +47,7 @@ import numpy as np
 
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
+from exactsyn.io.words import count
 
 #: Largest gate whose unitary is multiplied out (a 2^10 × 2^10 complex matrix is 16 MiB).
 MAX_UNITARY_QUBITS = 10
@@ -82,8 +84,10 @@ def evaluate(text: str, env: Mapping[str, float] | None = None) -> float:
     env = env or {}
     source = text.strip().replace("^", "**")
     try:
-        tree = ast.parse(source, mode="eval")
-    except SyntaxError:
+        with warnings.catch_warnings():  # a SyntaxWarning would be a second line on stderr
+            warnings.simplefilter("ignore")
+            tree = ast.parse(source, mode="eval")
+    except (SyntaxError, ValueError, RecursionError, MemoryError):
         raise ExactsynError(f"cannot read the parameter '{text.strip()}'") from None
 
     def walk(node: ast.AST) -> float:
@@ -525,7 +529,7 @@ def call_matrix(call: Call, env: Mapping[str, float], lookup: Lookup, base: Base
     elif call.name in STANDARD:
         nparams, _, build = STANDARD[call.name]
         if len(values) != nparams:
-            raise ExactsynError(f"'{call.name}' takes {nparams} parameter(s), not {len(values)}")
+            raise ExactsynError(f"'{call.name}' takes {count(nparams, 'parameter')}, not {len(values)}")
         matrix = build(*values)
     else:
         raise ExactsynError(f"unsupported gate '{call.name}'")
@@ -546,7 +550,7 @@ def definition_unitary(defn: Definition, values: Sequence[float], lookup: Lookup
     if key in defn._unitaries:
         return defn._unitaries[key]
     if len(values) != len(defn.params):
-        raise ExactsynError(f"'{defn.name}' takes {len(defn.params)} parameter(s), not {len(values)}")
+        raise ExactsynError(f"'{defn.name}' takes {count(len(defn.params), 'parameter')}, not {len(values)}")
     k = defn.arity
     if k > MAX_UNITARY_QUBITS:
         raise ExactsynError(

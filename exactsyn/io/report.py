@@ -24,6 +24,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import COST_MODELS, CostModel, circuit_cost
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import gate_to_dict
+from exactsyn.io.words import count
 from exactsyn.sat.status import Status
 from exactsyn.search.all_optima import EQUIVALENCE, Enumeration
 from exactsyn.search.distance import FULL
@@ -68,7 +69,7 @@ def synthesis_to_dict(syn: Synthesis, clifford_t: CliffordT | None = None) -> di
         "gates": None if c is None else [gate_to_dict(g) for g in c.gates],
         "source": res.source,
         "initial_bound": {"value": res.initial_bound.value, "reason": res.initial_bound.reason},
-        "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
+        "table_bound": None if res.table_bound is None else res.table_bound.to_dict(),
         "encoding": res.encoding.describe(),
         "solver": res.solver,
         "steps": [q.summary() for q in res.steps],
@@ -115,13 +116,13 @@ def synthesis_to_dict(syn: Synthesis, clifford_t: CliffordT | None = None) -> di
 
 def status_line(res: GateResult) -> str:
     if res.circuit is None:
-        return f"no circuit found; proven lower bound {res.lower_bound} gates"
+        return f"no circuit found; proven lower bound {_gates(res.lower_bound)}"
     if res.optimal:
         how = ""
         if res.table_bound is not None:
             tb = res.table_bound
             depth = "full" if tb.depth >= FULL else f"depth {tb.depth}"
-            how = f"; distance table ({depth}): at least {tb.value} gates"
+            how = f"; distance table ({depth}): at least {_gates(tb.value)}"
         refuted = [s.k for s in res.steps if s.status == Status.UNSAT]
         if refuted:
             span = str(refuted[0]) if len(refuted) == 1 else f"{refuted[0]}..{refuted[-1]}"
@@ -131,6 +132,23 @@ def status_line(res: GateResult) -> str:
         f"{_gates(len(res.circuit))}, NOT proven optimal: the optimum lies in "
         f"[{res.lower_bound}, {len(res.circuit)}] ({res.library.name})"
     )
+
+
+def qasm_header(syn: Synthesis) -> list[str]:
+    """The comment lines at the top of a synthesised OpenQASM file (plain or Clifford+T, one style)."""
+    res, c = syn.gate_result, syn.circuit
+    out = [f"exactsyn {__version__}"]
+    if c is not None:
+        proven = (
+            f"proven optimal (lower bound {res.lower_bound})"
+            if syn.optimal
+            else f"NOT proven optimal (proven lower bound {res.lower_bound})"
+        )
+        out.append(f"{_gates(len(c))}, {proven}")
+    if syn.objective_result is not None:
+        out.append(objective_summary(syn.objective_result))
+    out.append(f"library: {res.library.name}")
+    return out
 
 
 def synthesis_to_text(syn: Synthesis) -> str:
@@ -182,4 +200,4 @@ def listing_text(enum: Enumeration) -> str:
 
 
 def _gates(n: int) -> str:
-    return f"{n} gate" if n == 1 else f"{n} gates"
+    return count(n, "gate")

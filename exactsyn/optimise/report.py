@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from exactsyn import __version__
+from exactsyn.io.words import count
 from exactsyn.optimise.driver import OptimiseResult
 from exactsyn.optimise.metrics import FIELDS, LABELS
 
@@ -36,6 +37,16 @@ def result_to_dict(result: OptimiseResult, **extra: Any) -> dict[str, Any]:
     }
 
 
+def qasm_header(result: OptimiseResult) -> list[str]:
+    """The comment lines at the top of an optimised OpenQASM file (the style of ``synth``'s)."""
+    return [
+        f"exactsyn {__version__}",
+        f"{count(result.output.gate_count, 'gate')} (input: {result.input.gate_count}), NOT proven optimal "
+        f"(no lower bound: every window of up to {result.window} lines is optimal)",
+        f"library: {result.library}",
+    ]
+
+
 def _change(before: int, after: int) -> str:
     diff = after - before
     pct = f" ({100.0 * diff / before:+.1f}%)" if before else ""
@@ -47,7 +58,7 @@ def summary_text(result: OptimiseResult) -> str:
     cost = f", cost {result.cost_model}" if result.cost_model else ""
     out = [
         f"optimised {result.input.lines} lines in {result.seconds:.2f} s: library {result.library}, "
-        f"objective {result.objective}{cost}, windows of up to {result.window} lines, {result.rounds} round(s)",
+        f"objective {result.objective}{cost}, windows of up to {result.window} lines, {count(result.rounds, 'round')}",
         f"{'':<12}{'before':>10}{'after':>10}  change",
     ]
     for name in FIELDS:
@@ -56,7 +67,7 @@ def summary_text(result: OptimiseResult) -> str:
     if result.replaced:
         parts = [
             f"{w.windows} window{'s' if w.windows != 1 else ''} of {w.lines} line{'s' if w.lines != 1 else ''} "
-            f"(-{w.gates_removed} gates)"
+            f"(-{count(w.gates_removed, 'gate')})"
             for w in result.replaced
         ]
         out.append("windows replaced: " + ", ".join(parts) + f"; {result.windows_tried} windows tried")

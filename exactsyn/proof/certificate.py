@@ -10,8 +10,9 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     (``name``, ``version``, ``symmetry``); ``circuit`` (gates in application order, JSON
     as in :mod:`exactsyn.io.jsonio`), ``gate_count``, ``optimal``, ``lower_bound``;
     ``initial_bound`` (``value``, ``reason``, ``detail`` — a bound that needs no SAT
-    call, re-derived by the checker); ``table_bound`` (``value``, ``exact``, ``depth``,
-    ``extended``, or null); ``queries``: one entry per k-query with ``k``, ``status``
+    call, re-derived by the checker); ``table_bound`` (``value``, ``exact``, ``depth`` — an
+    integer, or ``"full"`` for a table of every function the library generates (earlier
+    versions wrote 1000000) — ``extended``, or null); ``queries``: one entry per k-query with ``k``, ``status``
     (``unsat`` / ``sat`` / ``unknown``), ``proof`` (file name or null), ``cnf_sha256``,
     ``num_vars``, ``num_clauses``, ``solver``, ``seconds``, ``conflicts``,
     ``proof_bytes`` and ``symmetry`` (the query's rules when they differ from
@@ -50,6 +51,7 @@ from typing import TYPE_CHECKING, Any
 from exactsyn import __version__
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
+from exactsyn.io.files import path_problem
 from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
 from exactsyn.sat.encode import ENCODING_VERSION, EncodingOptions
 from exactsyn.spec.reversible import Spec
@@ -78,14 +80,22 @@ def spec_to_dict(spec: Spec) -> dict[str, Any]:
     }
 
 
+def json_int(v: Any) -> int:
+    """An integer as JSON holds it: not a float (1.5 is not 1), not a boolean."""
+    if isinstance(v, bool) or not isinstance(v, int):
+        raise TypeError(f"not an integer: {v!r}")
+    return v
+
+
 def spec_from_dict(d: Any) -> Spec:
     try:
-        lines, outputs, care = int(d["lines"]), [int(v) for v in d["outputs"]], [int(v) for v in d["care"]]
+        lines = json_int(d["lines"])
+        outputs, care = [json_int(v) for v in d["outputs"]], [json_int(v) for v in d["care"]]
         name = str(d.get("name", ""))
-        open_lines = tuple(int(v) for v in d.get("open_lines", []))
-        targets = tuple(tuple(int(v) for v in t) for t in d.get("output_targets", []))
-        cands = tuple(int(v) for v in d.get("output_candidates", []))
-    except (KeyError, TypeError, ValueError):
+        open_lines = tuple(json_int(v) for v in d.get("open_lines", []))
+        targets = tuple(tuple(json_int(v) for v in t) for t in d.get("output_targets", []))
+        cands = tuple(json_int(v) for v in d.get("output_candidates", []))
+    except (KeyError, TypeError, ValueError, AttributeError):
         raise ExactsynError("certificate: malformed 'spec'") from None
     if not 1 <= lines <= 6 or len(outputs) != 1 << lines or len(care) != 1 << lines:
         raise ExactsynError("certificate: 'spec' has the wrong number of rows for its lines")
@@ -115,10 +125,11 @@ def library_to_dict(lib: Library) -> dict[str, Any]:
 def library_from_dict(d: Any) -> Library:
     """Rebuild the library from its preset and require the stored gate list to match."""
     try:
-        coupling = tuple((int(a), int(b)) for a, b in d.get("coupling", []))
-        lib = make_library(str(d["preset"]), int(d["lines"]), d.get("max_controls"), coupling)
+        coupling = tuple((json_int(a), json_int(b)) for a, b in d.get("coupling", []))
+        cap = d.get("max_controls")
+        lib = make_library(str(d["preset"]), json_int(d["lines"]), None if cap is None else json_int(cap), coupling)
         stored = tuple(gate_from_dict(g) for g in d["gates"])
-    except (KeyError, TypeError, ValueError):
+    except (KeyError, TypeError, ValueError, AttributeError):
         raise ExactsynError("certificate: malformed 'library'") from None
     if stored != lib.gates:
         raise ExactsynError("certificate: the stored gate list is not the one its library preset defines")
@@ -127,10 +138,10 @@ def library_from_dict(d: Any) -> Library:
 
 def encoding_from_dict(d: Any) -> EncodingOptions:
     try:
-        if int(d["version"]) != ENCODING_VERSION:
+        if json_int(d["version"]) != ENCODING_VERSION:
             raise ExactsynError(f"certificate: encoding version {d['version']} is not this tool's")
         return EncodingOptions(str(d["name"]), tuple(str(s) for s in d["symmetry"]))
-    except (KeyError, TypeError, ValueError):
+    except (KeyError, TypeError, ValueError, AttributeError):
         raise ExactsynError("certificate: malformed 'encoding'") from None
 
 
@@ -220,7 +231,7 @@ def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | 
     try:
         directory.mkdir(parents=True, exist_ok=True)
     except OSError as e:
-        raise ExactsynError(f"cannot create certificate directory {directory}: {e.strerror}") from None
+        raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
     circuit = res.circuit
     data = {
         "format": FORMAT,
@@ -239,7 +250,7 @@ def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | 
             "reason": res.initial_bound.reason,
             "detail": res.initial_bound.detail,
         },
-        "table_bound": None if res.table_bound is None else res.table_bound.__dict__,
+        "table_bound": None if res.table_bound is None else res.table_bound.to_dict(),
         "queries": [gate_query_to_dict(q, res.encoding) for q in res.steps],
     }
     if objective is not None:
@@ -259,7 +270,7 @@ def proof_writer(directory: Path) -> ProofSink:
     try:
         directory.mkdir(parents=True, exist_ok=True)
     except OSError as e:
-        raise ExactsynError(f"cannot create certificate directory {directory}: {e.strerror}") from None
+        raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
 
     def sink(stem: str, proof: bytes) -> str:
         name = f"{stem}.lrat.gz"

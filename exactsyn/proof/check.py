@@ -42,11 +42,13 @@ from exactsyn.core.costs import COST_MODELS, library_costs, objective_value
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.jsonio import gate_from_dict
+from exactsyn.io.words import count
 from exactsyn.proof.certificate import (
     FORMAT,
     FORMAT_VERSION,
     RESULT_FILE,
     encoding_from_dict,
+    json_int,
     library_from_dict,
     read_proof,
     spec_from_dict,
@@ -83,6 +85,8 @@ class CheckReport:
 def _load(path: Path) -> tuple[Path, dict[str, Any]]:
     directory = path if path.is_dir() else path.parent
     file = directory / RESULT_FILE if path.is_dir() else path
+    if path.is_dir() and not file.is_file():
+        raise ExactsynError(f"{path} (at {path.resolve()}) holds no {RESULT_FILE}: it is not a certificate directory")
     try:
         data = json.loads(file.read_text())
     except OSError as e:
@@ -114,7 +118,9 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     # The circuit, simulated on every input.
     circuit: Circuit | None = None
     raw = data.get("circuit")
-    if raw is not None:
+    if raw is not None and not isinstance(raw, list):
+        note("circuit", False, "malformed 'circuit' (not a list of gates)")
+    elif raw is not None:
         try:
             circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in raw))
         except ExactsynError as e:
@@ -127,11 +133,12 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
             elif data.get("gate_count") != len(circuit):
                 note("circuit", False, f"gate_count {data.get('gate_count')} but the circuit has {len(circuit)}")
             else:
-                note("circuit", True, f"{len(circuit)} gates, meets the spec on all {spec.size} inputs")
+                note("circuit", True, f"{count(len(circuit), 'gate')}, meets the spec on all {spec.size} inputs")
 
     # The bound that needs no SAT call.
     bound = lower_bound(spec, library)
-    claimed = data.get("initial_bound", {}).get("value")
+    initial = data.get("initial_bound")
+    claimed = initial.get("value") if isinstance(initial, dict) else None
     if not isinstance(claimed, int) or claimed > bound.value:
         note("bound", False, f"initial bound {claimed!r} is not re-derived (got {bound.value}: {bound.detail})")
         first = None
@@ -145,7 +152,9 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     tb = data.get("table_bound")
     if tb is not None:
         try:
-            depth, extended, value, exact = int(tb["depth"]), bool(tb["extended"]), int(tb["value"]), bool(tb["exact"])
+            raw_depth = FULL if tb["depth"] == "full" else tb["depth"]
+            depth, value = json_int(raw_depth), json_int(tb["value"])
+            extended, exact = bool(tb["extended"]), bool(tb["exact"])
         except (KeyError, TypeError, ValueError):
             raise ExactsynError("certificate: malformed 'table_bound'") from None
         five = spec.lines == 5 and five_table_ok(library) and 1 <= depth <= FIVE_MAX_DEPTH and not extended
@@ -169,13 +178,19 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
             else:
                 table_value = value
-                note("table", True, f"k >= {value}: meet in the middle over the depth-{depth} table ({dt:.2f} s)")
+                which = "full" if depth >= FULL else f"depth-{depth}"
+                note("table", True, f"k >= {value}: meet in the middle over the {which} table ({dt:.2f} s)")
 
     # Every refuted k.
     refuted: set[int] = set()
     queries = data.get("queries") or []
+    if not isinstance(queries, list):
+        raise ExactsynError("certificate: malformed 'queries' (not a list)")
     for q in queries:
-        if not isinstance(q, dict) or q.get("status") != Status.UNSAT:
+        if not isinstance(q, dict) or q.get("status") not in tuple(Status):
+            note("query", False, f"malformed query entry {str(q)[:40]!r}")
+            continue
+        if q.get("status") != Status.UNSAT:
             continue
         k = q.get("k")
         if not isinstance(k, int) or k < 0:
@@ -226,7 +241,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
             else:
                 proven_k = len(circuit)
-                note("optimal", True, f"every k in [{first}, {len(circuit) - 1}] refuted: {len(circuit)} is optimal")
+                note("optimal", True, _covered(first, len(circuit), refuted, table_value))
     if data.get("objective") is not None:
         _check_objective(directory, data["objective"], spec, library, proven_k, note)
     lb = data.get("lower_bound")
@@ -240,6 +255,25 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     return CheckReport(ok, tuple(out), optimal_claim, gate_count, time.perf_counter() - start)
 
 
+def _span(ks: list[int]) -> str:
+    return str(ks[0]) if len(ks) == 1 else f"{ks[0]}..{ks[-1]}"
+
+
+def _covered(first: int, count: int, refuted: set[int], table_value: int) -> str:
+    """How every k below ``count`` is ruled out: the table bound, refutations, or nothing to rule out."""
+    ks = list(range(first, count))
+    by_table = [k for k in ks if k < table_value]
+    by_proof = [k for k in ks if k >= table_value]
+    parts = []
+    if by_table:
+        parts.append(f"k = {_span(by_table)} excluded by the distance table")
+    if by_proof:
+        parts.append(f"k = {_span(by_proof)} refuted by checked LRAT proofs")
+    if not parts:
+        return f"the circuit meets the bound: {count} is optimal"
+    return "; ".join(parts) + f": {count} is optimal"
+
+
 def _check_objective(
     directory: Path,
     d: Any,
@@ -251,11 +285,11 @@ def _check_objective(
     """Re-check the ``objective`` section; ``k_star`` is the gate count the gate part proved (or None)."""
     try:
         name = str(d["name"])
-        costs = None if d.get("costs") is None else tuple(int(c) for c in d["costs"])
+        costs = None if d.get("costs") is None else tuple(json_int(c) for c in d["costs"])
         options = EncodingOptions("onehot", tuple(str(s) for s in d.get("symmetry") or ()))
         circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in d["circuit"]))
-        value, optimal, queries = int(d["value"]), bool(d["optimal"]), list(d.get("queries") or [])
-    except (KeyError, TypeError, ValueError):
+        value, optimal, queries = json_int(d["value"]), bool(d["optimal"]), list(d.get("queries") or [])
+    except (KeyError, TypeError, ValueError, AttributeError):
         raise ExactsynError("certificate: malformed 'objective'") from None
     if name not in ("gates-then-cost", "cost", "depth") or (name != "depth") == (costs is None):
         raise ExactsynError(f"certificate: objective {name!r} is not known or lacks its costs")
@@ -276,11 +310,15 @@ def _check_objective(
     if got != value:
         note("objective", False, f"claims value {value}, the circuit has {got}")
         return
-    note("objective", True, f"{name}: circuit of {len(circuit)} gates with value {value}, simulated on every input")
+    size = count(len(circuit), "gate")
+    note("objective", True, f"{name}: circuit of {size} with value {value}, simulated on every input")
 
     refuted: dict[tuple[str, int], int] = {}  # (kind, k) -> largest refuted limit (depth: k itself)
     for q in queries:
-        if not isinstance(q, dict) or q.get("status") != Status.UNSAT:
+        if not isinstance(q, dict) or q.get("status") not in tuple(Status):
+            note("objective query", False, f"malformed query entry {str(q)[:40]!r}")
+            continue
+        if q.get("status") != Status.UNSAT:
             continue
         kind, k, limit = q.get("kind"), q.get("k"), q.get("limit")
         label = f"{kind} k={k}" + ("" if limit is None else f" cost<={limit}")
@@ -325,7 +363,7 @@ def _check_objective(
     if name == "gates-then-cost":
         ks = [k_star] if len(circuit) == k_star else []
         if not ks:
-            note("objective optimal", False, f"the circuit has {len(circuit)} gates, not the proven {k_star}")
+            note("objective optimal", False, f"the circuit has {count(len(circuit), 'gate')}, not the proven {k_star}")
             return
     elif min(costs) < 1:
         note("objective optimal", False, "objective 'cost' needs every gate to cost at least 1")

@@ -4,9 +4,9 @@ Layered formulation: layer ``L`` (0 ≤ L < d) has one optional *slot* per line 
 slot ``(L, s)`` may hold a library gate whose lowest line is ``s`` (its anchor), or stay
 empty.  Every gate of a layer has a different lowest line, so a layer of gates on
 disjoint lines has exactly one slot assignment: no symmetry between slots.  The slots
-are positions of :func:`exactsyn.sat.encode.encode` (same line-value and gate clauses; an
-empty slot keeps every line by the frame clauses), in order ``L·n + s``; gates of one
-layer are on disjoint lines so their order does not matter.
+are the positions of a :class:`~exactsyn.sat.question.Question` with ``slots`` (same line-value
+and gate clauses; an empty slot keeps every line by the frame clauses), in order
+``L·n + s``; gates of one layer are on disjoint lines so their order does not matter.
 
 Extra clause families, for layer ``L``:
 
@@ -40,7 +40,8 @@ from dataclasses import replace
 from pysat.formula import IDPool
 
 from exactsyn.core.library import Library
-from exactsyn.sat.encode import Encoding, EncodingOptions, encode, inverse_pairs
+from exactsyn.sat.encode import Encoding, EncodingOptions, Question, encode_question
+from exactsyn.sat.symmetry import inverse_pairs
 from exactsyn.spec.reversible import Spec
 
 DEPTH_OPTIONS = EncodingOptions("onehot", ("touch",))
@@ -58,7 +59,7 @@ def encode_depth(spec: Spec, library: Library, depth: int) -> Encoding:
     n, gates = library.lines, library.gates
     pool = IDPool()
     allowed = depth_slots(library, depth)
-    enc = encode(spec, library, depth * n, DEPTH_OPTIONS, pool=pool, slots=allowed)
+    enc = encode_question(Question(spec, library, depth * n, DEPTH_OPTIONS, slots=tuple(map(tuple, allowed))), pool)
     clauses = list(enc.clauses)
     g = enc.gate_vars
 

@@ -63,7 +63,7 @@ class Query:
     limit: int | None
     status: Status
     seconds: float
-    conflicts: int
+    conflicts: int | None  # None when the answering solver does not report it (Kissat in a race)
     variables: int
     clauses: int
     solver: str = ""
@@ -127,6 +127,7 @@ def run_query(
     rival: Callable[[], Encoding] | None = None,
     split: CubeOptions | None = None,
     cube_progress: CubeProgress | None = None,
+    rival_seconds: float = 0.0,
 ) -> Answer:
     """Answer one query within ``time_limit`` seconds (``None``: no limit).
 
@@ -137,9 +138,12 @@ def run_query(
     second formulation of the same question) a query still open after
     :data:`QUICK_SECONDS` is raced against it; whichever answers first decides, and its
     encoding is the one recorded (both are exact for the question; see
-    :mod:`exactsyn.sat.race`).  With ``split`` (gate queries only) a query still open
-    after ``split.after`` seconds is split into cubes instead (no race), solved on
-    ``split.jobs`` processes or Dask, and ``cube_progress`` hears about every cube.
+    :mod:`exactsyn.sat.race`).  ``rival_seconds`` is what building the rival is expected
+    to take: under a time limit the race starts only when more than that (and
+    :data:`QUICK_SECONDS`) is left, else the first solver goes on alone.  With ``split``
+    (gate queries only) a query still open after ``split.after`` seconds is split into
+    cubes instead (no race), solved on ``split.jobs`` processes or Dask, and
+    ``cube_progress`` hears about every cube.
     """
     if objective not in QUERY_OBJECTIVES:
         raise ValueError(f"unknown query objective {objective!r}")
@@ -155,7 +159,8 @@ def run_query(
         assert split is not None
         first = split.after if time_limit is None else min(split.after, time_limit)
     record: SplitRecord | None = None
-    status, model, conflicts, name, proof = Status.UNKNOWN, None, 0, solver, b""
+    status, model, name, proof = Status.UNKNOWN, None, solver, b""
+    conflicts: int | None = 0
     if first is None or first > 0:
         status, model, conflicts, name, proof = _solve(enc.clauses, solver, first, certify)
     if status == Status.UNKNOWN and splitting:
@@ -174,7 +179,13 @@ def run_query(
                 progress=cube_progress,
             )
             status, model, name, record = won.status, won.model, won.solver, won.split
-            conflicts += won.conflicts
+            conflicts = (conflicts or 0) + won.conflicts
+    if status == Status.UNKNOWN and racing and time_limit is not None:
+        remaining = time_limit - (time.perf_counter() - t0)
+        if remaining <= rival_seconds + QUICK_SECONDS:  # no time to build the rival: one solver to the end
+            racing = False
+            if remaining > 0:
+                status, model, conflicts, name, proof = _solve(enc.clauses, solver, remaining, certify)
     if status == Status.UNKNOWN and racing:
         assert rival is not None
         other = rival()

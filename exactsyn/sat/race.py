@@ -15,7 +15,11 @@ satisfying assignments several times faster than CaDiCaL on our queries: hwb4, k
 42 s against 127 s); it writes no proof, so with certificates only its SAT answers count.
 
 Each racer runs in a forked process; its answer (and proof, through a temporary file)
-comes back over a queue, and the losers are terminated.
+comes back over a queue, and the losers are terminated.  The parent waits no longer than
+the time limit plus :data:`GRACE_SECONDS`: the CaDiCaL racers stop at the limit on their
+own, and Kissat (which cannot be given a budget through python-sat) is terminated then.
+Kissat exposes no statistics through python-sat, so its conflict count is unknown
+(``None``), never reported as 0.
 """
 
 from __future__ import annotations
@@ -31,6 +35,9 @@ from exactsyn.proof.capture import solve_with_lrat
 from exactsyn.sat.solve import solve_cnf
 from exactsyn.sat.status import Status
 
+#: How long past the time limit the parent waits for a racer's answer before stopping them.
+GRACE_SECONDS = 0.25
+
 
 @dataclass(frozen=True)
 class RaceOutcome:
@@ -39,7 +46,7 @@ class RaceOutcome:
     model: tuple[int, ...] | None
     proof: bytes
     seconds: float
-    conflicts: int
+    conflicts: int | None  # None: the winner does not report it (Kissat)
     solver: str
 
 
@@ -57,7 +64,7 @@ def _racer(
                 ok = s.solve()
                 model = tuple(s.get_model() or ()) if ok else None
             status = Status.SAT if ok else Status.UNSAT
-            out.put((index, status, model, None, time.perf_counter() - t0, 0, "Kissat 4.0.4"))
+            out.put((index, status, model, None, time.perf_counter() - t0, None, "Kissat 4.0.4"))
         elif certify:
             run = solve_with_lrat(clauses, limit)
             path = None
@@ -99,11 +106,11 @@ def race(
     for p in procs:
         p.start()
     pending = len(procs)
-    result = RaceOutcome(None, Status.UNKNOWN, None, b"", 0.0, 0, solver)
+    result = RaceOutcome(None, Status.UNKNOWN, None, b"", 0.0, None, solver)
     errors: list[str] = []
     try:
         while pending:
-            wait = None if time_limit is None else max(0.05, time_limit - (time.perf_counter() - start) + 5.0)
+            wait = None if time_limit is None else max(0.05, time_limit - (time.perf_counter() - start) + GRACE_SECONDS)
             try:
                 index, status, model, path, seconds, conflicts, name = out.get(timeout=wait)
             except queue.Empty:

@@ -21,6 +21,7 @@ circuits", DAC 2010); the table sizes are checked against their counts in the te
 
 from __future__ import annotations
 
+import time
 from dataclasses import dataclass
 
 import numpy as np
@@ -37,6 +38,10 @@ from exactsyn.search.bfs import row_keys
 MAX_ENTRIES = 6_000_000
 MAX_ENTRIES_WIDE = 1_000_000  # rows of more than 16 entries (5+ lines) use slower byte keys
 MAX_CANDIDATE_BYTES = 160 << 20
+#: Finishing a table (concatenating, sorting) takes about as long as building its largest
+#: layer (measured: 3.0 s against 4.0 s for MCT on 4 lines); a build with a deadline does not
+#: start it with less time left than this share of that layer's time.
+FINISH_FACTOR = 1.0
 _CHUNK = 1 << 20
 
 
@@ -90,36 +95,84 @@ def default_depth(library: Library) -> int:
     return distance_table(library, None).depth
 
 
-@memo(maxsize=8)
-def distance_table(library: Library, depth: int | None) -> DistanceTable:
-    """Breadth-first table of every function of distance ≤ ``depth``.
+class _Builder:
+    """A distance table under construction, one breadth-first layer at a time.
 
-    With ``depth=None`` layers are added while the caps allow; the depth reached is
-    deterministic for a library (it depends on nothing else), so a certificate can
-    name it and the checker rebuild the same table.
+    :meth:`build` adds layers until the table is complete or a deadline passes; the
+    layers built so far are kept, so a later call (with more time) resumes where the last
+    one stopped.  The finished table is the same whatever the deadlines were (the layers
+    depend on the library and the caps only), so certificates can name its depth.
     """
-    if depth is None:
-        target = 64
-    else:
-        target = depth
-    gates_t = gate_table(library)
-    size = gates_t.shape[1]
-    ident = np.arange(size, dtype=np.uint8)[None, :]
-    layers_rows = [ident]
-    layers_last = [np.array([-1], dtype=np.int16)]
-    seen = np.sort(_pack(ident))
-    frontier = ident
-    total = 1
-    built = 0
-    cap = MAX_ENTRIES if size <= 16 else MAX_ENTRIES_WIDE
-    for _ in range(target):
-        cand_bytes = len(frontier) * len(library.gates) * size
-        if depth is None and (cand_bytes > MAX_CANDIDATE_BYTES or total >= cap):
-            break
-        if depth is None and size > 16 and total + len(frontier) * len(library.gates) > cap:
-            break
+
+    def __init__(self, library: Library, depth: int | None) -> None:
+        self.library = library
+        self.depth = depth
+        self.target = 64 if depth is None else depth
+        size = 1 << library.lines
+        ident = np.arange(size, dtype=np.uint8)[None, :]
+        self.layers_rows: list[np.ndarray] = [ident]
+        self.layers_last: list[np.ndarray] = [np.array([-1], dtype=np.int16)]
+        self.seen = np.sort(_pack(ident))
+        self.frontier = ident
+        self.total = 1
+        self.built = 0
+        self.stopped = False  # no further layer will be added
+        self.table: DistanceTable | None = None
+        self.layer_seconds = 0.0  # time the last layer took: finishing (sorting) takes about as long
+        self.layer_frontier = 0  # the frontier that layer was built from
+
+    def build(self, deadline: float | None = None) -> DistanceTable | None:
+        """The finished table, or ``None`` when ``deadline`` (a ``time.perf_counter()`` value) passed first."""
+        while self.table is None:
+            now = time.perf_counter()
+            if deadline is not None and now >= deadline:
+                return None
+            if not self.stopped and self._capped():
+                self.stopped = True
+            if self.stopped or self.built >= self.target:
+                if deadline is not None and deadline - now < FINISH_FACTOR * self.layer_seconds:
+                    return None  # sorting the table would overrun the deadline
+                self.table = self._finish()
+            else:
+                if deadline is not None and deadline - now < self._next_layer_estimate():
+                    return None  # the next layer would overrun the deadline
+                frontier = len(self.frontier)
+                if not self._layer(deadline):
+                    return None
+                self.layer_seconds = time.perf_counter() - now
+                self.layer_frontier = frontier
+        return self.table
+
+    def _next_layer_estimate(self) -> float:
+        """Seconds the next layer may take: the last one's time scaled by the frontier's growth, × 1.5."""
+        if self.layer_frontier == 0:
+            return 0.0
+        return 1.5 * self.layer_seconds * len(self.frontier) / self.layer_frontier
+
+    def _capped(self) -> bool:
+        """Do the size caps forbid the next layer (default depth only)?"""
+        if self.depth is not None:
+            return False
+        size = 1 << self.library.lines
+        cap = MAX_ENTRIES if size <= 16 else MAX_ENTRIES_WIDE
+        candidates = len(self.frontier) * len(self.library.gates)
+        if candidates * size > MAX_CANDIDATE_BYTES or self.total >= cap:
+            return True
+        return size > 16 and self.total + candidates > cap
+
+    def _layer(self, deadline: float | None) -> bool:
+        """Add one layer (or decide to stop); False when the deadline passed in between (nothing kept)."""
+        library, depth = self.library, self.depth
+        gates_t = gate_table(library)
+        size = gates_t.shape[1]
+        cap = MAX_ENTRIES if size <= 16 else MAX_ENTRIES_WIDE
+        frontier = self.frontier
         cand_rows, cand_last, cand_keys = [], [], []
+        seen = self.seen
+        started = time.perf_counter()
         for j in range(len(library.gates)):
+            if deadline is not None and time.perf_counter() >= deadline:
+                return False
             rows_j = gates_t[j][frontier]  # new_p[i] = g_j(p[i])
             keys_j = _pack(rows_j)
             pos = np.searchsorted(seen, keys_j)
@@ -129,37 +182,73 @@ def distance_table(library: Library, depth: int | None) -> DistanceTable:
             cand_keys.append(keys_j[fresh])
             cand_last.append(np.full(int(fresh.sum()), j, dtype=np.int16))
             del rows_j, keys_j, pos, fresh
+        now = time.perf_counter()
+        if deadline is not None and deadline - now < 0.7 * (now - started):
+            return False  # merging the candidates takes about 0.7 of the time it took to make them
         keys = np.concatenate(cand_keys)
         _, first = np.unique(keys, return_index=True)
         rows = np.concatenate(cand_rows)[first]
         last = np.concatenate(cand_last)[first]
         keys = keys[first]
         del cand_rows, cand_last, cand_keys
-        if len(rows) == 0:
-            break
-        if depth is None and total + len(rows) > cap:
-            break
-        built += 1
-        total += len(rows)
-        layers_rows.append(rows)
-        layers_last.append(last)
-        seen = np.sort(np.concatenate([seen, keys]))
-        frontier = rows
-    all_rows = np.concatenate(layers_rows)
-    all_last = np.concatenate(layers_last)
-    all_dist = np.concatenate([np.full(len(r), d, dtype=np.uint8) for d, r in enumerate(layers_rows)])
-    keys = _pack(all_rows)
-    order = np.argsort(keys, kind="stable")
-    # When a layer came out empty the table holds the whole reachable set: exact for all.
-    full = len(layers_rows) - 1 < target and built == len(layers_rows) - 1 and _saturated(layers_rows, library)
-    return DistanceTable(
-        library,
-        FULL if full else built,
-        all_rows[order],
-        keys[order],
-        all_dist[order],
-        all_last[order],
-    )
+        if len(rows) == 0 or (depth is None and self.total + len(rows) > cap):
+            self.stopped = True
+            return True
+        self.built += 1
+        self.total += len(rows)
+        self.layers_rows.append(rows)
+        self.layers_last.append(last)
+        self.seen = np.sort(np.concatenate([seen, keys]))
+        self.frontier = rows
+        return True
+
+    def _finish(self) -> DistanceTable:
+        layers_rows, library = self.layers_rows, self.library
+        all_rows = np.concatenate(layers_rows)
+        all_last = np.concatenate(self.layers_last)
+        all_dist = np.concatenate([np.full(len(r), d, dtype=np.uint8) for d, r in enumerate(layers_rows)])
+        keys = _pack(all_rows)
+        order = np.argsort(keys, kind="stable")
+        # When a layer came out empty the table holds the whole reachable set: exact for all.
+        full = (
+            len(layers_rows) - 1 < self.target
+            and self.built == len(layers_rows) - 1
+            and _saturated(layers_rows, library)
+        )
+        self.frontier = self.seen = np.empty(0, dtype=np.uint8)  # free the working arrays
+        return DistanceTable(
+            library,
+            FULL if full else self.built,
+            all_rows[order],
+            keys[order],
+            all_dist[order],
+            all_last[order],
+        )
+
+
+@memo(maxsize=8)
+def _builder(library: Library, depth: int | None) -> _Builder:
+    return _Builder(library, depth)
+
+
+def distance_table(library: Library, depth: int | None) -> DistanceTable:
+    """Breadth-first table of every function of distance ≤ ``depth`` (built once per process).
+
+    With ``depth=None`` layers are added while the caps allow; the depth reached is
+    deterministic for a library (it depends on nothing else), so a certificate can
+    name it and the checker rebuild the same table.
+    """
+    table = _builder(library, depth).build(None)
+    assert table is not None
+    return table
+
+
+def distance_table_by(library: Library, depth: int | None, deadline: float | None) -> DistanceTable | None:
+    """:func:`distance_table`, or ``None`` when ``deadline`` (``time.perf_counter()``) passes first.
+
+    The layers built before the deadline are kept for the next call in this process.
+    """
+    return _builder(library, depth).build(deadline)
 
 
 FULL = 10**6  # depth of a table that holds every reachable function
@@ -198,13 +287,42 @@ def extended_meet(perm: tuple[int, ...], library: Library, depth: int | None = N
     ``f``, and the last gate of an optimal circuit of ``f`` is such a ``g``.  Tried only
     when the library has at most ``budget`` gates (the cost is one test per gate).
     """
+    out = _extended(perm, library, distance_table(library, depth), depth, budget, None)
+    assert out is not None
+    return out
+
+
+def extended_meet_by(
+    perm: tuple[int, ...], library: Library, deadline: float | None, budget: int = 40
+) -> MeetResult | None:
+    """:func:`extended_meet` on the default table, within a deadline (``time.perf_counter()``).
+
+    ``None`` when the table is not built by then.  When the deadline passes during the
+    extension step the plain meet-in-the-middle result is returned (its bound ``2D + 1``
+    is proven on its own), with ``extended=False``, exactly as the checker re-derives it.
+    """
+    table = distance_table_by(library, None, deadline)
+    if table is None:
+        return None
+    return _extended(perm, library, table, None, budget, deadline)
+
+
+def _extended(
+    perm: tuple[int, ...],
+    library: Library,
+    table: DistanceTable,
+    depth: int | None,
+    budget: int,
+    deadline: float | None,
+) -> MeetResult | None:
     base = meet_in_the_middle(perm, library, depth)
     if base.exact is not None or len(library.gates) > budget:
         return base
-    table = distance_table(library, depth)
     f = np.asarray(perm, dtype=np.int64)
     gates_t = gate_table(library)
     for j, g in enumerate(library.gates):
+        if deadline is not None and time.perf_counter() >= deadline:
+            return base
         h = tuple(int(v) for v in gates_t[j][f])  # h = g∘f
         sub = meet_in_the_middle(h, library, depth)
         if sub.exact is not None and sub.exact == 2 * table.depth and sub.circuit is not None:

@@ -3,10 +3,15 @@
 For each k the encoder builds a fresh CNF (:mod:`exactsyn.sat.encode`) and the solver
 answers it; every UNSAT answer raises the proven lower bound to k + 1.  The first SAT
 answer is decoded, simulated against the spec, and returned as optimal.  A fast
-constructive circuit (transformation-based synthesis, Miller, Maslov & Dueck, DAC 2003)
-gives an upper bound first: when every k below its size is refuted, it is itself
-optimal and the last SAT call is skipped; when time runs out, it is returned with the
-proven lower bound and clearly marked as not proven optimal.
+constructive circuit in the library (:mod:`exactsyn.search.fallback`: transformation-based
+synthesis, Miller, Maslov & Dueck, DAC 2003, rewritten into the library and shrunk by
+window resynthesis) gives an upper bound first: when every k below its size is refuted,
+it is itself optimal and the last SAT call is skipped; when time runs out, it is returned
+with the proven lower bound and clearly marked as not proven optimal.
+
+The time limit covers everything here: the fallback, the distance tables (built layer by
+layer, stopped at the deadline) and every query (solved in short conflict-budget slices).
+``max_gates`` is applied to every answer, the tables' included.
 """
 
 from __future__ import annotations
@@ -30,10 +35,10 @@ from exactsyn.search.bounds import (
     lower_bound,
     parity_obstruction,
 )
-from exactsyn.search.distance import extended_meet
+from exactsyn.search.distance import FULL, MeetResult, extended_meet_by
+from exactsyn.search.events import Progress, SearchEvent, emit
+from exactsyn.search.fallback import Fallback, improve_upper, initial_upper
 from exactsyn.search.five import five_meet, five_next_depth, five_table_ok
-from exactsyn.search.heuristic import transformation_based
-from exactsyn.search.upper import better_fallback
 from exactsyn.spec.reversible import Spec
 
 BOUNDS = {
@@ -43,8 +48,9 @@ BOUNDS = {
 # Number of gates from which the distance table is consulted, by line count: building
 # the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
 TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
-# The table is not built when less time than this is left (it cannot be interrupted).
-TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 15.0}
+# The table is not started when less time than this is left (its build stops at the
+# deadline anyway; this leaves short time limits to SAT).
+TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 5.0}
 
 
 @dataclass(frozen=True)
@@ -64,6 +70,7 @@ class GateResult:
     solver: str
     seconds: float
     source: str  # "sat" | "heuristic" | "table" | "bound" (circuit met the lower bound) | "none"
+    how: str = ""  # how a "heuristic" circuit was made, or why there is none (exactsyn.search.fallback)
 
 
 @dataclass(frozen=True)
@@ -75,15 +82,10 @@ class TableBound:
     depth: int
     extended: bool
 
-
-def heuristic_circuit(spec: Spec, library: Library) -> Circuit | None:
-    """A quick circuit from transformation-based synthesis, if it fits the library."""
-    if not spec.is_permutation:
-        return None
-    circ = transformation_based(spec.permutation, spec.lines)
-    if all(library.contains(g) for g in circ.gates) and spec.accepts(circ.permutation()):
-        return circ
-    return None
+    def to_dict(self) -> dict[str, object]:
+        """The JSON form (results and certificates): ``depth`` is ``"full"`` for a table of every function."""
+        return {"value": self.value, "exact": self.exact, "depth": "full" if self.depth >= FULL else self.depth,
+                "extended": self.extended}
 
 
 #: Without symmetry breaking: the second formulation a hard query is raced against.
@@ -109,7 +111,7 @@ def minimise_gates(
     use_heuristic: bool = True,
     bounds: str = "table",
     jobs: int = 1,
-    progress: Callable[[Query], None] | None = None,
+    progress: Progress | None = None,
     proof_sink: ProofSink | None = None,
     cnf_sink: Callable[[Encoding], None] | None = None,
     split: CubeOptions | None = None,
@@ -121,18 +123,23 @@ def minimise_gates(
     each refutation is handed to ``proof_sink(stem, proof)``, which stores it and returns
     its name (see :mod:`exactsyn.proof.certificate`).  With ``jobs >= 2`` a query still
     open after a second is raced against the formulation without symmetry breaking.
-    ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  With ``split``
-    a query still open after a second is split into cubes instead of raced
-    (:mod:`exactsyn.sat.conquer`), and ``cube_progress`` hears about each cube.  Raises
-    :class:`NoCircuitError` when parity rules every circuit out.
+    ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  ``progress``
+    receives every answered query and a :class:`~exactsyn.search.events.SearchEvent` for
+    the other phases.  With ``split`` a query still open after ``split.after`` seconds is
+    split into cubes instead of raced (:mod:`exactsyn.sat.conquer`), and ``cube_progress``
+    hears about each cube.  Raises :class:`NoCircuitError` when parity rules every circuit out.
     """
     opts = encoding or EncodingOptions()
     start = time.perf_counter()
+    deadline = None if time_limit is None else start + time_limit
     reason = parity_obstruction(spec, library) or affine_obstruction(spec, library) or completion_obstruction(spec)
     if reason:
         raise NoCircuitError(reason)
     bound = lower_bound(spec, library)
-    upper = heuristic_circuit(spec, library) if use_heuristic else None
+    hopeless = max_gates is not None and bound.value > max_gates  # no circuit within the limit: no fallback either
+    use_heuristic = use_heuristic and not hopeless
+    fallback = initial_upper(spec, library, deadline, progress) if use_heuristic else Fallback(None, "")
+    upper = fallback.circuit
     steps: list[Query] = []
     table: TableBound | None = None
     if bounds not in BOUNDS:
@@ -142,6 +149,10 @@ def minimise_gates(
     ) or (bounds == "table" and spec.is_permutation and five_table_ok(library))
 
     def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
+        if circuit is not None and max_gates is not None and len(circuit) > max_gates:
+            # Every answer obeys the gate limit; a proven optimum above it is the bound.
+            lb = max(lb, len(circuit)) if optimal else lb
+            circuit, optimal, source = None, False, "none"
         if circuit is not None:
             verify(circuit, spec, library)
         return GateResult(
@@ -158,13 +169,11 @@ def minimise_gates(
             solver=solver,
             seconds=time.perf_counter() - start,
             source=source,
+            how=fallback.how if source == "heuristic" else fallback.reason if circuit is None else "",
         )
 
-    def fallback() -> Circuit | None:
-        """The circuit handed back unproven: the quick one, improved where that pays (search/upper.py)."""
-        return None if upper is None else better_fallback(upper, spec, library)
-
     k = bound.value
+    per_k = 0.0  # seconds the last encoding took per gate position
     if k == 0:
         return result(Circuit(spec.lines), True, 0, "bound")
     while True:
@@ -174,15 +183,27 @@ def minimise_gates(
         five = None if spec.lines != 5 else five_next_depth(k, None if table is None else table.depth, left_now)
         consult = five is not None or (spec.lines != 5 and table is None and k >= TABLE_FROM.get(spec.lines, 99))
         if want_table and consult and room:
+            what = f"distance table of {library.name}" + ("" if five is None else f", depth {five}")
+            emit(progress, SearchEvent("table-start", k=k, detail=what))
+            mr: MeetResult | None
             if five is not None:  # hashed 5-line tables: a shallow one first, a deeper one later (search/five.py)
                 mr = five_meet(spec.permutation, library, five)
             else:
-                mr = extended_meet(spec.permutation, library)
+                mr = extended_meet_by(spec.permutation, library, deadline)
+            emit(progress, SearchEvent("table-done", k=k, value=None if mr is None else mr.exact or mr.lower,
+                                       seconds=time.perf_counter() - start - elapsed, detail=what))
+            if mr is None:  # not built by the deadline
+                want_table = False
+                continue
             if mr.exact is not None and mr.circuit is not None:
                 table = TableBound(mr.exact, True, mr.depth, mr.extended)
                 return result(mr.circuit, True, mr.exact, "table")
             table = TableBound(mr.lower, False, mr.depth, mr.extended)
+            if mr.lower > k:
+                emit(progress, SearchEvent("table-bound", low=k, high=mr.lower - 1, detail=what))
             k = max(k, mr.lower)
+            fallback = improve_upper(fallback, spec, library, deadline, progress)
+            upper = fallback.circuit
             continue
         if max_gates is not None and k > max_gates:
             # Every circuit needs at least k > max_gates gates: none within the limit.
@@ -191,10 +212,19 @@ def minimise_gates(
             return result(upper, True, k, "heuristic")
         left = None if time_limit is None else time_limit - (time.perf_counter() - start)
         if left is not None and left <= 0:
-            return result(fallback(), False, k, "heuristic" if upper else "none")
+            return result(upper, False, k, "heuristic" if upper else "none")
+        if left is not None and left < per_k * k:  # the encoding alone would overrun (the last one's rate)
+            return result(upper, False, k, "heuristic" if upper else "none")
+        emit(progress, SearchEvent("query-start", k=k, seconds=left))
+        t_enc = time.perf_counter()
         enc = encode(spec, library, k, opts)
+        per_k = (time.perf_counter() - t_enc) / max(k, 1)
         if cnf_sink:
             cnf_sink(enc)
+        if time_limit is not None:  # encoding took time too
+            left = time_limit - (time.perf_counter() - start)
+            if left <= 0:
+                return result(upper, False, k, "heuristic" if upper else "none")
         rival = None
         if jobs >= 2 and enc.options.symmetry:
             rival = functools.partial(encode, spec, library, k, PLAIN)
@@ -204,6 +234,7 @@ def minimise_gates(
             time_limit=left,
             proof_sink=proof_sink,
             rival=rival,
+            rival_seconds=per_k * k,
             split=split,
             cube_progress=cube_progress,
         )
@@ -214,5 +245,5 @@ def minimise_gates(
             assert ans.circuit is not None
             return result(ans.circuit, True, k, "sat")
         if ans.query.status == Status.UNKNOWN:
-            return result(fallback(), False, k, "heuristic" if upper else "none")
+            return result(upper, False, k, "heuristic" if upper else "none")
         k += 1

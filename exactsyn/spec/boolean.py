@@ -53,11 +53,12 @@ from __future__ import annotations
 import ast
 import keyword
 import re
+import warnings
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, did_you_mean
 from exactsyn.spec.reversible import MAX_LINES
 
 Evaluator = Callable[[int], int]
@@ -164,7 +165,9 @@ def evaluate_expression(text: str, inputs: tuple[str, ...], *, what: str = "expr
     if not isinstance(text, str):
         raise ExactsynError(f"{what} must be a string")
     try:
-        tree = ast.parse(text.strip(), mode="eval")
+        with warnings.catch_warnings():  # e.g. "1and b": a SyntaxWarning would be a second line on stderr
+            warnings.simplefilter("ignore")
+            tree = ast.parse(text.strip(), mode="eval")
     except SyntaxError as e:
         raise ExactsynError(f"syntax error in {what}: {' '.join(str(e.msg).split())}") from None
     except (ValueError, RecursionError, MemoryError):
@@ -314,7 +317,7 @@ def function_from_mapping(data: dict[str, Any], where: str = "spec") -> BooleanF
     """Validate a parsed TOML mapping (format in the module docstring)."""
     unknown = sorted(set(data) - _KNOWN_KEYS)
     if unknown:
-        raise _fail(where, f"unknown key {unknown[0]!r}")
+        raise _fail(where, f"unknown key {unknown[0]!r}{did_you_mean(unknown[0], sorted(_KNOWN_KEYS))}")
     name = data.get("name", "")
     if not isinstance(name, str):
         raise _fail(where, "'name' must be a string")

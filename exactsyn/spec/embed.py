@@ -20,6 +20,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from exactsyn.errors import ExactsynError
+from exactsyn.io.words import count
 from exactsyn.spec.boolean import BooleanFunction
 from exactsyn.spec.reversible import MAX_LINES, Spec
 
@@ -76,7 +77,7 @@ def embed(fn: BooleanFunction) -> tuple[Spec, Embedding]:
     if n < need:
         raise ExactsynError(
             f"{fn.name or 'the function'} needs at least {need} lines: an output pattern occurs {mu} times, "
-            f"so {garbage} garbage output(s) are needed (Maslov & Dueck 2004) besides {p} output(s)"
+            f"so {count(garbage, 'garbage output')} are needed (Maslov & Dueck 2004) besides {count(p, 'output')}"
         )
     if n > MAX_LINES:
         raise ExactsynError(f"the embedding needs {n} lines; exactsyn handles at most {MAX_LINES}")

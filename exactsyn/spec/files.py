@@ -14,7 +14,7 @@ import tomllib
 from pathlib import Path
 
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import circuit_from_text, read_text
+from exactsyn.io.files import circuit_from_text, kind_of_text, read_text
 from exactsyn.spec.boolean import function_from_mapping, is_function_mapping
 from exactsyn.spec.embed import Embedding, embed
 from exactsyn.spec.reversible import Spec, from_permutation, spec_from_mapping
@@ -23,10 +23,11 @@ from exactsyn.spec.reversible import Spec, from_permutation, spec_from_mapping
 def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
     p = Path(path)
     text = read_text(p, "spec file")
-    stripped = text.lstrip()
-    is_qasm = p.suffix.lower() in (".qasm", ".qasm2", ".qasm3") or stripped.startswith("OPENQASM")
-    if is_qasm or p.suffix.lower() == ".json" or stripped.startswith("{"):
-        circ = circuit_from_text(text)
+    kind = kind_of_text(text, p.suffix)
+    if kind == "empty":
+        raise ExactsynError(f"spec file {p} is empty: expected a TOML spec, OpenQASM or exactsyn JSON circuit")
+    if kind in ("qasm", "json"):
+        circ = circuit_from_text(text, p)
         return from_permutation(list(circ.permutation()), p.stem), None
     try:
         data = tomllib.loads(text)

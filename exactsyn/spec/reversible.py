@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from exactsyn.core.gates import invert_permutation
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, did_you_mean
 
 MAX_LINES = 6
 
@@ -158,7 +158,12 @@ def from_permutation(perm: list[int] | tuple[int, ...], name: str = "") -> Spec:
 
 def parse_perm(text: str, name: str = "") -> Spec:
     """Parse ``"1,0,3,2"`` (commas and/or spaces, optional brackets)."""
-    body = text.strip().strip("[]")
+    body = text.strip()
+    if body.startswith("[") != body.endswith("]"):
+        raise ExactsynError(f"permutation {text!r}: unbalanced brackets")
+    body = body.removeprefix("[").removesuffix("]").strip()
+    if re.search(r",\s*,", body) or body.startswith(",") or body.endswith(","):
+        raise ExactsynError(f"permutation {text!r} has an empty entry (two commas in a row, or one at an end)")
     items = [t for t in re.split(r"[,\s]+", body) if t]
     if not items:
         raise ExactsynError("empty permutation")
@@ -216,7 +221,9 @@ def spec_from_mapping(data: dict[str, Any], where: str = "spec") -> Spec:
     known = {"name", "description", "lines", "permutation", "cycles"}
     unknown = sorted(set(data) - known)
     if unknown:
-        raise ExactsynError(f"malformed spec file {where}: unknown key {unknown[0]!r}")
+        raise ExactsynError(
+            f"malformed spec file {where}: unknown key {unknown[0]!r}{did_you_mean(unknown[0], sorted(known))}"
+        )
     name = data.get("name", "")
     if not isinstance(name, str):
         raise ExactsynError(f"malformed spec file {where}: 'name' must be a string")

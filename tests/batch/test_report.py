@@ -74,7 +74,7 @@ def two_line_store(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 
 def _report(store: Path, out: Path, *extra: str) -> str:
-    res = CliRunner().invoke(main, ["report", str(store), "-o", str(out), *extra])
+    res = CliRunner().invoke(main, ["report", "--store", str(store), "-o", str(out), *extra])
     assert res.exit_code == 0, res.output
     return out.read_text(encoding="utf-8")
 
@@ -141,7 +141,7 @@ def test_report_tells_unchecked_missing_and_rejected_certificates(two_line_store
     rechecked = _report(store, tmp_path / "now.html", "--check")
     assert rechecked.count("✗ rejected") == 2 and rechecked.count("✓ checked") == 9
     assert rechecked.count(">missing<") == 1 and "the certificate is for another function" in rechecked
-    bad = CliRunner().invoke(main, ["report", str(tmp_path / "none.sqlite"), "-o", str(tmp_path / "x.html")])
+    bad = CliRunner().invoke(main, ["report", "--store", str(tmp_path / "none.sqlite"), "-o", str(tmp_path / "x.html")])
     assert bad.exit_code == 2 and "no results store" in bad.output
 
 

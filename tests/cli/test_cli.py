@@ -35,11 +35,14 @@ def test_json_output_has_the_agreed_fields() -> None:
     assert data["library"] == "nct"
 
 
-def test_progress_lines_go_to_stderr_unless_quiet() -> None:
-    r = run("synth", "--cycles", "(1 2)", "--format", "json", "--bounds", "cheap")
+def test_progress_lines_go_to_stderr_when_asked_unless_quiet() -> None:
+    # stderr is a pipe here, not a terminal: progress only with --progress
+    r = run("synth", "--cycles", "(1 2)", "--format", "json", "--bounds", "cheap", "--progress")
     assert r.returncode == 0
     assert "k=2" in r.stderr and "UNSAT" in r.stderr
     json.loads(r.stdout)  # stdout stays clean JSON
+    plain = run("synth", "--cycles", "(1 2)", "--format", "json", "--bounds", "cheap")
+    assert "k=2" not in plain.stderr and len(plain.stderr.strip().splitlines()) == 1  # the summary only
     t = run("synth", "--cycles", "(1 2)", "--format", "json")
     assert "table" in t.stderr  # the distance table decided it
     q = run("synth", "--cycles", "(1 2)", "--format", "json", "--quiet")

@@ -109,8 +109,8 @@ def test_count_and_all_agree_with_breadth_first_enumeration() -> None:
     perm = (1, 0, 3, 2, 5, 7, 4, 6)
     sizes = optimal_sizes(NCT3).as_dict()
     classes = {trace_normal_form(w, NCT3) for w in optimal_words(perm, NCT3, sizes)}
-    listed = synth_json("--perm", ",".join(map(str, perm)), "--all")
-    counted = synth_json("--perm", ",".join(map(str, perm)), "--count")
+    listed = synth_json("--perm", ",".join(map(str, perm)), "--optima", "all")
+    counted = synth_json("--perm", ",".join(map(str, perm)), "--optima", "count")
     assert listed["count"] == counted["count"] == len(listed["circuits"]) == len(classes) > 1
     got = {trace_normal_form([NCT3.index(gate_from_dict(g)) for g in c], NCT3) for c in listed["circuits"]}
     assert got == classes
@@ -155,8 +155,8 @@ def test_clifford_t_output_is_read_by_qiskit(fmt: str) -> None:
 def test_option_misuse_exits_2() -> None:
     for args in (
         ["--clifford-t"],
-        ["--objective", "depth", "--all"],
-        ["--all", "--format", "qasm2"],
+        ["--objective", "depth", "--optima", "all"],
+        ["--optima", "all", "--format", "qasm2"],
         ["--objective", "cost", "--cost", "t-count"],
         ["--library", "tofoli"],
     ):

@@ -186,7 +186,7 @@ def test_batch_with_a_kind_list_and_coupling_matches_bfs(tmp_path) -> None:  # t
     from exactsyn.cli import main
 
     store = tmp_path / "s.sqlite"
-    args = ["batch", "--random", "3", "--count", "6", "--seed", "3", "--library", "not,cnot,toffoli,peres"]
+    args = ["batch", "--random", "3", "--sample", "6", "--seed", "3", "--library", "not,cnot,toffoli,peres"]
     r = CliRunner().invoke(main, [*args, "--coupling", "chain", "--store", str(store), "--jobs", "1"])
     assert r.exit_code == 0, r.output
     lib = make_library("nct-peres", 3, coupling="chain")

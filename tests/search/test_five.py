@@ -18,7 +18,6 @@ from exactsyn.sat.conquer import CubeOptions
 from exactsyn.search.distance import distance_table
 from exactsyn.search.five import hashed_table, row_hash
 from exactsyn.search.loop import minimise_gates
-from exactsyn.search.upper import better_fallback
 from exactsyn.spec.reversible import from_permutation
 
 MCT5 = make_library("mct", 5)
@@ -84,11 +83,12 @@ def test_certificate_with_a_5line_table_bound_is_rederived(tmp_path: Path) -> No
 
 @pytest.mark.slow  # builds the 4-line window tables of the optimiser (about 10 s)
 def test_fallback_is_never_longer_and_still_computes_the_function() -> None:
-    from exactsyn.search.loop import heuristic_circuit
+    from exactsyn.search.fallback import improve_upper, initial_upper
 
     spec = from_permutation(built(14, 3))
-    quick = heuristic_circuit(spec, MCT5)
-    assert quick is not None
-    better = better_fallback(quick, spec, MCT5)
-    assert len(better) <= len(quick)
-    assert better.permutation() == spec.permutation
+    quick = initial_upper(spec, MCT5, None, None)
+    assert quick.circuit is not None
+    better = improve_upper(quick, spec, MCT5, None, None)
+    assert better.circuit is not None and len(better.circuit) <= len(quick.circuit)
+    assert better.circuit.permutation() == spec.permutation
+    assert all(MCT5.contains(g) for g in better.circuit.gates)
