@@ -26,11 +26,14 @@ simulated; if that ever failed (a shared key), only the lower bound is reported.
 scan side is complete without hashing: the inner rows are exact, and the last layer is
 generated from them.
 
-Which depth pays is measured by ``scripts/bench_five.py``: depth 3 is built in a tenth of
-a second and settles optima up to 6 gates (bound 7); depth 4 takes about 13 s and 1.3 GB
-to build and 8 s per function, and settles optima up to 8 (bound 9).  SAT refutes k ≤ 7
-in about two seconds but k = 8 alone in 20–40 s, so the search uses both, in two stages
-(:func:`five_next_depth`).
+Which depth pays is measured by ``scripts/bench_five.py`` and ``scripts/bench.py --set
+five-line``: depth 3 is built in a fifth of a second (57 MiB) and settles optima up to 6
+gates at once (bound 7); depth 4 takes 13 s and 1.3 GB to build and about 10 s per
+function, and settles optima up to 8 (bound 9).  SAT settles k <= 7 in about two seconds
+and a satisfiable k = 8 in about three, so depth 4 pays only when k = 8 is unsatisfiable
+(20–40 s) — and then only about half of that.  Consulting it from k = 8 on made the
+five-line set five times slower (90.8 s against 18.4 s, peak 1.6 GB against 118 MiB), so
+the search consults depth 3 only; ``EXACTSYN_FIVE_DEPTH`` picks another depth.
 """
 
 from __future__ import annotations
@@ -57,35 +60,30 @@ _MULT = np.array(
 _FINAL = np.uint64(0xFF51AFD7ED558CCD)
 _CHUNK = 1 << 19
 MAX_DEPTH = 4
-#: The gate search consults the depth-3 table at once (a fraction of a second: optima up to
-#: 6, else the bound 7), and the depth-4 table once SAT has refuted k = 7 (about 20 s the
-#: first time in a process, 8 s after: optima up to 8, else the bound 9) — measured with
-#: scripts/bench_five.py: SAT settles k <= 7 in about 2 s, k = 8 alone takes 20–40 s.
-SHALLOW, DEEP, DEEP_FROM = 3, 4, 8
-#: The deeper table is not built with less time than this left (it cannot be interrupted).
-DEEP_MIN_SECONDS = 60.0
+#: The depth of the table the gate search consults (see the module docstring for why 3).
+DEFAULT_DEPTH = 3
 
 
 def five_next_depth(k: int, current: int | None, time_left: float | None) -> int | None:
     """The table depth the gate search should consult before asking SAT for ``k`` gates, or None.
 
-    ``current`` is the depth already consulted (None: none yet).  ``EXACTSYN_FIVE_DEPTH``
-    (1 to 4) replaces the two stages by one table of that depth.
+    ``current`` is the depth already consulted (None: none yet): the table is consulted
+    once, at :data:`DEFAULT_DEPTH` or at ``EXACTSYN_FIVE_DEPTH`` (1 to 4).  ``k`` and
+    ``time_left`` are for rules that consult a deeper table later (none at present: the
+    measurements in the module docstring found none that pays).
     """
+    if current is not None:
+        return None
     raw = os.environ.get("EXACTSYN_FIVE_DEPTH", "")
-    if raw:
-        try:
-            only = int(raw)
-        except ValueError:
-            only = -1
-        if not 1 <= only <= MAX_DEPTH:
-            raise ExactsynError(f"EXACTSYN_FIVE_DEPTH must be 1 to {MAX_DEPTH}, not {raw!r}")
-        return only if current is None else None
-    if current is None:
-        return SHALLOW
-    if current < DEEP and k >= DEEP_FROM and (time_left is None or time_left >= DEEP_MIN_SECONDS):
-        return DEEP
-    return None
+    if not raw:
+        return DEFAULT_DEPTH
+    try:
+        depth = int(raw)
+    except ValueError:
+        depth = -1
+    if not 1 <= depth <= MAX_DEPTH:
+        raise ExactsynError(f"EXACTSYN_FIVE_DEPTH must be 1 to {MAX_DEPTH}, not {raw!r}")
+    return depth
 
 
 def five_table_ok(library: Library) -> bool:

@@ -37,7 +37,7 @@ from exactsyn.search.bounds import (
 )
 from exactsyn.search.distance import FULL, MeetResult, extended_meet_by
 from exactsyn.search.events import Progress, SearchEvent, emit
-from exactsyn.search.fallback import Fallback, improve_upper, initial_upper
+from exactsyn.search.fallback import FIVE_SHRINK_FROM, Fallback, improve_upper, initial_upper
 from exactsyn.search.five import five_meet, five_next_depth, five_table_ok
 from exactsyn.spec.reversible import Spec
 
@@ -174,6 +174,7 @@ def minimise_gates(
 
     k = bound.value
     per_k = 0.0  # seconds the last encoding took per gate position
+    shrunk_five = False  # 5 lines: the fallback shrunk by 4-line windows once (search/fallback.py)
     if k == 0:
         return result(Circuit(spec.lines), True, 0, "bound")
     while True:
@@ -202,9 +203,15 @@ def minimise_gates(
             if mr.lower > k:
                 emit(progress, SearchEvent("table-bound", low=k, high=mr.lower - 1, detail=what))
             k = max(k, mr.lower)
+            if spec.lines != 5:
+                fallback = improve_upper(fallback, spec, library, deadline, progress)
+                upper = fallback.circuit
+            continue
+        if spec.lines == 5 and k >= FIVE_SHRINK_FROM and not shrunk_five:
+            # the search has reached the queries that take minutes: a better fallback pays now
+            shrunk_five = True
             fallback = improve_upper(fallback, spec, library, deadline, progress)
             upper = fallback.circuit
-            continue
         if max_gates is not None and k > max_gates:
             # Every circuit needs at least k > max_gates gates: none within the limit.
             return result(None, False, k, "none")
