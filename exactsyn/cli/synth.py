@@ -274,6 +274,8 @@ def synth(
       exactsyn synth --cycles "(5 6)" --objective depth     # fewest layers, proven
       exactsyn synth --cycles "(3 7)" --format qasm2 --clifford-t
       exactsyn synth --cycles "(1 4)(3 6)" --coupling 0-1-2   # SWAP of lines 0,2 on a chain
+      exactsyn synth --perm ... --library mct -j 8 --certificate cert/   # hard queries in cubes, 8 workers
+      exactsyn synth --perm ... --library mct --scheduler tcp://head:8786  # cubes on a Dask cluster
 
     Exit status: 0 a circuit was printed (check "optimal" in JSON), 1 no circuit
     within the limits or none exists in the library, 2 bad input.

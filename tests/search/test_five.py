@@ -92,3 +92,27 @@ def test_fallback_is_never_longer_and_still_computes_the_function() -> None:
     assert better.circuit is not None and len(better.circuit) <= len(quick.circuit)
     assert better.circuit.permutation() == spec.permutation
     assert all(MCT5.contains(g) for g in better.circuit.gates)
+
+
+@pytest.mark.slow  # about a minute: every k from the cheap bound split into 25 cubes on 2 processes
+@pytest.mark.parametrize("seed", [1, 4])
+def test_split_optima_of_7gate_5line_functions_on_two_workers_equal_the_unsplit_ones(
+    seed: int, tmp_path: Path
+) -> None:
+    # Built from 7 gates, so the optimum is at most 7; the unsplit SAT search decides it
+    # independently of the cubes, and the certificate of the split run must check.
+    perm = built(7, seed)
+    spec = from_permutation(perm)
+    plain = minimise_gates(spec, MCT5, bounds="cheap", jobs=1)
+    assert plain.optimal and plain.circuit is not None and len(plain.circuit) <= 7
+    cert = tmp_path / "c"
+    split = minimise_gates(
+        spec, MCT5, bounds="cheap", proof_sink=proof_writer(cert), split=CubeOptions(2, depth=2, after=0.0)
+    )
+    assert split.optimal and split.circuit is not None
+    assert len(split.circuit) == len(plain.circuit)
+    assert split.circuit.permutation() == tuple(perm)
+    assert any(q.split is not None and q.status == "unsat" for q in split.steps)
+    write_result(cert, split)
+    rep = check_certificate(cert)
+    assert rep.ok, [line for line in rep.lines if not line.ok]
