@@ -30,10 +30,11 @@ Which depth pays is measured by ``scripts/bench_five.py`` and ``scripts/bench.py
 five-line``: depth 3 is built in a fifth of a second (57 MiB) and settles optima up to 6
 gates at once (bound 7); depth 4 takes 13 s and 1.3 GB to build and about 10 s per
 function, and settles optima up to 8 (bound 9).  SAT settles k <= 7 in about two seconds
-and a satisfiable k = 8 in about three, so depth 4 pays only when k = 8 is unsatisfiable
+and a satisfiable k = 8 in 3–8 s, so depth 4 pays only when k = 8 is unsatisfiable
 (20–40 s) — and then only about half of that.  Consulting it from k = 8 on made the
-five-line set five times slower (90.8 s against 18.4 s, peak 1.6 GB against 118 MiB), so
-the search consults depth 3 only; ``EXACTSYN_FIVE_DEPTH`` picks another depth.
+five-line set five times slower (one run each: 90.8 s against 18.4 s, peak 1.6 GB
+against 118 MiB), so the search consults depth 3 only; ``EXACTSYN_FIVE_DEPTH`` picks
+another depth.
 """
 
 from __future__ import annotations
