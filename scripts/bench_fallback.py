@@ -22,17 +22,13 @@ from exactsyn.core.library import make_library
 from exactsyn.search.distance import extended_meet
 from exactsyn.search.fallback import fallback_circuit
 from exactsyn.spec.reversible import from_permutation
+from exactsyn.spec.samples import random_permutation
 
 ROOT = Path(__file__).resolve().parent.parent
 
 
 def even_perm(n: int, seed: int) -> list[int]:
-    rng = random.Random(seed)
-    while True:
-        p = list(range(1 << n))
-        rng.shuffle(p)
-        if not permutation_is_odd(tuple(p)):
-            return p
+    return list(random_permutation(n, random.Random(seed), even=True))
 
 
 def main() -> None:

@@ -18,28 +18,16 @@ import subprocess
 import sys
 import time
 
-from exactsyn.core.circuit import Circuit
-from exactsyn.core.gates import permutation_is_odd, x_gate
+from exactsyn.spec.samples import random_circuit, random_permutation
 
 
 def random_even(n: int, seed: int) -> list[int]:
-    rng = random.Random(seed)
-    while True:
-        p = list(range(1 << n))
-        rng.shuffle(p)
-        if not permutation_is_odd(tuple(p)):
-            return p
+    return list(random_permutation(n, random.Random(seed), even=True))
 
 
 def from_circuit(n: int, gates: int, seed: int) -> list[int]:
     """A function made by a seeded random MCT circuit of ``gates`` gates (at most that many are needed)."""
-    rng = random.Random(seed)
-    out = []
-    for _ in range(gates):
-        t = rng.randrange(n)
-        others = [x for x in range(n) if x != t]
-        out.append(x_gate(t, rng.sample(others, rng.randint(0, min(3, n - 2)))))
-    return list(Circuit(n, tuple(out)).permutation())
+    return list(random_circuit(n, gates, random.Random(seed), max_controls=min(3, n - 2)).permutation())
 
 
 def cases(which: str, seeds: list[int]) -> list[tuple[str, str, list[int]]]:

@@ -13,7 +13,7 @@ import pytest
 
 import exactsyn as ex
 from exactsyn.core.circuit import Circuit
-from exactsyn.core.gates import permutation_is_odd, x_gate
+from exactsyn.core.gates import x_gate
 from exactsyn.core.library import make_library
 from exactsyn.search.affine import affine_circuit, affine_mover, affine_parts, apply_rows
 from exactsyn.search.events import SearchEvent
@@ -26,14 +26,11 @@ from exactsyn.search.fallback import (
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.rewrite import CannotRewrite, _v_chain, double_transposition, lower_gate, rewrite_circuit
 from exactsyn.spec.reversible import from_permutation
+from exactsyn.spec.samples import random_permutation
 
 
 def _even_perm(n: int, rng: random.Random) -> list[int]:
-    while True:
-        p = list(range(1 << n))
-        rng.shuffle(p)
-        if not permutation_is_odd(tuple(p)):
-            return p
+    return list(random_permutation(n, rng, even=True))
 
 
 @pytest.mark.parametrize("m", [3, 4, 5])

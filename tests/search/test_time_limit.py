@@ -15,17 +15,11 @@ import time
 import pytest
 
 import exactsyn as ex
-from exactsyn.core.circuit import Circuit
-from exactsyn.core.gates import permutation_is_odd, x_gate
+from exactsyn.spec.samples import random_circuit, random_permutation
 
 
 def _even(n: int, seed: int) -> list[int]:
-    rng = random.Random(seed)
-    while True:
-        p = list(range(1 << n))
-        rng.shuffle(p)
-        if not permutation_is_odd(tuple(p)):
-            return p
+    return list(random_permutation(n, random.Random(seed), even=True))
 
 
 @pytest.mark.parametrize(("library", "limit"), [("nct", 3.0), ("mixed", 4.0)])
@@ -40,12 +34,7 @@ def test_the_time_limit_holds_in_process(library: str, limit: float) -> None:
 
 
 def _random_circuit_function(n: int, gates: int, seed: int) -> list[int]:
-    rng = random.Random(seed)
-    out = []
-    for _ in range(gates):
-        t = rng.randrange(n)
-        out.append(x_gate(t, rng.sample([x for x in range(n) if x != t], rng.randint(1, 3))))
-    return list(Circuit(n, tuple(out)).permutation())
+    return list(random_circuit(n, gates, random.Random(seed), min_controls=1).permutation())
 
 
 PEAK = (
