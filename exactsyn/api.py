@@ -30,6 +30,7 @@ from exactsyn.core.costs import CostModel, cost_model, library_costs
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
+from exactsyn.sat.conquer import DEFAULT_DEPTH, DEFAULT_SCHEME, SPLIT_AFTER, CubeProgress, split_options
 from exactsyn.sat.dimacs import dimacs_writer
 from exactsyn.sat.encode import CostLimit, EncodingOptions, options_for
 from exactsyn.sat.query import Query
@@ -146,6 +147,12 @@ def synthesise(
     jobs: int = 1,
     embedding: Embedding | None = None,
     progress: Progress | None = None,
+    split: str = "auto",
+    scheduler: str | None = None,
+    cube_scheme: str = DEFAULT_SCHEME,
+    cube_depth: int = DEFAULT_DEPTH,
+    split_after: float = SPLIT_AFTER,
+    cube_progress: CubeProgress | None = None,
 ) -> Synthesis:
     """Find a minimum circuit for ``spec`` and prove it minimal (see the module docstring).
 
@@ -156,16 +163,21 @@ def synthesise(
     ``"all"`` lists every optimal circuit (up to reordering adjacent commuting gates),
     ``"count"`` only counts them.  ``certificate``: a directory for the proof log;
     ``dimacs``: a directory for every k-query as DIMACS CNF.  ``jobs >= 2`` races a hard
-    query against the formulation without symmetry breaking on a second process.
+    query against the formulation without symmetry breaking on a second process;
+    ``split`` (``auto``, ``cubes``, ``race``, ``off``; :data:`exactsyn.sat.conquer.SPLIT_MODES`)
+    splits a hard gate query into cubes on ``jobs`` processes or on the Dask ``scheduler``
+    (an address, or ``"local"``), branching on ``cube_depth`` positions by ``cube_scheme``,
+    once the query has been open ``split_after`` seconds on its own.
     ``progress`` receives every answered query (:class:`~exactsyn.sat.query.Query`) and a
     :class:`~exactsyn.search.events.SearchEvent` for the other phases (tables, the start
-    of each query, the fallback circuit).
+    of each query, the fallback circuit); ``cube_progress`` every solved cube.
 
     Raises :class:`~exactsyn.errors.ExactsynError` for bad input and
     :class:`~exactsyn.errors.NoCircuitError` when no circuit of the library can exist.
     """
     start = time.perf_counter()
     _check_options(objective, optima, optima_limit, time_limit, max_gates, jobs)
+    cubes = split_options(split, jobs, scheduler, cube_scheme, cube_depth, split_after)
     spec, embedding = resolve_spec(spec, embedding)
     lib = library if isinstance(library, Library) else make_library(library, spec.lines, max_controls, coupling)
     model = cost if isinstance(cost, CostModel) else cost_model(cost)
@@ -186,7 +198,9 @@ def synthesise(
         proof_sink=sink,
         cnf_sink=dimacs_writer(Path(dimacs)) if dimacs is not None else None,
         bounds=bounds,
-        jobs=jobs,
+        jobs=jobs if split != "off" else 1,
+        split=cubes,
+        cube_progress=cube_progress,
     )
     notes: list[str] = []
     if gates.source == "heuristic" and gates.how and not gates.optimal:

@@ -21,7 +21,6 @@ process as soon as it arrives (that process owns the results store).
 from __future__ import annotations
 
 import itertools
-import logging
 import multiprocessing as mp
 import os
 import shutil
@@ -35,7 +34,10 @@ from multiprocessing.connection import Connection, wait
 from typing import Any, Protocol
 
 from exactsyn.batch.task import Outcome, Task, failed, run_task, run_tasks
+from exactsyn.cluster import dask_client, default_jobs, describe, distributed
 from exactsyn.errors import ExactsynError
+
+__all__ = ["DaskEngine", "Engine", "LocalPool", "default_jobs", "hard_limit"]
 
 OnOutcome = Callable[[Outcome], None]
 
@@ -44,14 +46,6 @@ class Engine(Protocol):
     def describe(self) -> str: ...
 
     def run(self, tasks: Iterable[Task], on_outcome: OnOutcome) -> None: ...
-
-
-def default_jobs() -> int:
-    """Every core this process may use."""
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # pragma: no cover - not on Linux
-        return max(1, os.cpu_count() or 1)
 
 
 def hard_limit(time_limit: float | None, grace: float = 30.0) -> float | None:
@@ -310,9 +304,7 @@ class DaskEngine:
                 pass
 
     def describe(self) -> str:
-        if self.address:
-            return f"Dask scheduler at {self.address}"
-        return f"Dask local cluster of {self.jobs} worker process{'es' if self.jobs != 1 else ''} on 127.0.0.1"
+        return describe(self.address, self.jobs)
 
     def run(self, tasks: Iterable[Task], on_outcome: OnOutcome) -> None:
         pending: Iterator[Task] = iter(tasks)
@@ -320,29 +312,6 @@ class DaskEngine:
         if first is None:
             return
         pending = itertools.chain([first], pending)
-        try:
-            from distributed import Client, LocalCluster, as_completed  # optional: the 'cluster' extra
-        except ImportError:
-            raise ExactsynError("the Dask engine needs dask.distributed: pip install 'exactsyn[cluster]'") from None
-        cluster = None
-        try:
-            if self.address:
-                client = Client(self.address, timeout=30)
-            else:
-                cluster = LocalCluster(
-                    n_workers=self.jobs,
-                    threads_per_worker=1,
-                    processes=True,
-                    host="127.0.0.1",
-                    dashboard_address=None,
-                    silence_logs=logging.ERROR,
-                )
-                client = Client(cluster)
-        except OSError as e:
-            raise ExactsynError(f"cannot reach the Dask scheduler: {e}") from None
-        try:
+        as_completed = distributed().as_completed
+        with dask_client(self.address, self.jobs) as client:
             self._stream(client, pending, on_outcome, as_completed)
-        finally:
-            client.close()
-            if cluster is not None:
-                cluster.close()

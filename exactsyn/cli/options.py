@@ -24,6 +24,8 @@ import click
 
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import did_you_mean
+from exactsyn.sat.conquer import SPLIT_MODES
+from exactsyn.sat.cubes import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
 from exactsyn.sat.solve import SOLVERS
 from exactsyn.search.loop import BOUNDS
@@ -146,4 +148,44 @@ cost_option = click.option(
     help="Cost model: ncv (quantum cost: NOT 1, CNOT 1, Toffoli 5, Peres 4, C3X 13; Barenco et al. 1995), "
     "t-count and cnot-count (of the Clifford+T decomposition written by --clifford-t), gates, or a TOML/JSON "
     "table of gate names to integer costs (NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..., negative_control).",
+)
+
+split_option = click.option(
+    "--split",
+    type=Choice(list(SPLIT_MODES)),
+    default="auto",
+    show_default=True,
+    help="What a gate query still open after a second does: "
+    + "; ".join(f"{k} = {v}" for k, v in SPLIT_MODES.items())
+    + ". Cubes: each is the query plus the target lines of its first and last gates; the first "
+    "satisfiable cube answers, every unsatisfiable one gets its own LRAT proof.",
+)
+scheduler_option = click.option(
+    "--scheduler",
+    metavar="ADDRESS",
+    help="Solve cubes on a Dask cluster: a scheduler address such as tcp://10.0.0.5:8786, or 'local' for a "
+    "local cluster of --jobs worker processes. Workers need exactsyn installed, nothing else.",
+)
+cube_depth_option = click.option(
+    "--cube-depth",
+    type=click.IntRange(1, 6),
+    default=DEFAULT_DEPTH,
+    show_default=True,
+    help="Gate positions a split query branches on (first, last, second, ...): lines^depth cubes "
+    "(25 for 5 lines and depth 2). More cubes feed more workers.",
+)
+split_after_option = click.option(
+    "--split-after",
+    type=click.FloatRange(0),
+    default=1.0,
+    show_default=True,
+    metavar="SECONDS",
+    help="Split a gate query still open after this long on one process (0: split every query at once).",
+)
+cube_scheme_option = click.option(
+    "--cube-scheme",
+    type=Choice(list(SCHEMES)),
+    default="targets",
+    show_default=True,
+    help="How a position branches: " + "; ".join(f"{k} = {v}" for k, v in SCHEMES.items()) + ".",
 )

@@ -5,7 +5,10 @@ What the search reports (:mod:`exactsyn.search.events`) is shown in one of three
 * ``live`` (stderr is a terminal, or ``--progress``): a spinner line with a running timer
   for the current phase — "building distance table of nct … 3.2 s", "k = 12: SAT solver
   running … 41.0 s of 120" — and one permanent line per finished step: each answered
-  query, the fallback circuit, "k = 8..11 excluded by the table";
+  query, the fallback circuit, "k = 8..11 excluded by the table"; while a query is split
+  into cubes (:mod:`exactsyn.sat.conquer`), the timer line counts them — "k = 11: cubes
+  12/25 (unsat 12), 5:10 elapsed, ETA 5:40" — and a permanent line is printed when the
+  split starts, every :data:`CUBE_LINE_SECONDS` while it runs, and when it ends;
 * ``plain`` (``--progress`` on a non-terminal, e.g. a log file): the permanent lines
   only, no animation;
 * ``off`` (``-q``, or stderr is not a terminal and ``--progress`` was not given).
@@ -24,11 +27,14 @@ from rich.spinner import Spinner
 from rich.text import Text
 
 from exactsyn.io.words import count
+from exactsyn.sat.conquer import CubeEvent
 from exactsyn.sat.query import Query
 from exactsyn.sat.status import Status
 from exactsyn.search.events import SearchEvent
 
 MODES = ("live", "plain", "off")
+#: A permanent cube-count line at most this often (the live line updates on every cube).
+CUBE_LINE_SECONDS = 30.0
 
 
 def choose_mode(quiet: bool, forced: bool, console: Console | None = None) -> str:
@@ -48,8 +54,23 @@ def query_line(q: Query) -> str:
     conflicts = "conflicts not reported" if q.conflicts is None else f"{q.conflicts} conflicts"
     return (
         f"k={q.k:<3} {q.status.upper():<7} {q.seconds:8.2f} s"
-        f"   ({q.variables} vars, {q.clauses} clauses, {conflicts}; {q.solver or 'solver'})"
+        f"   ({q.variables} vars, {q.clauses} clauses, {conflicts}; {q.solver or 'solver'}"
+        + ("" if q.split is None else f"; {count(len(q.split.cubes), 'cube')}")
+        + ")"
     )
+
+
+def _clock(seconds: float) -> str:
+    m, s = divmod(int(seconds), 60)
+    h, m = divmod(m, 60)
+    return f"{h}:{m:02d}:{s:02d}" if h else f"{m}:{s:02d}"
+
+
+def cube_line(k: int, done: int, total: int, counts: dict[str, int], elapsed: float) -> str:
+    """``k = 11: cubes 12/25 (unsat 12), 5:10 elapsed, ETA 5:40`` (the ETA from the mean cube so far)."""
+    parts = ", ".join(f"{name} {n}" for name, n in counts.items() if n)
+    eta = f", ETA {_clock(elapsed / done * (total - done))}" if 0 < done < total else ""
+    return f"k = {k}: cubes {done}/{total}" + (f" ({parts})" if parts else "") + f", {_clock(elapsed)} elapsed{eta}"
 
 
 def event_line(e: SearchEvent) -> str | None:
@@ -101,6 +122,8 @@ class SynthProgress:
         self.console = console or Console(stderr=True, highlight=False)
         self.now = _Now()
         self.live: Live | None = None
+        self._cubes: dict[str, int] = {}
+        self._cube_start = self._cube_said = 0.0
 
     def __enter__(self) -> SynthProgress:
         if self.mode == "live" and self.console.is_terminal:
@@ -119,6 +142,26 @@ class SynthProgress:
     def line(self, text: str) -> None:
         if self.mode != "off":
             self.console.print(text, markup=False, highlight=False, soft_wrap=True)
+
+    def cube(self, event: CubeEvent) -> None:
+        """The ``cube_progress`` callback: per-cube counts on the timer line (module docstring)."""
+        if self.mode == "off":
+            return
+        now = time.perf_counter()
+        if event.phase == "start":
+            self._cubes, self._cube_start = {"unsat": 0, "sat": 0, "unknown": 0}, now
+            self._cube_said = now
+            self.line(f"k = {event.k}: split into {count(event.total, 'cube')}")
+        elif event.phase == "cube":
+            self._cubes[event.status] = self._cubes.get(event.status, 0) + 1
+        text = cube_line(event.k, event.done, event.total, self._cubes, now - self._cube_start)
+        if event.phase == "start":
+            self.now.set(text)
+        else:
+            self.now.label = text  # the timer keeps counting from the split
+        if event.phase == "end" or (event.phase == "cube" and now - self._cube_said >= CUBE_LINE_SECONDS):
+            self._cube_said = now
+            self.line(text)
 
     def __call__(self, item: Any) -> None:
         if self.mode == "off":

@@ -22,6 +22,8 @@ from exactsyn.cli.options import (
     bounds_option,
     cost_option,
     coupling_option,
+    cube_depth_option,
+    cube_scheme_option,
     deprecated,
     encoding_option,
     jobs_option,
@@ -29,7 +31,10 @@ from exactsyn.cli.options import (
     max_controls_option,
     objective_option,
     progress_option,
+    scheduler_option,
     solver_option,
+    split_after_option,
+    split_option,
 )
 from exactsyn.cli.progress import SynthProgress, choose_mode
 from exactsyn.core.cliffordt import decompose
@@ -179,9 +184,16 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
 )
 @jobs_option(
     2,
-    "Processes this command may use. With 2 or more, a query still open after 1 s is raced against the "
-    "formulation without symmetry breaking (faster on satisfiable queries); 1 = one solver at a time.",
+    "Processes this command may use. 1 = one solver at a time; with 2 (and --split auto) a query still "
+    "open after 1 s is raced against the formulation without symmetry breaking (faster on satisfiable "
+    "queries); from 3 up (or with --split cubes) it is split into cubes solved on N worker processes. "
+    "With --scheduler local, N is the number of Dask workers.",
 )
+@split_option
+@scheduler_option
+@cube_depth_option
+@cube_scheme_option
+@split_after_option
 @objective_option
 @cost_option
 @click.option(
@@ -220,6 +232,11 @@ def synth(
     cert_dir: str | None,
     dimacs_dir: str | None,
     jobs: int,
+    split: str,
+    scheduler: str | None,
+    cube_depth: int,
+    cube_scheme: str,
+    split_after: float,
     objective: str,
     cost_name: str,
     optima: str | None,
@@ -257,6 +274,8 @@ def synth(
       exactsyn synth --cycles "(5 6)" --objective depth     # fewest layers, proven
       exactsyn synth --cycles "(3 7)" --format qasm2 --clifford-t
       exactsyn synth --cycles "(1 4)(3 6)" --coupling 0-1-2   # SWAP of lines 0,2 on a chain
+      exactsyn synth --perm ... --library mct -j 8 --certificate cert/   # hard queries in cubes, 8 workers
+      exactsyn synth --perm ... --library mct --scheduler tcp://head:8786  # cubes on a Dask cluster
 
     Exit status: 0 a circuit was printed (check "optimal" in JSON), 1 no circuit
     within the limits or none exists in the library, 2 bad input.
@@ -302,6 +321,12 @@ def synth(
                     solver=solver,
                     jobs=jobs,
                     progress=display,
+                    split=split,
+                    scheduler=scheduler,
+                    cube_depth=cube_depth,
+                    cube_scheme=cube_scheme,
+                    split_after=split_after,
+                    cube_progress=display.cube,
                 )
         except NoCircuitError as e:
             fail(e.message, 1)

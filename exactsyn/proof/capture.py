@@ -27,6 +27,15 @@ How capture works, and why it needs care:
   The proof is then renumbered so that clause ``k`` has id ``k`` and the
   clauses derived while adding come next, in order.  Either way the
   renumbered proof is only a claim: :func:`exactsyn.proof.lrat.check_lrat` decides.
+* Checking the file after every clause costs a system call per clause (about 0.5 s
+  for the 170,000 clauses of a 5-line query, paid again by every cube of a split
+  query).  So clauses that cannot make CaDiCaL derive anything while being added —
+  two or more literals, none repeated, no complementary pair, and no variable of a
+  unit clause added or derived before — go in blocks, and the file size is compared
+  once per block: unchanged means each clause of the block took the next id, which
+  is the per-clause model again.  Any other clause is added on its own and watched.
+  If a block grows the file after all, the capture starts again clause by clause
+  (:class:`_Surprise`), so the fast path can never change a proof, only its speed.
 * If the formula contains the empty clause, CaDiCaL writes no step for it;
   we append the one-step derivation ``id 0 k 0`` (``k`` = the first empty
   clause), which the checker verifies like any other step.
@@ -40,12 +49,13 @@ How capture works, and why it needs care:
 
 from __future__ import annotations
 
+import itertools
 import math
 import os
 import re
 import tempfile
 import time
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -129,24 +139,44 @@ def _normalise(clauses: Sequence[Sequence[int]]) -> tuple[list[list[int]], int]:
     if isinstance(clauses, str | bytes) or not isinstance(clauses, Sequence):
         raise ExactsynError("clauses must be a list of lists of integers")
     out: list[list[int]] = []
-    num_vars = 0
     for k, clause in enumerate(clauses, start=1):
         if not isinstance(clause, list | tuple) and (
             isinstance(clause, str | bytes) or not isinstance(clause, Sequence)
         ):
             raise ExactsynError(f"clause {k} is not a list of integers")
-        lits = list(clause)
+        out.append(list(clause))
+    flat = list(itertools.chain.from_iterable(out))
+    if not flat:
+        return out, 0
+    # One pass over all literals at C speed; the slow search below only names a bad one.
+    if set(map(type, flat)) == {int} and 0 not in flat:  # bool is not int here
+        top = max(max(flat), -min(flat))
+        if top <= _MAX_VAR:
+            return out, top
+    for k, lits in enumerate(out, start=1):
         if lits:
-            if not all(type(lit) is int for lit in lits) or 0 in lits:  # bool is not int here
+            if not all(type(lit) is int for lit in lits) or 0 in lits:
                 bad = next(lit for lit in lits if type(lit) is not int or lit == 0)
                 raise ExactsynError(f"clause {k} has literal {bad!r}, not a non-zero integer")
             top = max(max(lits), -min(lits))
             if top > _MAX_VAR:
                 raise ExactsynError(f"clause {k} has variable {top}, above the limit {_MAX_VAR}")
-            if top > num_vars:
-                num_vars = top
-        out.append(lits)
-    return out, num_vars
+    raise AssertionError("unreachable: a bad literal was found above")  # pragma: no cover
+
+
+_BLOCK = 4096  # clauses added between two file-size checks on the fast path
+
+
+class _Surprise(Exception):
+    """The trace grew inside a block the fast path expected to stay silent."""
+
+
+def _plain(clause: list[int], fixed: set[int]) -> bool:
+    """True when adding ``clause`` cannot make CaDiCaL write a trace line (see the module docstring)."""
+    if len(clause) < 2:
+        return False
+    vs = set(map(abs, clause))
+    return len(vs) == len(clause) and (not fixed or vs.isdisjoint(fixed))
 
 
 class _IdWatch:
@@ -235,14 +265,18 @@ def _derives_empty(text: bytes) -> bool:
     return _EMPTY_STEP.search(text) is not None
 
 
-def _search(solver: Any, time_limit: float | None) -> bool | None:
-    if time_limit is None:
+Stop = Callable[[], bool]
+"""Asked between conflict-budget slices: true means give up now (the answer is "unknown")."""
+
+
+def _search(solver: Any, time_limit: float | None, stop: Stop | None = None) -> bool | None:
+    if time_limit is None and stop is None:
         return bool(solver.solve())
-    deadline = time.perf_counter() + time_limit
+    deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
     budget = _FIRST_BUDGET
     while True:
         now = time.perf_counter()
-        if now >= deadline:
+        if now >= deadline or (stop is not None and stop()):
             return None
         before = solver.accum_stats().get("conflicts", 0)
         solver.conf_budget(budget)
@@ -252,17 +286,26 @@ def _search(solver: Any, time_limit: float | None) -> bool | None:
         spent = max(time.perf_counter() - now, 1e-6)
         done = max(solver.accum_stats().get("conflicts", 0) - before, 1)
         target = min(_CHUNK_SECONDS, max(deadline - time.perf_counter(), 0.0))
+        target = max(target, 1e-3)
         budget = min(_MAX_BUDGET, max(_MIN_BUDGET, int(done / spent * target)))
 
 
-def solve_with_lrat(clauses: Sequence[Sequence[int]], time_limit: float | None = None) -> ProofRun:
+def solve_with_lrat(
+    clauses: Sequence[Sequence[int]],
+    time_limit: float | None = None,
+    *,
+    stop: Stop | None = None,
+    fast: bool = True,
+) -> ProofRun:
     """Solve ``clauses`` (DIMACS-style literals) and, if UNSAT, return an LRAT refutation.
 
     The proof numbers the input clauses ``1..len(clauses)`` in the order given.
     ``time_limit`` (seconds, > 0) bounds the search; past it the status is
-    ``"unknown"``.  Raises :class:`~exactsyn.errors.ExactsynError` on bad input
-    and whenever the captured trace does not fit the numbering the certificate
-    needs (see the module docstring).
+    ``"unknown"``.  ``stop`` is asked between conflict-budget slices (a cancelled
+    cube); when it says so the status is ``"unknown"`` too.  ``fast=False`` watches
+    the trace after every clause (the fast path is in the module docstring).  Raises
+    :class:`~exactsyn.errors.ExactsynError` on bad input and whenever the captured
+    trace does not fit the numbering the certificate needs (see the module docstring).
     """
     if time_limit is not None:
         if isinstance(time_limit, bool) or not isinstance(time_limit, int | float):
@@ -274,7 +317,51 @@ def solve_with_lrat(clauses: Sequence[Sequence[int]], time_limit: float | None =
     lits, num_vars = _normalise(clauses)
     if not tracer_hook_present():
         raise ExactsynError(f"python-sat has no {HOOK_NAME}; proof capture is unavailable")
+    if fast:
+        try:
+            return _capture(lits, num_vars, time_limit, stop, fast=True)
+        except _Surprise:
+            pass
+    return _capture(lits, num_vars, time_limit, stop, fast=False)
 
+
+def _add_all(solver: Any, lits: list[list[int]], fd: int, watch: _IdWatch, fast: bool) -> int:
+    """Add every clause, learning CaDiCaL's ids (see the module docstring); returns the trace size."""
+    offset = 0
+    fixed: set[int] = set()  # variables of unit clauses, given or derived
+    add = solver.add_clause
+    i, m = 0, len(lits)
+    while i < m:
+        if fast and _plain(lits[i], fixed):
+            j = i
+            while j < m and j - i < _BLOCK and _plain(lits[j], fixed):
+                add(lits[j])
+                j += 1
+            if os.fstat(fd).st_size != offset:
+                raise _Surprise
+            watch.counter += j - i
+            watch.original.extend(range(watch.counter - (j - i) + 1, watch.counter + 1))
+            i = j
+            continue
+        clause = lits[i]
+        add(clause)
+        size = os.fstat(fd).st_size
+        written = os.pread(fd, size - offset, offset) if size > offset else b""
+        watch.after_add(written)
+        offset = size
+        if len(clause) == 1:
+            fixed.add(abs(clause[0]))
+        for line in written.splitlines():
+            toks = line.split()
+            if len(toks) >= 2 and toks[1] != b"d" and toks[2:3] == [b"0"]:
+                fixed.add(abs(int(toks[1])))  # a derived unit clause
+        i += 1
+    return offset
+
+
+def _capture(
+    lits: list[list[int]], num_vars: int, time_limit: float | None, stop: Stop | None, fast: bool
+) -> ProofRun:
     mod = _pysolvers()
     started = time.perf_counter()
     fd, path = tempfile.mkstemp(prefix="exactsyn-", suffix=".lrat")
@@ -284,13 +371,8 @@ def solve_with_lrat(clauses: Sequence[Sequence[int]], time_limit: float | None =
         solver.configure({"lrat": 1, "binary": 0})
         trace = getattr(mod, HOOK_NAME)(solver.cadical, fd)
         watch = _IdWatch()
-        offset = 0
-        for clause in lits:
-            solver.add_clause(clause)
-            size = os.fstat(fd).st_size
-            watch.after_add(os.pread(fd, size - offset, offset) if size > offset else b"")
-            offset = size
-        result = _search(solver, time_limit)
+        offset = _add_all(solver, lits, fd, watch, fast)
+        result = _search(solver, time_limit, stop)
         if result:
             model = list(solver.get_model() or [])
         conflicts = (solver.accum_stats() or {}).get("conflicts")

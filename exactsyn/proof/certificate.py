@@ -16,7 +16,13 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     (``unsat`` / ``sat`` / ``unknown``), ``proof`` (file name or null), ``cnf_sha256``,
     ``num_vars``, ``num_clauses``, ``solver``, ``seconds``, ``conflicts``,
     ``proof_bytes`` and ``symmetry`` (the query's rules when they differ from
-    ``encoding``'s, e.g. a raced query answered without symmetry breaking).
+    ``encoding``'s, e.g. a raced query answered without symmetry breaking); a query
+    split into cubes (:mod:`exactsyn.sat.cubes`) has ``proof`` null and a ``split``
+    object: ``scheme``, ``positions``, ``engine`` (informative) and ``cubes``, one entry
+    per cube with ``index``, ``label``, ``clauses`` (the clauses appended to the CNF, as
+    lists of literals, one per branching from the root), ``status``, ``proof`` (the
+    cube's own refutation, ``k<k>-c<index>.lrat.gz``), ``seconds``, ``cpu_seconds``,
+    ``conflicts``, ``proof_bytes``.  Certificates without ``split`` read as before (same version).
 ``objective`` (only with an objective other than the gate count)
     ``name`` (``gates-then-cost`` / ``cost`` / ``depth``), ``cost_model``, ``costs`` (one
     integer per library gate, in library order, or null for depth), ``symmetry`` (rules of
@@ -25,10 +31,10 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     or layers for depth), ``limit`` (cost limit or null), ``status``, ``proof``,
     ``proof_format`` (``lrat``), ``cnf_sha256``, ``num_vars``, ``num_clauses``,
     ``seconds``, ``conflicts``, ``proof_bytes``.
-``k<k>.lrat.gz``, ``cost-k<k>-c<limit>.lrat.gz``, ``depth-k<d>.lrat.gz``
-    the gzip-compressed LRAT refutation (text) of a query, clause ids ``1..m`` being
-    the clauses of the re-derived CNF in order (Cruz-Filipe, Heule, Hunt, Kaufmann,
-    Schneider-Kamp, "Efficient certified RAT verification", CADE 2017).
+``k<k>.lrat.gz``, ``cost-k<k>-c<limit>.lrat.gz``, ``depth-k<d>.lrat.gz``, ``k<k>-c<i>.lrat.gz``
+    the gzip-compressed LRAT refutation (text) of a query or of one cube, clause ids
+    ``1..m`` being the clauses of the re-derived CNF in order (a cube's clauses follow)
+    (Cruz-Filipe, Heule, Hunt, Kaufmann, Schneider-Kamp, "Efficient certified RAT verification", CADE 2017).
 
 :mod:`exactsyn.proof.check` re-checks a certificate without trusting the solver.
 """
@@ -51,6 +57,7 @@ from exactsyn.sat.encode import ENCODING_VERSION, EncodingOptions
 from exactsyn.spec.reversible import Spec
 
 if TYPE_CHECKING:  # types only: writing a certificate needs no solver module
+    from exactsyn.sat.conquer import SplitRecord
     from exactsyn.sat.query import ProofSink, Query
     from exactsyn.search.loop import GateResult
     from exactsyn.search.objectives import ObjectiveResult
@@ -139,9 +146,32 @@ def encoding_from_dict(d: Any) -> EncodingOptions:
 
 
 # ------------------------------------------------------------------ writing
+def split_to_dict(split: SplitRecord) -> dict[str, Any]:
+    """The ``split`` object of a query answered by cubes."""
+    return {
+        "scheme": split.scheme,
+        "positions": list(split.positions),
+        "engine": split.engine,
+        "cubes": [
+            {
+                "index": c.index,
+                "label": c.label,
+                "clauses": [list(cl) for cl in c.clauses],
+                "status": str(c.status),
+                "proof": c.proof,
+                "seconds": round(c.seconds, 4),
+                "cpu_seconds": round(c.cpu_seconds, 4),
+                "conflicts": c.conflicts,
+                "proof_bytes": c.proof_bytes,
+            }
+            for c in split.cubes
+        ],
+    }
+
+
 def gate_query_to_dict(q: Query, encoding: EncodingOptions) -> dict[str, Any]:
     """A gate-count query as ``queries[]`` holds it; ``symmetry`` only when it differs from ``encoding``."""
-    return {
+    out = {
         "k": q.k,
         "status": str(q.status),
         "proof": q.proof,
@@ -154,6 +184,9 @@ def gate_query_to_dict(q: Query, encoding: EncodingOptions) -> dict[str, Any]:
         "proof_bytes": q.proof_bytes,
         "symmetry": None if q.symmetry is None or q.symmetry == encoding.symmetry else list(q.symmetry),
     }
+    if q.split is not None:
+        out["split"] = split_to_dict(q.split)
+    return out
 
 
 def objective_query_to_dict(q: Query) -> dict[str, Any]:

@@ -6,7 +6,8 @@ the encoder**, compares its hash with the stored one (a mismatch is reported, si
 means the spec, library or encoding was changed after the fact), checks each LRAT
 refutation by unit propagation over its hints (:mod:`exactsyn.proof.lrat`), re-derives the
 initial bound and any distance-table bound (by rebuilding the table and repeating the
-meet-in-the-middle test), requires a refutation for every k from the bound to
+meet-in-the-middle test), checks a query split into cubes cube by cube together with the
+cubes' coverage (:mod:`exactsyn.proof.cubes`), requires a refutation for every k from the bound to
 ``gate_count − 1``, and simulates the circuit against the spec on every input.
 
 The ``objective`` section: each refuted cost or depth CNF is re-derived
@@ -52,6 +53,7 @@ from exactsyn.proof.certificate import (
     read_proof,
     spec_from_dict,
 )
+from exactsyn.proof.cubes import check_split
 from exactsyn.proof.lrat import check_lrat
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import CostLimit, EncodingOptions, encode
@@ -59,6 +61,8 @@ from exactsyn.sat.encode_depth import encode_depth
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import lower_bound, nonaffine_extra
 from exactsyn.search.distance import FULL, extended_meet, meet_in_the_middle
+from exactsyn.search.five import MAX_DEPTH as FIVE_MAX_DEPTH
+from exactsyn.search.five import five_meet, five_table_ok
 from exactsyn.spec.reversible import Spec
 
 
@@ -153,12 +157,16 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
             extended, exact = bool(tb["extended"]), bool(tb["exact"])
         except (KeyError, TypeError, ValueError):
             raise ExactsynError("certificate: malformed 'table_bound'") from None
-        if not spec.is_permutation or not library.involutive or spec.lines > 4 or not 0 <= depth <= FULL:
-            note("table", False, "a table bound needs a full permutation on at most 4 lines")
+        five = spec.lines == 5 and five_table_ok(library) and 1 <= depth <= FIVE_MAX_DEPTH and not extended
+        if not spec.is_permutation or not library.involutive or (spec.lines > 4 and not five) or not 0 <= depth <= FULL:
+            note("table", False, "a table bound needs a full permutation on at most 4 lines (5 with hashed tables)")
         else:
             t0 = time.perf_counter()
             try:
-                mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
+                if five:  # the hashed 5-line table of search/five.py, rebuilt at the recorded depth
+                    mr = five_meet(spec.permutation, library, depth)
+                else:
+                    mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
             except NoCircuitError as e:
                 mr = None
                 note("table", False, e.message)
@@ -199,6 +207,10 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         digest = cnf_sha256(enc.num_vars, enc.clauses)
         if digest != q.get("cnf_sha256"):
             note(f"k={k}", False, "re-derived CNF differs from the one proved (spec, library or encoding changed)")
+            continue
+        if q.get("split") is not None:  # refuted cube by cube (proof/cubes.py)
+            if check_split(directory, q["split"], enc.num_vars, enc.clauses, f"k={k}", note):
+                refuted.add(k)
             continue
         if not q.get("proof"):
             note(f"k={k}", False, "no proof file")

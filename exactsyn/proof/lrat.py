@@ -178,12 +178,40 @@ def _delete_step(toks: list[str], db: dict[int, tuple[int, ...]]) -> None:
             raise _Reject(f"deletion of unknown or already-deleted clause {cid}")
 
 
+@dataclass(frozen=True, eq=False)
+class Prepared:
+    """A formula read once, for checking many refutations of it plus a few clauses each
+    (the cubes of a split query): :func:`check_lrat_extended` copies it instead of reading
+    the formula again."""
+
+    num_vars: int
+    db: dict[int, tuple[int, ...]]
+
+
+def prepare(num_vars: int, clauses: Sequence[Sequence[int]]) -> Prepared:
+    """Validate and index ``clauses`` (ids ``1..m``) once."""
+    return Prepared(num_vars, _formula_db(num_vars, clauses))
+
+
 def check_lrat(num_vars: int, clauses: Sequence[Sequence[int]], proof: bytes | str) -> LratReport:
     """Check that ``proof`` is an LRAT refutation of ``clauses``.
 
     See the module docstring for the exact rules.
     """
-    db = _formula_db(num_vars, clauses)
+    return _check(_formula_db(num_vars, clauses), num_vars, proof)
+
+
+def check_lrat_extended(base: Prepared, extra: Sequence[Sequence[int]], proof: bytes | str) -> LratReport:
+    """Like :func:`check_lrat` for the formula ``base`` followed by the clauses ``extra``
+    (ids ``m+1, m+2, …``), without reading ``base`` again."""
+    more = _formula_db(base.num_vars, extra)
+    m = len(base.db)
+    db = dict(base.db)
+    db.update({m + cid: clause for cid, clause in more.items()})
+    return _check(db, base.num_vars, proof)
+
+
+def _check(db: dict[int, tuple[int, ...]], num_vars: int, proof: bytes | str) -> LratReport:
     text = _decode(proof)
     if text is None:
         return LratReport(False, 0, 1, "proof is not ASCII text (binary LRAT is not supported)")

@@ -6,7 +6,8 @@ gates and cost ≤ ``limit``" (``cost``), or "of depth ≤ ``k``" (``depth``).  
 picks the solver, stores an LRAT refutation through a *proof sink* when certifying
 (CaDiCaL 1.9.5, :mod:`exactsyn.proof.capture`), hashes the CNF for the certificate, and
 decodes a model into a circuit.  A query still open after ``QUICK_SECONDS`` may be
-raced against a second formulation on another process (:mod:`exactsyn.sat.race`).
+raced against a second formulation on another process (:mod:`exactsyn.sat.race`), or
+split into cubes solved on a process pool or a Dask cluster (:mod:`exactsyn.sat.conquer`).
 
 :class:`Query` is the one record of an answered query: the search's steps, the
 objective's queries, JSON output, certificates and batch rows are all made from it.
@@ -21,6 +22,8 @@ from typing import Any
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.proof.capture import solve_with_lrat
+from exactsyn.sat.conquer import CubeOptions, CubeProgress, SplitRecord, conquer
+from exactsyn.sat.cube_engines import make_engine
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding
 from exactsyn.sat.race import race
@@ -68,6 +71,7 @@ class Query:
     proof: str | None = None
     proof_bytes: int = 0
     symmetry: tuple[str, ...] | None = None
+    split: SplitRecord | None = None  # the cubes, when the query was split
 
     def label(self) -> str:
         """``k=5``, ``k=7 cost<=16`` or ``depth<=3``."""
@@ -82,6 +86,8 @@ class Query:
             out |= {"kind": self.objective, "k": self.k, "limit": self.limit}
         else:
             out["k"] = self.k
+        if self.split is not None:
+            out["cubes"] = self.split.counts()
         return out | {
             "status": str(self.status),
             "seconds": round(self.seconds, 4),
@@ -119,6 +125,8 @@ def run_query(
     time_limit: float | None = None,
     proof_sink: ProofSink | None = None,
     rival: Callable[[], Encoding] | None = None,
+    split: CubeOptions | None = None,
+    cube_progress: CubeProgress | None = None,
     rival_seconds: float = 0.0,
 ) -> Answer:
     """Answer one query within ``time_limit`` seconds (``None``: no limit).
@@ -132,21 +140,46 @@ def run_query(
     encoding is the one recorded (both are exact for the question; see
     :mod:`exactsyn.sat.race`).  ``rival_seconds`` is what building the rival is expected
     to take: under a time limit the race starts only when more than that (and
-    :data:`QUICK_SECONDS`) is left, else the first solver goes on alone.
+    :data:`QUICK_SECONDS`) is left, else the first solver goes on alone.  With ``split``
+    (gate queries only) a query still open after ``split.after`` seconds is split into
+    cubes instead (no race), solved on ``split.jobs`` processes or Dask, and
+    ``cube_progress`` hears about every cube.
     """
     if objective not in QUERY_OBJECTIVES:
         raise ValueError(f"unknown query objective {objective!r}")
     k = enc.k if k is None else k  # the depth encoding has depth × lines slots, not k positions
     t0 = time.perf_counter()
     certify = proof_sink is not None
-    racing = rival is not None and (time_limit is None or time_limit > QUICK_SECONDS)
+    splitting = split is not None and objective == "gates" and not enc.optional and enc.k >= 1
+    racing = not splitting and rival is not None and (time_limit is None or time_limit > QUICK_SECONDS)
     first = time_limit
     if racing:
         first = QUICK_SECONDS if time_limit is None else min(QUICK_SECONDS, time_limit)
+    if splitting:
+        assert split is not None
+        first = split.after if time_limit is None else min(split.after, time_limit)
+    record: SplitRecord | None = None
     status, model, name, proof = Status.UNKNOWN, None, solver, b""
     conflicts: int | None = 0
     if first is None or first > 0:
         status, model, conflicts, name, proof = _solve(enc.clauses, solver, first, certify)
+    if status == Status.UNKNOWN and splitting:
+        assert split is not None
+        rest = None if time_limit is None else time_limit - (time.perf_counter() - t0)
+        if rest is None or rest > 0:
+            won = conquer(
+                enc,
+                split,
+                engine=make_engine(split),
+                certify=certify,
+                solver=solver,
+                time_limit=rest,
+                proof_sink=proof_sink,
+                stem=proof_stem(objective, k, limit),
+                progress=cube_progress,
+            )
+            status, model, name, record = won.status, won.model, won.solver, won.split
+            conflicts = (conflicts or 0) + won.conflicts
     if status == Status.UNKNOWN and racing and time_limit is not None:
         remaining = time_limit - (time.perf_counter() - t0)
         if remaining <= rival_seconds + QUICK_SECONDS:  # no time to build the rival: one solver to the end
@@ -174,7 +207,7 @@ def run_query(
         if outcome.winner == 1:
             enc = other
     stored = None
-    if certify and status == Status.UNSAT:
+    if certify and status == Status.UNSAT and record is None:
         assert proof_sink is not None
         stored = proof_sink(proof_stem(objective, k, limit), proof)
     query = Query(
@@ -189,8 +222,9 @@ def run_query(
         solver=name,
         cnf_sha256=cnf_sha256(enc.num_vars, enc.clauses) if certify else None,
         proof=stored,
-        proof_bytes=len(proof) if stored else 0,
+        proof_bytes=len(proof) if stored else sum(c.proof_bytes for c in record.cubes) if record else 0,
         symmetry=enc.options.symmetry if certify else None,
+        split=record,
     )
     circuit = enc.decode(model) if status == Status.SAT and model is not None else None
     return Answer(query, circuit, enc)

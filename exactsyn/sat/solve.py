@@ -10,7 +10,9 @@ a second of its limit (the same rule as the LRAT runs of :mod:`exactsyn.proof.ca
 
 from __future__ import annotations
 
+import math
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
 
 from pysat.solvers import Solver
@@ -39,13 +41,19 @@ class SolveOutcome:
     conflicts: int
 
 
-def solve_cnf(clauses: list[list[int]], solver: str = "cadical195", time_limit: float | None = None) -> SolveOutcome:
-    """Solve; ``status`` is ``"unknown"`` when ``time_limit`` seconds ran out."""
+def solve_cnf(
+    clauses: list[list[int]],
+    solver: str = "cadical195",
+    time_limit: float | None = None,
+    stop: Callable[[], bool] | None = None,
+) -> SolveOutcome:
+    """Solve; ``status`` is ``"unknown"`` when ``time_limit`` seconds ran out or ``stop()``
+    (asked between budget slices) said so."""
     if solver not in SOLVERS:
         raise ExactsynError(f"unknown solver {solver!r}; choose one of: {', '.join(SOLVERS)}")
     start = time.perf_counter()
     with Solver(name=solver, bootstrap_with=clauses) as s:
-        if time_limit is None:
+        if time_limit is None and stop is None:
             res: bool | None = s.solve()
         else:
             budget = _SLICE0
@@ -53,8 +61,8 @@ def solve_cnf(clauses: list[list[int]], solver: str = "cadical195", time_limit: 
             done = 0
             while True:
                 now = time.perf_counter()
-                left = time_limit - (now - start)
-                if left <= 0:
+                left = math.inf if time_limit is None else time_limit - (now - start)
+                if left <= 0 or (stop is not None and stop()):
                     break
                 s.conf_budget(budget)
                 res = s.solve_limited()
@@ -64,7 +72,8 @@ def solve_cnf(clauses: list[list[int]], solver: str = "cadical195", time_limit: 
                 total = int((s.accum_stats() or {}).get("conflicts", done + budget))
                 rate = max(total - done, 1) / spent
                 done = total
-                target = min(SLICE_SECONDS, max(time_limit - (time.perf_counter() - start), 0.0))
+                rest = math.inf if time_limit is None else time_limit - (time.perf_counter() - start)
+                target = min(SLICE_SECONDS, max(rest, 0.0))
                 budget = min(_SLICE_MAX, max(_SLICE_MIN, int(rate * target)))
         stats = s.accum_stats() or {}
         model = tuple(s.get_model() or ()) if res else None

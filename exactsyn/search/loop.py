@@ -24,6 +24,7 @@ from dataclasses import dataclass
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError, NoCircuitError
+from exactsyn.sat.conquer import CubeOptions, CubeProgress
 from exactsyn.sat.encode import Encoding, EncodingOptions, encode
 from exactsyn.sat.query import ProofSink, Query, run_query
 from exactsyn.sat.status import Status
@@ -34,13 +35,14 @@ from exactsyn.search.bounds import (
     lower_bound,
     parity_obstruction,
 )
-from exactsyn.search.distance import FULL, extended_meet_by
+from exactsyn.search.distance import FULL, MeetResult, extended_meet_by
 from exactsyn.search.events import Progress, SearchEvent, emit
-from exactsyn.search.fallback import Fallback, improve_upper, initial_upper
+from exactsyn.search.fallback import FIVE_SHRINK_FROM, Fallback, improve_upper, initial_upper
+from exactsyn.search.five import five_meet, five_next_depth, five_table_ok
 from exactsyn.spec.reversible import Spec
 
 BOUNDS = {
-    "table": "cheap bounds, then distance tables with meet in the middle (up to 4 lines, full specs)",
+    "table": "cheap bounds, then distance tables with meet in the middle (up to 5 lines, full specs)",
     "cheap": "only bounds without tables; every refuted k gets an LRAT proof when certifying",
 }
 # Number of gates from which the distance table is consulted, by line count: building
@@ -112,6 +114,8 @@ def minimise_gates(
     progress: Progress | None = None,
     proof_sink: ProofSink | None = None,
     cnf_sink: Callable[[Encoding], None] | None = None,
+    split: CubeOptions | None = None,
+    cube_progress: CubeProgress | None = None,
 ) -> GateResult:
     """Find a minimum-gate circuit; see the module docstring.
 
@@ -121,7 +125,9 @@ def minimise_gates(
     open after a second is raced against the formulation without symmetry breaking.
     ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  ``progress``
     receives every answered query and a :class:`~exactsyn.search.events.SearchEvent` for
-    the other phases.  Raises :class:`NoCircuitError` when parity rules every circuit out.
+    the other phases.  With ``split`` a query still open after ``split.after`` seconds is
+    split into cubes instead of raced (:mod:`exactsyn.sat.conquer`), and ``cube_progress``
+    hears about each cube.  Raises :class:`NoCircuitError` when parity rules every circuit out.
     """
     opts = encoding or EncodingOptions()
     start = time.perf_counter()
@@ -140,7 +146,7 @@ def minimise_gates(
         raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
     want_table = (
         bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
-    )
+    ) or (bounds == "table" and spec.is_permutation and five_table_ok(library))
 
     def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
         if circuit is not None and max_gates is not None and len(circuit) > max_gates:
@@ -168,15 +174,23 @@ def minimise_gates(
 
     k = bound.value
     per_k = 0.0  # seconds the last encoding took per gate position
+    shrunk_five = False  # 5 lines: the fallback shrunk by 4-line windows once (search/fallback.py)
     if k == 0:
         return result(Circuit(spec.lines), True, 0, "bound")
     while True:
         elapsed = time.perf_counter() - start
         room = time_limit is None or time_limit - elapsed >= TABLE_MIN_SECONDS.get(spec.lines, 0.0)
-        if want_table and table is None and k >= TABLE_FROM.get(spec.lines, 99) and room:
-            what = f"distance table of {library.name}"
+        left_now = None if time_limit is None else time_limit - elapsed
+        five = None if spec.lines != 5 else five_next_depth(k, None if table is None else table.depth, left_now)
+        consult = five is not None or (spec.lines != 5 and table is None and k >= TABLE_FROM.get(spec.lines, 99))
+        if want_table and consult and room:
+            what = f"distance table of {library.name}" + ("" if five is None else f", depth {five}")
             emit(progress, SearchEvent("table-start", k=k, detail=what))
-            mr = extended_meet_by(spec.permutation, library, deadline)
+            mr: MeetResult | None
+            if five is not None:  # hashed 5-line tables: a shallow one first, a deeper one later (search/five.py)
+                mr = five_meet(spec.permutation, library, five)
+            else:
+                mr = extended_meet_by(spec.permutation, library, deadline)
             emit(progress, SearchEvent("table-done", k=k, value=None if mr is None else mr.exact or mr.lower,
                                        seconds=time.perf_counter() - start - elapsed, detail=what))
             if mr is None:  # not built by the deadline
@@ -189,9 +203,15 @@ def minimise_gates(
             if mr.lower > k:
                 emit(progress, SearchEvent("table-bound", low=k, high=mr.lower - 1, detail=what))
             k = max(k, mr.lower)
+            if spec.lines != 5:
+                fallback = improve_upper(fallback, spec, library, deadline, progress)
+                upper = fallback.circuit
+            continue
+        if spec.lines == 5 and k >= FIVE_SHRINK_FROM and not shrunk_five:
+            # the search has reached the queries that take minutes: a better fallback pays now
+            shrunk_five = True
             fallback = improve_upper(fallback, spec, library, deadline, progress)
             upper = fallback.circuit
-            continue
         if max_gates is not None and k > max_gates:
             # Every circuit needs at least k > max_gates gates: none within the limit.
             return result(None, False, k, "none")
@@ -216,7 +236,14 @@ def minimise_gates(
         if jobs >= 2 and enc.options.symmetry:
             rival = functools.partial(encode, spec, library, k, PLAIN)
         ans = run_query(
-            enc, solver=solver, time_limit=left, proof_sink=proof_sink, rival=rival, rival_seconds=per_k * k
+            enc,
+            solver=solver,
+            time_limit=left,
+            proof_sink=proof_sink,
+            rival=rival,
+            rival_seconds=per_k * k,
+            split=split,
+            cube_progress=cube_progress,
         )
         steps.append(ans.query)
         if progress:
