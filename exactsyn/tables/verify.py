@@ -129,7 +129,7 @@ def _walk() -> list[tuple[int, int]]:
 
 
 _WALK = _walk()
-_seen = {(0, 1, 2, 3)}
+_seen: set[tuple[int, ...]] = {(0, 1, 2, 3)}
 _cur = [0, 1, 2, 3]
 for _a, _b in _WALK:
     _cur[_a], _cur[_b] = _cur[_b], _cur[_a]
@@ -409,7 +409,7 @@ def verify_table(
     t = time.perf_counter()
     functions = []
     for j, lv in enumerate(levels):
-        tasks = [
+        tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]] = [
             (_class_task, (str(directory), j, s, min(len(lv), s + 4 * CHUNK))) for s in range(0, len(lv), 4 * CHUNK)
         ]
         res = _run(tasks, workers, report, f"canonical keys and class sizes, level {j}")
@@ -428,9 +428,11 @@ def verify_table(
             marks = np.ndarray((nxt,), dtype=np.uint8, buffer=shm.buf)
             marks[:] = 0
             lv = levels[j]
-            tasks = [(_closure_task, (str(directory), j, s, min(len(lv), s + CHUNK), shm.name))
-                     for s in range(0, len(lv), CHUNK)]  # fmt: skip
-            res = _run(tasks, workers, report, f"closure of level {j}, descent of level {j + 1}")
+            closure_tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]] = [
+                (_closure_task, (str(directory), j, s, min(len(lv), s + CHUNK), shm.name))
+                for s in range(0, len(lv), CHUNK)
+            ]
+            res = _run(closure_tasks, workers, report, f"closure of level {j}, descent of level {j + 1}")
             problems += [p for _, ps in res for p in ps]
             unreached = int(nxt - np.count_nonzero(marks))
             if unreached:
