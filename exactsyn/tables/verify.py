@@ -548,16 +548,18 @@ def check_claim(
             problems.append(f"a claim of {gate_count} gates is beyond what a depth-{depth} table can check")
         else:
             extra = gate_count - depth
-            tasks = [
-                (_claim_task, (str(directory), f, j, s, min(len(levels[j]), s + CHUNK), depth))
-                for j in range(extra)
-                for s in range(0, len(levels[j]), CHUNK)
-            ]
-            res = _run(tasks, workers, report, f"no circuit below {gate_count} gates")
-            tests = sum(n for n, _ in res)
-            hits = sum(h for _, h in res)
-            if hits:
-                problems.append(f"{hits} splits give a circuit of fewer than {gate_count} gates")
+            hits = 0
+            for j in range(extra):  # level by level, so a false claim stops at its first hit
+                tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]] = [
+                    (_claim_task, (str(directory), f, j, s, min(len(levels[j]), s + CHUNK), depth))
+                    for s in range(0, len(levels[j]), CHUNK)
+                ]
+                res = _run(tasks, workers, report, f"no circuit below {gate_count} gates: classes of level {j}")
+                tests += sum(n for n, _ in res)
+                hits += sum(h for _, h in res)
+                if hits:
+                    problems.append(f"{hits} splits after level {j} give a circuit of fewer than {gate_count} gates")
+                    break
     stamp_ok = False
     try:
         stamp = json.loads((directory / STAMP).read_text())
