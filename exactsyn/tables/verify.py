@@ -43,7 +43,7 @@ import json
 import multiprocessing
 import os
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from multiprocessing import shared_memory
@@ -97,18 +97,37 @@ def _inverse(keys: np.ndarray) -> np.ndarray:
     return out
 
 
-def _swap_lines(w: np.ndarray, a: int, b: int) -> np.ndarray:
-    """Conjugate by the transposition of lines ``a < b``: the nibble of state ``x`` moves to
-    the state with bits ``a``, ``b`` exchanged, and inside every nibble bits ``a``, ``b`` swap."""
+def _swap_masks(a: int, b: int) -> tuple[np.uint64, np.uint64, np.uint64, np.uint64]:
+    """Conjugating by the transposition of lines ``a < b`` moves the nibble of state ``x`` to
+    the state with bits ``a``, ``b`` exchanged, and swaps bits ``a``, ``b`` inside every
+    nibble: two exchanges of bit groups, ``(mask, shift)`` each (the group under ``mask``
+    trades places with the group ``shift`` bits higher)."""
     low_states = [x for x in range(16) if (x >> a) & 1 and not (x >> b) & 1]  # partner: x + 2^b − 2^a
-    mask = _U(sum(0xF << (4 * x) for x in low_states))
-    s = _U(4 * ((1 << b) - (1 << a)))
-    t = ((w >> s) ^ w) & mask
-    w = w ^ t ^ (t << s)
-    mask = _U(0x1111111111111111 << a)
-    s = _U(b - a)
-    t = ((w >> s) ^ w) & mask
-    return w ^ t ^ (t << s)
+    position_mask = _U(sum(0xF << (4 * x) for x in low_states))
+    position_shift = _U(4 * ((1 << b) - (1 << a)))
+    value_mask = _U(0x1111111111111111 << a)
+    value_shift = _U(b - a)
+    return position_mask, position_shift, value_mask, value_shift
+
+
+def _exchange(w: np.ndarray, t: np.ndarray, mask: np.uint64, shift: np.uint64) -> None:
+    """In place: ``t = ((w >> shift) ^ w) & mask; w ^= t ^ (t << shift)``."""
+    np.right_shift(w, shift, out=t)
+    np.bitwise_xor(t, w, out=t)
+    np.bitwise_and(t, mask, out=t)
+    np.bitwise_xor(w, t, out=w)
+    np.left_shift(t, shift, out=t)
+    np.bitwise_xor(w, t, out=w)
+
+
+def _swap_lines(w: np.ndarray, a: int, b: int) -> np.ndarray:
+    """A new array: every key conjugated by the transposition of lines ``a < b``."""
+    out = w.copy()
+    t = np.empty_like(w)
+    pm, ps, vm, vs = _swap_masks(a, b)
+    _exchange(out, t, pm, ps)
+    _exchange(out, t, vm, vs)
+    return out
 
 
 def _walk() -> list[tuple[int, int]]:
@@ -135,35 +154,53 @@ for _a, _b in _WALK:
     _cur[_a], _cur[_b] = _cur[_b], _cur[_a]
     _seen.add(tuple(_cur))
 assert len(_WALK) == 23 and len(_seen) == 24, "the relabelling walk must visit all 24 relabellings"
+_MASKS = {pair: _swap_masks(*pair) for pair in set(_WALK)}
+
+
+_BLOCK = 1 << 14  # keys per pass: the working arrays stay in the CPU cache
+
+
+def _each_transform(keys: np.ndarray) -> Iterator[np.ndarray]:
+    """All 48 transforms of a block of keys: 24 conjugates of ``k``, then 24 of ``k⁻¹``.
+
+    The same buffer is yielded each time, overwritten by the next transform."""
+    t = np.empty_like(keys)
+    for start in (keys, _inverse(keys)):
+        w = start.copy()
+        yield w
+        for a, b in _WALK:
+            pm, ps, vm, vs = _MASKS[(a, b)]
+            _exchange(w, t, pm, ps)
+            _exchange(w, t, vm, vs)
+            yield w
 
 
 def _transforms(keys: np.ndarray) -> list[np.ndarray]:
-    """All 48 transforms of every key: 24 conjugates of ``k``, then 24 of ``k⁻¹``."""
-    out = []
-    for start in (keys, _inverse(keys)):
-        w = start
-        out.append(w)
-        for a, b in _WALK:
-            w = _swap_lines(w, a, b)
-            out.append(w)
-    return out
+    """All 48 transforms of every key, as 48 arrays."""
+    return [w.copy() for w in _each_transform(keys)]
 
 
 def canonical(keys: np.ndarray) -> np.ndarray:
     """Least key of the class of each key."""
+    keys = np.ascontiguousarray(keys, dtype=np.uint64)
     best = keys.copy()
-    for w in _transforms(keys):
-        np.minimum(best, w, out=best)
+    for s in range(0, len(keys), _BLOCK):
+        part = best[s : s + _BLOCK]
+        for w in _each_transform(keys[s : s + _BLOCK]):
+            np.minimum(part, w, out=part)
     return best
 
 
 def _canonical_and_size(keys: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Canonical keys and class sizes (48 / number of transforms fixing the key)."""
+    keys = np.ascontiguousarray(keys, dtype=np.uint64)
     best = keys.copy()
     fixed = np.zeros(len(keys), dtype=np.int64)
-    for w in _transforms(keys):
-        np.minimum(best, w, out=best)
-        fixed += w == keys
+    for s in range(0, len(keys), _BLOCK):
+        part, count, orig = best[s : s + _BLOCK], fixed[s : s + _BLOCK], keys[s : s + _BLOCK]
+        for w in _each_transform(orig):
+            np.minimum(part, w, out=part)
+            count += w == orig
     return best, 48 // fixed
 
 
@@ -231,24 +268,67 @@ def _manifest(directory: Path) -> dict[str, Any]:
     return dict(data)
 
 
-def _levels(directory: Path, manifest: dict[str, Any]) -> list[np.ndarray]:
+@dataclass(frozen=True)
+class _Level:
+    """A level: sorted mixed keys, and the index ``index[q]`` = first position whose value has
+    top bits ``≥ q`` (checked against the values by :func:`_index_problem` before use)."""
+
+    vals: np.ndarray
+    index: np.ndarray
+    shift: int
+
+    def __len__(self) -> int:
+        return len(self.vals)
+
+    def find(self, queries: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """``(found, position)``: position = number of values below the query (a binary
+        search inside the query's bucket, all queries at once)."""
+        n = len(self.vals)
+        if n == 0:
+            return np.zeros(len(queries), dtype=bool), np.zeros(len(queries), dtype=np.int64)
+        bucket = (queries >> _U(self.shift)).astype(np.intp)
+        lo = self.index[bucket].astype(np.int64)
+        hi = self.index[bucket + 1].astype(np.int64)
+        while True:
+            active = lo < hi
+            if not active.any():
+                break
+            mid = (lo + hi) >> 1
+            below = self.vals[np.minimum(mid, n - 1)] < queries
+            lo = np.where(active & below, mid + 1, lo)
+            hi = np.where(active & ~below, mid, hi)
+        found = self.vals[np.minimum(lo, n - 1)] == queries
+        return found & (lo < n), lo
+
+
+def _levels(directory: Path, manifest: dict[str, Any]) -> list[_Level]:
     out = []
     for lv in manifest["levels"]:
         n = int(lv["classes"])
         path = directory / lv["file"]
         if path.stat().st_size != 8 * n:
             raise ExactsynError(f"{path.name}: size does not match {n} classes")
-        out.append(np.asarray(np.memmap(path, dtype="<u8", mode="r", shape=(n,))) if n else np.zeros(0, np.uint64))
+        vals = np.asarray(np.memmap(path, dtype="<u8", mode="r", shape=(n,))) if n else np.zeros(0, np.uint64)
+        bits = int(lv["index_bits"])
+        dtype = "<u4" if lv["index_file"].endswith(".u32") else "<u8"
+        ipath = directory / lv["index_file"]
+        if not 1 <= bits <= 40 or ipath.stat().st_size != np.dtype(dtype).itemsize * ((1 << bits) + 1):
+            raise ExactsynError(f"{ipath.name}: size does not match {bits} index bits")
+        index = np.asarray(np.memmap(ipath, dtype=dtype, mode="r", shape=((1 << bits) + 1,)))
+        out.append(_Level(vals, index, 64 - bits))
     return out
 
 
-def _member(level: np.ndarray, queries_sorted: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """``(found, position)`` of each (sorted) query in a sorted level."""
-    if len(level) == 0:
-        return np.zeros(len(queries_sorted), dtype=bool), np.zeros(len(queries_sorted), dtype=np.int64)
-    pos = np.searchsorted(level, queries_sorted)
-    found = level[np.minimum(pos, len(level) - 1)] == queries_sorted
-    return found, pos
+def _index_problem(j: int, level: _Level) -> str | None:
+    """The index must list, for every bucket, the first position of its top bits."""
+    buckets = len(level.index) - 1
+    for s in range(0, buckets, 1 << 20):
+        q = np.arange(s, min(buckets, s + (1 << 20)), dtype=np.uint64)
+        if not np.array_equal(np.searchsorted(level.vals, q << _U(level.shift)), level.index[s : s + len(q)]):
+            return f"the index of level {j} does not match its values"
+    if int(level.index[-1]) != len(level.vals):
+        return f"the index of level {j} does not end at its size"
+    return None
 
 
 def _library_keys(library: str) -> tuple[tuple[Gate, ...], list[int]]:
@@ -305,10 +385,10 @@ def _closure_task(directory: str, level: int, lo: int, hi: int, marks_name: str 
     manifest = _manifest(d)
     levels = _levels(d, manifest)
     _, keys = _library_keys(str(manifest["library"]))
-    q = np.sort(_neighbour_keys(levels[level][lo:hi], _arr(keys)))
+    q = np.sort(_neighbour_keys(levels[level].vals[lo:hi], _arr(keys)))
     problems: list[str] = []
     nxt = levels[level + 1]
-    found, pos = _member(nxt, q)
+    found, pos = nxt.find(q)
     if marks_name is not None:
         shm = shared_memory.SharedMemory(name=marks_name)
         try:
@@ -321,7 +401,7 @@ def _closure_task(directory: str, level: int, lo: int, hi: int, marks_name: str 
     for j in [level, level - 1, *range(level - 2, -1, -1)]:
         if j < 0 or len(rest) == 0:
             continue
-        f, _ = _member(levels[j], rest)
+        f, _ = levels[j].find(rest)
         rest = rest[~f]
     if len(rest):
         problems.append(f"closure fails: {len(rest)} neighbours of level {level} are in no level ≤ {level + 1}")
@@ -332,7 +412,7 @@ def _class_task(directory: str, level: int, lo: int, hi: int) -> tuple[int, list
     """Canonical-key test and function count for classes ``lo..hi`` of ``level``."""
     d = Path(directory)
     levels = _levels(d, _manifest(d))
-    keys = unmix(levels[level][lo:hi])
+    keys = unmix(levels[level].vals[lo:hi])
     canon, size = _canonical_and_size(keys)
     problems = []
     if not np.array_equal(canon, keys):
@@ -392,17 +472,20 @@ def verify_table(
         problems.append("the manifest's depth does not match its levels")
 
     t = time.perf_counter()
-    if len(levels[0]) != 1 or int(levels[0][0]) != int(mix(_arr([_IDENTITY]))[0]):
+    if len(levels[0]) != 1 or int(levels[0].vals[0]) != int(mix(_arr([_IDENTITY]))[0]):
         problems.append("level 0 is not the identity alone")
     for j, lv in enumerate(levels):
         for s in range(0, len(lv), 1 << 24):
-            part = lv[s : s + (1 << 24) + 1]
+            part = lv.vals[s : s + (1 << 24) + 1]
             if np.any(part[1:] <= part[:-1]):
                 problems.append(f"level {j} is not strictly increasing")
                 break
+        problem = _index_problem(j, lv)
+        if problem:
+            problems.append(problem)
     for j in range(len(levels)):
         for i in range(j):
-            if np.any(_member(levels[j], levels[i])[0]):
+            if np.any(levels[j].find(levels[i].vals)[0]):
                 problems.append(f"levels {i} and {j} share a class")
     seconds["order and disjointness"] = time.perf_counter() - t
 
@@ -485,14 +568,14 @@ def _claim_task(directory: str, f: int, level: int, lo: int, hi: int, depth: int
     """
     d = Path(directory)
     levels = _levels(d, _manifest(d))
-    reps = unmix(levels[level][lo:hi])
+    reps = unmix(levels[level].vals[lo:hi])
     fa = _arr([f])
     hits = tests = 0
     for member in _transforms(reps):
         q = np.sort(mix(canonical(_compose(fa, _inverse(member)))))
         tests += len(q)
         for j in range(depth + 1):
-            found, _ = _member(levels[j], q)
+            found, _ = levels[j].find(q)
             hits += int(found.sum())
             q = q[~found]
     return tests, hits
@@ -535,14 +618,15 @@ def check_claim(
     if Circuit(4, tuple(gates)).permutation() != perm_t:
         problems.append("the circuit does not compute the function")
     tests = 0
+    levels = _levels(directory, manifest)
+    problems += [p for j, lv in enumerate(levels) if (p := _index_problem(j, lv))]
     if not problems:
-        levels = _levels(directory, manifest)
         depth = len(levels) - 1
         f = _pack(perm_t)
         if gate_count <= depth:
             q = mix(canonical(_arr([f])))
             tests = 1
-            if any(_member(levels[j], q)[0][0] for j in range(gate_count)):
+            if any(levels[j].find(q)[0][0] for j in range(gate_count)):
                 problems.append(f"the function's class is in a level below {gate_count}")
         elif gate_count - depth - 1 > depth:
             problems.append(f"a claim of {gate_count} gates is beyond what a depth-{depth} table can check")
