@@ -63,12 +63,15 @@ def centraliser(state_perm: Sequence[int]) -> Iterator[tuple[int, ...]]:
         yield tuple(f)
 
 
-def fixed_functions(sigma: Sequence[int], inverted: bool) -> Iterator[tuple[int, ...]]:
+def fixed_functions(
+    sigma: Sequence[int], inverted: bool, rng: random.Random | None = None
+) -> Iterator[tuple[int, ...]]:
     """Every ``f`` fixed by the transform ``(σ, inverted)``: ``π_σ∘f∘π_σ⁻¹ = f`` (commuting with
     ``P = π_σ``), or ``π_σ∘f⁻¹∘π_σ⁻¹ = f`` when ``inverted`` (that is ``f∘P∘f = P``).
 
     Backtracking over ``f(0), f(1), …``; an assignment ``f(x) = y`` forces ``f(P x) = P y``
-    (commuting) or ``f(P y) = P x`` (inverted), which is propagated to a fixed point."""
+    (commuting) or ``f(P y) = P x`` (inverted), which is propagated to a fixed point.  With
+    ``rng`` the values are tried in random order (a random member comes first)."""
     P = perm4.state_map(sigma)
     size = len(P)
 
@@ -103,7 +106,10 @@ def fixed_functions(sigma: Sequence[int], inverted: bool) -> Iterator[tuple[int,
         if x == size:
             yield tuple(f)
             return
-        for y in range(size):
+        order = list(range(size))
+        if rng is not None:
+            rng.shuffle(order)
+        for y in order:
             if used[y]:
                 continue
             trail: list[int] = []
@@ -172,6 +178,49 @@ def ascend(
             break
         f, flat = rng.choice(side), flat + 1
     return Found(f, d, "greedy ascent")
+
+
+def family_moves(perm: Sequence[int], sigma: Sequence[int], gate_keys: Sequence[int]) -> list[tuple[int, ...]]:
+    """Moves that stay in the family ``π_σ∘f⁻¹∘π_σ⁻¹ = f`` for an involution ``σ``:
+    ``f ↦ h∘f∘h'`` with ``h' = π_σ∘h∘π_σ⁻¹`` (then ``f'∘P∘f' = h∘(f∘P∘f)∘P∘h∘P⁻¹ = P`` as
+    ``P² = 1`` and ``h² = 1``); the optimum changes by at most two."""
+    f = perm4.pack(perm)
+    out = []
+    for h in gate_keys:
+        out.append(perm4.unpack(perm4.compose(perm4.compose(h, f), perm4.conjugate(h, sigma))))
+    return out
+
+
+def ascend_in_family(
+    tables: Tables,
+    start: Sequence[int],
+    sigma: Sequence[int],
+    rng: random.Random,
+    sideways: int = 6,
+    deadline: float | None = None,
+) -> Found:
+    """Greedy ascent inside the family of functions fixed by ``(σ, inverted)`` (``σ`` an
+    involution): try a move two up, then one up, then a few sideways moves."""
+    ans = tables.synthesise(start)
+    if not ans.optimal or ans.gate_count is None:
+        raise RuntimeError("the start function is not settled by the table")
+    f, d, flat = tuple(start), ans.gate_count, 0
+    keys = list(tables.gates.keys)
+    while deadline is None or time.perf_counter() < deadline:
+        moves = family_moves(f, sigma, keys)
+        rng.shuffle(moves)
+        ups = [h for h in moves if at_least(tables, h, d + 1)]
+        if ups:
+            two = next((h for h in ups if at_least(tables, h, d + 2)), None)
+            f, d, flat = (two, d + 2, 0) if two is not None else (ups[0], d + 1, 0)
+            continue
+        if flat >= sideways:
+            break
+        side = [h for h in moves[:8] if at_least(tables, h, d)]
+        if not side:
+            break
+        f, flat = rng.choice(side), flat + 1
+    return Found(f, d, f"ascent among functions fixed by relabelling {tuple(sigma)} with inversion")
 
 
 def hardest_symmetric(tables: Tables, transforms: Sequence[tuple[Sequence[int], bool]], floor: int) -> list[Found]:
