@@ -66,17 +66,24 @@ def centraliser(state_perm: Sequence[int]) -> Iterator[tuple[int, ...]]:
 def fixed_functions(
     sigma: Sequence[int], inverted: bool, rng: random.Random | None = None
 ) -> Iterator[tuple[int, ...]]:
-    """Every ``f`` fixed by the transform ``(σ, inverted)``: ``π_σ∘f∘π_σ⁻¹ = f`` (commuting with
-    ``P = π_σ``), or ``π_σ∘f⁻¹∘π_σ⁻¹ = f`` when ``inverted`` (that is ``f∘P∘f = P``).
+    """Every ``f`` fixed by the transform ``(σ, inverted)`` (see :func:`fixed_by_all`)."""
+    return fixed_by_all([(sigma, inverted)], rng)
+
+
+def fixed_by_all(
+    transforms: Sequence[tuple[Sequence[int], bool]], rng: random.Random | None = None
+) -> Iterator[tuple[int, ...]]:
+    """Every ``f`` fixed by each transform ``(σ, inverted)``: ``π_σ∘f∘π_σ⁻¹ = f`` (commuting
+    with ``P = π_σ``), or ``π_σ∘f⁻¹∘π_σ⁻¹ = f`` when ``inverted`` (that is ``f∘P∘f = P``).
 
     Backtracking over ``f(0), f(1), …``; an assignment ``f(x) = y`` forces ``f(P x) = P y``
-    (commuting) or ``f(P y) = P x`` (inverted), which is propagated to a fixed point.  With
-    ``rng`` the values are tried in random order (a random member comes first)."""
-    P = perm4.state_map(sigma)
-    size = len(P)
+    (commuting) or ``f(P y) = P x`` (inverted) for every transform, propagated to a fixed
+    point.  With ``rng`` the values are tried in random order (a random member comes first)."""
+    rules = [(perm4.state_map(sigma), inverted) for sigma, inverted in transforms]
+    size = 16
 
-    def implied(x: int, y: int) -> tuple[int, int]:
-        return (P[y], P[x]) if inverted else (P[x], P[y])
+    def implied(x: int, y: int) -> list[tuple[int, int]]:
+        return [(P[y], P[x]) if inv else (P[x], P[y]) for P, inv in rules]
 
     def assign(f: list[int], used: list[bool], x: int, y: int, trail: list[int]) -> bool:
         todo = [(x, y)]
@@ -90,7 +97,7 @@ def fixed_functions(
                 return False
             f[a], used[b] = b, True
             trail.append(a)
-            todo.append(implied(a, b))
+            todo.extend(implied(a, b))
         return True
 
     def undo(f: list[int], used: list[bool], trail: list[int]) -> None:
