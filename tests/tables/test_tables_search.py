@@ -58,3 +58,10 @@ def test_hwb4_is_symmetric_and_the_oracle_agrees(mct6: tables.Tables) -> None:
     assert perm4.canonical(perm4.pack(hwb(4))) in classes
     assert hardest.at_least(mct6, hwb(4), 11) and not hardest.at_least(mct6, hwb(4), 12)
     assert hardest.at_least(mct6, hwb(4), 3)
+
+
+def test_sample_distribution_runs_on_a_small_table(table_cache) -> None:  # type: ignore[no-untyped-def]
+    d = tables.sample_distribution("mct", n=4, seed=1, cache=table_cache, time_limit=3.0)
+    assert d.n + d.unsettled == 4
+    assert d.exact == (1, 32, 784, 16204, 294507, 4807552, 70763560)
+    assert all(9 <= g <= 12 for g, _ in d.counts)  # a depth-6 table settles up to 12 gates
