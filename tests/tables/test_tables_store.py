@@ -162,3 +162,36 @@ def test_lookup_claims_are_rechecked(table_cache: Path, mct6: tables.Tables) -> 
     three = (x_gate(0), x_gate(1, [0]), x_gate(1, [0]))
     bad = verify.check_claim("mct", p, 3, three, cache=table_cache, workers=1)
     assert not bad.ok and any("level below 3" in p for p in bad.problems)
+
+
+def test_multi_pass_and_growing_builds_give_the_same_table(
+    depth4: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # A tiny memory budget splits every step into passes over ranges of keys; a tiny size
+    # estimate makes the key set grow and re-insert.  Both must give the same files.
+    from exactsyn.tables import levels
+
+    good = tables.info("mct", cache=depth4)[0].content_hash
+    calls: list[int] = []
+    real_step = levels._level_step
+
+    def counting_step(*args, **kwargs):  # type: ignore[no-untyped-def]
+        calls.append(args[5])  # the memory budget reaches every step
+        return real_step(*args, **kwargs)
+
+    monkeypatch.setattr(levels, "_level_step", counting_step)
+    few = tables.build("mct", depth=4, cache=tmp_path / "passes", memory=1 << 14)  # level 4 in 8 passes
+    assert few.content_hash == good and calls == [1 << 14] * 4
+    assert levels.passes_needed(6538, 1 << 14) == 8
+    monkeypatch.setattr(levels, "_estimate", lambda sizes, gates: 1024)
+    monkeypatch.setattr(levels, "PAD", 8)  # probes run off the end: the set must grow
+    grows: list[int] = []
+    real_reinsert = K.reinsert
+
+    def counting_reinsert(*args):  # type: ignore[no-untyped-def]
+        grows.append(1)
+        return real_reinsert(*args)
+
+    monkeypatch.setattr(K, "reinsert", counting_reinsert)
+    grown = tables.build("mct", depth=4, cache=tmp_path / "grown")
+    assert grown.content_hash == good and grows
