@@ -31,7 +31,7 @@ HARD = [
     ("instances/hwb4.toml", "mct"),
     ("instances/mct14-c4.toml", "mct"),
     ("instances/mct15-a.toml", "mct"),
-    ("instances/nct-hardest.toml", "nct"),
+    ("instances/nct15-c4.toml", "nct"),
     ("instances/mixed-hardest.toml", "mixed"),
 ]
 
