@@ -198,7 +198,8 @@ def build_table(
         "levels": levels,
         "built": {
             "seconds": round(time.perf_counter() - t0, 1),
-            "peak_rss_bytes": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024,
+            # the process's peak so far: it includes earlier work done by the same process
+            "process_peak_rss_bytes": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024,
             "memory_budget_bytes": memory,
         },
     }
