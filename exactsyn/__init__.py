@@ -1,3 +1,157 @@
-"""exactsyn: provably minimal reversible circuits by SAT, with checkable proof logs."""
+"""exactsyn: provably minimal reversible circuits by SAT, with checkable proof logs.
+
+The public API.  Everything here is re-exported from the module that implements it, so
+modules can move without breaking ``import exactsyn as ex``::
+
+    import exactsyn as ex
+    res = ex.synthesise(ex.parse_cycles("(3 7)"), library="nct",
+                        objective="gates-then-cost", cost="t-count", certificate="cert/")
+    print(res.circuit, res.optimal, res.lower_bound)
+    ex.write_qasm3(res.circuit, "out.qasm")
+    assert ex.check_certificate("cert/").ok
+
+Pipeline (one subpackage per stage): ``spec`` → ``core`` (gates, circuits, libraries,
+costs) → ``sat`` (encoders, solver calls) → ``search`` (the k loop, objectives, tables,
+heuristics) → ``proof`` (LRAT capture, certificates, the checker) → ``io`` (JSON,
+OpenQASM, drawings); ``batch`` runs many functions; ``cli`` is the command line.
+
+Names are loaded on first use (PEP 562), so ``import exactsyn.proof.check`` does not pull
+in the solvers and ``from exactsyn import __version__`` stays cheap.
+"""
+
+from __future__ import annotations
+
+import importlib
+from typing import TYPE_CHECKING, Any
 
 __version__ = "0.1.0"
+
+#: public name -> (implementing module, name there)
+_EXPORTS: dict[str, tuple[str, str]] = {
+    "synthesise": ("exactsyn.api", "synthesise"),
+    "Synthesis": ("exactsyn.api", "Synthesis"),
+    "Circuit": ("exactsyn.core.circuit", "Circuit"),
+    "Gate": ("exactsyn.core.gates", "Gate"),
+    "x_gate": ("exactsyn.core.gates", "x_gate"),
+    "swap_gate": ("exactsyn.core.gates", "swap_gate"),
+    "peres_gate": ("exactsyn.core.gates", "peres_gate"),
+    "Library": ("exactsyn.core.library", "Library"),
+    "make_library": ("exactsyn.core.library", "make_library"),
+    "PRESETS": ("exactsyn.core.library", "PRESETS"),
+    "CostModel": ("exactsyn.core.costs", "CostModel"),
+    "COST_MODELS": ("exactsyn.core.costs", "COST_MODELS"),
+    "cost_model": ("exactsyn.core.costs", "cost_model"),
+    "ExactsynError": ("exactsyn.errors", "ExactsynError"),
+    "NoCircuitError": ("exactsyn.errors", "NoCircuitError"),
+    "Spec": ("exactsyn.spec.reversible", "Spec"),
+    "from_permutation": ("exactsyn.spec.reversible", "from_permutation"),
+    "parse_perm": ("exactsyn.spec.reversible", "parse_perm"),
+    "parse_cycles": ("exactsyn.spec.reversible", "parse_cycles"),
+    "load_spec": ("exactsyn.spec.files", "load_any"),
+    "read_circuit": ("exactsyn.io.files", "read_circuit"),
+    "write_circuit": ("exactsyn.io.files", "write_circuit"),
+    "write_qasm2": ("exactsyn.io.files", "write_qasm2"),
+    "write_qasm3": ("exactsyn.io.files", "write_qasm3"),
+    "write_json": ("exactsyn.io.files", "write_json"),
+    "render": ("exactsyn.io.files", "render"),
+    "read_qasm": ("exactsyn.io.qasm", "read_qasm"),
+    "to_qasm2": ("exactsyn.io.qasm", "to_qasm2"),
+    "to_qasm3": ("exactsyn.io.qasm", "to_qasm3"),
+    "circuit_to_dict": ("exactsyn.io.jsonio", "circuit_to_dict"),
+    "circuit_from_dict": ("exactsyn.io.jsonio", "circuit_from_dict"),
+    "check_certificate": ("exactsyn.proof.check", "check_certificate"),
+    "optimise_circuit": ("exactsyn.optimise", "optimise_circuit"),
+    "OptimiseResult": ("exactsyn.optimise", "OptimiseResult"),
+    "read_circuit_layout": ("exactsyn.io.files", "read_circuit_layout"),
+    "Layout": ("exactsyn.io.layout", "Layout"),
+    "CheckReport": ("exactsyn.proof.check", "CheckReport"),
+    "Query": ("exactsyn.sat.query", "Query"),
+    "Status": ("exactsyn.sat.status", "Status"),
+    "clear_caches": ("exactsyn.caches", "clear"),
+}
+
+__all__ = [
+    "__version__",
+    "COST_MODELS",
+    "CheckReport",
+    "Circuit",
+    "CostModel",
+    "ExactsynError",
+    "Gate",
+    "Layout",
+    "Library",
+    "NoCircuitError",
+    "OptimiseResult",
+    "PRESETS",
+    "Query",
+    "Spec",
+    "Status",
+    "Synthesis",
+    "check_certificate",
+    "circuit_from_dict",
+    "circuit_to_dict",
+    "clear_caches",
+    "cost_model",
+    "from_permutation",
+    "load_spec",
+    "make_library",
+    "optimise_circuit",
+    "parse_cycles",
+    "parse_perm",
+    "peres_gate",
+    "read_circuit",
+    "read_circuit_layout",
+    "read_qasm",
+    "render",
+    "swap_gate",
+    "synthesise",
+    "to_qasm2",
+    "to_qasm3",
+    "write_circuit",
+    "write_json",
+    "write_qasm2",
+    "write_qasm3",
+    "x_gate",
+]
+
+
+def __getattr__(name: str) -> Any:
+    try:
+        module, attr = _EXPORTS[name]
+    except KeyError:
+        raise AttributeError(f"module 'exactsyn' has no attribute {name!r}") from None
+    value = getattr(importlib.import_module(module), attr)
+    globals()[name] = value  # later lookups skip this function
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))
+
+
+if TYPE_CHECKING:  # the same names, for type checkers and editors
+    from exactsyn.api import Synthesis, synthesise
+    from exactsyn.caches import clear as clear_caches
+    from exactsyn.core.circuit import Circuit
+    from exactsyn.core.costs import COST_MODELS, CostModel, cost_model
+    from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
+    from exactsyn.core.library import PRESETS, Library, make_library
+    from exactsyn.errors import ExactsynError, NoCircuitError
+    from exactsyn.io.files import (
+        read_circuit,
+        read_circuit_layout,
+        render,
+        write_circuit,
+        write_json,
+        write_qasm2,
+        write_qasm3,
+    )
+    from exactsyn.io.jsonio import circuit_from_dict, circuit_to_dict
+    from exactsyn.io.layout import Layout
+    from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
+    from exactsyn.optimise import OptimiseResult, optimise_circuit
+    from exactsyn.proof.check import CheckReport, check_certificate
+    from exactsyn.sat.query import Query
+    from exactsyn.sat.status import Status
+    from exactsyn.spec.files import load_any as load_spec
+    from exactsyn.spec.reversible import Spec, from_permutation, parse_cycles, parse_perm

@@ -7,6 +7,9 @@ stderr and exit status 2; nothing else in the package prints.
 
 from __future__ import annotations
 
+import difflib
+from collections.abc import Iterable
+
 
 class ExactsynError(Exception):
     """Bad input or an impossible request, with a one-line message for the user."""
@@ -17,3 +20,16 @@ class ExactsynError(Exception):
 
     def __str__(self) -> str:
         return self.message
+
+
+class NoCircuitError(ExactsynError):
+    """No circuit of the library computes the function, or none was found within the limits (exit 1)."""
+
+
+def did_you_mean(word: object, choices: Iterable[object]) -> str:
+    """``"; did you mean 'x'?"`` for the closest choice (difflib), or ``""`` when none is close."""
+    options = [str(c) for c in choices]
+    close = difflib.get_close_matches(str(word).strip().lower(), options, n=1, cutoff=0.6)
+    if not close:
+        close = difflib.get_close_matches(str(word).strip(), options, n=1, cutoff=0.6)
+    return f"; did you mean {close[0]!r}?" if close else ""

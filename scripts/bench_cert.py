@@ -21,10 +21,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from bench import load_set  # noqa: E402  (scripts/bench.py, beside this file)
 
-from exactsyn.certificate import check_certificate, proof_writer, write_result  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import Spec, from_permutation  # noqa: E402
+import exactsyn as ex  # noqa: E402
+from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
 
 
 def specs_for(name: str, limit: int) -> tuple[str, list[Spec]]:
@@ -49,17 +47,15 @@ def main() -> None:
     failures = 0
     try:
         for spec in specs:
-            lib = make_library(lib_name, spec.lines)
             t0 = time.perf_counter()
-            plain = synthesise(spec, lib, bounds=args.bounds)
+            plain = ex.synthesise(spec, library=lib_name, bounds=args.bounds)
             plain_t += time.perf_counter() - t0
             d = root / spec.name
             t0 = time.perf_counter()
-            res = synthesise(spec, lib, proof_sink=proof_writer(d), bounds=args.bounds)
-            write_result(d, res)
+            res = ex.synthesise(spec, library=lib_name, certificate=d, bounds=args.bounds)
             solve_t += time.perf_counter() - t0
             t0 = time.perf_counter()
-            rep = check_certificate(d)
+            rep = ex.check_certificate(d)
             check_t += time.perf_counter() - t0
             failures += not rep.ok
             raw = sum(s.proof_bytes for s in res.steps)

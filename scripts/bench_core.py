@@ -22,10 +22,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from bench import load_set  # noqa: E402  (scripts/bench.py, beside this file)
 
-from exactsyn.encode import ENCODINGS, options_for  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import Spec, from_permutation  # noqa: E402
+import exactsyn as ex  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
+from exactsyn.sat.encode import ENCODINGS  # noqa: E402
+from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
 
 
 def instance_set(name: str, limit: int, seed: int) -> tuple[str, list[Spec]]:
@@ -70,8 +70,7 @@ def main() -> None:
         for enc in encs:
             times, sizes, capped = [], [], 0
             for spec in specs:
-                lib = make_library(lib_name, spec.lines)
-                res = synthesise(spec, lib, encoding=options_for(enc), time_limit=args.cap)
+                res = ex.synthesise(spec, library=lib_name, encoding=enc, time_limit=args.cap)
                 times.append(res.seconds)
                 sizes.append(len(res.circuit) if res.circuit else -1)
                 capped += not res.optimal

@@ -15,8 +15,8 @@ import time
 
 from pysat.examples.genhard import PHP
 
-from exactsyn.lrat import check_lrat
-from exactsyn.proofcap import solve_with_lrat
+from exactsyn.proof.capture import solve_with_lrat
+from exactsyn.proof.lrat import check_lrat
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -14,10 +14,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from exactsyn.boolspec import function_from_mapping  # noqa: E402
-from exactsyn.embed import embed  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
+import exactsyn as ex  # noqa: E402
+from exactsyn.spec.boolean import function_from_mapping  # noqa: E402
+from exactsyn.spec.embed import embed  # noqa: E402
 
 INSTANCES = ["half-adder", "full-adder", "decoder2to4", "greenhouse-vent"]
 
@@ -34,7 +33,7 @@ def main() -> None:
                 d["output_lines"] = "auto"
             spec, _ = embed(function_from_mapping(d, name))
             t0 = time.perf_counter()
-            res = synthesise(spec, make_library("nct", spec.lines), jobs=2)
+            res = ex.synthesise(spec, library="nct", jobs=2)
             assert res.optimal and res.circuit is not None
             row.append(f"{mode}: {len(res.circuit)} gates in {time.perf_counter() - t0:.2f} s")
         print(f"{name:16} " + "   ".join(row), flush=True)

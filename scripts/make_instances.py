@@ -1,7 +1,7 @@
 """Generate the benchmark instance sets in instances/sets/ (run once; output is committed).
 
 * hard3.jsonl — the 577 3-line functions that need 8 NCT gates, found by breadth-first
-  enumeration (exactsyn.bfs); Shende et al., IEEE TCAD 2003, count 577 of them.
+  enumeration (exactsyn.search.bfs); Shende et al., IEEE TCAD 2003, count 577 of them.
 * five-line.jsonl — 5-line functions built from seeded random circuits of 5..8 gates
   (so the optimum is at most the circuit length); the optimum of each is then proven
   with exactsyn itself (every smaller k refuted, with a checked certificate) and stored
@@ -23,12 +23,11 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from exactsyn.bfs import optimal_sizes  # noqa: E402
-from exactsyn.certificate import check_certificate, proof_writer, write_result  # noqa: E402
+import exactsyn as ex  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.io.jsonio import gate_to_dict  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import from_permutation  # noqa: E402
+from exactsyn.search.bfs import optimal_sizes  # noqa: E402
+from exactsyn.spec.reversible import from_permutation  # noqa: E402
 
 OUT = ROOT / "instances" / "sets"
 
@@ -55,9 +54,8 @@ def five_line() -> None:
         perm = [int(v) for v in s]
         spec = from_permutation(perm, f"five-{lib_name}-{i}")
         with tempfile.TemporaryDirectory() as d:
-            res = synthesise(spec, lib, proof_sink=proof_writer(Path(d)), jobs=2)
-            write_result(Path(d), res)
-            rep = check_certificate(d)
+            res = ex.synthesise(spec, library=lib, certificate=d, jobs=2)
+            rep = ex.check_certificate(d)
         assert res.optimal and res.circuit is not None and rep.ok
         recs.append(
             {

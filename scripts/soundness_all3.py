@@ -17,16 +17,15 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from exactsyn.bfs import optimal_sizes  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import from_permutation  # noqa: E402
+import exactsyn as ex  # noqa: E402
+from exactsyn.core.library import make_library  # noqa: E402
+from exactsyn.search.bfs import optimal_sizes  # noqa: E402
 
 LIB = make_library("nct", 3)
 
 
 def sat_size(perm: tuple[int, ...]) -> int:
-    res = synthesise(from_permutation(list(perm)), LIB, bounds="cheap")
+    res = ex.synthesise(list(perm), library=LIB, bounds="cheap")
     assert res.optimal and res.circuit is not None and res.circuit.permutation() == perm
     return len(res.circuit)
 

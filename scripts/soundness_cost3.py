@@ -14,16 +14,12 @@ import heapq
 import itertools
 import random
 import sys
-import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from exactsyn.costs import cost_model  # noqa: E402
-from exactsyn.library import make_library  # noqa: E402
-from exactsyn.objectives import gate_costs, optimise  # noqa: E402
-from exactsyn.search import synthesise  # noqa: E402
-from exactsyn.spec import from_permutation  # noqa: E402
+import exactsyn as ex  # noqa: E402
+from exactsyn.core.costs import library_costs  # noqa: E402
 
 
 def dijkstra(perms: list[tuple[int, ...]], costs: tuple[int, ...]) -> dict[tuple[int, ...], int]:
@@ -47,9 +43,9 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=5)
     ap.add_argument("--library", default="nct")
     args = ap.parse_args()
-    lib = make_library(args.library, 3)
-    model = cost_model("ncv")
-    costs = gate_costs(lib, model)
+    lib = ex.make_library(args.library, 3)
+    model = ex.cost_model("ncv")
+    costs = library_costs(lib, model)
     perms = [g.permutation(3) for g in lib.gates]
     dist = dijkstra(perms, costs)
     layers = set()
@@ -67,14 +63,13 @@ def main() -> None:
     for i, perm in enumerate(sample, 1):
         if i % 10 == 0:
             print(f"  {i}/{args.count}: cost {t_cost:.1f} s, depth {t_depth:.1f} s so far", flush=True)
-        res = synthesise(from_permutation(perm), lib)
-        t = time.perf_counter()
-        c = optimise("cost", res, model)
-        t_cost += time.perf_counter() - t
-        t = time.perf_counter()
-        d = optimise("depth", res)
-        t_depth += time.perf_counter() - t
-        longer += len(c.circuit) > len(res.circuit or ())
+        cs = ex.synthesise(list(perm), library=lib, objective="cost", cost=model)
+        ds = ex.synthesise(list(perm), library=lib, objective="depth")
+        c, d = cs.objective_result, ds.objective_result
+        assert c is not None and d is not None
+        t_cost += c.seconds
+        t_depth += d.seconds
+        longer += len(c.circuit) > len(cs.gate_result.circuit or ())
         if not (c.optimal and c.value == dist[perm] and d.optimal and d.value == depth[perm]):
             bad += 1
             print("MISMATCH", perm, c.value, dist[perm], d.value, depth[perm], flush=True)

@@ -1,4 +1,17 @@
+"""Shared test set-up.
+
+* tests/ is put on ``sys.path`` so that test modules in the subpackages import the shared
+  helpers as ``helpers``, ``svg_readback``, ``browser`` and ``optional``.
+* Optional test references (qiskit, openqasm3, Dask, Chromium) are required under CI: the
+  hooks of tests/optional.py turn a skip into a failure there.
+* ``pytester`` runs small inner test sessions (the test of those hooks).
+"""
+
 import sys
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).parent))
+
+from optional import pytest_make_collect_report, pytest_runtest_makereport  # noqa: E402, F401  (hooks)
+
+pytest_plugins = ("pytester",)

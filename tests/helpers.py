@@ -2,7 +2,18 @@
 
 from __future__ import annotations
 
+import heapq
+import io
+import itertools
 import random
+from pathlib import Path
+from typing import Any
+
+#: the repository (instances/ and the README live here); test modules may sit in subfolders
+ROOT = Path(__file__).resolve().parent.parent
+INSTANCES = ROOT / "instances"
+#: small input files of the tests
+DATA = Path(__file__).resolve().parent / "data"
 
 
 def random_perm(rng: random.Random, lines: int) -> list[int]:
@@ -85,3 +96,69 @@ def permutation_matrix(c):  # type: ignore[no-untyped-def]
     for i, o in enumerate(p):
         m[o, i] = 1.0
     return m
+
+
+def png_grey(data: bytes) -> Any:
+    """Decode a PNG with Pillow (a test dependency), as grey levels."""
+    from PIL import Image
+
+    return Image.open(io.BytesIO(data)).convert("L")
+
+
+def dijkstra(library, costs: tuple[int, ...]) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Least total cost of every function reachable with the library's gates (Dijkstra, no SAT).
+
+    ``costs[j]`` is the cost of ``library.gates[j]``.
+    """
+    perms = [g.permutation(library.lines) for g in library.gates]
+    start = tuple(range(1 << library.lines))
+    dist = {start: 0}
+    heap = [(0, start)]
+    while heap:
+        c, f = heapq.heappop(heap)
+        if dist[f] < c:
+            continue
+        for j, p in enumerate(perms):
+            h = tuple(p[x] for x in f)
+            if c + costs[j] < dist.get(h, 1 << 30):
+                dist[h] = c + costs[j]
+                heapq.heappush(heap, (c + costs[j], h))
+    return dist
+
+
+def layer_depths(library) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Least depth of every reachable function: breadth-first search whose steps are whole
+    layers (every set of the library's gates on pairwise disjoint lines), no SAT."""
+    import numpy as np
+
+    size = 1 << library.lines
+    layers = set()
+    for r in range(1, library.lines + 1):
+        for combo in itertools.combinations(library.gates, r):
+            if all(not (a.lines & b.lines) for a, b in itertools.combinations(combo, 2)):
+                f = np.arange(size)
+                for g in combo:
+                    f = g.apply(f)
+                layers.add(tuple(int(x) for x in f))
+    return naive_bfs(sorted(layers), size)
+
+
+def trace_normal_form(word, library) -> tuple[int, ...]:  # type: ignore[no-untyped-def]
+    """Representative of a gate sequence (library indices) up to swapping adjacent commuting gates.
+
+    The greedy lexicographic normal form of traces (Anisimov & Knuth 1979; Diekert &
+    Rozenberg, "The Book of Traces", 1995): repeatedly take the least gate that commutes
+    with every gate before it.  Commutation is decided on the gates' permutations.
+    """
+    perms = [g.permutation(library.lines) for g in library.gates]
+
+    def commute(a: int, b: int) -> bool:
+        pa, pb = perms[a], perms[b]
+        return all(pa[pb[s]] == pb[pa[s]] for s in range(len(pa)))
+
+    rest, out = list(word), []
+    while rest:
+        movable = [i for i, g in enumerate(rest) if all(commute(g, h) for h in rest[:i])]
+        best = min(movable, key=lambda i: rest[i])
+        out.append(rest.pop(best))
+    return tuple(out)

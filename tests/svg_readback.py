@@ -10,8 +10,8 @@ from __future__ import annotations
 import re
 import xml.etree.ElementTree as ET
 
-from exactsyn.circuit import Circuit
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
 MARKS = ("ctrl-pos", "ctrl-neg", "target", "swap", "peres")

@@ -6,7 +6,7 @@ inversion) → :mod:`~exactsyn.batch.run` (skip finished items, hand the rest to
 engine) → :mod:`~exactsyn.batch.workers` (local processes or Dask distributed run
 :func:`~exactsyn.batch.task.run_task`) → :mod:`~exactsyn.batch.store` (SQLite in WAL
 mode, one transaction per completed item, certificates beside it).  The tables are
-:mod:`exactsyn.table`.
+:mod:`exactsyn.batch.table`.
 """
 
 from exactsyn.batch.plan import Plan, PlanItem, choose_classes, plan_files, plan_generated

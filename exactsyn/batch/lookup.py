@@ -16,15 +16,15 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from exactsyn.batch.sets import Transform, canonical
+from exactsyn.batch.sets import Transform, canonical, transform_circuit
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.task import item_key
-from exactsyn.circuit import Circuit
-from exactsyn.encode import EncodingOptions
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict
-from exactsyn.library import make_library
-from exactsyn.spec import from_permutation
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.spec.reversible import from_permutation
 
 
 @dataclass(frozen=True)
@@ -74,8 +74,6 @@ def member_result(store: Store, batch: BatchInfo, perm: Sequence[int]) -> Member
 
 
 def _transformed(circuit: Circuit, t: Transform, target: tuple[int, ...]) -> Circuit:
-    from exactsyn.batch.sets import transform_circuit
-
     out = transform_circuit(circuit, t)
     if out.permutation() != target:
         raise ExactsynError("internal error: the transformed circuit does not compute the function")

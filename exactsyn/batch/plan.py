@@ -12,21 +12,25 @@ from __future__ import annotations
 
 import hashlib
 import json
+import re
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
+from exactsyn import __version__
 from exactsyn.batch import sets
-from exactsyn.batch.task import OBJECTIVE, LibraryChoice, item_key, library_identity, unreadable_key
-from exactsyn.encode import EncodingOptions
+from exactsyn.batch.task import GATES, Goal, LibraryChoice, item_key, library_identity, unreadable_key
+from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.library import Library
-from exactsyn.spec import Spec, from_permutation
-from exactsyn.specfile import load_any
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.spec.files import load_any
+from exactsyn.spec.reversible import Spec, from_permutation
 
 REDUCTION = "line relabelling and inversion"
 SET_KINDS = ("all", "classes", "random")
+#: The source label of a generated item: its set, its line count and its index in the set.
+GENERATED_SOURCE = re.compile(r"(all|classes|random):\d+( #\d+)?")
 
 
 @dataclass(frozen=True)
@@ -46,6 +50,7 @@ class Plan:
     failures: tuple[dict[str, Any], ...] = ()
     forget: tuple[str, ...] = ()
     notes: tuple[str, ...] = ()
+    goal: Goal = GATES
 
     @property
     def weight(self) -> int:
@@ -59,7 +64,9 @@ def _batch_id(description: dict[str, Any]) -> str:
     return hashlib.sha256(text.encode()).hexdigest()[:16]
 
 
-def _base_description(choice: LibraryChoice, lines: int | None, encoding: EncodingOptions) -> dict[str, Any]:
+def _base_description(
+    choice: LibraryChoice, lines: int | None, encoding: EncodingOptions, goal: Goal
+) -> dict[str, Any]:
     lib = choice.build(lines) if lines else None
     return {
         "library": {
@@ -68,7 +75,7 @@ def _base_description(choice: LibraryChoice, lines: int | None, encoding: Encodi
             "coupling": choice.coupling,
             "name": lib.name if lib else None,
         },
-        "objective": OBJECTIVE,
+        "objective": goal.identity(None),
         "encoding": encoding.describe(),
     }
 
@@ -107,6 +114,7 @@ def plan_generated(
     count: int | None = None,
     seed: int = 0,
     library: Library | None = None,
+    goal: Goal = GATES,
 ) -> Plan:
     """Plan a generated set: ``all`` functions, ``classes`` (representatives), or ``random``.
 
@@ -116,7 +124,7 @@ def plan_generated(
     if kind not in SET_KINDS:
         raise ExactsynError(f"unknown set {kind!r}; choose one of: {', '.join(SET_KINDS)}")
     lib = library or choice.build(lines)
-    desc = _base_description(choice, lines, encoding)
+    desc = _base_description(choice, lines, encoding, goal)
     if library is not None:
         desc["library"] = library_identity(library) | {"name": library.name}
     desc |= {"set": kind, "lines": lines}
@@ -140,11 +148,11 @@ def plan_generated(
             notes.append(f"class reduction is off: {obstacle}; solving every function instead")
     desc["label"] = label
     items = [
-        PlanItem(item_key(spec, lib, encoding), spec, lib, w, f"{kind}:{lines}")
-        for p, w in pairs
+        PlanItem(item_key(spec, lib, encoding, goal), spec, lib, w, f"{kind}:{lines} #{index}")
+        for index, (p, w) in enumerate(pairs)
         for spec in (from_permutation(list(p)),)
     ]
-    return Plan(_batch_id(desc), desc, _merge(items), notes=tuple(notes))
+    return Plan(_batch_id(desc), desc, _merge(items), notes=tuple(notes), goal=goal)
 
 
 def spec_files(paths: Sequence[str | Path]) -> list[Path]:
@@ -166,10 +174,12 @@ def spec_files(paths: Sequence[str | Path]) -> list[Path]:
     return out
 
 
-def plan_files(paths: Sequence[str | Path], choice: LibraryChoice, encoding: EncodingOptions) -> Plan:
+def plan_files(
+    paths: Sequence[str | Path], choice: LibraryChoice, encoding: EncodingOptions, goal: Goal = GATES
+) -> Plan:
     """Plan a batch over spec files and directories of them (see :func:`spec_files`)."""
     files = spec_files(paths)
-    desc = _base_description(choice, None, encoding)
+    desc = _base_description(choice, None, encoding, goal)
     desc |= {"set": "files", "paths": sorted(str(Path(p).resolve()) for p in paths)}
     desc["label"] = f"{len(files)} spec files"
     batch_id = _batch_id(desc)
@@ -182,26 +192,24 @@ def plan_files(paths: Sequence[str | Path], choice: LibraryChoice, encoding: Enc
             spec = load_any(f)[0]
             lib = choice.build(spec.lines)
         except ExactsynError as e:
-            failures.append(_unreadable_row(bad_key, f, e.message, choice, encoding))
+            failures.append(_unreadable_row(bad_key, f, e.message, choice, encoding, goal))
             continue
         forget.append(bad_key)
         if not spec.name:
-            spec = Spec(spec.lines, spec.outputs, spec.care, f.stem)
-        items.append(PlanItem(item_key(spec, lib, encoding), spec, lib, 1, str(f)))
+            spec = replace(spec, name=f.stem)  # keeps the embedding choices
+        items.append(PlanItem(item_key(spec, lib, encoding, goal), spec, lib, 1, str(f)))
     merged = _merge(items)
     notes = []
     if len(merged) < len(items):
         notes.append(f"{len(items) - len(merged)} spec files repeat a function of another file and share its result")
     if failures:
         notes.append(f"{len(failures)} spec files could not be read; they are recorded as failed")
-    return Plan(batch_id, desc, merged, tuple(failures), tuple(forget), tuple(notes))
+    return Plan(batch_id, desc, merged, tuple(failures), tuple(forget), tuple(notes), goal)
 
 
 def _unreadable_row(
-    key: str, path: Path, reason: str, choice: LibraryChoice, encoding: EncodingOptions
+    key: str, path: Path, reason: str, choice: LibraryChoice, encoding: EncodingOptions, goal: Goal
 ) -> dict[str, Any]:
-    from exactsyn import __version__
-
     return {
         "key": key,
         "status": "failed",
@@ -209,7 +217,7 @@ def _unreadable_row(
         "source": str(path),
         "preset": choice.preset,
         "max_controls": choice.max_controls,
-        "objective": OBJECTIVE,
+        "objective": goal.label(),
         "encoding": json.dumps(encoding.describe(), sort_keys=True),
         "tool_version": __version__,
     }

@@ -25,6 +25,7 @@ from rich.progress import (
 from rich.text import Text
 
 from exactsyn.batch.run import Event
+from exactsyn.io.words import count
 
 
 class _Rate(ProgressColumn):
@@ -78,14 +79,15 @@ class BatchProgress:
             self._line()
 
     def __call__(self, event: Event) -> None:
-        if event.kind == "start":
+        if event.phase == "start":
             if event.skipped:
-                self.console.print(f"{event.skipped} items already finished in the store: skipped", highlight=False)
+                done = count(event.skipped, "item")
+                self.console.print(f"{done} already finished in the store: skipped", highlight=False)
             self._total = event.total
             self._started = self._last = time.monotonic()
             fields: dict[str, Any] = dict(self._counts)
             self._task = self._progress.add_task("batch", total=event.total, **fields)
-        elif event.kind == "item" and self._task is not None:
+        elif event.phase == "item" and self._task is not None:
             self._counts[event.status] = self._counts.get(event.status, 0) + 1
             fields = dict(self._counts)
             self._progress.update(self._task, advance=1, **fields)

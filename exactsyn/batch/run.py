@@ -10,16 +10,17 @@ the rate and the ETA honest from the start).
 
 from __future__ import annotations
 
+import json
 import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field, replace
 
-from exactsyn.batch.plan import Plan
+from exactsyn.batch.plan import GENERATED_SOURCE, Plan
 from exactsyn.batch.store import Member, StatusCounts, Store
 from exactsyn.batch.task import Outcome, Task
 from exactsyn.batch.workers import Engine
-from exactsyn.encode import EncodingOptions
 from exactsyn.errors import ExactsynError
+from exactsyn.sat.encode import EncodingOptions
 
 RETRYABLE = ("timeout", "failed")
 
@@ -48,7 +49,7 @@ class RunOptions:
 class Event:
     """``start`` (``total`` items to run, ``skipped`` already finished) or ``item`` (one outcome)."""
 
-    kind: str
+    phase: str
     total: int = 0
     skipped: int = 0
     status: str = ""
@@ -113,6 +114,7 @@ def pending_tasks(store: Store, plan: Plan, options: RunOptions) -> tuple[list[T
                 certificates=options.certificates,
                 verify=options.verify,
                 bounds=options.bounds,
+                goal=plan.goal,
                 check_files=() if work == "check" else None,
             )
         )
@@ -150,6 +152,7 @@ def run_batch(
     """Register ``plan``, run what is not finished on ``engine``, return the summary."""
     start = time.perf_counter()
     register(store, plan)
+    store.sweep()  # certificate directories a killed run left behind
     tasks, skipped = pending_tasks(store, plan, options)
     if on_event:
         on_event(Event("start", total=len(tasks), skipped=skipped))
@@ -161,7 +164,7 @@ def run_batch(
         nonlocal item_seconds, checked
         store.record(out)
         ran[out.status] = ran.get(out.status, 0) + 1
-        checked += out.kind == "check"
+        checked += out.work == "check"
         secs = float(out.row.get("wall_seconds") or out.row.get("verify_seconds") or 0.0)
         item_seconds += secs
         if on_event:
@@ -170,6 +173,22 @@ def run_batch(
     engine.run(materialise(store, tasks), on_outcome)
     summary = summarise(store, plan, engine.describe(), skipped, ran, time.perf_counter() - start, item_seconds)
     return replace(summary, checked=checked)
+
+
+def _label(row: dict[str, object]) -> str:
+    """How the "not done" list names an item: its spec file, or its set, index and permutation."""
+    source = str(row.get("member_source") or row.get("source") or "")
+    if not source:
+        return str(row["key"])[:16]
+    outputs = row.get("outputs")
+    if GENERATED_SOURCE.fullmatch(source) and isinstance(outputs, str):
+        try:
+            perm = [int(v) for v in json.loads(outputs)]
+        except (ValueError, TypeError):
+            return source
+        shown = ",".join(map(str, perm[:16])) + (",…" if len(perm) > 16 else "")
+        return f"{source} ({shown})"
+    return source
 
 
 def summarise(
@@ -182,7 +201,7 @@ def summarise(
     item_seconds: float,
 ) -> RunSummary:
     unfinished = [
-        (r["status"] or "missing", r["member_source"] or r["source"] or r["key"][:16], r["reason"] or "")
+        (r["status"] or "missing", _label(r), r["reason"] or "")
         for r in store.batch_rows(plan.batch_id)
         if r["status"] != "done"
     ]

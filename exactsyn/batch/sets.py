@@ -34,16 +34,16 @@ import math
 import random
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 
-from exactsyn.circuit import Circuit
+from exactsyn.caches import memo
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
+from exactsyn.core.gates import invert_permutation as invert
+from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
-from exactsyn.gates import invert_permutation as invert
-from exactsyn.library import Library
-from exactsyn.spec import MAX_LINES
+from exactsyn.spec.reversible import MAX_LINES
 
 #: Largest line count for which every function (or every class) is enumerated.
 MAX_ENUMERATED_LINES = 3
@@ -79,7 +79,7 @@ def _check_sigma(sigma: Sequence[int], lines: int) -> None:
         raise ExactsynError(f"line relabelling {list(sigma)} is not a permutation of 0..{lines - 1}")
 
 
-@lru_cache(maxsize=64)
+@memo(maxsize=64)
 def state_map(sigma: tuple[int, ...]) -> Perm:
     """``π_σ``: the state permutation moving bit ``l`` to bit ``σ[l]``."""
     n = len(sigma)
@@ -97,9 +97,9 @@ def relabel(perm: Sequence[int], sigma: Sequence[int]) -> Perm:
 def relabel_gate(gate: Gate, sigma: Sequence[int]) -> Gate:
     ctl = [sigma[c] for c in gate.controls]
     neg = [sigma[c] for c in gate.negative_controls]
-    if gate.kind == "x":
+    if gate.family == "x":
         return x_gate(sigma[gate.targets[0]], ctl, neg)
-    if gate.kind == "peres":
+    if gate.family == "peres":
         return peres_gate(sigma[gate.controls[0]], sigma[gate.targets[0]], sigma[gate.targets[1]])
     return swap_gate(sigma[gate.targets[0]], sigma[gate.targets[1]], ctl, neg)
 

@@ -19,25 +19,41 @@ Crash safety.  A row is written only when its item has completed, in one transac
 (``BEGIN IMMEDIATE`` … ``COMMIT``); SQLite's write-ahead log makes a transaction all or
 nothing, also when the writing process is killed with SIGKILL (``synchronous=NORMAL``
 keeps that guarantee against process death; only a power cut may lose the last
-commits, never half of one).  The certificate directory is written first under a
-temporary name and renamed into place, then the row is committed; a kill in between
-leaves a certificate without a row, and the item is simply solved again on resume.
-Only one process — the one running the batch — writes.
+commits, never half of one).
+
+Certificates.  A certificate directory is written under a hidden temporary name of its
+own (``.<key>.<host>.<pid>.<token>.tmp``) outside any transaction; then, inside the
+row's transaction, it is renamed to a name no row uses yet (``<key>``, or
+``<key>.<token>`` when that exists) and the row pointing to it is committed.  A row
+therefore always points to a complete directory, and the directory it pointed to
+before is removed only after the commit.  A kill at any moment leaves at worst a
+directory no row points to; :meth:`Store.sweep` (run when a batch starts, under the
+write lock) removes those, and the temporary directories of processes that no longer
+run on this host.
+
+Several processes may run batches on one store at once (the same batch or different
+ones): the write lock orders their commits, an item finished twice keeps one row (the
+later one) with its own certificate, and nothing is lost.  Each process solves what was
+missing when it started, so the same batch run twice at once does the work twice.
 """
 
 from __future__ import annotations
 
 import json
+import os
+import secrets
 import shutil
+import socket
 import sqlite3
 import time
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, Literal
 
 from exactsyn.batch.task import Outcome
 from exactsyn.errors import ExactsynError
+from exactsyn.io.files import path_problem
 
 FORMAT = "exactsyn-results"
 SCHEMA_VERSION = 1
@@ -97,6 +113,24 @@ CREATE TABLE IF NOT EXISTS members (
 """
 
 
+def _host() -> str:
+    """This host's name as it may appear in a file name."""
+    return "".join(c if c.isalnum() or c == "-" else "-" for c in socket.gethostname())[:40] or "host"
+
+
+def _alive(pid: int) -> bool:
+    """Is process ``pid`` running on this host?"""
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
 def _now() -> str:
     return time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime())
 
@@ -150,7 +184,7 @@ class Store:
         except sqlite3.DatabaseError as e:
             raise ExactsynError(f"{self.path} is not a usable results store: {e}") from None
         except OSError as e:
-            raise ExactsynError(f"cannot open results store {self.path}: {e.strerror}") from None
+            raise ExactsynError(f"cannot open results store {self.path}: {path_problem(self.path, e)}") from None
         if str(mode).lower() != "wal":
             raise ExactsynError(f"results store {self.path}: the file system does not allow WAL mode")
 
@@ -185,7 +219,7 @@ class Store:
         self.close()
 
     def transaction(self) -> _Transaction:
-        return _Transaction(self._db)
+        return _Transaction(self._db, self.path)
 
     @property
     def cert_root(self) -> Path:
@@ -298,13 +332,13 @@ class Store:
         return None if r is None else dict(r)
 
     def record(self, outcome: Outcome) -> None:
-        """Store a completed item: certificate directory first, then its row in one transaction.
+        """Store a completed item: its certificate and its row together (module docstring).
 
         A ``check`` outcome updates only the verification columns (and the status, if
         the certificate was rejected) of the existing row.
         """
         row = dict(outcome.row)
-        if outcome.kind == "check":
+        if outcome.work == "check":
             cols = [c for c in row if c in COLUMNS and c != "key"]
             if not cols:
                 return
@@ -314,16 +348,85 @@ class Store:
                     [row[c] for c in cols] + [outcome.key],
                 )
             return
-        final = self.cert_root / outcome.key
-        if outcome.files:
-            self._write_certificate(outcome.key, outcome.files)
-            row["certificate"] = str(final.relative_to(self.path.parent))
-        else:
-            row["certificate"] = None
+        staged = self._stage_certificate(outcome.key, outcome.files) if outcome.files else None
+        placed: Path | None = None
+        previous: str | None = None
+        try:
+            with self.transaction():
+                old = self._db.execute("SELECT certificate FROM results WHERE key = ?", (outcome.key,)).fetchone()
+                previous = old[0] if old else None
+                if staged is not None:
+                    placed = self._place(outcome.key, staged)
+                    row["certificate"] = str(placed.relative_to(self.path.parent))
+                else:
+                    row["certificate"] = None
+                self._put(row)
+        except BaseException:
+            for d in (staged, placed):
+                if d is not None:
+                    shutil.rmtree(d, ignore_errors=True)
+            raise
+        if previous and previous != row["certificate"]:
+            shutil.rmtree(self.certificate_path(previous), ignore_errors=True)
+
+    def _stage_certificate(self, key: str, files: tuple[tuple[str, bytes], ...]) -> Path:
+        """Write the files to a hidden directory of this process (outside any transaction)."""
+        root = self.cert_root
+        tmp = root / f".{key}.{_host()}.{os.getpid()}.{secrets.token_hex(4)}.tmp"
+        try:
+            tmp.mkdir(parents=True)
+            for name, data in files:
+                if Path(name).name != name or name.startswith("."):
+                    raise ExactsynError(f"certificate file name {name!r} must be a plain name")
+                (tmp / name).write_bytes(data)
+        except OSError as e:
+            shutil.rmtree(tmp, ignore_errors=True)
+            raise ExactsynError(
+                f"cannot write certificate of item {key[:16]} under {root}: {path_problem(tmp, e)}; "
+                "the results stored so far are kept, re-run the same command to resume"
+            ) from None
+        return tmp
+
+    def _place(self, key: str, staged: Path) -> Path:
+        """Rename a staged directory to a name no row uses (inside the row's transaction)."""
+        final = self.cert_root / key
+        if final.exists():
+            final = self.cert_root / f"{key}.{secrets.token_hex(4)}"
+        try:
+            staged.rename(final)
+        except OSError as e:
+            raise ExactsynError(f"cannot write certificate {final}: {path_problem(final, e)}") from None
+        return final
+
+    def sweep(self) -> int:
+        """Remove certificate directories no row points to, and stale temporary ones; their count.
+
+        Runs under the write lock, so no other process is between placing a directory
+        and committing its row.  Temporary directories of processes still running on this
+        host (or of other hosts) are kept.
+        """
+        root = self.cert_root
+        if not root.is_dir():
+            return 0
+        removed = 0
         with self.transaction():
-            self._put(row)
-        if not outcome.files and final.exists():
-            shutil.rmtree(final, ignore_errors=True)
+            used = {
+                self.certificate_path(str(r[0])).resolve()
+                for r in self._db.execute("SELECT certificate FROM results WHERE certificate IS NOT NULL")
+            }
+            for entry in root.iterdir():
+                parts = entry.name.split(".")
+                if entry.name.startswith(".") and entry.name.endswith(".tmp") and len(parts) == 6:
+                    host, pid = parts[2], parts[3]
+                    if host != _host() or not pid.isdigit() or _alive(int(pid)):
+                        continue
+                elif entry.name.startswith("."):
+                    pass  # a temporary or old directory of the earlier single-writer scheme
+                elif not entry.is_dir() or entry.resolve() in used:
+                    continue
+                shutil.rmtree(entry, ignore_errors=True)
+                removed += 1
+        return removed
 
     def _put(self, row: dict[str, Any]) -> None:
         row = dict(row)
@@ -336,24 +439,6 @@ class Store:
             f"INSERT OR REPLACE INTO results ({', '.join(cols)}) VALUES ({', '.join('?' * len(cols))})",
             [row[c] for c in cols],
         )
-
-    def _write_certificate(self, key: str, files: tuple[tuple[str, bytes], ...]) -> None:
-        root = self.cert_root
-        final, tmp, old = root / key, root / f".{key}.tmp", root / f".{key}.old"
-        try:
-            shutil.rmtree(tmp, ignore_errors=True)
-            tmp.mkdir(parents=True)
-            for name, data in files:
-                if Path(name).name != name:
-                    raise ExactsynError(f"certificate file name {name!r} must be a plain name")
-                (tmp / name).write_bytes(data)
-            if final.exists():
-                shutil.rmtree(old, ignore_errors=True)
-                final.rename(old)
-            tmp.rename(final)
-            shutil.rmtree(old, ignore_errors=True)
-        except OSError as e:
-            raise ExactsynError(f"cannot write certificate {final}: {e.strerror}") from None
 
     def read_certificate(self, location: str) -> tuple[tuple[str, bytes], ...] | None:
         """The files of a stored certificate, or None if it is not (fully) on disk."""
@@ -369,16 +454,43 @@ class Store:
 
 
 class _Transaction:
-    """``BEGIN IMMEDIATE`` … ``COMMIT``, rolled back on any exception."""
+    """``BEGIN IMMEDIATE`` … ``COMMIT``, rolled back on any exception.
 
-    def __init__(self, db: sqlite3.Connection) -> None:
+    An SQLite failure (a full disk, a read-only file, a lock held too long) becomes one
+    :class:`ExactsynError` naming the store; what was committed before stays committed.
+    """
+
+    def __init__(self, db: sqlite3.Connection, path: Path) -> None:
         self._db = db
+        self._path = path
 
     def __enter__(self) -> None:
-        self._db.execute("BEGIN IMMEDIATE")
+        try:
+            self._db.execute("BEGIN IMMEDIATE")
+        except sqlite3.Error as e:
+            raise self._fail(e) from None
 
-    def __exit__(self, exc_type: object, *rest: object) -> None:
+    def __exit__(self, exc_type: object, exc: object, tb: object) -> Literal[False]:
         if exc_type is None:
-            self._db.execute("COMMIT")
-        else:
+            try:
+                self._db.execute("COMMIT")
+            except sqlite3.Error as e:
+                self._rollback()
+                raise self._fail(e) from None
+            return False
+        self._rollback()
+        if isinstance(exc, sqlite3.Error):
+            raise self._fail(exc) from None
+        return False
+
+    def _rollback(self) -> None:
+        try:
             self._db.execute("ROLLBACK")
+        except sqlite3.Error:
+            pass  # nothing was begun, or SQLite rolled back already
+
+    def _fail(self, e: sqlite3.Error) -> ExactsynError:
+        return ExactsynError(
+            f"cannot write results store {self._path}: {e}; the results stored before are kept, "
+            "re-run the same command to resume"
+        )

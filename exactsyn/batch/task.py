@@ -1,10 +1,9 @@
 """One batch item: its stable key, the task a worker runs, and the outcome it returns.
 
-A worker runs :func:`run_task` — :func:`exactsyn.search.synthesise` on one spec, with
-the certificate written by :func:`exactsyn.certificate.proof_writer` and
-:func:`~exactsyn.certificate.write_result` into a private temporary directory, then
-read back as bytes.  The outcome carries the certificate files, so no shared file
-system is needed between the workers and the process that owns the results store
+A worker runs :func:`run_task` — :func:`exactsyn.synthesise` on one spec, for the
+batch's :class:`Goal` (objective and cost model), with the certificate written into a
+private temporary directory, then read back as bytes.  The outcome carries the
+certificate files, so no shared file system is needed between the workers and the process that owns the results store
 (which writes them: :mod:`exactsyn.batch.store`).  Every error of one item becomes a
 ``failed`` outcome with its reason; nothing escapes to stop the batch.
 """
@@ -20,18 +19,51 @@ import socket
 import tempfile
 import time
 from dataclasses import dataclass, field
-from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
 from exactsyn import __version__
-from exactsyn.encode import EncodingOptions
-from exactsyn.errors import ExactsynError
-from exactsyn.library import Library, make_library
-from exactsyn.spec import Spec
+from exactsyn.api import synthesise
+from exactsyn.caches import memo
+from exactsyn.core.costs import cost_model, library_costs
+from exactsyn.core.library import Library, make_library
+from exactsyn.errors import ExactsynError, NoCircuitError
+from exactsyn.io.jsonio import gate_to_dict
+from exactsyn.proof.check import check_certificate
+from exactsyn.sat.encode import EncodingOptions
+from exactsyn.spec.reversible import Spec
 
-OBJECTIVE = "gates"
 STATUSES = ("done", "timeout", "failed")
+
+
+@dataclass(frozen=True)
+class Goal:
+    """What a batch minimises: an objective of :func:`exactsyn.synthesise` and its cost model."""
+
+    objective: str = "gates"
+    cost: str = "ncv"  # a built-in model name or a cost table file (used by the cost objectives)
+
+    @property
+    def uses_cost(self) -> bool:
+        return self.objective in ("gates-then-cost", "cost")
+
+    def label(self) -> str:
+        """``gates``, ``depth``, ``gates-then-cost:t-count`` — the store's ``objective`` column."""
+        return f"{self.objective}:{cost_model(self.cost).name}" if self.uses_cost else self.objective
+
+    def identity(self, library: Library | None) -> Any:
+        """The goal inside item keys and batch ids: the plain name for gates and depth (so keys of
+        stores written before objectives existed stay the same), with the per-gate costs otherwise."""
+        if not self.uses_cost:
+            return self.objective
+        model = cost_model(self.cost)
+        ident: dict[str, Any] = {"name": self.objective, "cost_model": model.name}
+        if library is not None:
+            ident["costs"] = list(library_costs(library, model, positive=self.objective == "cost"))
+        return ident
+
+
+GATES = Goal()
 
 
 @dataclass(frozen=True)
@@ -46,7 +78,7 @@ class LibraryChoice:
         return _library(self.preset, lines, self.max_controls, self.coupling)
 
 
-@lru_cache(maxsize=32)
+@memo(maxsize=32)
 def _library(preset: str, lines: int, cap: int | None, coupling: str = "") -> Library:
     return make_library(preset, lines, cap, coupling)
 
@@ -65,13 +97,26 @@ def library_identity(library: Library) -> dict[str, Any]:
     return {"lines": library.lines, "gates": [str(g) for g in library.gates]}
 
 
-def item_key(spec: Spec, library: Library, encoding: EncodingOptions, objective: str = OBJECTIVE) -> str:
-    """SHA-256 of (spec outputs and care masks, library, objective, encoding options)."""
+def item_key(spec: Spec, library: Library, encoding: EncodingOptions, goal: Goal = GATES) -> str:
+    """SHA-256 of (spec, library, objective, encoding options).
+
+    The spec enters with every field that defines the problem (those of
+    :func:`exactsyn.proof.certificate.spec_to_dict` but its name): outputs, care masks and
+    the embedding choices left to the solver.  Those choices enter only when there are
+    any, so a plain spec keeps the key earlier versions gave it and older stores resume.
+    """
+    problem: dict[str, Any] = {"lines": spec.lines, "outputs": list(spec.outputs), "care": list(spec.care)}
+    if spec.open_lines or spec.output_targets or spec.output_candidates:
+        problem |= {
+            "open_lines": list(spec.open_lines),
+            "output_targets": [list(t) for t in spec.output_targets],
+            "output_candidates": list(spec.output_candidates),
+        }
     return _digest(
         {
-            "spec": {"lines": spec.lines, "outputs": list(spec.outputs), "care": list(spec.care)},
+            "spec": problem,
             "library": library_identity(library),
-            "objective": objective,
+            "objective": goal.identity(library),
             "encoding": encoding.describe(),
         }
     )
@@ -93,7 +138,8 @@ class Task:
     time_limit: float | None = None
     certificates: bool = True
     verify: bool = False
-    bounds: str = "table"  # lower bounds of exactsyn.search (BOUNDS)
+    bounds: str = "table"  # lower bounds of exactsyn.search.loop (BOUNDS)
+    goal: Goal = GATES
     #: set for a check-only task: re-check the stored certificate (these files), do not solve
     check_files: tuple[tuple[str, bytes], ...] | None = field(default=None, repr=False)
 
@@ -102,7 +148,7 @@ class Task:
 class Outcome:
     """What a worker hands back; ``row`` holds the store's columns for this item.
 
-    ``kind`` is ``solve`` (a whole row) or ``check`` (only the verification columns of
+    ``work`` is ``solve`` (a whole row) or ``check`` (only the verification columns of
     an existing row, and status ``failed`` with the reason if the certificate was rejected).
     """
 
@@ -110,7 +156,7 @@ class Outcome:
     status: str
     row: dict[str, Any]
     files: tuple[tuple[str, bytes], ...] = field(default=(), repr=False)
-    kind: str = "solve"
+    work: str = "solve"
 
 
 def _row_base(task: Task) -> dict[str, Any]:
@@ -124,7 +170,7 @@ def _row_base(task: Task) -> dict[str, Any]:
         "library": lib.name,
         "preset": lib.preset,
         "max_controls": lib.control_cap,
-        "objective": OBJECTIVE,
+        "objective": task.goal.label(),
         "encoding": json.dumps(task.encoding.describe(), sort_keys=True),
         "solver": task.solver,
         "tool_version": __version__,
@@ -139,7 +185,7 @@ def failed(task: Task, reason: str, status: str = "failed", **extra: Any) -> Out
     left as it was (and checked again by the next ``--verify`` run).
     """
     if task.check_files is not None:
-        return Outcome(task.key, status, {}, kind="check")
+        return Outcome(task.key, status, {}, work="check")
     row = _row_base(task) | {"status": status, "reason": reason} | extra
     return Outcome(task.key, status, row)
 
@@ -161,7 +207,7 @@ def run_tasks(tasks: list[Task]) -> list[Outcome]:
     return [run_task(t) for t in tasks]
 
 
-@lru_cache(maxsize=1)
+@memo(maxsize=1)
 def _scratch() -> Path:
     """This process's private scratch directory for certificates (made once, removed at exit).
 
@@ -187,8 +233,6 @@ def _rejection(report: Any) -> str:
 
 def _check(task: Task) -> Outcome:
     """Re-check a stored certificate (``exactsyn check``) in a private directory."""
-    from exactsyn.certificate import check_certificate
-
     started = time.perf_counter()
     tmp = _scratch()
     try:
@@ -205,36 +249,32 @@ def _check(task: Task) -> Outcome:
     row: dict[str, Any] = {"verified": int(ok), "verify_seconds": round(time.perf_counter() - started, 4)}
     if not ok:
         row |= {"status": "failed", "reason": reason}
-    return Outcome(task.key, "done" if ok else "failed", row, kind="check")
+    return Outcome(task.key, "done" if ok else "failed", row, work="check")
 
 
 def _run(task: Task, started: float) -> Outcome:
-    from exactsyn.certificate import check_certificate, proof_writer, write_result
-    from exactsyn.io.jsonio import gate_to_dict
-    from exactsyn.report import step_to_dict
-    from exactsyn.search import NoCircuitError, synthesise
-
-    library = task.library
     cert_dir = _scratch()
     _clear(cert_dir)
     try:
-        res = synthesise(
+        syn = synthesise(
             task.spec,
-            library,
+            library=task.library,
+            objective=task.goal.objective,
+            cost=task.goal.cost,
             encoding=task.encoding,
             solver=task.solver,
             time_limit=task.time_limit,
             bounds=task.bounds,
-            proof_sink=proof_writer(cert_dir) if task.certificates else None,
+            certificate=cert_dir if task.certificates else None,
         )
     except NoCircuitError as e:
         return failed(task, f"no circuit: {e.message}", wall_seconds=round(time.perf_counter() - started, 4))
+    res = syn.gate_result
     files: tuple[tuple[str, bytes], ...] = ()
     verified: int | None = None
     verify_seconds: float | None = None
     reason: str | None = None
     if task.certificates:
-        write_result(cert_dir, res)
         if task.verify:
             rep = check_certificate(cert_dir)
             verified, verify_seconds = int(rep.ok), round(rep.seconds, 4)
@@ -242,25 +282,31 @@ def _run(task: Task, started: float) -> Outcome:
                 reason = _rejection(rep)
         files = tuple((p.name, p.read_bytes()) for p in sorted(cert_dir.iterdir()))
         _clear(cert_dir)
-    circuit = res.circuit
-    status = "done" if res.optimal else "timeout"
+    circuit = syn.circuit
+    status = "done" if syn.optimal else "timeout"
     if reason:
         status = "failed"
     elif status == "timeout":
-        reason = f"time limit: the optimum lies in [{res.lower_bound}, {res.upper_bound if circuit else '?'}]"
+        reason = "; ".join(
+            [f"time limit: the optimum lies in [{res.lower_bound}, {res.upper_bound if circuit else '?'}]", *syn.notes]
+        )
+    optimum = None
+    if circuit is not None and syn.optimal:
+        obj = syn.objective_result
+        optimum = len(circuit) if obj is None else obj.value
     row = _row_base(task) | {
         "status": status,
         "reason": reason,
-        "optimum": len(circuit) if circuit is not None and res.optimal else None,
+        "optimum": optimum,
         "lower_bound": res.lower_bound,
         "upper_bound": res.upper_bound,
         "circuit": None if circuit is None else json.dumps([gate_to_dict(g) for g in circuit.gates]),
         "source_kind": res.source,
         "verified": verified,
-        "seconds": round(res.seconds, 4),
+        "seconds": round(syn.seconds, 4),
         "wall_seconds": round(time.perf_counter() - started, 4),
         "verify_seconds": verify_seconds,
-        "conflicts": sum(s.conflicts for s in res.steps),
-        "steps": json.dumps([step_to_dict(s) for s in res.steps]),
+        "conflicts": sum(s.conflicts or 0 for s in syn.steps),  # as reported (a Kissat racer reports none)
+        "steps": json.dumps([s.summary() for s in syn.steps]),
     }
     return Outcome(task.key, status, row, files)

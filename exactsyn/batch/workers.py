@@ -21,6 +21,7 @@ process as soon as it arrives (that process owns the results store).
 from __future__ import annotations
 
 import itertools
+import logging
 import multiprocessing as mp
 import os
 import shutil
@@ -320,11 +321,9 @@ class DaskEngine:
             return
         pending = itertools.chain([first], pending)
         try:
-            from distributed import Client, LocalCluster, as_completed
+            from distributed import Client, LocalCluster, as_completed  # optional: the 'cluster' extra
         except ImportError:
             raise ExactsynError("the Dask engine needs dask.distributed: pip install 'exactsyn[cluster]'") from None
-        import logging
-
         cluster = None
         try:
             if self.address:

@@ -7,10 +7,10 @@ and bottommost line, a filled dot on each positive control, a hollow dot on each
 negative control, ``⊕`` (a circle with a cross) on the target of an x gate and a ``×``
 on both targets of a swap.
 
-A Peres gate (:func:`exactsyn.gates.peres_gate`: ``c ^= a·b``, then ``b ^= a``) takes
+A Peres gate (:func:`exactsyn.core.gates.peres_gate`: ``c ^= a·b``, then ``b ^= a``) takes
 one column like every other gate, with a mark of its own on each of its three lines:
 a filled dot on ``a`` (its control), ``⊕`` on ``c`` (the line flipped by ``a·b``) and,
-on ``b``, a square box with the letter ``P`` (mark kind ``peres``).  A Toffoli gate has
+on ``b``, a square box with the letter ``P`` (mark symbol ``peres``).  A Toffoli gate has
 a dot where the Peres gate has the box, so the two cannot be mistaken for each other,
 and the box tells ``b`` from ``c`` (Peres(a, b, c) and Peres(a, c, b) are different
 gates).  The box is ours (no standard symbol exists); the hover text of every Peres
@@ -19,7 +19,7 @@ gate spells the map out with the line names (:func:`gate_title`, e.g.
 
 Packed layers (``packed=True``) put gates side by side in one layer when they touch
 disjoint lines, layer by layer as soon as possible — the same greedy packing as
-:meth:`exactsyn.circuit.Circuit.depth`, so there are exactly ``depth()`` layers.  Two
+:meth:`exactsyn.core.circuit.Circuit.depth`, so there are exactly ``depth()`` layers.  Two
 gates of one layer whose connectors would overlap (a gate on lines 0 and 2 beside one
 on line 1) are drawn in sub-columns of the layer, and dashed separators mark where one
 layer ends.  Drawing layer by layer is a valid application order, since gates of one
@@ -40,9 +40,9 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate
 from exactsyn.io.draw import display_width
 
 FONT_SIZE = 14.0  # label font size
@@ -70,7 +70,7 @@ class Mark:
     """A symbol centred on a wire: ``ctrl-pos``, ``ctrl-neg``, ``target``, ``swap`` or ``peres``
     (the P box on a Peres gate's middle line; its ``c`` line has a ``target``)."""
 
-    kind: str
+    symbol: str
     x: float
     y: float
     line: int
@@ -251,12 +251,12 @@ def _figure(index: int, g: Gate, block: int, x: float, y_of: Callable[[int], flo
         marks.append(Mark("ctrl-pos", x, y_of(line), line))
     for line in g.negative_controls:
         marks.append(Mark("ctrl-neg", x, y_of(line), line))
-    if g.kind == "peres":
+    if g.family == "peres":
         b, c = g.targets
         marks += [Mark("peres", x, y_of(b), b), Mark("target", x, y_of(c), c)]
     else:
         for line in g.targets:
-            marks.append(Mark("target" if g.kind == "x" else "swap", x, y_of(line), line))
+            marks.append(Mark("target" if g.family == "x" else "swap", x, y_of(line), line))
     lo, hi = _span(g)
     return GateFigure(index, g, block, x, y_of(lo), y_of(hi), tuple(sorted(marks, key=lambda m: m.y)))
 
@@ -264,9 +264,9 @@ def _figure(index: int, g: Gate, block: int, x: float, y_of: Callable[[int], flo
 def gate_title(g: Gate, names: tuple[str, ...]) -> str:
     """A one-line description such as ``Toffoli: target c, controls a, ¬b`` or
     ``Peres: c ^= a·b, then b ^= a`` (with the line names)."""
-    if g.kind == "peres":
+    if g.family == "peres":
         a, (b, c) = names[g.controls[0]], (names[t] for t in g.targets)
         return f"Peres: {c} ^= {a}·{b}, then {b} ^= {a}"
     ctl = [names[c] for c in g.controls] + ["¬" + names[c] for c in g.negative_controls]
-    what = "target " + names[g.targets[0]] if g.kind == "x" else "swaps " + " and ".join(names[t] for t in g.targets)
+    what = "target " + names[g.targets[0]] if g.family == "x" else "swaps " + " and ".join(names[t] for t in g.targets)
     return f"{g.name()}: {what}" + (f"; controls {', '.join(ctl)}" if ctl else "")

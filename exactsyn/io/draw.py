@@ -16,9 +16,9 @@ from __future__ import annotations
 import unicodedata
 from dataclasses import dataclass
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate
 
 
 @dataclass(frozen=True)
@@ -59,10 +59,10 @@ def _column(g: Gate, lines: int, s: _Symbols) -> tuple[list[str], list[str]]:
             mark = s.control
         elif line in g.negative_controls:
             mark = s.negative
-        elif g.kind == "peres" and line == g.targets[0]:
+        elif g.family == "peres" and line == g.targets[0]:
             mark = s.peres
         elif line in g.targets:
-            mark = s.target if g.kind in ("x", "peres") else s.swap
+            mark = s.target if g.family in ("x", "peres") else s.swap
         elif top < line < bottom:
             mark = s.cross
         else:

@@ -8,13 +8,13 @@ Each gate is an object::
 
 ``type`` is ``"x"`` for the NOT / CNOT / Toffoli / MCT family, ``"swap"`` for SWAP /
 Fredkin and their controlled relatives and ``"peres"`` for the Peres gate of
-:func:`exactsyn.gates.peres_gate`: ``controls`` is ``[a]`` and ``targets`` is ``[b, c]``
+:func:`exactsyn.core.gates.peres_gate`: ``controls`` is ``[a]`` and ``targets`` is ``[b, c]``
 in that order (``c ^= a·b``, then ``b ^= a``); both keys are required, with exactly one
 control and two targets, and a Peres gate takes no ``negative_controls`` key (not even
 an empty list).  A circuit is ``{"lines": n, "gate_count": k, "gates": [...]}``;
 readers need only ``lines`` and ``gates`` and ignore every other key, so a whole
 synthesis result can be read back as a circuit.  Lines are numbered as in
-:mod:`exactsyn.gates` (line 0 is the least significant bit of a state).
+:mod:`exactsyn.core.gates` (line 0 is the least significant bit of a state).
 
 Every malformed input raises :class:`~exactsyn.errors.ExactsynError` with a one-line
 message naming what is wrong.
@@ -25,9 +25,9 @@ from __future__ import annotations
 import json
 from typing import Any
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
 
 _X_KEYS = frozenset({"type", "target", "controls", "negative_controls"})
 _SWAP_KEYS = frozenset({"type", "targets", "controls", "negative_controls"})
@@ -37,10 +37,10 @@ _ALLOWED = {"x": _X_KEYS, "swap": _SWAP_KEYS, "peres": _PERES_KEYS}
 
 def gate_to_dict(g: Gate) -> dict[str, Any]:
     """One gate as a JSON-ready dict."""
-    if g.kind == "peres":
+    if g.family == "peres":
         return {"type": "peres", "controls": list(g.controls), "targets": list(g.targets)}
-    d: dict[str, Any] = {"type": g.kind}
-    if g.kind == "x":
+    d: dict[str, Any] = {"type": g.family}
+    if g.family == "x":
         d["target"] = g.targets[0]
     else:
         d["targets"] = list(g.targets)

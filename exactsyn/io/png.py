@@ -18,7 +18,7 @@ from __future__ import annotations
 import io
 import warnings
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io import diagram as d
 from exactsyn.io.svg import INK, PAPER
@@ -82,13 +82,13 @@ def layout_to_png(lay: d.Layout, scale: float = 2.0) -> bytes:
         if f.bottom > f.top:
             line((f.x, f.x), (f.top, f.bottom), d.STROKE, 2)
         for m in f.marks:
-            if m.kind == "ctrl-pos":
+            if m.symbol == "ctrl-pos":
                 ax.add_patch(Circle((m.x, m.y), d.CONTROL_RADIUS, facecolor=INK, edgecolor="none", zorder=3))
-            elif m.kind == "ctrl-neg":
+            elif m.symbol == "ctrl-neg":
                 ax.add_patch(
                     Circle((m.x, m.y), d.CONTROL_RADIUS, facecolor=PAPER, edgecolor=INK, linewidth=d.STROKE, zorder=3)
                 )
-            elif m.kind == "peres":
+            elif m.symbol == "peres":
                 h = d.PERES_HALF
                 box = Rectangle((m.x - h, m.y - h), 2 * h, 2 * h, facecolor=PAPER, edgecolor=INK, linewidth=d.STROKE)
                 box.set_zorder(3)
@@ -105,7 +105,7 @@ def layout_to_png(lay: d.Layout, scale: float = 2.0) -> bytes:
                     color=INK,
                     zorder=4,
                 )
-            elif m.kind == "target":
+            elif m.symbol == "target":
                 r = d.TARGET_RADIUS
                 ax.add_patch(Circle((m.x, m.y), r, facecolor=PAPER, edgecolor=INK, linewidth=d.STROKE, zorder=3))
                 line((m.x - r, m.x + r), (m.y, m.y), d.STROKE, 4)

@@ -28,9 +28,13 @@ applied through a ``gate`` definition of our own, written only when used:
   (a controlled swap from a controlled NOT between two CNOTs; common practice, e.g.
   the Fredkin gate from a Toffoli gate).
 
+Clifford+T circuits (:mod:`exactsyn.core.cliffordt`) are written by
+:func:`clifford_t_to_qasm2` / :func:`clifford_t_to_qasm3` over ``h``, ``t``, ``tdg``,
+``cx`` and ``x``, with a second register ``anc`` when the decomposition needs an ancilla.
+
 Peres gates (both versions)
 ---------------------------
-Neither include file has the Peres gate (:func:`exactsyn.gates.peres_gate`), so a
+Neither include file has the Peres gate (:func:`exactsyn.core.gates.peres_gate`), so a
 circuit with one gets, once, right after the include line::
 
     gate peres a, b, c { ccx a, b, c; cx a, b; }
@@ -43,12 +47,23 @@ call ``peres q[a], q[b], q[c]``.  ``ccx`` and ``cx`` have these names in both
 
 Reader
 ------
-:func:`read_qasm` reads back exactly this gate set: ``x cx ccx swap cswap``, the
-``ctrl`` / ``negctrl`` modifiers (OpenQASM 3) in any combination on them, and the
-``xc<m>`` / ``swapc<m>`` / ``peres`` definitions above, which are accepted only when
-their body is token for token the one the writers write (``peres`` takes no modifiers).
-One quantum register (``qreg`` or ``qubit[n]``); comments and ``barrier`` are skipped.
-Anything else raises :class:`~exactsyn.errors.ExactsynError` with the line number.
+:func:`read_qasm` (and :func:`read_qasm_layout`, which also returns the register
+:class:`~exactsyn.io.layout.Layout`) reads every gate that permutes basis states:
+
+* ``x cx ccx swap cswap`` (and ``CX c3x c4x`` of ``qelib1.inc``) with the ``ctrl`` /
+  ``negctrl`` / ``inv`` / integer ``pow`` modifiers of OpenQASM 3 in any combination;
+* the ``xc<m>`` / ``swapc<m>`` / ``peres`` definitions above, accepted only when their
+  body is token for token the one the writers write (``peres`` takes no modifiers);
+* any other ``gate`` definition and standard gate, through
+  :mod:`exactsyn.io.qasm_defs`: a body of reversible calls is that sequence of gates;
+  otherwise the unitary is multiplied out, and the call is accepted when it is one
+  reversible gate up to a global phase (an ``mcx`` written with ``h``, ``p`` and ``cx``,
+  an ``rx(pi)``), and refused with the reason when not.
+
+Any number of quantum registers (``qreg`` or ``qubit[n]``); lines are numbered register
+after register in declaration order.  Comments and ``barrier`` are skipped, classical
+registers alone are ignored.  Anything else raises
+:class:`~exactsyn.errors.ExactsynError` with the line number.
 
 A small reader of our own was written rather than depending on a maintained parser:
 the reference ``openqasm3`` package needs its ANTLR runtime for parsing, a heavy
@@ -59,16 +74,35 @@ test-only dependency for the same reason.
 
 from __future__ import annotations
 
+import functools
 import re
-from dataclasses import dataclass
+from collections.abc import Sequence
+from dataclasses import dataclass, field
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.cliffordt import CliffordT
+from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate, peres_gate, swap_gate, x_gate
+from exactsyn.io.layout import Layout
+from exactsyn.io.qasm_defs import (
+    MAX_UNITARY_QUBITS,
+    PRELUDE,
+    STANDARD,
+    Call,
+    Definition,
+    as_permutation,
+    call_matrix,
+    evaluate,
+    gates_of_permutation,
+    modified_gates,
+    parse_call,
+    parse_definition,
+    reversible_meaning,
+)
 
 SUPPORTED = (
-    "exactsyn reads x, cx, ccx, swap, cswap, ctrl/negctrl modifiers "
-    "and the xc<m> / swapc<m> / peres definitions it writes"
+    "exactsyn reads gates that permute basis states (x, cx, ccx, swap, cswap, with ctrl/negctrl/inv/pow "
+    "modifiers) and gate definitions whose unitary is such a gate"
 )
 
 # The Peres gate as our own definition (module docstring); the same text in both versions.
@@ -119,30 +153,35 @@ def _swapc_definition(m: int) -> list[str]:
 
 def _qasm2_name(g: Gate) -> str:
     m = g.num_controls
-    if g.kind == "peres":
+    if g.family == "peres":
         return "peres"
-    if g.kind == "x":
+    if g.family == "x":
         return {0: "x", 1: "cx", 2: "ccx"}.get(m, f"xc{m}")
     return {0: "swap", 1: "cswap"}.get(m, f"swapc{m}")
 
 
 def _peres_header(circuit: Circuit) -> list[str]:
     """The Peres definition when the circuit has a Peres gate (written once), else nothing."""
-    return [PERES_DEFINITION] if any(g.kind == "peres" for g in circuit.gates) else []
+    return [PERES_DEFINITION] if any(g.family == "peres" for g in circuit.gates) else []
 
 
-def to_qasm2(circuit: Circuit) -> str:
+def _comments(header: Sequence[str]) -> list[str]:
+    """Header lines as ``//`` comments, written right after the version and include lines."""
+    return [f"// {line}" for line in header]
+
+
+def to_qasm2(circuit: Circuit, header: Sequence[str] = ()) -> str:
     """OpenQASM 2.0 text (``qelib1.inc`` gates plus our definitions where needed)."""
     xc: set[int] = set()
     swapc: set[int] = set()
     for g in circuit.gates:
         m = g.num_controls
-        if g.kind == "x" and m >= 3:
+        if g.family == "x" and m >= 3:
             xc.add(m)
-        elif g.kind == "swap" and m >= 2:
+        elif g.family == "swap" and m >= 2:
             swapc.add(m)
             xc.add(m + 1)
-    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_peres_header(circuit)]
+    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_comments(header), *_peres_header(circuit)]
     for m in sorted(xc):
         out += _xc_definition(m)
     for m in sorted(swapc):
@@ -163,41 +202,70 @@ def _modifier(name: str, count: int) -> str:
 
 def _qasm3_statement(g: Gate) -> str:
     pos, neg = len(g.controls), len(g.negative_controls)
-    if g.kind == "peres":  # operands a, b, c as in the definition
+    if g.family == "peres":  # operands a, b, c as in the definition
         return f"peres {', '.join(_q(i) for i in (*g.controls, *g.targets))};"
-    if neg == 0 and g.kind == "x" and pos <= 2:
+    if neg == 0 and g.family == "x" and pos <= 2:
         head = ("x", "cx", "ccx")[pos]
-    elif neg == 0 and g.kind == "swap" and pos <= 1:
+    elif neg == 0 and g.family == "swap" and pos <= 1:
         head = ("swap", "cswap")[pos]
     else:
-        head = _modifier("negctrl", neg) + _modifier("ctrl", pos) + g.kind
+        head = _modifier("negctrl", neg) + _modifier("ctrl", pos) + g.family
         # operand order follows the modifiers: negative controls, positive, targets
         operands = (*g.negative_controls, *g.controls, *g.targets)
         return f"{head} {', '.join(_q(i) for i in operands)};"
     return f"{head} {', '.join(_q(i) for i in (*g.controls, *g.targets))};"
 
 
-def to_qasm3(circuit: Circuit) -> str:
+def to_qasm3(circuit: Circuit, header: Sequence[str] = ()) -> str:
     """OpenQASM 3.0 text (``stdgates.inc`` gates and ``ctrl`` / ``negctrl`` modifiers)."""
-    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_peres_header(circuit), f"qubit[{circuit.lines}] q;"]
+    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_comments(header), *_peres_header(circuit)]
+    out.append(f"qubit[{circuit.lines}] q;")
     out += [_qasm3_statement(g) for g in circuit.gates]
     return "\n".join(out) + "\n"
+
+
+# ---------------------------------------------------------------------------- writing Clifford+T
+def _ct_operand(ct: CliffordT, q: int) -> str:
+    return f"q[{q}]" if q < ct.lines else f"anc[{q - ct.lines}]"
+
+
+def _ct_header(ct: CliffordT) -> list[str]:
+    out = [
+        f"// Clifford+T (h, t, tdg, cx, x) on {ct.lines} lines: T-count {ct.t_count}, "
+        f"CNOT count {ct.cnot_count}, T-depth {ct.t_depth}",
+        "// line l is q[l]; basis state i has bit l = q[l]",
+    ]
+    if ct.ancillas:
+        plural = "s" if ct.ancillas > 1 else ""
+        out.append(f"// anc: {ct.ancillas} clean ancilla qubit{plural}, each starts in |0> and is returned to |0>")
+    return out
+
+
+def _ct_body(ct: CliffordT) -> list[str]:
+    return [f"{name} {','.join(_ct_operand(ct, q) for q in qubits)};" for name, qubits in ct.ops]
+
+
+def clifford_t_to_qasm2(ct: CliffordT, header: Sequence[str] = ()) -> str:
+    """OpenQASM 2.0 text over ``qelib1.inc``: register ``q``, plus ``anc`` when ancillas are used."""
+    out = ["OPENQASM 2.0;", 'include "qelib1.inc";', *_comments(header), *_ct_header(ct), f"qreg q[{ct.lines}];"]
+    if ct.ancillas:
+        out.append(f"qreg anc[{ct.ancillas}];")
+    return "\n".join(out + _ct_body(ct)) + "\n"
+
+
+def clifford_t_to_qasm3(ct: CliffordT, header: Sequence[str] = ()) -> str:
+    """OpenQASM 3.0 text over ``stdgates.inc``: register ``q``, plus ``anc`` when ancillas are used."""
+    out = ["OPENQASM 3.0;", 'include "stdgates.inc";', *_comments(header), *_ct_header(ct), f"qubit[{ct.lines}] q;"]
+    if ct.ancillas:
+        out.append(f"qubit[{ct.ancillas}] anc;")
+    return "\n".join(out + _ct_body(ct)) + "\n"
 
 
 # ---------------------------------------------------------------------------- reading
 _TOKEN = re.compile(r"[A-Za-z_]\w*|\d+(?:\.\d*)?|\S")
 _COMMENT = re.compile(r"//[^\n]*|/\*.*?\*/", re.S)
 _IDENT = r"[A-Za-z_]\w*"
-_MODIFIER = re.compile(r"(ctrl|negctrl|inv|pow)\s*(?:\(\s*([^)]*?)\s*\))?\s*@\s*")
-_CALL = re.compile(rf"({_IDENT})\s*(?:\(\s*([^)]*?)\s*\))?\s*(.*)", re.S)
 _OPERAND = re.compile(rf"({_IDENT})\s*\[\s*(\d+)\s*\]")
-_BASE_GATES: dict[str, tuple[str, int]] = {
-    "x": ("x", 0),
-    "cx": ("x", 1),
-    "ccx": ("x", 2),
-    "swap": ("swap", 0),
-    "cswap": ("swap", 1),
-}
 _NOT_GATES = frozenset(
     "measure reset if else for while opaque def defcal defcalgrammar cal let const input output box "
     "delay extern return switch break continue end array int uint float angle bool complex duration "
@@ -210,6 +278,7 @@ _INCLUDES = ("qelib1.inc", "stdgates.inc")
 class _Register:
     name: str
     size: int
+    offset: int = 0  # the line of qubit 0 (registers are numbered in declaration order)
 
 
 def _strip_comments(text: str) -> str:
@@ -248,8 +317,9 @@ def _statements(text: str) -> list[tuple[int, str]]:
             if stmt.endswith(";"):
                 stmt = stmt[:-1].strip()
             assert start is not None
-            if stmt:
-                out.append((start, stmt))
+            if not stmt:
+                raise ExactsynError(f"empty statement (a ';' with nothing before it) at line {start}")
+            out.append((start, stmt))
             buf, start = [], None
     if start is not None:
         what = "'{' is never closed" if depth else "does not end with ';'"
@@ -303,79 +373,166 @@ def _check_definition(ln: int, stmt: str, defined: dict[str, tuple[str, int]]) -
     return name, ("x" if family == "xc" else "swap"), m
 
 
-def _operand(ln: int, text: str, reg: _Register) -> int:
+def _number(ln: int, digits: str) -> int:
+    """A register size or qubit index: decimal, no leading zero (OpenQASM 2.0: ``[1-9][0-9]*|0``)."""
+    if len(digits) > 1 and digits.startswith("0"):
+        raise ExactsynError(f"the number '{digits}' at line {ln} has a leading zero")
+    return int(digits)
+
+
+def _operand(ln: int, text: str, regs: dict[str, _Register]) -> int:
     m = _OPERAND.fullmatch(text)
     if not m:
+        reg = regs.get(text)
+        if reg is not None and reg.size == 1:
+            return reg.offset  # a one-qubit register (qubit a;) named without an index
         if re.fullmatch(_IDENT, text):
+            if reg is None:
+                raise ExactsynError(f"unknown register '{text}' at line {ln}; {_declared(regs)}")
             raise ExactsynError(
                 f"operand '{text}' at line {ln}: a whole register is not supported; index each qubit, e.g. {text}[0]"
             )
-        raise ExactsynError(f"cannot read operand '{text}' at line {ln}; expected e.g. {reg.name}[0]")
-    name, idx = m.group(1), int(m.group(2))
-    if name != reg.name:
-        raise ExactsynError(f"unknown register '{name}' at line {ln}; the quantum register is '{reg.name}'")
+        first = next(iter(regs))
+        raise ExactsynError(f"cannot read operand '{text}' at line {ln}; expected e.g. {first}[0]")
+    name, idx = m.group(1), _number(ln, m.group(2))
+    reg = regs.get(name)
+    if reg is None:
+        raise ExactsynError(f"unknown register '{name}' at line {ln}; {_declared(regs)}")
     if idx >= reg.size:
         raise ExactsynError(
             f"qubit {name}[{idx}] at line {ln} is out of range; register '{name}' has {reg.size} qubits"
         )
-    return idx
+    return reg.offset + idx
 
 
-def _gate_call(ln: int, stmt: str, version: int, reg: _Register | None, defined: dict[str, tuple[str, int]]) -> Gate:
-    rest = stmt
-    mods: list[tuple[bool, int]] = []  # (negative?, count), in operand order
-    while m := _MODIFIER.match(rest):
-        word, arg = m.group(1), m.group(2)
-        if word in ("inv", "pow"):
-            raise ExactsynError(f"unsupported gate modifier '{word}' at line {ln}; {SUPPORTED}")
-        if version == 2:
-            raise ExactsynError(f"gate modifier '{word} @' at line {ln} needs OpenQASM 3; the header says 2.0")
-        if arg is None:
-            count = 1
-        elif re.fullmatch(r"[1-9]\d*", arg):
-            count = int(arg)
-        else:
-            raise ExactsynError(f"'{word}({arg})' at line {ln}: the control count must be a positive integer")
-        mods.append((word == "negctrl", count))
-        rest = rest[m.end() :]
-    call = _CALL.fullmatch(rest)
-    if not call or not call.group(3).strip() or "=" in rest or "->" in rest:
-        snippet = stmt if len(stmt) <= 30 else stmt[:27] + "..."
-        raise ExactsynError(f"unsupported statement '{snippet}' at line {ln}; {SUPPORTED}")
-    name, params, operand_text = call.group(1), call.group(2), call.group(3)
-    base = _BASE_GATES.get(name) or defined.get(name)
-    if base is None or params:
-        raise ExactsynError(f"unsupported gate '{name}' at line {ln}; {SUPPORTED}")
-    if reg is None:
-        raise ExactsynError(f"gate '{name}' at line {ln} comes before any quantum register is declared")
-    qubits = [_operand(ln, part.strip(), reg) for part in operand_text.split(",")]
-    kind, base_controls = base
+def _declared(regs: dict[str, _Register]) -> str:
+    names = [f"'{r}'" for r in regs]
+    return ("the quantum register is " if len(names) == 1 else "the quantum registers are ") + ", ".join(names)
+
+
+def _own_gates(entry: tuple[str, int]) -> tuple[int, tuple[Gate, ...]]:
+    """One of exactsyn's own definitions as (operand count, gate on operands 0..k-1)."""
+    kind, m = entry
     if kind == "peres":
-        if mods:
+        return 3, (peres_gate(0, 1, 2),)
+    if kind == "x":
+        return m + 1, (x_gate(m, list(range(m))),)
+    return m + 2, (swap_gate(m, m + 1, list(range(m))),)
+
+
+@functools.cache
+def _prelude() -> dict[str, Definition]:
+    """The relative-phase Toffoli gates that qiskit's qelib1.inc has (module qasm_defs)."""
+    out: dict[str, Definition] = {}
+    for ln, stmt in _statements(PRELUDE):
+        d = parse_definition(ln, stmt, out.get, lambda name: None)
+        out[d.name] = d
+    return out
+
+
+@dataclass
+class _Reader:
+    """State of one read: registers, definitions, and the meaning of each gate called so far."""
+
+    version: int = 3  # OpenQASM 3 allows the version statement to be left out
+    regs: dict[str, _Register] = field(default_factory=dict)
+    lines: int = 0
+    own: dict[str, tuple[str, int]] = field(default_factory=dict)
+    user: dict[str, Definition] = field(default_factory=dict)
+    meanings: dict[tuple[str, tuple[float, ...]], tuple[Gate, ...] | str] = field(default_factory=dict)
+
+    def lookup(self, name: str) -> Definition | None:
+        return self.user.get(name) or _prelude().get(name)
+
+    def base(self, name: str) -> tuple[int, tuple[Gate, ...]] | None:
+        entry = self.own.get(name)
+        return None if entry is None else _own_gates(entry)
+
+    def declare(self, ln: int, stmt: str) -> None:
+        new = _register(ln, stmt)
+        if new.name in self.regs:
+            raise ExactsynError(f"register '{new.name}' at line {ln} is declared a second time")
+        self.regs[new.name] = _Register(new.name, new.size, self.lines)
+        self.lines += new.size
+
+    def define(self, ln: int, stmt: str) -> None:
+        head = re.match(rf"gate\s+({_IDENT})", stmt)
+        name = head.group(1) if head else "?"
+        if name in self.own or name in self.user:
+            raise ExactsynError(f"gate '{name}' is defined a second time at line {ln}")
+        if re.fullmatch(r"(xc|swapc)\d+|peres", name):
+            got, kind, m = _check_definition(ln, stmt, self.own)
+            self.own[got] = (kind, m)
+        else:
+            self.user[name] = parse_definition(ln, stmt, self.lookup, self.base)
+
+    def call(self, ln: int, stmt: str) -> tuple[Gate, ...]:
+        call = parse_call(stmt)
+        if call is None:
+            snippet = stmt if len(stmt) <= 30 else stmt[:27] + "..."
+            raise ExactsynError(f"unsupported statement '{snippet}' at line {ln}; {SUPPORTED}")
+        name = call.name
+        if call.modifiers and self.version == 2:
+            word = call.modifiers[0].word
+            raise ExactsynError(f"gate modifier '{word} @' at line {ln} needs OpenQASM 3; the header says 2.0")
+        if name in self.own and self.own[name][0] == "peres" and call.modifiers:
             raise ExactsynError(f"gate modifiers on 'peres' at line {ln} are not supported; {SUPPORTED}")
-        if len(qubits) != 3:
-            raise ExactsynError(f"'{stmt}' at line {ln} needs 3 qubits, not {len(qubits)}")
+        defn = self.lookup(name)
+        known = name in STANDARD or name in self.own or defn is not None
+        if not known:
+            raise ExactsynError(
+                f"unsupported gate '{name}' at line {ln}: neither a standard gate nor defined before it; {SUPPORTED}"
+            )
+        if not self.regs:
+            raise ExactsynError(f"gate '{name}' at line {ln} comes before any quantum register is declared")
+        qubits = [self.operand(ln, part) for part in call.operands]
         try:
-            return peres_gate(*qubits)
-        except ExactsynError:
-            raise ExactsynError(f"'{stmt}' at line {ln} uses a qubit twice") from None
-    need = sum(c for _, c in mods) + base_controls + (1 if kind == "x" else 2)
-    if len(qubits) != need:
-        raise ExactsynError(f"'{stmt}' at line {ln} needs {need} qubits, not {len(qubits)}")
-    pos: list[int] = []
-    neg: list[int] = []
-    at = 0
-    for negative, count in mods:
-        (neg if negative else pos).extend(qubits[at : at + count])
-        at += count
-    pos.extend(qubits[at : at + base_controls])
-    targets = qubits[at + base_controls :]
-    try:
-        if kind == "x":
-            return x_gate(targets[0], pos, neg)
-        return swap_gate(targets[0], targets[1], pos, neg)
-    except ExactsynError:
-        raise ExactsynError(f"'{stmt}' at line {ln} uses a qubit twice") from None
+            plain = reversible_meaning(call, self.lookup, self.base)
+            if plain is not None:
+                return modified_gates(plain[1], plain[0], call.modifiers, qubits)
+            return self.unitary_call(ln, call, qubits)
+        except ExactsynError as e:
+            if e.message.startswith(("needs ", "uses a qubit twice")):
+                raise ExactsynError(f"'{stmt}' at line {ln} {e.message}") from None
+            if " at line " in e.message:
+                raise
+            raise ExactsynError(f"gate '{name}' at line {ln}: {e.message}") from None
+
+    def unitary_call(self, ln: int, call: Call, qubits: list[int]) -> tuple[Gate, ...]:
+        """A call that is not a plain reversible gate: multiply out its unitary (module qasm_defs)."""
+        k = len(qubits)
+        if k > MAX_UNITARY_QUBITS:
+            raise ExactsynError(
+                f"gate '{call.name}' at line {ln} acts on {k} qubits; exactsyn multiplies out the unitary of "
+                f"gates on at most {MAX_UNITARY_QUBITS} qubits"
+            )
+        values = tuple(evaluate(p) for p in call.params)
+        mods = tuple((m.word, m.arg) for m in call.modifiers)
+        key = (repr((call.name, mods)), values)
+        if key not in self.meanings:
+            matrix = call_matrix(call, {}, self.lookup, self.base)
+            if matrix.shape[0] != 1 << k:
+                raise ExactsynError(f"needs {matrix.shape[0].bit_length() - 1} qubits, not {k}")
+            perm, reason = as_permutation(matrix)
+            if perm is None:
+                self.meanings[key] = reason
+            else:
+                gates = gates_of_permutation(perm, k)
+                self.meanings[key] = (
+                    "it permutes basis states, but not as one NOT/CNOT/Toffoli/MCT, swap or Peres gate; "
+                    "write it as a sequence of such gates"
+                    if gates is None
+                    else gates
+                )
+        meaning = self.meanings[key]
+        if isinstance(meaning, str):
+            raise ExactsynError(f"unsupported gate '{call.name}' at line {ln}: {meaning}")
+        if len(set(qubits)) != len(qubits):
+            raise ExactsynError("uses a qubit twice")
+        return modified_gates(meaning, k, (), qubits)
+
+    def operand(self, ln: int, text: str) -> int:
+        return _operand(ln, text, self.regs)
 
 
 def _register(ln: int, stmt: str) -> _Register:
@@ -384,7 +541,7 @@ def _register(ln: int, stmt: str) -> _Register:
     )
     if m:
         a, b = m.group(1), m.group(2)
-        name, size = (a, int(b)) if stmt.startswith("qreg") else (b, int(a))
+        name, size = (a, _number(ln, b)) if stmt.startswith("qreg") else (b, _number(ln, a))
     else:
         single = re.fullmatch(rf"qubit\s+({_IDENT})", stmt)
         if not single:
@@ -395,33 +552,28 @@ def _register(ln: int, stmt: str) -> _Register:
     return _Register(name, size)
 
 
-def read_qasm(text: str) -> Circuit:
-    """Read OpenQASM 2.0 or 3.0 text written in exactsyn's gate set (module docstring)."""
-    version = 3  # OpenQASM 3 allows the version statement to be left out
-    reg: _Register | None = None
-    defined: dict[str, tuple[str, int]] = {}
+def read_qasm_layout(text: str) -> tuple[Circuit, Layout]:
+    """Read OpenQASM 2.0 or 3.0 (module docstring): the circuit and its register layout.
+
+    Lines are numbered register after register in declaration order."""
+    r = _Reader()
     gates: list[Gate] = []
     for index, (ln, stmt) in enumerate(_statements(text)):
         word_match = re.match(_IDENT, stmt)
         word = word_match.group(0) if word_match else ""
         if word == "OPENQASM":
-            v = re.fullmatch(r"OPENQASM\s+(\d+)(?:\.\d+)?", stmt)
+            v = re.fullmatch(r"OPENQASM\s+(2)\.0|OPENQASM\s+(3)(?:\.[01])?", stmt)
             if index != 0:
                 raise ExactsynError(f"the OPENQASM header at line {ln} must be the first statement")
-            if not v or v.group(1) not in ("2", "3"):
+            if not v:
                 raise ExactsynError(f"unsupported OpenQASM version '{stmt}' at line {ln}; exactsyn reads 2.0 and 3.0")
-            version = int(v.group(1))
+            r.version = int(v.group(1) or v.group(2))
         elif word == "include":
             inc = re.fullmatch(r'include\s+"([^"]*)"', stmt)
             if not inc or inc.group(1) not in _INCLUDES:
                 raise ExactsynError(f"unsupported include at line {ln}; exactsyn reads {' and '.join(_INCLUDES)}")
         elif word in ("qreg", "qubit"):
-            new = _register(ln, stmt)
-            if reg is not None:
-                raise ExactsynError(
-                    f"a second quantum register '{new.name}' at line {ln}; exactsyn reads circuits on one register"
-                )
-            reg = new
+            r.declare(ln, stmt)
         elif word in ("creg", "bit") and re.fullmatch(
             rf"(creg\s+{_IDENT}\s*\[\s*\d+\s*\]|bit\s*(\[\s*\d+\s*\])?\s*{_IDENT})", stmt
         ):
@@ -429,13 +581,18 @@ def read_qasm(text: str) -> Circuit:
         elif word == "barrier":
             continue
         elif word == "gate":
-            name, kind, m = _check_definition(ln, stmt, defined)
-            defined[name] = (kind, m)
+            r.define(ln, stmt)
         elif word in _NOT_GATES or not word:
             shown = word or stmt[:20]
             raise ExactsynError(f"unsupported statement '{shown}' at line {ln}; {SUPPORTED}")
         else:
-            gates.append(_gate_call(ln, stmt, version, reg, defined))
-    if reg is None:
+            gates.extend(r.call(ln, stmt))
+    if not r.regs:
         raise ExactsynError("no quantum register is declared (qreg q[n]; or qubit[n] q;)")
-    return Circuit(reg.size, tuple(gates))
+    layout = Layout(tuple((reg.name, reg.size) for reg in r.regs.values()))
+    return Circuit(r.lines, tuple(gates)), layout
+
+
+def read_qasm(text: str) -> Circuit:
+    """Read OpenQASM 2.0 or 3.0 (module docstring); the register names are dropped."""
+    return read_qasm_layout(text)[0]

@@ -29,7 +29,7 @@ from __future__ import annotations
 
 from xml.sax.saxutils import escape, quoteattr
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
 from exactsyn.io import diagram as d
 
 INK = "#111"
@@ -45,11 +45,11 @@ def _n(v: float) -> str:
 def _mark(m: d.Mark) -> str:
     """One symbol; stroke colour and width come from the enclosing gate group."""
     x, y = _n(m.x), _n(m.y)
-    if m.kind == "ctrl-pos":
+    if m.symbol == "ctrl-pos":
         return f'<circle class="ctrl-pos" cx="{x}" cy="{y}" r="{_n(d.CONTROL_RADIUS)}" fill="{INK}" stroke="none"/>'
-    if m.kind == "ctrl-neg":
+    if m.symbol == "ctrl-neg":
         return f'<circle class="ctrl-neg" cx="{x}" cy="{y}" r="{_n(d.CONTROL_RADIUS)}" fill="{PAPER}"/>'
-    if m.kind == "peres":
+    if m.symbol == "peres":
         h, size = d.PERES_HALF, d.PERES_FONT_SIZE
         return (
             f'<g class="peres"><rect x="{_n(m.x - h)}" y="{_n(m.y - h)}" width="{_n(2 * h)}" height="{_n(2 * h)}" '
@@ -57,7 +57,7 @@ def _mark(m: d.Mark) -> str:
             f'font-family="{FONT_FAMILY}" font-size="{_n(size)}" font-weight="bold" fill="{INK}" '
             f'stroke="none">{escape(d.PERES_LETTER)}</text></g>'
         )
-    if m.kind == "target":
+    if m.symbol == "target":
         r = d.TARGET_RADIUS
         return (
             f'<g class="target"><circle cx="{x}" cy="{y}" r="{_n(r)}" fill="{PAPER}"/>'

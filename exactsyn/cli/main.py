@@ -1,0 +1,131 @@
+"""The ``exactsyn`` command group: every command is defined in its own module and attached here.
+
+Exit status of every command: 0 success, 1 no circuit within the limits (or a check
+failed), 2 bad input (one line on stderr, no traceback).
+
+:class:`OneLineGroup` runs the commands with click's ``standalone_mode`` off and turns
+whatever escapes into one line on stderr: click's own usage errors (an unknown option,
+a value that is not a number, a directory where a file is expected) in the same
+``exactsyn: error: ...`` form as every other bad input, an :class:`ExactsynError` or an
+``OSError`` (exit 2), an interrupt (exit 130), and a bug (exit 1, marked "internal
+error"; ``EXACTSYN_DEBUG=1`` shows its traceback instead).
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from collections.abc import Sequence
+from typing import Any, NoReturn
+
+import click
+
+from exactsyn import __version__
+from exactsyn.cli.apply import apply
+from exactsyn.cli.batch import batch, table
+from exactsyn.cli.check import check
+from exactsyn.cli.optimise import optimise
+from exactsyn.cli.pictures import draw, report
+from exactsyn.cli.synth import synth
+from exactsyn.errors import ExactsynError, did_you_mean
+
+DEBUG_VARIABLE = "EXACTSYN_DEBUG"
+
+
+def _say(message: str, code: int) -> NoReturn:
+    click.echo(f"exactsyn: error: {' '.join(message.split())}", err=True)
+    sys.exit(code)
+
+
+def click_message(e: click.ClickException) -> str:
+    """A click exception as one line: the command, what is wrong, where to read more."""
+    text = e.format_message().strip().rstrip(".")
+    ctx = getattr(e, "ctx", None)
+    if isinstance(e, click.NoSuchOption) and ctx is not None:
+        # click also suggests hidden options (old spellings): suggest among the visible ones only
+        shown = [o for p in ctx.command.params if not getattr(p, "hidden", False) for o in p.opts]
+        text = f"No such option '{e.option_name}'{did_you_mean(e.option_name, shown)}"
+    where = ctx.command_path if ctx is not None else "exactsyn"
+    if isinstance(e, click.UsageError):
+        text = text[0].lower() + text[1:] if text else text
+        hint = f" (see '{where} --help')" if "--help" not in text else ""
+        return f"{where.removeprefix('exactsyn ').removeprefix('exactsyn')}: {text}{hint}".lstrip(": ")
+    return text
+
+
+class OneLineGroup(click.Group):
+    """A click group whose every error is one line on stderr (module docstring)."""
+
+    def main(  # type: ignore[override]
+        self,
+        args: Sequence[str] | None = None,
+        prog_name: str | None = None,
+        complete_var: str | None = None,
+        standalone_mode: bool = True,
+        **extra: Any,
+    ) -> Any:
+        if not standalone_mode:
+            return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        try:
+            code = super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        except click.exceptions.Exit as e:
+            sys.exit(e.exit_code)
+        except click.Abort:
+            click.echo("exactsyn: interrupted", err=True)
+            sys.exit(130)
+        except click.ClickException as e:
+            _say(click_message(e), e.exit_code)
+        except ExactsynError as e:
+            _say(e.message, 2)
+        except KeyboardInterrupt:
+            click.echo("exactsyn: interrupted", err=True)
+            sys.exit(130)
+        except BrokenPipeError:
+            # the reader of stdout went away (e.g. '| head'): nothing more to say
+            sys.stderr.close()
+            sys.exit(1)
+        except OSError as e:
+            if os.environ.get(DEBUG_VARIABLE):
+                raise
+            where = f" {e.filename}" if e.filename else ""
+            _say(f"cannot use{where}: {e.strerror or e}", 2)
+        except MemoryError:
+            _say("out of memory; try fewer lines, a smaller --library or --bounds cheap", 1)
+        except Exception as e:  # a bug: one line, not a traceback, unless asked
+            if os.environ.get(DEBUG_VARIABLE):
+                raise
+            _say(
+                f"internal error ({type(e).__name__}: {e}); please report it with the command that caused it "
+                f"(set {DEBUG_VARIABLE}=1 for the traceback)",
+                1,
+            )
+        sys.exit(code if isinstance(code, int) else 0)
+
+
+@click.group(cls=OneLineGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="exactsyn")
+def main() -> None:
+    """exactsyn — provably minimal reversible circuits by SAT.
+
+    \b
+    Quick start:
+      exactsyn synth --perm 1,0,3,2,5,7,4,6 --library nct
+      exactsyn synth --cycles "(3 7)" --library nct -o toffoli.qasm
+      exactsyn apply toffoli.qasm
+
+    Line l carries bit l of the state (line 0 = least significant bit); a permutation
+    p lists p[i], the output for input i.
+
+    \b
+    Options mean one thing in every command:
+      -o/--output FILE   where the result goes; its suffix picks the format
+      --format NAME      the format, winning over the suffix
+      -j/--jobs N        how many processes the command may use
+      --store FILE       the results store of batch, table and report
+      --time-limit S     seconds for the whole command's search (batch: per item)
+      -q/--quiet         nothing on stderr but errors
+    """
+
+
+for command in (synth, optimise, check, apply, batch, table, draw, report):
+    main.add_command(command)

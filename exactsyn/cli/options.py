@@ -1,0 +1,149 @@
+"""Click options shared by several commands (one definition, one help text, one meaning).
+
+The scheme every command follows (README "Options"):
+
+* ``-o/--output FILE`` is where the result goes and its suffix picks the format;
+  ``--format`` wins over the suffix; an unknown suffix is refused.
+* ``-j/--jobs N`` is how many processes the command may use.
+* ``--store FILE`` is the results store of ``batch``, ``table`` and ``report``.
+* ``--time-limit SECONDS`` bounds the search of one function (all of ``synth``, one item
+  of ``batch``).
+* ``-q/--quiet``: nothing on stderr but errors; ``--progress``: live progress even when
+  stderr is not a terminal.
+
+Spellings of an earlier release stay for one release and print a one-line note
+(:func:`deprecated`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from typing import Any
+
+import click
+
+from exactsyn.core.library import KINDS, PRESETS
+from exactsyn.errors import did_you_mean
+from exactsyn.sat.encode import ENCODINGS
+from exactsyn.sat.solve import SOLVERS
+from exactsyn.search.loop import BOUNDS
+from exactsyn.search.objectives import OBJECTIVES
+
+F = Callable[..., Any]
+
+
+class Choice(click.Choice):  # type: ignore[type-arg]
+    """:class:`click.Choice` whose error names the closest choice ("did you mean")."""
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> Any:
+        try:
+            return super().convert(value, param, ctx)
+        except click.BadParameter:
+            names = [str(c) for c in self.choices]
+            self.fail(f"{value!r} is not one of {', '.join(names)}{did_you_mean(value, names)}", param, ctx)
+
+
+def deprecated(old: str, new: str) -> None:
+    """The one-line note for an old spelling (kept for one release)."""
+    click.echo(f"exactsyn: note: {old} is deprecated and goes in the next release; use {new}", err=True)
+
+
+def jobs_option(default: int | None, help_text: str) -> Callable[[F], F]:
+    """``-j/--jobs N``: how many processes the command may use."""
+    shown = "" if default is None else f" [default: {default}]"
+    return click.option(
+        "-j", "--jobs", type=click.IntRange(min=1), default=default, metavar="N", help=help_text + shown
+    )
+
+
+def store_option(default: str, help_text: str = "Results store (SQLite).") -> Callable[[F], F]:
+    """``--store FILE``: the results store of batch, table and report."""
+    return click.option(
+        "--store",
+        "store_path",
+        default=default,
+        show_default=True,
+        type=click.Path(dir_okay=False),
+        metavar="FILE",
+        help=help_text,
+    )
+
+
+def choice(values: Sequence[str]) -> Choice:
+    return Choice(list(values))
+
+
+progress_option = click.option(
+    "--progress",
+    "show_progress",
+    is_flag=True,
+    help="Show live progress on stderr even when it is not a terminal (it is shown on a terminal unless -q).",
+)
+
+library_option = click.option(
+    "--library",
+    "library_name",
+    default="nct",
+    show_default=True,
+    metavar="NAME|KINDS",
+    help="Gate library, a preset: "
+    + "; ".join(f"{k} = {v}" for k, v in PRESETS.items())
+    + ". Or a comma-separated list of gate kinds, e.g. 'not,cnot,toffoli,peres': "
+    + "; ".join(f"{k} = {v}" for k, v in KINDS.items())
+    + ".",
+)
+max_controls_option = click.option(
+    "--max-controls", type=int, help="Cap the number of controls of any gate (a Peres gate counts as 2)."
+)
+coupling_option = click.option(
+    "--coupling",
+    default="",
+    metavar="PAIRS",
+    help="Lines that may interact, e.g. '0-1-2-3' (a chain), '0-1,1-2,0-3', or chain / ring / star. "
+    "A one-line gate is always allowed, a two-line gate only on a coupled pair, a gate on more "
+    "lines only if its lines form a connected set of the coupling graph. Default: no restriction.",
+)
+encoding_option = click.option(
+    "--encoding",
+    type=Choice(list(ENCODINGS)),
+    default="onehot",
+    show_default=True,
+    help="CNF encoding; 'textbook' is the baseline without symmetry breaking.",
+)
+solver_option = click.option(
+    "--solver",
+    type=Choice(list(SOLVERS)),
+    default="cadical195",
+    show_default=True,
+    help="SAT solver for the k-queries (with certificates, CaDiCaL 1.9.5 always, for its LRAT output).",
+)
+
+
+def bounds_option(extra: str = "") -> Callable[[F], F]:
+    return click.option(
+        "--bounds",
+        type=Choice(list(BOUNDS)),
+        default="table",
+        show_default=True,
+        help="'table': skip hopeless k with breadth-first distance tables and a meet-in-the-middle test "
+        "(up to 4 lines; exact up to 11 gates on 4 lines); 'cheap': SAT (and LRAT) for every k." + extra,
+    )
+objective_option = click.option(
+    "--objective",
+    type=Choice(list(OBJECTIVES)),
+    default="gates",
+    show_default=True,
+    help="What is minimised and proven: gates; gates-then-cost = fewest gates, then the least --cost among "
+    "them; cost = least --cost over any number of gates (slow beyond small 3-line functions); depth = fewest "
+    "layers, gates on disjoint lines sharing a layer.",
+)
+cost_option = click.option(
+    "--cost",
+    "cost_name",
+    default="ncv",
+    show_default=True,
+    metavar="MODEL|FILE",
+    help="Cost model: ncv (quantum cost: NOT 1, CNOT 1, Toffoli 5, Peres 4, C3X 13; Barenco et al. 1995), "
+    "t-count and cnot-count (of the Clifford+T decomposition written by --clifford-t), gates, or a TOML/JSON "
+    "table of gate names to integer costs (NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..., negative_control).",
+)

@@ -1,0 +1,310 @@
+"""``exactsyn synth``: parse the options, call :func:`exactsyn.synthesise`, print the result.
+
+The output format is ``--format``, else the suffix of ``-o``, else text on stdout.  The
+summary line is printed once: as the ``#`` header of text on stdout, otherwise on stderr.
+Progress is shown by :mod:`exactsyn.cli.progress`.
+
+Exit status: 0 a circuit was printed, 1 no circuit within the limits (or none exists),
+2 bad input (one line on stderr).
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+import click
+
+from exactsyn.api import OPTIMA_MODES, Synthesis, synthesise
+from exactsyn.cli.common import emit, fail
+from exactsyn.cli.options import (
+    Choice,
+    bounds_option,
+    cost_option,
+    coupling_option,
+    deprecated,
+    encoding_option,
+    jobs_option,
+    library_option,
+    max_controls_option,
+    objective_option,
+    progress_option,
+    solver_option,
+)
+from exactsyn.cli.progress import SynthProgress, choose_mode
+from exactsyn.core.cliffordt import decompose
+from exactsyn.core.cliffordt import verify as verify_clifford_t
+from exactsyn.errors import ExactsynError, NoCircuitError
+from exactsyn.io.files import CIRCUIT_FORMATS, check_writable, format_for, read_circuit_layout, render
+from exactsyn.io.layout import Layout
+from exactsyn.io.qasm import clifford_t_to_qasm2, clifford_t_to_qasm3
+from exactsyn.io.report import (
+    listing_summary,
+    objective_summary,
+    qasm_header,
+    status_line,
+    synthesis_to_dict,
+    synthesis_to_text,
+)
+from exactsyn.spec.reversible import Spec, parse_cycles, parse_perm
+
+
+def read_function(spec_file: str | None, perm: str | None, cycles: str | None, lines: int | None) -> Spec | str:
+    """The function from exactly one of: a spec file, ``--perm``, ``--cycles``."""
+    given = [x is not None for x in (spec_file, perm, cycles)]
+    if sum(given) != 1:
+        raise ExactsynError("give the function exactly once: --perm, --cycles, or a spec file")
+    if perm is not None:
+        spec = parse_perm(perm)
+        if lines is not None and lines != spec.lines:
+            raise ExactsynError(f"--lines {lines} but the permutation is on {spec.lines} lines")
+        return spec
+    if cycles is not None:
+        return parse_cycles(cycles, lines)
+    assert spec_file is not None
+    return spec_file
+
+
+def _layout_of(spec_file: str | None) -> Layout | None:
+    """The register names of a circuit file given as the spec (written back under those names)."""
+    if spec_file is None or not spec_file.lower().endswith((".qasm", ".qasm2", ".qasm3", ".json")):
+        return None
+    try:
+        return read_circuit_layout(spec_file)[1]
+    except ExactsynError:
+        return None
+
+
+def _print_result(
+    syn: Synthesis,
+    fmt: str,
+    output: str | None,
+    clifford_t: bool,
+    quiet: bool,
+    layout: Layout | None = None,
+) -> None:
+    """Write the result, then the summary on stderr — only when the text header does not carry it."""
+    header_on_stdout = fmt == "text" and output is None
+    circuit = syn.circuit
+    if circuit is None:
+        if fmt == "json":
+            emit(json.dumps(synthesis_to_dict(syn), indent=2), output)
+        _summary(syn, fmt, quiet, header_on_stdout and fmt != "text")
+        sys.exit(1)
+    ct = decompose(circuit) if fmt == "json" or clifford_t else None
+    if ct is not None:
+        verify_clifford_t(ct, circuit)  # simulated before it is printed, like every circuit
+    header = qasm_header(syn)
+    counting = fmt == "text" and syn.optima is not None and not syn.optima.circuits
+    if fmt == "json":
+        emit(json.dumps(synthesis_to_dict(syn, ct), indent=2), output)
+    elif counting:
+        assert syn.optima is not None
+        emit(f"{syn.optima.count}\n", output)  # --optima count: the number only
+    elif fmt == "text":
+        emit(synthesis_to_text(syn), output)
+    elif ct is not None:
+        emit(clifford_t_to_qasm2(ct, header) if fmt == "qasm2" else clifford_t_to_qasm3(ct, header), output)
+    else:
+        emit(render(circuit, fmt, layout=layout, header=header), output)
+    _summary(syn, fmt, quiet, header_on_stdout and not counting)
+
+
+def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
+    """The summary on stderr, unless -q or the text on stdout already starts with it."""
+    if quiet:
+        return
+    if not in_header:
+        click.echo(status_line(syn.gate_result), err=True)
+        for note in syn.notes:
+            click.echo(f"exactsyn: note: {note}", err=True)
+        if syn.objective_result is not None:
+            click.echo(objective_summary(syn.objective_result), err=True)
+        if syn.optima is not None and (fmt != "text" or not syn.optima.circuits):
+            click.echo(listing_summary(syn.optima), err=True)
+    if syn.certificate is not None:
+        click.echo(f"certificate written: {syn.certificate / 'result.json'}", err=True)
+
+
+@click.command()
+@click.argument("spec_file", required=False, type=click.Path(dir_okay=False))
+@click.option("--perm", metavar="LIST", help="Permutation p[0],p[1],... of 0..2^n-1, e.g. 1,0,3,2.")
+@click.option("--cycles", metavar="TEXT", help='Permutation in cycle notation, e.g. "(0 1)(2 3)".')
+@click.option("--lines", type=int, help="Number of lines (for --cycles; default: smallest that fits).")
+@library_option
+@max_controls_option
+@coupling_option
+@click.option(
+    "--format",
+    "fmt",
+    type=Choice(CIRCUIT_FORMATS),
+    help="Output format; default from the -o suffix (.txt .json .qasm .qasm2 .qasm3 .svg .png), text on stdout. "
+    "Wins over the suffix.",
+)
+@click.option(
+    "-o", "--output", type=click.Path(dir_okay=False), metavar="FILE", help="Write the result here, not stdout."
+)
+@click.option(
+    "--time-limit",
+    type=click.FloatRange(min=0, min_open=True),
+    metavar="SECONDS",
+    help="Wall-clock limit for the whole search: the fallback circuit, distance tables, every SAT query, "
+    "the objective and the listing of optima; the whole command, start-up and printing included, ends within "
+    "about 10% + 1 s of it. When it runs out, the best circuit found so far is printed, marked not proven "
+    "optimal, with the proven lower bound.",
+)
+@click.option(
+    "--max-gates",
+    type=click.IntRange(min=0),
+    metavar="N",
+    help="No circuit longer than N gates is printed, whichever method found it (exit 1 if none).",
+)
+@encoding_option
+@solver_option
+@bounds_option()
+@click.option(
+    "--certificate",
+    "cert_dir",
+    type=click.Path(file_okay=False),
+    metavar="DIR",
+    help="Write a proof log here: result.json plus an LRAT refutation per refuted k "
+    "(CaDiCaL 1.9.5); re-check it with 'exactsyn check DIR'.",
+)
+@click.option(
+    "--dimacs",
+    "dimacs_dir",
+    type=click.Path(file_okay=False),
+    metavar="DIR",
+    help="Also write every k-query as DIMACS CNF (k05.cnf, ...) for outside solvers and checkers.",
+)
+@jobs_option(
+    2,
+    "Processes this command may use. With 2 or more, a query still open after 1 s is raced against the "
+    "formulation without symmetry breaking (faster on satisfiable queries); 1 = one solver at a time.",
+)
+@objective_option
+@cost_option
+@click.option(
+    "--optima",
+    type=Choice(OPTIMA_MODES),
+    help="all: print every optimal circuit (objectives gates and gates-then-cost), one per class of circuits "
+    "that differ only by reordering adjacent commuting gates; count: print only how many there are.",
+)
+@click.option("--optima-limit", type=click.IntRange(min=1), metavar="N", help="Stop --optima after N circuits.")
+@click.option("--all", "all_circuits", is_flag=True, hidden=True)
+@click.option("--count", "count_only", is_flag=True, hidden=True)
+@click.option("--all-limit", type=click.IntRange(min=1), hidden=True)
+@click.option(
+    "--clifford-t",
+    is_flag=True,
+    help="With --format qasm2/qasm3: write the circuit over h, t, tdg, cx, x (Toffoli as 7 T/T† and 6 CNOT, "
+    "Nielsen & Chuang 2000; a gate with n-1 controls on n >= 4 lines gets one ancilla qubit 'anc').",
+)
+@progress_option
+@click.option("-q", "--quiet", is_flag=True, help="Nothing on stderr but errors.")
+def synth(
+    spec_file: str | None,
+    perm: str | None,
+    cycles: str | None,
+    lines: int | None,
+    library_name: str,
+    max_controls: int | None,
+    coupling: str,
+    fmt: str | None,
+    output: str | None,
+    time_limit: float | None,
+    max_gates: int | None,
+    encoding: str,
+    solver: str,
+    bounds: str,
+    cert_dir: str | None,
+    dimacs_dir: str | None,
+    jobs: int,
+    objective: str,
+    cost_name: str,
+    optima: str | None,
+    optima_limit: int | None,
+    all_circuits: bool,
+    count_only: bool,
+    all_limit: int | None,
+    clifford_t: bool,
+    show_progress: bool,
+    quiet: bool,
+) -> None:
+    """Find a minimum-gate circuit for a reversible function and prove it minimal.
+
+    For k = lower bound, lower bound + 1, ... exactsyn asks a SAT solver whether a
+    circuit of exactly k gates exists; every "no" is a proof, the first "yes" is the
+    optimum.  With --objective the minimum-gate circuit is then improved for cost or
+    depth, each step again a SAT query whose "no" is a proof.  Every library gets a
+    circuit when time runs out (a fallback made by transformation-based synthesis,
+    rewritten into the library and shrunk), marked not proven optimal.
+
+    On a terminal, progress (the table being built, the current k with a running timer,
+    each answer) is shown on stderr; -q silences it, --progress shows it elsewhere too.
+
+    \b
+    Examples:
+      exactsyn synth --perm 0,1,2,3,4,5,7,6                 # a Toffoli gate: 1 gate
+      exactsyn synth --cycles "(1 2)" --library nct         # SWAP of lines 0,1: 3 CNOTs
+      exactsyn synth instances/lift-gray-step.toml --format json
+      exactsyn synth --perm ... --library mct --time-limit 60 -o out.qasm3
+      exactsyn synth --cycles "(3 7)" -o toffoli.svg         # a picture: the suffix picks it
+      exactsyn synth --cycles "(3 7)" --certificate cert/ && exactsyn check cert/
+      exactsyn synth --cycles "(6 7)" --library mixed --objective gates-then-cost --cost t-count
+      exactsyn synth --cycles "(5 6)" --optima all          # every optimal circuit
+      exactsyn synth --cycles "(5 6)" --optima count        # only how many
+      exactsyn synth --cycles "(5 6)" --objective depth     # fewest layers, proven
+      exactsyn synth --cycles "(3 7)" --format qasm2 --clifford-t
+      exactsyn synth --cycles "(1 4)(3 6)" --coupling 0-1-2   # SWAP of lines 0,2 on a chain
+
+    Exit status: 0 a circuit was printed (check "optimal" in JSON), 1 no circuit
+    within the limits or none exists in the library, 2 bad input.
+    """
+    try:
+        if all_circuits or count_only:
+            old, new = ("--all", "--optima all") if all_circuits else ("--count", "--optima count")
+            deprecated(old, new)
+            if optima is not None or (all_circuits and count_only):
+                raise ExactsynError("give --optima once (--all and --count are its old spellings)")
+            optima = "all" if all_circuits else "count"
+        if all_limit is not None:
+            deprecated("--all-limit", "--optima-limit")
+            optima_limit = optima_limit or all_limit
+        chosen = format_for(output, fmt)
+        function = read_function(spec_file, perm, cycles, lines)
+        if output is not None:
+            check_writable(output)  # before the search, not after it
+        if clifford_t and chosen not in ("qasm2", "qasm3"):
+            raise ExactsynError("--clifford-t needs --format qasm2 or qasm3 (or an -o file ending .qasm/.qasm3)")
+        if optima is not None and chosen not in ("text", "json"):
+            raise ExactsynError("--optima prints text or json (one circuit per file otherwise)")
+        if optima_limit is not None and optima is None:
+            raise ExactsynError("--optima-limit needs --optima all or --optima count")
+        display = SynthProgress(choose_mode(quiet, show_progress))
+        try:
+            with display:
+                syn = synthesise(
+                    function,
+                    library=library_name,
+                    max_controls=max_controls,
+                    coupling=coupling,
+                    objective=objective,
+                    cost=cost_name,
+                    optima=optima,
+                    optima_limit=optima_limit,
+                    certificate=cert_dir,
+                    dimacs=dimacs_dir,
+                    time_limit=time_limit,
+                    max_gates=max_gates,
+                    bounds=bounds,
+                    encoding=encoding,
+                    solver=solver,
+                    jobs=jobs,
+                    progress=display,
+                )
+        except NoCircuitError as e:
+            fail(e.message, 1)
+        _print_result(syn, chosen, output, clifford_t, quiet, _layout_of(spec_file))
+    except ExactsynError as e:
+        fail(e.message)

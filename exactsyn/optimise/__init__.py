@@ -1,0 +1,48 @@
+"""Whole-circuit optimisation by exact resynthesis of small windows, with an equivalence proof.
+
+Modules, one job each:
+
+* :mod:`~exactsyn.optimise.gateset` — which gates input and output may use (no enumeration);
+* :mod:`~exactsyn.optimise.commute` — exact commutation of two gates;
+* :mod:`~exactsyn.optimise.windows` — convex windows on the gate dependency graph;
+* :mod:`~exactsyn.optimise.resynthesis` — optimal circuits of window permutations (interface and tables);
+* :mod:`~exactsyn.optimise.driver` — the passes, to a fixpoint, and :func:`optimise_circuit`;
+* :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
+* :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.report` — measures and the log.
+"""
+
+from exactsyn.optimise.driver import (
+    MAX_LINES,
+    OBJECTIVES,
+    EquivalenceError,
+    InternalCheckError,
+    OptimiseResult,
+    ProgressEvent,
+    WindowCount,
+    optimise_circuit,
+)
+from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
+from exactsyn.optimise.gateset import GateSet, gate_set
+from exactsyn.optimise.metrics import Metrics, measure
+from exactsyn.optimise.resynthesis import Optimum, TableResynthesis, WindowProblem, WindowResynthesis
+
+__all__ = [
+    "MAX_LINES",
+    "OBJECTIVES",
+    "EquivalenceCheck",
+    "EquivalenceError",
+    "GateSet",
+    "InternalCheckError",
+    "Metrics",
+    "OptimiseResult",
+    "Optimum",
+    "ProgressEvent",
+    "TableResynthesis",
+    "WindowCount",
+    "WindowProblem",
+    "WindowResynthesis",
+    "check_equivalent",
+    "gate_set",
+    "measure",
+    "optimise_circuit",
+]

@@ -1,0 +1,344 @@
+"""Solve a CNF formula with CaDiCaL 1.9.5 and capture an LRAT refutation.
+
+The solver is CaDiCaL (A. Biere, K. Fazekas, M. Fleury, M. Heisinger, "CaDiCaL,
+Kissat, Paracooba, Plingeling and Treengeling entering the SAT Competition
+2020"), reached through python-sat (A. Ignatiev, A. Morgado, J. Marques-Silva,
+"PySAT: A Python Toolkit for Prototyping with SAT Oracles", SAT 2018).  The
+proof format is LRAT (L. Cruz-Filipe et al., "Efficient Certified RAT
+Verification", CADE 2017); :mod:`exactsyn.proof.lrat` checks it.
+
+How capture works, and why it needs care:
+
+* python-sat exposes proof tracing for CaDiCaL 1.9.5 only through its C module
+  (``pysolvers.cadical195_tracepr``, :data:`HOOK_NAME`).  Options ``lrat=1``
+  and ``binary=0`` are set *before* tracing starts: the solver picks the
+  proof format and encoding when the tracer is created.
+* A certificate must name the formula's clauses ``1..m`` in the order given.
+  CaDiCaL draws original and derived clause ids from one counter, and it
+  derives clauses *while clauses are being added* (dropping a repeated
+  literal, a literal already false at the root, propagating a new unit).
+  Each such step takes the next id, so later input clauses are shifted.
+  We therefore watch the trace file after every added clause: the ids of the
+  addition lines written while clause ``k`` was added, together with clause
+  ``k``'s own id, must be the next consecutive block of ids; clause ``k``'s
+  id is the one not printed.  Anything else (a gap, a second missing id, a
+  partial line, a later step reusing an id) raises
+  :class:`~exactsyn.errors.ExactsynError` instead of producing a certificate.
+  The proof is then renumbered so that clause ``k`` has id ``k`` and the
+  clauses derived while adding come next, in order.  Either way the
+  renumbered proof is only a claim: :func:`exactsyn.proof.lrat.check_lrat` decides.
+* If the formula contains the empty clause, CaDiCaL writes no step for it;
+  we append the one-step derivation ``id 0 k 0`` (``k`` = the first empty
+  clause), which the checker verifies like any other step.
+* CaDiCaL's ``interrupt`` is not implemented in this python-sat version
+  (``Cadical195.interrupt`` raises ``NotImplementedError``), so a time limit
+  runs the search in conflict-budget chunks (``conf_budget`` +
+  ``solve_limited``) sized to about a quarter of a second each, stopping at
+  the first chunk boundary past the limit.  An incremental re-solve keeps
+  the same proof trace, so the proof stays one valid LRAT refutation.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import re
+import tempfile
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import pysat
+from pysat.solvers import Cadical195
+
+from exactsyn.caches import memo
+from exactsyn.errors import ExactsynError
+from exactsyn.proof.lrat import check_lrat
+from exactsyn.sat.status import Status
+
+HOOK_NAME = "cadical195_tracepr"
+"""The python-sat C-module function that proof capture relies on."""
+
+SOLVER_NAME = "CaDiCaL 1.9.5"
+
+# CaDiCaL sizes its tables by the largest variable, so a stray huge index would
+# exhaust memory rather than fail; this cap (far above any formula we build) turns
+# that into a clear error.
+_MAX_VAR = 50_000_000
+_FIRST_BUDGET = 2000  # conflicts in the first time-limited chunk
+_MIN_BUDGET = 200
+_MAX_BUDGET = 2_000_000
+_CHUNK_SECONDS = 0.25
+
+
+
+@dataclass(frozen=True)
+class ProofRun:
+    """Outcome of :func:`solve_with_lrat`.
+
+    ``model`` lists one literal per variable ``1..num_vars`` (positive = true)
+    when ``status == "sat"``.  ``proof`` is LRAT text whose clause ids ``1..m``
+    are the input clauses in order; it is empty unless ``status == "unsat"``.
+    ``conflicts`` is the solver's conflict count (``None`` if it did not say).
+    """
+
+    status: Status
+    model: tuple[int, ...] | None
+    proof: bytes
+    solver: str
+    seconds: float
+    conflicts: int | None
+    num_vars: int
+    num_clauses: int
+
+
+def _pysolvers() -> Any:
+    import pysolvers  # python-sat's C module; imported lazily, it has no stubs
+
+    return pysolvers
+
+
+def _solver_string() -> str:
+    return f"{SOLVER_NAME} via python-sat {getattr(pysat, '__version__', '?')}"
+
+
+@memo(maxsize=None)
+def tracer_available() -> bool:
+    """True when python-sat's tracing hook exists and yields a checkable LRAT proof.
+
+    Runs one tiny capture (the four clauses over two variables) and checks it
+    with :func:`exactsyn.proof.lrat.check_lrat`; the answer is cached.
+    """
+    try:
+        mod = _pysolvers()
+    except ImportError:
+        return False
+    needed = (HOOK_NAME, "cadical195_new", "cadical195_set", "cadical195_add_cl", "cadical195_del")
+    if not all(hasattr(mod, name) for name in needed):
+        return False
+    tiny = [[1, 2], [-1, 2], [1, -2], [-1, -2]]
+    try:
+        run = solve_with_lrat(tiny)
+    except Exception:  # any failure of the probe means "not available"
+        return False
+    return run.status == Status.UNSAT and check_lrat(2, tiny, run.proof).ok
+
+
+def _normalise(clauses: Sequence[Sequence[int]]) -> tuple[list[list[int]], int]:
+    if isinstance(clauses, str | bytes) or not isinstance(clauses, Sequence):
+        raise ExactsynError("clauses must be a list of lists of integers")
+    out: list[list[int]] = []
+    num_vars = 0
+    for k, clause in enumerate(clauses, start=1):
+        if not isinstance(clause, list | tuple) and (
+            isinstance(clause, str | bytes) or not isinstance(clause, Sequence)
+        ):
+            raise ExactsynError(f"clause {k} is not a list of integers")
+        lits = list(clause)
+        if lits:
+            if not all(type(lit) is int for lit in lits) or 0 in lits:  # bool is not int here
+                bad = next(lit for lit in lits if type(lit) is not int or lit == 0)
+                raise ExactsynError(f"clause {k} has literal {bad!r}, not a non-zero integer")
+            top = max(max(lits), -min(lits))
+            if top > _MAX_VAR:
+                raise ExactsynError(f"clause {k} has variable {top}, above the limit {_MAX_VAR}")
+            if top > num_vars:
+                num_vars = top
+        out.append(lits)
+    return out, num_vars
+
+
+class _IdWatch:
+    """Learns CaDiCaL's id for each input clause from the lines written while adding it."""
+
+    def __init__(self) -> None:
+        self.counter = 0  # largest id handed out so far
+        self.original: list[int] = []  # CaDiCaL id of input clause k at index k-1
+        self.derived: list[int] = []  # CaDiCaL ids of steps written while adding, in order
+
+    def after_add(self, written: bytes) -> None:
+        if not written:  # the common case: nothing derived, the clause takes the next id
+            self.counter += 1
+            self.original.append(self.counter)
+            return
+        if not written.endswith(b"\n"):
+            raise ExactsynError("proof capture: the solver left a partial proof line; refusing to guess ids")
+        printed = []
+        for line in written.splitlines():
+            toks = line.split()
+            if len(toks) < 2:
+                raise ExactsynError(f"proof capture: unexpected trace line {line[:60]!r}")
+            if toks[1] != b"d":
+                printed.append(int(toks[0]))
+        block = set(range(self.counter + 1, self.counter + len(printed) + 2))
+        missing = block.difference(printed)
+        if len(printed) != len(set(printed)) or not set(printed) <= block or len(missing) != 1:
+            raise ExactsynError(
+                f"proof capture: solver ids {printed} after id {self.counter} break the numbering model"
+            )
+        self.original.append(missing.pop())
+        self.derived.extend(printed)
+        self.counter += len(printed) + 1
+
+    def renumbering(self) -> dict[int, int] | None:
+        """Map from CaDiCaL ids (those up to ``counter``) to ours, or None if it is the identity."""
+        mapping = {cad: k for k, cad in enumerate(self.original, start=1)}
+        m = len(self.original)
+        mapping.update({cad: m + j for j, cad in enumerate(self.derived, start=1)})
+        if all(cad == ours for cad, ours in mapping.items()):
+            return None
+        return mapping
+
+
+def _renumber(text: bytes, mapping: dict[int, int]) -> bytes:
+    def tr(tok: bytes) -> bytes:
+        v = int(tok)
+        return str(mapping[v]).encode() if v in mapping else tok
+
+    out = []
+    for line in text.splitlines():
+        toks = line.split()
+        if len(toks) >= 2 and toks[1] == b"d":
+            new = [tr(toks[0]), b"d", *map(tr, toks[2:])]
+        else:
+            sep = toks.index(b"0", 1)
+            new = [tr(toks[0]), *toks[1 : sep + 1], *map(tr, toks[sep + 1 :])]
+        out.append(b" ".join(new))
+    return b"\n".join(out) + b"\n" if out else b""
+
+
+def _check_solve_phase(text: bytes, counter: int) -> None:
+    for line in text.splitlines():
+        toks = line.split()
+        if len(toks) >= 2 and toks[1] != b"d":
+            if int(toks[0]) <= counter:
+                raise ExactsynError(
+                    f"proof capture: solver step id {int(toks[0])} reuses an input-phase id (<= {counter})"
+                )
+            return
+
+
+def _last_addition_id(text: bytes, floor: int) -> int:
+    last = floor
+    for line in text.splitlines():
+        toks = line.split()
+        if len(toks) >= 2 and toks[1] != b"d":
+            last = max(last, int(toks[0]))
+    return last
+
+
+_EMPTY_STEP = re.compile(rb"^[0-9]+ 0 ", re.MULTILINE)
+
+
+def _derives_empty(text: bytes) -> bool:
+    return _EMPTY_STEP.search(text) is not None
+
+
+def _search(solver: Any, time_limit: float | None) -> bool | None:
+    if time_limit is None:
+        return bool(solver.solve())
+    deadline = time.perf_counter() + time_limit
+    budget = _FIRST_BUDGET
+    while True:
+        now = time.perf_counter()
+        if now >= deadline:
+            return None
+        before = solver.accum_stats().get("conflicts", 0)
+        solver.conf_budget(budget)
+        result = solver.solve_limited(expect_interrupt=True)
+        if result is not None:
+            return bool(result)
+        spent = max(time.perf_counter() - now, 1e-6)
+        done = max(solver.accum_stats().get("conflicts", 0) - before, 1)
+        target = min(_CHUNK_SECONDS, max(deadline - time.perf_counter(), 0.0))
+        budget = min(_MAX_BUDGET, max(_MIN_BUDGET, int(done / spent * target)))
+
+
+def solve_with_lrat(clauses: Sequence[Sequence[int]], time_limit: float | None = None) -> ProofRun:
+    """Solve ``clauses`` (DIMACS-style literals) and, if UNSAT, return an LRAT refutation.
+
+    The proof numbers the input clauses ``1..len(clauses)`` in the order given.
+    ``time_limit`` (seconds, > 0) bounds the search; past it the status is
+    ``"unknown"``.  Raises :class:`~exactsyn.errors.ExactsynError` on bad input
+    and whenever the captured trace does not fit the numbering the certificate
+    needs (see the module docstring).
+    """
+    if time_limit is not None:
+        if isinstance(time_limit, bool) or not isinstance(time_limit, int | float):
+            raise ExactsynError(f"time limit must be a number of seconds, got {time_limit!r}")
+        if math.isnan(time_limit) or time_limit <= 0:
+            raise ExactsynError(f"time limit must be positive, got {time_limit!r}")
+        if math.isinf(time_limit):
+            time_limit = None
+    lits, num_vars = _normalise(clauses)
+    if not tracer_hook_present():
+        raise ExactsynError(f"python-sat has no {HOOK_NAME}; proof capture is unavailable")
+
+    mod = _pysolvers()
+    started = time.perf_counter()
+    fd, path = tempfile.mkstemp(prefix="exactsyn-", suffix=".lrat")
+    solver = Cadical195()
+    model: list[int] = []
+    try:
+        solver.configure({"lrat": 1, "binary": 0})
+        trace = getattr(mod, HOOK_NAME)(solver.cadical, fd)
+        watch = _IdWatch()
+        offset = 0
+        for clause in lits:
+            solver.add_clause(clause)
+            size = os.fstat(fd).st_size
+            watch.after_add(os.pread(fd, size - offset, offset) if size > offset else b"")
+            offset = size
+        result = _search(solver, time_limit)
+        if result:
+            model = list(solver.get_model() or [])
+        conflicts = (solver.accum_stats() or {}).get("conflicts")
+        if trace is not None and hasattr(mod, "flushpr"):
+            mod.flushpr(trace)
+        solver.delete()  # the trace is complete once the solver is gone
+        raw = b""
+        if result is False:
+            with open(path, "rb") as fh:
+                raw = fh.read()
+    finally:
+        solver.delete()
+        os.close(fd)
+        os.unlink(path)
+
+    def finish(status: Status, values: tuple[int, ...] | None, proof: bytes) -> ProofRun:
+        return ProofRun(
+            status=status,
+            model=values,
+            proof=proof,
+            solver=_solver_string(),
+            seconds=time.perf_counter() - started,
+            conflicts=int(conflicts) if conflicts is not None else None,
+            num_vars=num_vars,
+            num_clauses=len(lits),
+        )
+
+    if result is None:
+        return finish(Status.UNKNOWN, None, b"")
+    if result:
+        value = {abs(v): v for v in model}
+        return finish(Status.SAT, tuple(value.get(v, -v) for v in range(1, num_vars + 1)), b"")
+
+    _check_solve_phase(raw[offset:], watch.counter)
+    mapping = watch.renumbering()
+    proof = _renumber(raw, mapping) if mapping is not None else raw
+    empties = [k for k, clause in enumerate(lits, start=1) if not clause]
+    if empties:
+        next_id = _last_addition_id(proof, len(lits)) + 1
+        proof += f"{next_id} 0 {empties[0]} 0\n".encode()
+    if not _derives_empty(proof):
+        raise ExactsynError("proof capture: solver reported UNSAT but its trace derives no empty clause")
+    return finish(Status.UNSAT, None, proof)
+
+
+def tracer_hook_present() -> bool:
+    """True when python-sat's C module has the tracing hook (no solving; see :func:`tracer_available`)."""
+    try:
+        return hasattr(_pysolvers(), HOOK_NAME)
+    except ImportError:
+        return False

@@ -1,0 +1,262 @@
+"""Certificates (proof logs) of optimality: the format, and writing it.
+
+Format ``exactsyn-certificate``, version 1 — a directory holding
+
+``result.json``
+    ``format``, ``format_version``, ``tool_version``; ``spec`` (``lines``, ``outputs``,
+    ``care``, ``name``, and the embedding choices ``open_lines``, ``output_targets``,
+    ``output_candidates``); ``library`` (``preset``, ``lines``, ``max_controls``,
+    ``coupling``, ``name`` and the full ``gates`` list in library order); ``encoding``
+    (``name``, ``version``, ``symmetry``); ``circuit`` (gates in application order, JSON
+    as in :mod:`exactsyn.io.jsonio`), ``gate_count``, ``optimal``, ``lower_bound``;
+    ``initial_bound`` (``value``, ``reason``, ``detail`` — a bound that needs no SAT
+    call, re-derived by the checker); ``table_bound`` (``value``, ``exact``, ``depth`` — an
+    integer, or ``"full"`` for a table of every function the library generates (earlier
+    versions wrote 1000000) — ``extended``, or null); ``queries``: one entry per k-query with ``k``, ``status``
+    (``unsat`` / ``sat`` / ``unknown``), ``proof`` (file name or null), ``cnf_sha256``,
+    ``num_vars``, ``num_clauses``, ``solver``, ``seconds``, ``conflicts``,
+    ``proof_bytes`` and ``symmetry`` (the query's rules when they differ from
+    ``encoding``'s, e.g. a raced query answered without symmetry breaking).
+``objective`` (only with an objective other than the gate count)
+    ``name`` (``gates-then-cost`` / ``cost`` / ``depth``), ``cost_model``, ``costs`` (one
+    integer per library gate, in library order, or null for depth), ``symmetry`` (rules of
+    the cost queries), ``circuit``, ``value``, ``optimal``, ``bound``,
+    ``nonaffine_extra``, and ``queries``: ``kind`` (``cost`` or ``depth``), ``k`` (gates,
+    or layers for depth), ``limit`` (cost limit or null), ``status``, ``proof``,
+    ``proof_format`` (``lrat``), ``cnf_sha256``, ``num_vars``, ``num_clauses``,
+    ``seconds``, ``conflicts``, ``proof_bytes``.
+``k<k>.lrat.gz``, ``cost-k<k>-c<limit>.lrat.gz``, ``depth-k<d>.lrat.gz``
+    the gzip-compressed LRAT refutation (text) of a query, clause ids ``1..m`` being
+    the clauses of the re-derived CNF in order (Cruz-Filipe, Heule, Hunt, Kaufmann,
+    Schneider-Kamp, "Efficient certified RAT verification", CADE 2017).
+
+:mod:`exactsyn.proof.check` re-checks a certificate without trusting the solver.
+"""
+
+from __future__ import annotations
+
+import gzip
+import json
+import time
+import zlib
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+from exactsyn import __version__
+from exactsyn.core.library import Library, make_library
+from exactsyn.errors import ExactsynError
+from exactsyn.io.files import path_problem
+from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
+from exactsyn.sat.encode import ENCODING_VERSION, EncodingOptions
+from exactsyn.spec.reversible import Spec
+
+if TYPE_CHECKING:  # types only: writing a certificate needs no solver module
+    from exactsyn.sat.query import ProofSink, Query
+    from exactsyn.search.loop import GateResult
+    from exactsyn.search.objectives import ObjectiveResult
+
+FORMAT = "exactsyn-certificate"
+FORMAT_VERSION = 1
+RESULT_FILE = "result.json"
+
+
+# ------------------------------------------------------------------ descriptions
+def spec_to_dict(spec: Spec) -> dict[str, Any]:
+    return {
+        "lines": spec.lines,
+        "outputs": list(spec.outputs),
+        "care": list(spec.care),
+        "name": spec.name,
+        "open_lines": list(spec.open_lines),
+        "output_targets": [list(t) for t in spec.output_targets],
+        "output_candidates": list(spec.output_candidates),
+    }
+
+
+def json_int(v: Any) -> int:
+    """An integer as JSON holds it: not a float (1.5 is not 1), not a boolean."""
+    if isinstance(v, bool) or not isinstance(v, int):
+        raise TypeError(f"not an integer: {v!r}")
+    return v
+
+
+def spec_from_dict(d: Any) -> Spec:
+    try:
+        lines = json_int(d["lines"])
+        outputs, care = [json_int(v) for v in d["outputs"]], [json_int(v) for v in d["care"]]
+        name = str(d.get("name", ""))
+        open_lines = tuple(json_int(v) for v in d.get("open_lines", []))
+        targets = tuple(tuple(json_int(v) for v in t) for t in d.get("output_targets", []))
+        cands = tuple(json_int(v) for v in d.get("output_candidates", []))
+    except (KeyError, TypeError, ValueError, AttributeError):
+        raise ExactsynError("certificate: malformed 'spec'") from None
+    if not 1 <= lines <= 6 or len(outputs) != 1 << lines or len(care) != 1 << lines:
+        raise ExactsynError("certificate: 'spec' has the wrong number of rows for its lines")
+    full = (1 << lines) - 1
+    if any(not 0 <= v <= full for v in outputs + care):
+        raise ExactsynError("certificate: 'spec' has a value outside the line range")
+    if any(not 0 <= x < lines for x in open_lines + cands) or any(
+        len(t) != 1 << lines or any(v not in (-1, 0, 1) for v in t) for t in targets
+    ):
+        raise ExactsynError("certificate: malformed embedding choices in 'spec'")
+    if targets and len(cands) < len(targets):
+        raise ExactsynError("certificate: fewer candidate lines than placed outputs in 'spec'")
+    return Spec(lines, tuple(outputs), tuple(care), name, open_lines, targets, cands)
+
+
+def library_to_dict(lib: Library) -> dict[str, Any]:
+    return {
+        "preset": lib.preset,
+        "lines": lib.lines,
+        "max_controls": lib.control_cap,
+        "coupling": [list(e) for e in lib.coupling],
+        "name": lib.name,
+        "gates": [gate_to_dict(g) for g in lib.gates],
+    }
+
+
+def library_from_dict(d: Any) -> Library:
+    """Rebuild the library from its preset and require the stored gate list to match."""
+    try:
+        coupling = tuple((json_int(a), json_int(b)) for a, b in d.get("coupling", []))
+        cap = d.get("max_controls")
+        lib = make_library(str(d["preset"]), json_int(d["lines"]), None if cap is None else json_int(cap), coupling)
+        stored = tuple(gate_from_dict(g) for g in d["gates"])
+    except (KeyError, TypeError, ValueError, AttributeError):
+        raise ExactsynError("certificate: malformed 'library'") from None
+    if stored != lib.gates:
+        raise ExactsynError("certificate: the stored gate list is not the one its library preset defines")
+    return lib
+
+
+def encoding_from_dict(d: Any) -> EncodingOptions:
+    try:
+        if json_int(d["version"]) != ENCODING_VERSION:
+            raise ExactsynError(f"certificate: encoding version {d['version']} is not this tool's")
+        return EncodingOptions(str(d["name"]), tuple(str(s) for s in d["symmetry"]))
+    except (KeyError, TypeError, ValueError, AttributeError):
+        raise ExactsynError("certificate: malformed 'encoding'") from None
+
+
+# ------------------------------------------------------------------ writing
+def gate_query_to_dict(q: Query, encoding: EncodingOptions) -> dict[str, Any]:
+    """A gate-count query as ``queries[]`` holds it; ``symmetry`` only when it differs from ``encoding``."""
+    return {
+        "k": q.k,
+        "status": str(q.status),
+        "proof": q.proof,
+        "cnf_sha256": q.cnf_sha256 or "",
+        "num_vars": q.variables,
+        "num_clauses": q.clauses,
+        "solver": q.solver,
+        "seconds": round(q.seconds, 4),
+        "conflicts": q.conflicts,
+        "proof_bytes": q.proof_bytes,
+        "symmetry": None if q.symmetry is None or q.symmetry == encoding.symmetry else list(q.symmetry),
+    }
+
+
+def objective_query_to_dict(q: Query) -> dict[str, Any]:
+    """A cost or depth query as ``objective.queries[]`` holds it."""
+    return {
+        "kind": q.objective,
+        "k": q.k,
+        "limit": q.limit,
+        "status": str(q.status),
+        "proof": q.proof,
+        "proof_format": "lrat",
+        "cnf_sha256": q.cnf_sha256,
+        "num_vars": q.variables,
+        "num_clauses": q.clauses,
+        "seconds": round(q.seconds, 4),
+        "conflicts": q.conflicts,
+        "proof_bytes": q.proof_bytes,
+    }
+
+
+def objective_to_dict(res: ObjectiveResult) -> dict[str, Any]:
+    """The ``objective`` section (format in :mod:`exactsyn.proof.check`, which re-checks it)."""
+    return {
+        "name": res.objective,
+        "cost_model": res.cost_model,
+        "costs": None if res.costs is None else list(res.costs),
+        "symmetry": list(res.symmetry),
+        "circuit": [gate_to_dict(g) for g in res.circuit.gates],
+        "value": res.value,
+        "optimal": res.optimal,
+        "bound": res.bound,
+        "nonaffine_extra": res.nonaffine_extra,
+        "queries": [objective_query_to_dict(q) for q in res.queries],
+    }
+
+
+def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | None = None) -> Path:
+    """Write ``result.json`` for a search run whose proofs went to ``directory`` (atomically).
+
+    ``objective`` is given when the run optimised more than the gate count.
+    """
+    try:
+        directory.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
+    circuit = res.circuit
+    data = {
+        "format": FORMAT,
+        "format_version": FORMAT_VERSION,
+        "tool_version": __version__,
+        "created": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime()),
+        "spec": spec_to_dict(res.spec),
+        "library": library_to_dict(res.library),
+        "encoding": res.encoding.describe(),
+        "circuit": None if circuit is None else [gate_to_dict(g) for g in circuit.gates],
+        "gate_count": None if circuit is None else len(circuit),
+        "optimal": res.optimal,
+        "lower_bound": res.lower_bound,
+        "initial_bound": {
+            "value": res.initial_bound.value,
+            "reason": res.initial_bound.reason,
+            "detail": res.initial_bound.detail,
+        },
+        "table_bound": None if res.table_bound is None else res.table_bound.to_dict(),
+        "queries": [gate_query_to_dict(q, res.encoding) for q in res.steps],
+    }
+    if objective is not None:
+        data["objective"] = objective_to_dict(objective)
+    path = directory / RESULT_FILE
+    tmp = path.with_suffix(".json.tmp")
+    try:
+        tmp.write_text(json.dumps(data, indent=1) + "\n")
+        tmp.replace(path)
+    except OSError as e:
+        raise ExactsynError(f"cannot write {path}: {e.strerror}") from None
+    return path
+
+
+def proof_writer(directory: Path) -> ProofSink:
+    """A proof sink that stores each refutation as ``<stem>.lrat.gz`` in ``directory``."""
+    try:
+        directory.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
+
+    def sink(stem: str, proof: bytes) -> str:
+        name = f"{stem}.lrat.gz"
+        try:
+            with gzip.open(directory / name, "wb", compresslevel=6) as fh:
+                fh.write(proof)
+        except OSError as e:
+            raise ExactsynError(f"cannot write proof {directory / name}: {e.strerror}") from None
+        return name
+
+    return sink
+
+
+def read_proof(directory: Path, name: str) -> bytes:
+    p = directory / name
+    if Path(name).name != name:
+        raise ExactsynError(f"certificate: proof name {name!r} must be a plain file name")
+    try:
+        with gzip.open(p, "rb") as fh:
+            return fh.read()
+    except (OSError, EOFError, zlib.error) as e:
+        raise ExactsynError(f"cannot read proof {p}: {e}") from None

@@ -1,0 +1,372 @@
+"""Re-check a certificate (:mod:`exactsyn.proof.certificate`) without trusting the solver.
+
+The checker trusts nothing in the directory but the claims it checks: it rebuilds the
+spec and the library from their descriptions, **re-derives each CNF from the spec with
+the encoder**, compares its hash with the stored one (a mismatch is reported, since it
+means the spec, library or encoding was changed after the fact), checks each LRAT
+refutation by unit propagation over its hints (:mod:`exactsyn.proof.lrat`), re-derives the
+initial bound and any distance-table bound (by rebuilding the table and repeating the
+meet-in-the-middle test), requires a refutation for every k from the bound to
+``gate_count − 1``, and simulates the circuit against the spec on every input.
+
+The ``objective`` section: each refuted cost or depth CNF is re-derived
+(:func:`exactsyn.sat.encode.encode` with a :class:`~exactsyn.sat.encode.CostLimit`, or
+:func:`exactsyn.sat.encode_depth.encode_depth`) and its LRAT proof checked; the costs of a
+built-in cost model are recomputed (a user table's costs are part of the question, like
+the spec); the circuit is simulated and its value recomputed; then the claim:
+
+* ``depth`` D: a refutation of depth ≤ D − 1 (none needed for D ≤ 1 on a non-identity spec);
+* ``gates-then-cost`` C: the gate part proves k* and the circuit has k* gates; a
+  refutation of (k*, cost ≤ C') with C' ≥ C − 1;
+* ``cost`` C: for every k from k* to ⌊(C − 1 − e)/c_min⌋ a refutation of (k, cost ≤ C')
+  with C' ≥ C − 1 (fewer than k* gates is refuted by the gate part; more gates than that
+  cost at least C).  ``e`` (``nonaffine_extra``) is re-derived: the function must be a
+  non-affine permutation and ``e`` at most the least extra cost of a non-affine gate.
+
+This module imports no SAT solver: checking needs only the encoder, the LRAT checker
+and simulation (a test imports it alone and looks at the loaded modules).
+"""
+
+from __future__ import annotations
+
+import json
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.costs import COST_MODELS, library_costs, objective_value
+from exactsyn.core.library import Library
+from exactsyn.errors import ExactsynError, NoCircuitError
+from exactsyn.io.jsonio import gate_from_dict
+from exactsyn.io.words import count
+from exactsyn.proof.certificate import (
+    FORMAT,
+    FORMAT_VERSION,
+    RESULT_FILE,
+    encoding_from_dict,
+    json_int,
+    library_from_dict,
+    read_proof,
+    spec_from_dict,
+)
+from exactsyn.proof.lrat import check_lrat
+from exactsyn.sat.dimacs import cnf_sha256
+from exactsyn.sat.encode import CostLimit, EncodingOptions, encode
+from exactsyn.sat.encode_depth import encode_depth
+from exactsyn.sat.status import Status
+from exactsyn.search.bounds import lower_bound, nonaffine_extra
+from exactsyn.search.distance import FULL, extended_meet, meet_in_the_middle
+from exactsyn.spec.reversible import Spec
+
+
+@dataclass(frozen=True)
+class CheckLine:
+    what: str  # "bound", "k=5", "circuit", ...
+    ok: bool
+    detail: str
+
+
+@dataclass(frozen=True)
+class CheckReport:
+    ok: bool
+    lines: tuple[CheckLine, ...]
+    optimal_claim: bool
+    gate_count: int | None
+    seconds: float
+
+
+def _load(path: Path) -> tuple[Path, dict[str, Any]]:
+    directory = path if path.is_dir() else path.parent
+    file = directory / RESULT_FILE if path.is_dir() else path
+    if path.is_dir() and not file.is_file():
+        raise ExactsynError(f"{path} (at {path.resolve()}) holds no {RESULT_FILE}: it is not a certificate directory")
+    try:
+        data = json.loads(file.read_text())
+    except OSError as e:
+        raise ExactsynError(f"cannot read certificate {file}: {e.strerror}") from None
+    except (json.JSONDecodeError, UnicodeDecodeError) as e:
+        raise ExactsynError(f"certificate {file} is not valid JSON: {e}") from None
+    if not isinstance(data, dict) or data.get("format") != FORMAT:
+        raise ExactsynError(f"{file} is not an exactsyn certificate (no format {FORMAT!r})")
+    if data.get("format_version") != FORMAT_VERSION:
+        raise ExactsynError(f"certificate format version {data.get('format_version')!r} is not supported")
+    return directory, data
+
+
+def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
+    """Re-check a certificate; see the module docstring for what is checked."""
+    start = time.perf_counter()
+    directory, data = _load(Path(path))
+    spec = spec_from_dict(data.get("spec"))
+    library = library_from_dict(data.get("library"))
+    options = encoding_from_dict(data.get("encoding"))
+    out: list[CheckLine] = []
+
+    def note(what: str, ok: bool, detail: str) -> None:
+        line = CheckLine(what, ok, detail)
+        out.append(line)
+        if progress:
+            progress(line)
+
+    # The circuit, simulated on every input.
+    circuit: Circuit | None = None
+    raw = data.get("circuit")
+    if raw is not None and not isinstance(raw, list):
+        note("circuit", False, "malformed 'circuit' (not a list of gates)")
+    elif raw is not None:
+        try:
+            circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in raw))
+        except ExactsynError as e:
+            note("circuit", False, e.message)
+        else:
+            if not all(library.contains(g) for g in circuit.gates):
+                note("circuit", False, "uses a gate outside the library")
+            elif not spec.accepts(circuit.permutation()):
+                note("circuit", False, "simulation: the circuit does not meet the spec")
+            elif data.get("gate_count") != len(circuit):
+                note("circuit", False, f"gate_count {data.get('gate_count')} but the circuit has {len(circuit)}")
+            else:
+                note("circuit", True, f"{count(len(circuit), 'gate')}, meets the spec on all {spec.size} inputs")
+
+    # The bound that needs no SAT call.
+    bound = lower_bound(spec, library)
+    initial = data.get("initial_bound")
+    claimed = initial.get("value") if isinstance(initial, dict) else None
+    if not isinstance(claimed, int) or claimed > bound.value:
+        note("bound", False, f"initial bound {claimed!r} is not re-derived (got {bound.value}: {bound.detail})")
+        first = None
+    else:
+        note("bound", True, f"k >= {claimed}: {bound.detail}")
+        first = claimed
+
+    # A bound from the distance tables: re-derived by rebuilding the table at the
+    # recorded depth and repeating the meet-in-the-middle test.
+    table_value = 0
+    tb = data.get("table_bound")
+    if tb is not None:
+        try:
+            raw_depth = FULL if tb["depth"] == "full" else tb["depth"]
+            depth, value = json_int(raw_depth), json_int(tb["value"])
+            extended, exact = bool(tb["extended"]), bool(tb["exact"])
+        except (KeyError, TypeError, ValueError):
+            raise ExactsynError("certificate: malformed 'table_bound'") from None
+        if not spec.is_permutation or not library.involutive or spec.lines > 4 or not 0 <= depth <= FULL:
+            note("table", False, "a table bound needs a full permutation on at most 4 lines")
+        else:
+            t0 = time.perf_counter()
+            try:
+                mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
+            except NoCircuitError as e:
+                mr = None
+                note("table", False, e.message)
+            dt = time.perf_counter() - t0
+            got = -1 if mr is None else mr.exact if mr.exact is not None else mr.lower
+            if mr is None:
+                pass
+            elif value > got or (exact and mr.exact != value):
+                note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
+            else:
+                table_value = value
+                which = "full" if depth >= FULL else f"depth-{depth}"
+                note("table", True, f"k >= {value}: meet in the middle over the {which} table ({dt:.2f} s)")
+
+    # Every refuted k.
+    refuted: set[int] = set()
+    queries = data.get("queries") or []
+    if not isinstance(queries, list):
+        raise ExactsynError("certificate: malformed 'queries' (not a list)")
+    for q in queries:
+        if not isinstance(q, dict) or q.get("status") not in tuple(Status):
+            note("query", False, f"malformed query entry {str(q)[:40]!r}")
+            continue
+        if q.get("status") != Status.UNSAT:
+            continue
+        k = q.get("k")
+        if not isinstance(k, int) or k < 0:
+            note("query", False, f"bad k {k!r}")
+            continue
+        q_opts = options
+        if q.get("symmetry") is not None:
+            try:
+                q_opts = EncodingOptions(options.name, tuple(str(x) for x in q["symmetry"]))
+            except (TypeError, ExactsynError):
+                note(f"k={k}", False, "malformed per-query symmetry rules")
+                continue
+        enc = encode(spec, library, k, q_opts)
+        digest = cnf_sha256(enc.num_vars, enc.clauses)
+        if digest != q.get("cnf_sha256"):
+            note(f"k={k}", False, "re-derived CNF differs from the one proved (spec, library or encoding changed)")
+            continue
+        if not q.get("proof"):
+            note(f"k={k}", False, "no proof file")
+            continue
+        try:
+            proof = read_proof(directory, str(q["proof"]))
+        except ExactsynError as e:
+            note(f"k={k}", False, e.message)
+            continue
+        t0 = time.perf_counter()
+        rep = check_lrat(enc.num_vars, enc.clauses, proof)
+        dt = time.perf_counter() - t0
+        if rep.ok:
+            refuted.add(k)
+            note(f"k={k}", True, f"LRAT refutation checked: {rep.steps} steps, {len(proof)} bytes, {dt:.2f} s")
+        else:
+            note(f"k={k}", False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
+
+    gate_count = None if circuit is None else len(circuit)
+    optimal_claim = bool(data.get("optimal"))
+    proven_k: int | None = None
+    if optimal_claim:
+        if circuit is None or first is None:
+            note("optimal", False, "optimality claimed without a checked circuit and bound")
+        else:
+            missing = [k for k in range(first, len(circuit)) if k not in refuted and k >= table_value]
+            if missing:
+                note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
+            else:
+                proven_k = len(circuit)
+                note("optimal", True, _covered(first, len(circuit), refuted, table_value))
+    if data.get("objective") is not None:
+        _check_objective(directory, data["objective"], spec, library, proven_k, note)
+    lb = data.get("lower_bound")
+    if isinstance(lb, int) and first is not None:
+        support = first
+        while support in refuted or support < table_value:
+            support += 1
+        if lb > support:
+            note("lower_bound", False, f"claims lower bound {lb}, checked only {support}")
+    ok = all(line.ok for line in out)
+    return CheckReport(ok, tuple(out), optimal_claim, gate_count, time.perf_counter() - start)
+
+
+def _span(ks: list[int]) -> str:
+    return str(ks[0]) if len(ks) == 1 else f"{ks[0]}..{ks[-1]}"
+
+
+def _covered(first: int, count: int, refuted: set[int], table_value: int) -> str:
+    """How every k below ``count`` is ruled out: the table bound, refutations, or nothing to rule out."""
+    ks = list(range(first, count))
+    by_table = [k for k in ks if k < table_value]
+    by_proof = [k for k in ks if k >= table_value]
+    parts = []
+    if by_table:
+        parts.append(f"k = {_span(by_table)} excluded by the distance table")
+    if by_proof:
+        parts.append(f"k = {_span(by_proof)} refuted by checked LRAT proofs")
+    if not parts:
+        return f"the circuit meets the bound: {count} is optimal"
+    return "; ".join(parts) + f": {count} is optimal"
+
+
+def _check_objective(
+    directory: Path,
+    d: Any,
+    spec: Spec,
+    library: Library,
+    k_star: int | None,
+    note: Callable[[str, bool, str], None],
+) -> None:
+    """Re-check the ``objective`` section; ``k_star`` is the gate count the gate part proved (or None)."""
+    try:
+        name = str(d["name"])
+        costs = None if d.get("costs") is None else tuple(json_int(c) for c in d["costs"])
+        options = EncodingOptions("onehot", tuple(str(s) for s in d.get("symmetry") or ()))
+        circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in d["circuit"]))
+        value, optimal, queries = json_int(d["value"]), bool(d["optimal"]), list(d.get("queries") or [])
+    except (KeyError, TypeError, ValueError, AttributeError):
+        raise ExactsynError("certificate: malformed 'objective'") from None
+    if name not in ("gates-then-cost", "cost", "depth") or (name != "depth") == (costs is None):
+        raise ExactsynError(f"certificate: objective {name!r} is not known or lacks its costs")
+    model = d.get("cost_model")
+    if costs is not None:
+        if len(costs) != len(library.gates):
+            note("objective", False, "one cost per library gate is needed")
+            return
+        if model in COST_MODELS:
+            again = library_costs(library, COST_MODELS[model])
+            if again != costs:
+                note("objective", False, f"stored costs are not those of cost model {model}")
+                return
+    if not all(library.contains(g) for g in circuit.gates) or not spec.accepts(circuit.permutation()):
+        note("objective", False, "the objective's circuit does not meet the spec in this library")
+        return
+    got = objective_value(circuit, library, costs)
+    if got != value:
+        note("objective", False, f"claims value {value}, the circuit has {got}")
+        return
+    size = count(len(circuit), "gate")
+    note("objective", True, f"{name}: circuit of {size} with value {value}, simulated on every input")
+
+    refuted: dict[tuple[str, int], int] = {}  # (kind, k) -> largest refuted limit (depth: k itself)
+    for q in queries:
+        if not isinstance(q, dict) or q.get("status") not in tuple(Status):
+            note("objective query", False, f"malformed query entry {str(q)[:40]!r}")
+            continue
+        if q.get("status") != Status.UNSAT:
+            continue
+        kind, k, limit = q.get("kind"), q.get("k"), q.get("limit")
+        label = f"{kind} k={k}" + ("" if limit is None else f" cost<={limit}")
+        if kind == "depth" and isinstance(k, int) and k >= 0:
+            enc = encode_depth(spec, library, k)
+        elif kind == "cost" and costs is not None and isinstance(k, int) and isinstance(limit, int) and k >= 0:
+            order = "gates" if name == "gates-then-cost" else "cost"
+            enc = encode(spec, library, k, options, cost_limit=CostLimit(costs, limit, order))
+        else:
+            note(label, False, "malformed query")
+            continue
+        if cnf_sha256(enc.num_vars, enc.clauses) != q.get("cnf_sha256"):
+            note(label, False, "re-derived CNF differs from the one proved")
+            continue
+        try:
+            proof = read_proof(directory, str(q.get("proof")))
+        except ExactsynError as e:
+            note(label, False, e.message)
+            continue
+        t0 = time.perf_counter()
+        rep = check_lrat(enc.num_vars, enc.clauses, proof)
+        if not rep.ok:
+            note(label, False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
+            continue
+        note(label, True, f"LRAT refutation checked: {rep.steps} steps, {time.perf_counter() - t0:.2f} s")
+        key = (str(kind), k)
+        refuted[key] = max(refuted.get(key, -1), limit if isinstance(limit, int) else k)
+
+    if not optimal:
+        return
+    if name == "depth":
+        trivial = value == 0 or (value == 1 and not spec.is_identity())
+        ok = trivial or ("depth", value - 1) in refuted
+        note(
+            "objective optimal", ok, f"depth {value} " + ("is optimal" if ok else f"lacks a refutation of {value - 1}")
+        )
+        return
+    assert costs is not None
+    if k_star is None:
+        note("objective optimal", False, "the gate part does not prove the minimum gate count")
+        return
+    if name == "gates-then-cost":
+        ks = [k_star] if len(circuit) == k_star else []
+        if not ks:
+            note("objective optimal", False, f"the circuit has {count(len(circuit), 'gate')}, not the proven {k_star}")
+            return
+    elif min(costs) < 1:
+        note("objective optimal", False, "objective 'cost' needs every gate to cost at least 1")
+        return
+    else:
+        extra = int(d.get("nonaffine_extra") or 0)
+        if extra:
+            derived = nonaffine_extra(spec, library, costs)
+            if extra > derived:
+                note("objective optimal", False, f"claims non-affine extra cost {extra}, re-derived {derived}")
+                return
+            note("non-affine", True, f"the function is not affine: every circuit has a gate costing {extra} more")
+        ks = list(range(k_star, (value - 1 - extra) // min(costs) + 1))
+    missing = [k for k in ks if refuted.get(("cost", k), -1) < value - 1]
+    if missing:
+        note("objective optimal", False, f"no refutation of cost <= {value - 1} for k = {', '.join(map(str, missing))}")
+    else:
+        note("objective optimal", True, f"cost {value} is optimal: every k in {ks[:1] + ks[-1:]} refuted below it")

@@ -1,0 +1,432 @@
+"""A circuit in every library when the proof cannot finish: the upper bound of the gate search.
+
+The gate search (:mod:`exactsyn.search.loop`) needs a circuit before it starts: it ends
+the search as soon as the proven lower bound meets that circuit's size, and it is what a
+time-out returns, marked *not proven optimal*.  The circuit is made in four steps:
+
+1. **A full permutation.**  A spec with don't-cares, constant inputs or outputs the
+   solver may place is completed to a permutation first: one choice of constants and
+   output lines, then a perfect matching of inputs to outputs that meet every specified
+   bit (augmenting paths, Kuhn's method; candidates nearest in Hamming distance first).
+2. **An MCT circuit.**  Transformation-based synthesis (Miller, Maslov & Dueck, DAC 2003,
+   :mod:`exactsyn.search.heuristic`) of the permutation and of its inverse (reversed),
+   each also after relabelling the lines (all ``n!`` relabellings up to 4 lines, a seeded
+   sample of :data:`VARIANTS` beyond): the result depends a lot on the order of the lines
+   (on seeded 4-line functions the NCT fallback ranged from 19 to 61 gates).  Each
+   candidate is scored by what it will cost in the library (an odd gate the library lacks
+   costs a conjugation, a gate with too many controls its Barenco decomposition) and the
+   :data:`FINALISTS` best go through steps 3 and 4; the shortest result is kept.  An
+   affine permutation in a library without Toffoli-type gates is written as NOT/CNOT
+   gates by Gaussian elimination instead (:mod:`exactsyn.search.affine`).
+3. **The library asked for.**  :mod:`exactsyn.search.rewrite`: odd gates paired and
+   conjugated, controls beyond the cap split with borrowed lines (Barenco et al. 1995),
+   Toffoli from Peres and CNOT, and SWAP routing on a coupling graph.
+4. **Shrunk.**  The window optimiser (:func:`exactsyn.optimise.optimise_circuit`, which
+   keeps the library, control cap and coupling) replaces windows of up to 3 lines — 4
+   lines on 4-line functions once the library's distance table exists — by optimal ones.
+
+The result is simulated against the spec; the search verifies it again before use.
+
+**Circuits from a smaller library.**  Every circuit of a sub-library (``nct ⊆ mct ⊆
+mixed``, ``nct ⊆ nct-swap``, ``mct ⊆ mct-swap``, …) is a circuit of the library, so its
+size is an upper bound too.  On 4 lines the distance table of ``mct`` (32 gates) reaches
+exact optima up to 11 gates, where the table of ``mixed`` (108 gates) stops much lower;
+when the search consults its own table, :func:`improve_upper` also tries the table of the
+largest smaller preset (``mct`` for ``mixed`` and the swap presets, ``nct`` for
+``nct-swap`` and ``nct-peres``) and keeps the smaller circuit.
+
+When no circuit can be made, :attr:`Fallback.reason` says why, and :func:`next_steps`
+what to try instead.
+"""
+
+from __future__ import annotations
+
+import itertools
+import random
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+from exactsyn.caches import memo
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate, invert_permutation, permutation_is_odd, x_gate
+from exactsyn.core.library import Edge, Library, make_library
+from exactsyn.errors import ExactsynError
+from exactsyn.search.affine import affine_circuit, affine_parts
+from exactsyn.search.distance import distance_table_by, extended_meet_by
+from exactsyn.search.events import Progress, SearchEvent, emit
+from exactsyn.search.heuristic import transformation_based
+from exactsyn.search.rewrite import CannotRewrite, rewrite_circuit, uncoupled
+from exactsyn.spec.reversible import Spec
+
+#: Smaller presets whose circuits are circuits of a library too, largest first.
+SUB_PRESETS = ("mct", "nct")
+#: At most this many choices of constants and output lines are tried when completing a spec.
+MAX_CHOICES = 16
+#: Line relabellings tried beyond 4 lines (identity first, then a seeded sample).
+VARIANTS = 24
+#: Candidates (by estimated cost in the library) that are rewritten and shrunk.
+FINALISTS = 3
+#: Under a time limit, the share of it the search's first fallback may take (the rest is for proofs).
+FALLBACK_SHARE = 0.2
+
+
+@dataclass(frozen=True)
+class Fallback:
+    """An upper-bound circuit (``None`` with a ``reason`` when none could be made) and how it was made."""
+
+    circuit: Circuit | None
+    how: str
+    reason: str = ""
+
+
+# --------------------------------------------------------------------------- step 1
+def _match(constraints: list[tuple[int, int]], lines: int) -> list[int] | None:
+    """A permutation ``p`` with ``p[x] & mask == value`` for ``constraints[x] = (mask, value)``."""
+    size = 1 << lines
+    owner = [-1] * size  # owner[y] = x with p[x] = y
+    def nearest(x: int) -> list[int]:
+        return sorted(range(size), key=lambda y: ((x ^ y).bit_count(), y))
+
+    order = [nearest(x) for x in range(size)]
+
+    def fits(x: int, y: int) -> bool:
+        mask, value = constraints[x]
+        return (y & mask) == value
+
+    def augment(x: int, seen: list[bool]) -> bool:
+        for y in order[x]:
+            if seen[y] or not fits(x, y):
+                continue
+            seen[y] = True
+            if owner[y] < 0 or augment(owner[y], seen):
+                owner[y] = x
+                return True
+        return False
+
+    # most constrained rows first keeps the augmenting paths short
+    for x in sorted(range(size), key=lambda x: -constraints[x][0].bit_count()):
+        if not augment(x, [False] * size):
+            return None
+    perm = [0] * size
+    for y, x in enumerate(owner):
+        perm[x] = y
+    return perm
+
+
+def _make_even(perm: list[int], constraints: list[tuple[int, int]]) -> bool:
+    """Swap the outputs of two rows whose constraints allow it (flips the parity); False if none can."""
+    size = len(perm)
+    for x1 in range(size):
+        m1, v1 = constraints[x1]
+        for x2 in range(x1 + 1, size):
+            m2, v2 = constraints[x2]
+            if (perm[x2] & m1) == v1 and (perm[x1] & m2) == v2:
+                perm[x1], perm[x2] = perm[x2], perm[x1]
+                return True
+    return False
+
+
+def complete_permutation(spec: Spec, even: bool = False) -> tuple[int, ...] | None:
+    """A full permutation meeting ``spec`` (step 1 of the module docstring), or ``None``.
+
+    With ``even`` the permutation is even (for libraries of even gates only, such as NCT
+    on 4 or more lines): an odd completion is fixed by swapping the outputs of two rows
+    whose specified bits allow it.
+    """
+    if spec.is_permutation:
+        return spec.permutation if not even or not permutation_is_odd(spec.permutation) else None
+    size = 1 << spec.lines
+    for constants, placement in spec.choices()[:MAX_CHOICES]:
+        cons = [(0, 0)] * size
+        ok = True
+        for r in spec.specified_rows():
+            x = r | constants
+            mask, value = spec.care[r], spec.outputs[r] & spec.care[r]
+            for targets, line in zip(spec.output_targets, placement, strict=True):
+                if targets[r] >= 0:
+                    bit = 1 << line
+                    if mask & bit and (value & bit) != (targets[r] << line):
+                        ok = False
+                    mask |= bit
+                    value = (value & ~bit) | (targets[r] << line)
+            old_mask, old_value = cons[x]
+            if (old_value ^ value) & old_mask & mask:
+                ok = False
+            cons[x] = (old_mask | mask, old_value | value)
+        if not ok:
+            continue
+        perm = _match(cons, spec.lines)
+        if perm is not None and even and permutation_is_odd(tuple(perm)) and not _make_even(perm, cons):
+            continue
+        if perm is not None and spec.meets(perm, constants, placement):
+            return tuple(perm)
+    return None
+
+
+# --------------------------------------------------------------------------- steps 2-4
+def _relabel_perm(perm: tuple[int, ...], sigma: tuple[int, ...]) -> tuple[int, ...]:
+    """``σ∘f∘σ⁻¹`` for the line relabelling ``l ↦ σ[l]``."""
+    n = len(sigma)
+
+    def move(x: int) -> int:
+        return sum(((x >> i) & 1) << sigma[i] for i in range(n))
+
+    out = [0] * len(perm)
+    for x, y in enumerate(perm):
+        out[move(x)] = move(y)
+    return tuple(out)
+
+
+def _mct_candidates(perm: tuple[int, ...], lines: int, deadline: float | None = None) -> list[Circuit]:
+    """Transformation-based circuits of ``perm`` over line relabellings and both directions (step 2).
+
+    The identity relabelling always; the others while ``deadline`` has not passed.
+    """
+    sigmas: list[tuple[int, ...]] = list(itertools.permutations(range(lines)))
+    if len(sigmas) > VARIANTS:
+        rest = sigmas[1:]
+        random.Random(lines).shuffle(rest)
+        sigmas = sigmas[:1] + rest[: VARIANTS - 1]
+    out: list[Circuit] = []
+    for sigma in sigmas:
+        if out and deadline is not None and time.perf_counter() >= deadline:
+            break
+        q = _relabel_perm(perm, sigma)
+        back = {sigma[i]: i for i in range(lines)}
+        for c in (transformation_based(q, lines), transformation_based(invert_permutation(q), lines).inverse()):
+            gates = tuple(x_gate(back[g.target], [back[x] for x in g.controls]) for g in c.gates)
+            out.append(Circuit(lines, gates))
+    return out
+
+
+def _estimate(circuit: Circuit, has: Callable[[Gate], bool]) -> int:
+    """Gates the circuit will have in the library after step 3 (a rough count, for ranking only)."""
+    n, total = circuit.lines, 0
+    for g in circuit.gates:
+        m = g.num_controls
+        if has(g):
+            total += 1
+        elif m == n - 1:
+            total += 5 * n - 10  # half a conjugated pair: two movers and a gate with n-2 controls
+        elif m >= 3:
+            total += 4 * (m - 2) if n - m - 1 >= m - 2 else 10 * (m - 2)
+        else:
+            total += 3
+    return total
+
+
+def _has_multi_control(library: Library) -> bool:
+    """Does the library have a gate that is not affine (Toffoli-type, controlled swap, Peres)?"""
+    return any(
+        g.family == "peres" or (g.family == "x" and g.num_controls >= 2) or (g.family == "swap" and g.num_controls)
+        for g in library.gates
+    )
+
+
+class _OutOfTime(Exception):
+    pass
+
+
+@memo(maxsize=16)
+def _window_answers(preset: str, lines: int, cap: int | None, coupling: tuple[Edge, ...], window: int) -> Any:
+    """The window resynthesis of a library, kept per process (its 3-line tables take 0.1 s to build)."""
+    from exactsyn.optimise.gateset import gate_set
+    from exactsyn.optimise.meet import CombinedResynthesis, MeetResynthesis
+    from exactsyn.optimise.resynthesis import TableResynthesis
+
+    gates = gate_set(preset, lines, (), cap, coupling)
+    small = TableResynthesis(gates, lines, None)
+    return CombinedResynthesis(small, MeetResynthesis(gates)) if window == 4 else small
+
+
+def shrink(circuit: Circuit, library: Library, deadline: float | None, window: int = 3) -> Circuit:
+    """The window optimiser on ``circuit`` (step 4); the input unchanged when the deadline passes first."""
+    from exactsyn.optimise import optimise_circuit  # the optimiser imports the distance tables; only here
+
+    if not circuit.gates or not library.preset:
+        return circuit
+    if deadline is not None and time.perf_counter() >= deadline:
+        return circuit
+
+    def watch(_: object) -> None:
+        if deadline is not None and time.perf_counter() >= deadline:
+            raise _OutOfTime
+
+    window = min(window, circuit.lines)
+    answers = _window_answers(library.preset, library.lines, library.control_cap, library.coupling, window)
+    try:
+        res = optimise_circuit(
+            circuit,
+            library=library.preset,
+            max_controls=library.control_cap,
+            coupling=library.coupling,
+            window=window,
+            resynthesis=answers,
+            progress=watch,
+        )
+    except (_OutOfTime, ExactsynError):
+        return circuit
+    return res.output
+
+
+def fallback_circuit(spec: Spec, library: Library, deadline: float | None = None) -> Fallback:
+    """A circuit of ``library`` meeting ``spec`` (module docstring), not optimal in general."""
+    even = library.lines >= 3 and library.all_even
+    perm = complete_permutation(spec, even)
+    if perm is None:
+        what = "an even permutation" if even else "a permutation"
+        return Fallback(None, "", f"no completion of the spec to {what} was found for the fallback circuit")
+    n = spec.lines
+    affine = affine_parts(perm, n)
+    try:
+        if not _has_multi_control(library):
+            if affine is None:
+                return Fallback(None, "", f"library {library.name} computes only affine functions")
+            gates = affine_circuit(*affine, n)
+            assert gates is not None  # a permutation's matrix is invertible
+            raw = Circuit(n, tuple(gates))
+            return _finish(spec, library, [raw], deadline, "Gaussian elimination of the affine function")
+        has = uncoupled(library).contains
+        # candidates may use a third of the time, rewriting and shrinking the rest
+        start = time.perf_counter()
+        until = None if deadline is None else start + max(0.0, deadline - start) / 3
+        ranked = sorted(_mct_candidates(perm, n, until), key=lambda c: (_estimate(c, has), len(c)))
+        how = "transformation-based synthesis (Miller, Maslov & Dueck 2003)"
+        return _finish(spec, library, ranked[:FINALISTS], deadline, how)
+    except CannotRewrite as e:
+        return Fallback(None, "", f"no fallback circuit in library {library.name}: {e}")
+
+
+def _finish(spec: Spec, library: Library, candidates: list[Circuit], deadline: float | None, how: str) -> Fallback:
+    """Steps 3 and 4 for each candidate (the first always, the others while time allows); the shortest."""
+    best: Fallback | None = None
+    window = 4 if spec.lines == 4 and _table_ready(library) else 3
+    for i, raw in enumerate(candidates):
+        if i and deadline is not None and time.perf_counter() >= deadline:
+            break
+        circuit = rewrite_circuit(raw, library)
+        said = how + (f", rewritten for {library.name}" if circuit.gates != raw.gates else "")
+        shrunk = shrink(circuit, library, deadline, window)
+        if len(shrunk) < len(circuit):
+            said += f", shrunk from {len(circuit)} gates by {window}-line window resynthesis"
+        if best is None or best.circuit is None or len(shrunk) < len(best.circuit):
+            best = Fallback(shrunk, said)
+    assert best is not None and best.circuit is not None
+    if not _meets(best.circuit, spec, library):  # pragma: no cover - every step above keeps the function
+        raise RuntimeError("internal error: the fallback circuit does not meet the spec")
+    return best
+
+
+def _meets(circuit: Circuit, spec: Spec, library: Library) -> bool:
+    return all(library.contains(g) for g in circuit.gates) and spec.accepts(circuit.permutation())
+
+
+def _table_ready(library: Library) -> bool:
+    """Is the library's 4-line distance table already built in this process (no time spent here)?"""
+    if not library.involutive or library.lines != 4:
+        return False
+    return distance_table_by(library, None, deadline=0.0) is not None
+
+
+# --------------------------------------------------------------------------- the search's hooks
+def initial_upper(spec: Spec, library: Library, deadline: float | None, progress: Progress | None) -> Fallback:
+    """The upper bound the gate search starts from (:func:`fallback_circuit`), announced to ``progress``.
+
+    Under a deadline it may take :data:`FALLBACK_SHARE` of the time left (its first
+    candidate is always finished, the window optimiser stops at that share).
+    """
+    if deadline is not None:
+        now = time.perf_counter()
+        deadline = now + FALLBACK_SHARE * max(0.0, deadline - now)
+    fb = fallback_circuit(spec, library, deadline)
+    if fb.circuit is not None:
+        emit(progress, SearchEvent("fallback", value=len(fb.circuit), detail=fb.how))
+    return fb
+
+
+def sub_libraries(library: Library) -> list[Library]:
+    """Presets whose every gate is in ``library`` (same lines, cap and coupling), largest first.
+
+    Presets that come out with the same gates (``mct`` capped at 2 controls is ``nct``) are
+    listed once, under the smaller preset's name.
+    """
+    out: list[Library] = []
+    for name in reversed(SUB_PRESETS):  # smallest first, so a duplicate keeps the plainer name
+        try:
+            sub = make_library(name, library.lines, library.control_cap, library.coupling)
+        except ExactsynError:
+            continue
+        new = sub.gates != library.gates and all(s.gates != sub.gates for s in out)
+        if new and all(library.contains(g) for g in sub.gates):
+            out.append(sub)
+    return out[::-1]
+
+
+def improve_upper(
+    upper: Fallback, spec: Spec, library: Library, deadline: float | None, progress: Progress | None
+) -> Fallback:
+    """A better upper bound once the search has built its distance table (4 lines, full specs).
+
+    Tries 4-line window resynthesis of the current circuit with the library's table, and
+    the meet in the middle over the table of the largest smaller preset; keeps the best.
+    """
+    best = upper
+    if not spec.is_permutation or spec.lines != 4:
+        return best
+    if best.circuit is not None and library.involutive and _table_ready(library):
+        shrunk = shrink(best.circuit, library, deadline, 4)
+        if len(shrunk) < len(best.circuit):
+            best = Fallback(shrunk, best.how + f", then 4-line window resynthesis from {len(best.circuit)} gates")
+            emit(progress, SearchEvent("fallback", value=len(shrunk), detail=best.how))
+    for sub in sub_libraries(library)[:1]:
+        if not sub.involutive or (best.circuit is not None and len(best.circuit) <= 1):
+            continue
+        t0 = time.perf_counter()
+        emit(progress, SearchEvent("table-start", detail=f"distance table of {sub.name} (a smaller library)"))
+        mr = extended_meet_by(spec.permutation, sub, deadline)
+        found = None if mr is None or mr.circuit is None else mr.circuit
+        emit(
+            progress,
+            SearchEvent(
+                "table-done",
+                value=None if found is None else len(found),
+                seconds=time.perf_counter() - t0,
+                detail=f"distance table of {sub.name} (a smaller library)",
+            ),
+        )
+        if found is not None and (best.circuit is None or len(found) < len(best.circuit)):
+            how = f"optimal in the smaller library {sub.name} (distance table and meet in the middle)"
+            best = Fallback(found, how)
+            emit(progress, SearchEvent("sub-library", value=len(found), detail=how))
+    return best
+
+
+def next_steps(
+    spec: Spec,
+    library: Library,
+    *,
+    lower_bound: int,
+    time_limit: float | None,
+    max_gates: int | None,
+    reason: str = "",
+) -> str:
+    """What to try when no circuit was found, as one sentence."""
+    tips: list[str] = []
+    if max_gates is not None and lower_bound > max_gates:
+        tips.append(f"--max-gates {lower_bound} or more")
+    elif max_gates is not None:
+        tips.append("a higher --max-gates")
+    if time_limit is not None:
+        tips.append(f"a longer --time-limit than {time_limit:g} s")
+    richer = [p for p in ("mct", "mixed") if p not in library.name.split("@")[0].split(":")[0]]
+    if reason and richer:
+        tips.append(f"a richer library such as --library {richer[0]}")
+    if library.coupling:
+        tips.append("a coupling graph that connects every line")
+    if library.control_cap is not None and library.control_cap < max(1, spec.lines - 1) and reason:
+        tips.append("a higher --max-controls")
+    if not tips:
+        tips.append("--bounds cheap with --certificate to see which k are refuted")
+    return "what to try next: " + "; or ".join(tips)

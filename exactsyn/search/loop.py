@@ -1,0 +1,229 @@
+"""The search loop: raise k from a proven lower bound until a k-gate circuit exists.
+
+For each k the encoder builds a fresh CNF (:mod:`exactsyn.sat.encode`) and the solver
+answers it; every UNSAT answer raises the proven lower bound to k + 1.  The first SAT
+answer is decoded, simulated against the spec, and returned as optimal.  A fast
+constructive circuit in the library (:mod:`exactsyn.search.fallback`: transformation-based
+synthesis, Miller, Maslov & Dueck, DAC 2003, rewritten into the library and shrunk by
+window resynthesis) gives an upper bound first: when every k below its size is refuted,
+it is itself optimal and the last SAT call is skipped; when time runs out, it is returned
+with the proven lower bound and clearly marked as not proven optimal.
+
+The time limit covers everything here: the fallback, the distance tables (built layer by
+layer, stopped at the deadline) and every query (solved in short conflict-budget slices).
+``max_gates`` is applied to every answer, the tables' included.
+"""
+
+from __future__ import annotations
+
+import functools
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.library import Library
+from exactsyn.errors import ExactsynError, NoCircuitError
+from exactsyn.sat.encode import Encoding, EncodingOptions, encode
+from exactsyn.sat.query import ProofSink, Query, run_query
+from exactsyn.sat.status import Status
+from exactsyn.search.bounds import (
+    Bound,
+    affine_obstruction,
+    completion_obstruction,
+    lower_bound,
+    parity_obstruction,
+)
+from exactsyn.search.distance import FULL, extended_meet_by
+from exactsyn.search.events import Progress, SearchEvent, emit
+from exactsyn.search.fallback import Fallback, improve_upper, initial_upper
+from exactsyn.spec.reversible import Spec
+
+BOUNDS = {
+    "table": "cheap bounds, then distance tables with meet in the middle (up to 4 lines, full specs)",
+    "cheap": "only bounds without tables; every refuted k gets an LRAT proof when certifying",
+}
+# Number of gates from which the distance table is consulted, by line count: building
+# the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
+TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
+# The table is not started when less time than this is left (its build stops at the
+# deadline anyway; this leaves short time limits to SAT).
+TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 5.0}
+
+
+@dataclass(frozen=True)
+class GateResult:
+    """The outcome of the gate-count search: the circuit, what is proven, and every query asked."""
+
+    spec: Spec
+    library: Library
+    circuit: Circuit | None
+    optimal: bool
+    lower_bound: int
+    upper_bound: int | None
+    initial_bound: Bound
+    table_bound: TableBound | None
+    steps: tuple[Query, ...]
+    encoding: EncodingOptions
+    solver: str
+    seconds: float
+    source: str  # "sat" | "heuristic" | "table" | "bound" (circuit met the lower bound) | "none"
+    how: str = ""  # how a "heuristic" circuit was made, or why there is none (exactsyn.search.fallback)
+
+
+@dataclass(frozen=True)
+class TableBound:
+    """A bound from the distance tables (:mod:`exactsyn.search.distance`), re-derivable from its depth."""
+
+    value: int  # every circuit has at least this many gates
+    exact: bool  # value is the optimum (a circuit of that size was found)
+    depth: int
+    extended: bool
+
+    def to_dict(self) -> dict[str, object]:
+        """The JSON form (results and certificates): ``depth`` is ``"full"`` for a table of every function."""
+        return {"value": self.value, "exact": self.exact, "depth": "full" if self.depth >= FULL else self.depth,
+                "extended": self.extended}
+
+
+#: Without symmetry breaking: the second formulation a hard query is raced against.
+PLAIN = EncodingOptions("onehot", ())
+
+
+def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
+    """Simulate on every input; refuse to hand out a circuit that is wrong."""
+    if circuit.lines != spec.lines or not spec.accepts(circuit.permutation()):
+        raise RuntimeError("internal error: decoded circuit does not meet the spec")
+    if not all(library.contains(g) for g in circuit.gates):
+        raise RuntimeError("internal error: decoded circuit uses a gate outside the library")
+
+
+def minimise_gates(
+    spec: Spec,
+    library: Library,
+    *,
+    encoding: EncodingOptions | None = None,
+    solver: str = "cadical195",
+    time_limit: float | None = None,
+    max_gates: int | None = None,
+    use_heuristic: bool = True,
+    bounds: str = "table",
+    jobs: int = 1,
+    progress: Progress | None = None,
+    proof_sink: ProofSink | None = None,
+    cnf_sink: Callable[[Encoding], None] | None = None,
+) -> GateResult:
+    """Find a minimum-gate circuit; see the module docstring.
+
+    With ``proof_sink`` every k-query is solved by CaDiCaL 1.9.5 with LRAT output and
+    each refutation is handed to ``proof_sink(stem, proof)``, which stores it and returns
+    its name (see :mod:`exactsyn.proof.certificate`).  With ``jobs >= 2`` a query still
+    open after a second is raced against the formulation without symmetry breaking.
+    ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  ``progress``
+    receives every answered query and a :class:`~exactsyn.search.events.SearchEvent` for
+    the other phases.  Raises :class:`NoCircuitError` when parity rules every circuit out.
+    """
+    opts = encoding or EncodingOptions()
+    start = time.perf_counter()
+    deadline = None if time_limit is None else start + time_limit
+    reason = parity_obstruction(spec, library) or affine_obstruction(spec, library) or completion_obstruction(spec)
+    if reason:
+        raise NoCircuitError(reason)
+    bound = lower_bound(spec, library)
+    hopeless = max_gates is not None and bound.value > max_gates  # no circuit within the limit: no fallback either
+    use_heuristic = use_heuristic and not hopeless
+    fallback = initial_upper(spec, library, deadline, progress) if use_heuristic else Fallback(None, "")
+    upper = fallback.circuit
+    steps: list[Query] = []
+    table: TableBound | None = None
+    if bounds not in BOUNDS:
+        raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
+    want_table = (
+        bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
+    )
+
+    def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
+        if circuit is not None and max_gates is not None and len(circuit) > max_gates:
+            # Every answer obeys the gate limit; a proven optimum above it is the bound.
+            lb = max(lb, len(circuit)) if optimal else lb
+            circuit, optimal, source = None, False, "none"
+        if circuit is not None:
+            verify(circuit, spec, library)
+        return GateResult(
+            spec=spec,
+            library=library,
+            circuit=circuit,
+            optimal=optimal,
+            lower_bound=lb,
+            upper_bound=None if circuit is None else len(circuit),
+            initial_bound=bound,
+            table_bound=table,
+            steps=tuple(steps),
+            encoding=opts,
+            solver=solver,
+            seconds=time.perf_counter() - start,
+            source=source,
+            how=fallback.how if source == "heuristic" else fallback.reason if circuit is None else "",
+        )
+
+    k = bound.value
+    per_k = 0.0  # seconds the last encoding took per gate position
+    if k == 0:
+        return result(Circuit(spec.lines), True, 0, "bound")
+    while True:
+        elapsed = time.perf_counter() - start
+        room = time_limit is None or time_limit - elapsed >= TABLE_MIN_SECONDS.get(spec.lines, 0.0)
+        if want_table and table is None and k >= TABLE_FROM.get(spec.lines, 99) and room:
+            what = f"distance table of {library.name}"
+            emit(progress, SearchEvent("table-start", k=k, detail=what))
+            mr = extended_meet_by(spec.permutation, library, deadline)
+            emit(progress, SearchEvent("table-done", k=k, value=None if mr is None else mr.exact or mr.lower,
+                                       seconds=time.perf_counter() - start - elapsed, detail=what))
+            if mr is None:  # not built by the deadline
+                want_table = False
+                continue
+            if mr.exact is not None and mr.circuit is not None:
+                table = TableBound(mr.exact, True, mr.depth, mr.extended)
+                return result(mr.circuit, True, mr.exact, "table")
+            table = TableBound(mr.lower, False, mr.depth, mr.extended)
+            if mr.lower > k:
+                emit(progress, SearchEvent("table-bound", low=k, high=mr.lower - 1, detail=what))
+            k = max(k, mr.lower)
+            fallback = improve_upper(fallback, spec, library, deadline, progress)
+            upper = fallback.circuit
+            continue
+        if max_gates is not None and k > max_gates:
+            # Every circuit needs at least k > max_gates gates: none within the limit.
+            return result(None, False, k, "none")
+        if upper is not None and k >= len(upper):
+            return result(upper, True, k, "heuristic")
+        left = None if time_limit is None else time_limit - (time.perf_counter() - start)
+        if left is not None and left <= 0:
+            return result(upper, False, k, "heuristic" if upper else "none")
+        if left is not None and left < per_k * k:  # the encoding alone would overrun (the last one's rate)
+            return result(upper, False, k, "heuristic" if upper else "none")
+        emit(progress, SearchEvent("query-start", k=k, seconds=left))
+        t_enc = time.perf_counter()
+        enc = encode(spec, library, k, opts)
+        per_k = (time.perf_counter() - t_enc) / max(k, 1)
+        if cnf_sink:
+            cnf_sink(enc)
+        if time_limit is not None:  # encoding took time too
+            left = time_limit - (time.perf_counter() - start)
+            if left <= 0:
+                return result(upper, False, k, "heuristic" if upper else "none")
+        rival = None
+        if jobs >= 2 and enc.options.symmetry:
+            rival = functools.partial(encode, spec, library, k, PLAIN)
+        ans = run_query(
+            enc, solver=solver, time_limit=left, proof_sink=proof_sink, rival=rival, rival_seconds=per_k * k
+        )
+        steps.append(ans.query)
+        if progress:
+            progress(ans.query)
+        if ans.query.status == Status.SAT:
+            assert ans.circuit is not None
+            return result(ans.circuit, True, k, "sat")
+        if ans.query.status == Status.UNKNOWN:
+            return result(upper, False, k, "heuristic" if upper else "none")
+        k += 1

@@ -1,0 +1,162 @@
+"""Objectives beyond gate count, each proven by refutations: cost after gates, cost, depth.
+
+All three start from a proven minimum-gate circuit (:func:`exactsyn.search.loop.synthesise`,
+``k*`` gates) and then tighten a bound by SAT queries, each of which is a CNF of
+:mod:`exactsyn.sat.encode` (with a :class:`~exactsyn.sat.encode.CostLimit`) or of
+:mod:`exactsyn.sat.encode_depth`, so a certificate can re-derive and re-check it.
+
+``gates-then-cost``
+    minimum cost among circuits of ``k*`` gates: with ``U`` the cost of the best circuit
+    so far, ask "``k*`` gates, cost ≤ U − 1?" until UNSAT.  The final refutation, with the
+    gate-count proof of ``k*``, proves the optimum.
+``cost``
+    minimum cost over circuits of any length.  Every gate costs at least ``c_min ≥ 1``, so
+    a circuit of cost ≤ C has at most ``⌊C / c_min⌋`` gates, and at least ``k*``; for a
+    non-affine function it has a non-affine gate, so at most ``⌊(C − e)/c_min⌋`` gates with
+    ``e`` from :func:`nonaffine_extra`.  With
+    ``U`` the best cost so far, ask "k gates, cost ≤ U − 1?" for k = k*, k* + 1, …,
+    ⌊(U − 1 − e)/c_min⌋; a SAT answer lowers ``U`` (queries already refuted with a larger
+    limit stay refuted: the limit only shrinks).  When every k is refuted, ``U`` is
+    optimal.  The number of queries grows with the cost, so this is for small functions.
+``depth``
+    minimum depth (gates on disjoint lines share a layer): with ``D`` the depth of the best
+    circuit so far, ask "depth ≤ D − 1?" until UNSAT; the empty layers the encoding allows
+    make one refutation cover every smaller depth.
+
+Time limits: each query gets what is left; an open query ends the search with the best
+circuit so far, marked not proven.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.costs import CostModel, library_costs, objective_value
+from exactsyn.errors import ExactsynError
+from exactsyn.sat.encode import CostLimit, Encoding, EncodingOptions, encode
+from exactsyn.sat.encode_depth import encode_depth
+from exactsyn.sat.query import ProofSink, Query, run_query
+from exactsyn.sat.status import Status
+from exactsyn.search.bounds import nonaffine_extra
+from exactsyn.search.loop import GateResult, verify
+
+OBJECTIVES = {
+    "gates": "fewest gates (the default)",
+    "gates-then-cost": "fewest gates, then the least cost among those",
+    "cost": "least cost over circuits of any length (may need more gates; small functions)",
+    "depth": "fewest layers, gates on disjoint lines sharing a layer",
+}
+COST_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "touch", "window2", "window3", "window4"))
+
+
+@dataclass(frozen=True)
+class ObjectiveResult:
+    objective: str
+    cost_model: str | None
+    costs: tuple[int, ...] | None  # per library gate, when the objective has a cost
+    circuit: Circuit
+    value: int  # the circuit's cost or depth
+    optimal: bool  # value proven minimal
+    bound: int  # proven lower bound on the objective
+    gate_result: GateResult
+    queries: tuple[Query, ...]
+    seconds: float
+    nonaffine_extra: int = 0  # see nonaffine_extra(); 0 when the bound does not apply
+    symmetry: tuple[str, ...] = ()  # rules of the cost queries' CNFs (certificates re-derive them)
+
+
+def optimise(
+    objective: str,
+    gate_result: GateResult,
+    model: CostModel | None = None,
+    *,
+    time_limit: float | None = None,
+    solver: str = "cadical195",
+    proof_sink: ProofSink | None = None,
+    progress: Callable[[Query], None] | None = None,
+    options: EncodingOptions = COST_OPTIONS,
+    nonaffine_bound: bool = True,
+) -> ObjectiveResult:
+    """Tighten ``gate_result`` (a proven minimum-gate result) for ``objective``."""
+    if objective not in OBJECTIVES or objective == "gates":
+        raise ExactsynError(f"unknown objective {objective!r}; choose one of: {', '.join(OBJECTIVES)}")
+    if gate_result.circuit is None or not gate_result.optimal:
+        raise ExactsynError("the minimum gate count was not proven, so the objective cannot be optimised")
+    spec, library = gate_result.spec, gate_result.library
+    start = time.perf_counter()
+    costs = None
+    extra = 0
+    if objective != "depth":
+        if model is None:
+            raise ExactsynError(f"objective {objective} needs a cost model")
+        costs = library_costs(library, model, positive=objective == "cost")
+    best = gate_result.circuit
+    value = objective_value(best, library, costs)
+    queries: list[Query] = []
+    k_star = len(best)
+
+    def left() -> float | None:
+        return None if time_limit is None else max(0.0, time_limit - (time.perf_counter() - start))
+
+    def ask(enc: Encoding, what: str, k: int, limit: int | None) -> tuple[Query, Circuit | None]:
+        ans = run_query(
+            enc, objective=what, k=k, limit=limit, solver=solver, time_limit=left(), proof_sink=proof_sink
+        )
+        queries.append(ans.query)
+        if progress:
+            progress(ans.query)
+        if ans.circuit is not None:
+            verify(ans.circuit, spec, library)
+        return ans.query, ans.circuit
+
+    def done(optimal: bool, bound: int) -> ObjectiveResult:
+        return ObjectiveResult(
+            objective,
+            None if model is None or objective == "depth" else model.name,
+            costs,
+            best,
+            value,
+            optimal,
+            bound,
+            gate_result,
+            tuple(queries),
+            time.perf_counter() - start,
+            extra,
+            options.symmetry,
+        )
+
+    if objective == "depth":
+        floor = 0 if spec.is_identity() else 1
+        while value > floor:
+            d = value - 1
+            q, circ = ask(encode_depth(spec, library, d), "depth", d, None)
+            if q.status == Status.UNSAT:
+                return done(True, value)
+            if q.status == Status.UNKNOWN or circ is None:
+                return done(False, floor)
+            best, value = circ, circ.depth()
+        return done(True, value)
+
+    assert costs is not None
+    c_min = min(costs)
+    extra = nonaffine_extra(spec, library, costs) if objective == "cost" and nonaffine_bound else 0
+    fixed_k = objective == "gates-then-cost"
+    order = "gates" if fixed_k else "cost"
+    k = k_star
+    while True:
+        limit = value - 1
+        top = k_star if fixed_k else (limit - extra) // c_min
+        if k > top:
+            return done(True, value)
+        enc = encode(spec, library, k, options, cost_limit=CostLimit(costs, limit, order))
+        q, circ = ask(enc, "cost", k, limit)
+        if q.status == Status.UNKNOWN:
+            return done(False, k_star * c_min)
+        if q.status == Status.UNSAT:
+            k += 1
+            continue
+        assert circ is not None
+        best, value = circ, objective_value(circ, library, costs)

@@ -1,0 +1,39 @@
+"""Read a function from a file of any supported kind.
+
+* ``.qasm`` (OpenQASM 2.0 or 3.0, the gate set of :mod:`exactsyn.io.qasm`): the
+  circuit's function, as a full permutation, to be resynthesised optimally;
+* ``.json``: a saved circuit (as written by ``--format json``), likewise;
+* TOML: a permutation spec (``permutation`` / ``cycles``, :mod:`exactsyn.spec.reversible`) or a
+  Boolean function (``inputs`` / ``outputs``, :mod:`exactsyn.spec.boolean`), embedded into
+  a reversible spec by :mod:`exactsyn.spec.embed`.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from pathlib import Path
+
+from exactsyn.errors import ExactsynError
+from exactsyn.io.files import circuit_from_text, kind_of_text, read_text
+from exactsyn.spec.boolean import function_from_mapping, is_function_mapping
+from exactsyn.spec.embed import Embedding, embed
+from exactsyn.spec.reversible import Spec, from_permutation, spec_from_mapping
+
+
+def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
+    p = Path(path)
+    text = read_text(p, "spec file")
+    kind = kind_of_text(text, p.suffix)
+    if kind == "empty":
+        raise ExactsynError(f"spec file {p} is empty: expected a TOML spec, OpenQASM or exactsyn JSON circuit")
+    if kind in ("qasm", "json"):
+        circ = circuit_from_text(text, p)
+        return from_permutation(list(circ.permutation()), p.stem), None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as e:
+        raise ExactsynError(f"malformed spec file {p}: {e}") from None
+    if is_function_mapping(data):
+        fn = function_from_mapping(data, str(p))
+        return embed(fn)
+    return spec_from_mapping(data, str(p)), None
