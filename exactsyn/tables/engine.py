@@ -33,8 +33,8 @@ from typing import Any
 
 import numpy as np
 
+from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate
 from exactsyn.tables import perm4, store
 from exactsyn.tables.gateset import GateSet, circuit_key, gate_set
 

@@ -17,10 +17,10 @@ from functools import lru_cache
 
 import numpy as np
 
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import Gate
+from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import Gate
-from exactsyn.library import make_library
 from exactsyn.tables import perm4
 
 #: Libraries the 4-line class tables are made for.
@@ -53,7 +53,7 @@ class GateSet:
 def relabel_gate(gate: Gate, sigma: tuple[int, ...]) -> Gate:
     """The gate with line ``l`` renamed ``σ[l]``."""
     return Gate(
-        gate.kind,
+        gate.family,
         tuple(sigma[t] for t in gate.targets),
         tuple(sorted(sigma[c] for c in gate.controls)),
         tuple(sorted(sigma[c] for c in gate.negative_controls)),

@@ -10,12 +10,12 @@ import pytest
 from helpers import hwb, random_perm
 
 from exactsyn import tables
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.library import make_library
-from exactsyn.mitm import extended_meet
-from exactsyn.search import synthesise
-from exactsyn.spec import from_permutation
+from exactsyn.search.distance import extended_meet
+from exactsyn.search.loop import minimise_gates
+from exactsyn.spec.reversible import from_permutation
 
 
 def _random_circuit_perm(rng: random.Random, library: str, length: int) -> tuple[int, ...]:
@@ -61,7 +61,7 @@ def test_optima_equal_sat_on_short_functions(mct6: tables.Tables) -> None:
     lib = make_library("mct", 4)
     for k in (2, 4, 5, 6):
         p = _random_circuit_perm(rng, "mct", k)
-        sat = synthesise(from_permutation(list(p)), lib, bounds="cheap")
+        sat = minimise_gates(from_permutation(list(p)), lib, bounds="cheap")
         ans = mct6.synthesise(p)
         assert sat.optimal and sat.circuit is not None
         assert ans.gate_count == len(sat.circuit) and _simulates(ans)
@@ -99,7 +99,7 @@ def test_odd_permutations_are_refused_for_nct(table_cache: Path) -> None:
 
 
 def _odd(p: list[int]) -> bool:
-    from exactsyn.gates import permutation_is_odd
+    from exactsyn.core.gates import permutation_is_odd
 
     return permutation_is_odd(tuple(p))
 
@@ -117,11 +117,9 @@ def test_bad_permutations_are_refused(mct6: tables.Tables) -> None:
 
 
 @pytest.mark.slow
-def test_full_table_settles_hwb4_and_random_functions() -> None:  # pragma: no cover - minutes
-    t = tables.load("mct") if tables.info("mct")[0].present else None
-    if t is None:
-        tables.build("mct")
-        t = tables.load("mct")
+def test_full_table_settles_hwb4_and_random_functions(full_cache: Path) -> None:  # pragma: no cover - minutes
+    tables.build("mct", cache=full_cache)
+    t = tables.load("mct", cache=full_cache)
     assert t.synthesise(hwb(4)).gate_count == 11
     rng = random.Random(99)
     lib = make_library("mct", 4)

@@ -11,9 +11,9 @@ import pytest
 from helpers import hwb
 
 from exactsyn import tables
-from exactsyn.circuit import Circuit
+from exactsyn.core.circuit import Circuit
+from exactsyn.core.gates import x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.gates import x_gate
 from exactsyn.tables import kernels as K
 from exactsyn.tables import store, verify
 
@@ -76,8 +76,10 @@ def test_a_changed_byte_is_caught_and_rebuilt(depth4: Path, tmp_path: Path) -> N
         tables.load("mct", cache=tmp_path, verify_hashes=True)
     report = verify.verify_table("mct", cache=tmp_path, workers=1, stamp=False)
     assert not report.ok and any("level-03.u64" in p for p in report.problems)
+    assert not tables.info("mct", cache=tmp_path, hashes=True)[0].present
     good = json.loads((store.table_dir("mct", depth4) / store.MANIFEST).read_text())["content_hash"]
-    assert tables.build("mct", depth=4, cache=tmp_path).content_hash == good
+    assert tables.build("mct", depth=4, cache=tmp_path, force=True).content_hash == good
+    assert store.check_directory(d, hashes=True).ok
 
 
 def _rewrite(d: Path, levels: list[np.ndarray]) -> None:
