@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import pytest
@@ -24,3 +25,11 @@ def table_cache(tmp_path_factory: pytest.TempPathFactory) -> Path:
 @pytest.fixture(scope="session")
 def mct6(table_cache: Path) -> tables.Tables:
     return tables.load("mct", cache=table_cache)
+
+
+@pytest.fixture(scope="session")
+def full_cache(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """Where the slow tests find full tables: $EXACTSYN_TEST_TABLES (a cache directory holding
+    tables built before, used read-only) or a session directory they are built into."""
+    given = os.environ.get("EXACTSYN_TEST_TABLES")
+    return Path(given) if given else tmp_path_factory.mktemp("full-tables")
