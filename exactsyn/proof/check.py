@@ -175,6 +175,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
 
     # A claim of the 4-line class tables: re-derived by the separate numpy checker.
     cv = _check_class_table(data.get("class_table"), spec, library, circuit, note)
+    table_name = "4-line class table" if cv > table_value else "distance table"
     table_value = max(table_value, cv)
 
     # Every refuted k.
@@ -233,7 +234,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
             else:
                 proven_k = len(circuit)
-                note("optimal", True, _covered(first, len(circuit), refuted, table_value))
+                note("optimal", True, _covered(first, len(circuit), refuted, table_value, table_name))
     if data.get("objective") is not None:
         _check_objective(directory, data["objective"], spec, library, proven_k, note)
     lb = data.get("lower_bound")
@@ -251,14 +252,14 @@ def _span(ks: list[int]) -> str:
     return str(ks[0]) if len(ks) == 1 else f"{ks[0]}..{ks[-1]}"
 
 
-def _covered(first: int, count: int, refuted: set[int], table_value: int) -> str:
+def _covered(first: int, count: int, refuted: set[int], table_value: int, table_name: str = "distance table") -> str:
     """How every k below ``count`` is ruled out: the table bound, refutations, or nothing to rule out."""
     ks = list(range(first, count))
     by_table = [k for k in ks if k < table_value]
     by_proof = [k for k in ks if k >= table_value]
     parts = []
     if by_table:
-        parts.append(f"k = {_span(by_table)} excluded by the tables")
+        parts.append(f"k = {_span(by_table)} excluded by the {table_name}")
     if by_proof:
         parts.append(f"k = {_span(by_proof)} refuted by checked LRAT proofs")
     if not parts:

@@ -9,6 +9,13 @@ window resynthesis) gives an upper bound first: when every k below its size is r
 it is itself optimal and the last SAT call is skipped; when time runs out, it is returned
 with the proven lower bound and clearly marked as not proven optimal.
 
+A full 4-line permutation is first put to the cached 4-line class tables
+(:mod:`exactsyn.search.classtable`; Golubitsky, Falconer & Maslov, DAC 2010): over a
+table's own library they give the optimum and its circuit with no SAT call, otherwise
+(a library inside a table's, a function beyond the table's reach, a scan cut by the
+deadline) a proven lower bound the loop starts from.  Without a cached table the
+search runs as before and :attr:`GateResult.hint` says how to build one.
+
 The time limit covers everything here: the fallback, the distance tables (built layer by
 layer, stopped at the deadline) and every query (solved in short conflict-budget slices).
 ``max_gates`` is applied to every answer, the tables' included.
@@ -156,8 +163,8 @@ def minimise_gates(
             claim = settled.claim
             emit(progress, SearchEvent("table-done", k=bound.value, value=claim.value,
                                        seconds=claim.seconds, detail=f"{what} of {claim.library}"))
-            if claim.depth >= 6:  # it reaches further than the distance table (12 gates at most)
-                want_table = False
+            if claim.depth >= 6 and table_for(library) is not None:
+                want_table = False  # the library's own table reaches further than its distance table (12 at most)
     fallback = Fallback(None, "")
     if use_heuristic and (settled is None or settled.circuit is None):
         fallback = initial_upper(spec, library, deadline, progress)
