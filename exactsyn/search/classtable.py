@@ -134,10 +134,11 @@ def settle(spec: Spec, library: Library, deadline: float | None) -> Settled | No
 
 
 def sub_table_for(library: Library) -> str | None:
-    """The largest table library whose every gate is in ``library`` (its circuits are ``library``'s)."""
+    """The largest cached table library whose every gate is in ``library`` (its circuits are ``library``'s)."""
     if library.lines != 4:
         return None
-    return next((name for name in reversed(TABLE_ORDER) if _gate_set(name) <= frozenset(library.gates)), None)
+    inside = (name for name in reversed(TABLE_ORDER) if _gate_set(name) <= frozenset(library.gates))
+    return next((name for name in inside if cached(name)), None)
 
 
 def shorten(circuit: Circuit, library: Library, rounds: int = 3) -> Circuit | None:
@@ -148,8 +149,10 @@ def shorten(circuit: Circuit, library: Library, rounds: int = 3) -> Circuit | No
     the replacement of least total size (each run ``i..j`` costs its optimum, a single gate
     outside the table costs 1).  Repeated while it helps, since new cut points appear.
     """
+    if circuit.lines != 4 or len(circuit) < 2:
+        return None
     name = sub_table_for(library)
-    if circuit.lines != 4 or name is None or len(circuit) < 2 or not cached(name):
+    if name is None:
         return None
     import numpy as np
 
