@@ -212,6 +212,8 @@ def test_tables_commands(cached: Path) -> None:
     rows = [line.split() for line in counts.output.splitlines()[2:]]
     published = [1, 32, 784, 16204, 294507, 4807552, 70763560]
     assert [int(r[2].replace(",", "")) for r in rows] == published
+    checked = runner.invoke(main, ["tables", "verify", "--library", "nct", "-j", "1", "-q"])
+    assert checked.exit_code == 0 and "nct: OK, depth 5" in checked.output
     bad = runner.invoke(main, ["tables", "build", "--library", "toffoli"])
     assert bad.exit_code == 2 and bad.stderr.count("\n") == 1
 
