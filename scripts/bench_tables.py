@@ -85,13 +85,18 @@ def build_or_use(library: str, cache: Path | None, rebuild: bool) -> tables.Tabl
 
 
 _BASELINE_CHILD = """
-import json, resource, sys, time
+import json, sys, time
 from exactsyn.core.library import make_library
 from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.reversible import from_permutation
 from exactsyn.tables.sample import sample_function
 lib_name, n, seed, limit = sys.argv[1], int(sys.argv[2]), int(sys.argv[3]), float(sys.argv[4])
 lib = make_library(lib_name, 4)
+def hwm():  # this process's own peak (ru_maxrss would include the parent's: Linux keeps it across exec)
+    for line in open("/proc/self/status"):
+        if line.startswith("VmHWM:"):
+            return int(line.split()[1]) * 1024
+    return 0
 for i in range(n):
     p = sample_function(seed, i, lib.all_even)
     t0 = time.perf_counter()
@@ -99,7 +104,7 @@ for i in range(n):
     print(json.dumps({"i": i, "seconds": time.perf_counter() - t0, "optimal": res.optimal,
                       "gates": None if res.circuit is None else len(res.circuit), "lower": res.lower_bound,
                       "class_table": res.class_table is not None,
-                      "rss": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024}), flush=True)
+                      "rss": hwm()}), flush=True)
 """
 
 
