@@ -203,6 +203,8 @@ def synthesise(
         cube_progress=cube_progress,
     )
     notes: list[str] = []
+    if gates.hint:
+        notes.append(gates.hint)
     if gates.source == "heuristic" and gates.how and not gates.optimal:
         notes.append(f"the circuit is a fallback, not proven optimal: {gates.how}")
     if gates.circuit is None:

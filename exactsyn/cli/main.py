@@ -27,6 +27,7 @@ from exactsyn.cli.check import check
 from exactsyn.cli.optimise import optimise
 from exactsyn.cli.pictures import draw, report
 from exactsyn.cli.synth import synth
+from exactsyn.cli.tables import tables
 from exactsyn.errors import ExactsynError, did_you_mean
 
 DEBUG_VARIABLE = "EXACTSYN_DEBUG"
@@ -127,5 +128,5 @@ def main() -> None:
     """
 
 
-for command in (synth, optimise, check, apply, batch, table, draw, report):
+for command in (synth, optimise, check, apply, batch, table, tables, draw, report):
     main.add_command(command)

@@ -13,6 +13,8 @@ cost under every built-in cost model (and a user table when one was given), and
 ``clifford_t`` the counts of its Clifford+T decomposition (``--clifford-t``; the caller
 decomposes and simulates it, this module only formats);
 ``circuits`` lists every optimal circuit after ``--all``, ``count`` their number.
+``class_table`` is what the 4-line class tables established (:mod:`exactsyn.search.classtable`),
+or null.
 """
 
 from __future__ import annotations
@@ -70,6 +72,7 @@ def synthesis_to_dict(syn: Synthesis, clifford_t: CliffordT | None = None) -> di
         "source": res.source,
         "initial_bound": {"value": res.initial_bound.value, "reason": res.initial_bound.reason},
         "table_bound": None if res.table_bound is None else res.table_bound.to_dict(),
+        "class_table": None if res.class_table is None else res.class_table.to_dict(),
         "encoding": res.encoding.describe(),
         "solver": res.solver,
         "steps": [q.summary() for q in res.steps],
@@ -123,6 +126,10 @@ def status_line(res: GateResult) -> str:
             tb = res.table_bound
             depth = "full" if tb.depth >= FULL else f"depth {tb.depth}"
             how = f"; distance table ({depth}): at least {_gates(tb.value)}"
+        ct = res.class_table
+        if ct is not None:
+            what = "optimum" if ct.exact else f"at least {_gates(ct.value)}"
+            how += f"; 4-line class table of {ct.library} (depth {ct.depth}, {ct.method}): {what}"
         refuted = [s.k for s in res.steps if s.status == Status.UNSAT]
         if refuted:
             span = str(refuted[0]) if len(refuted) == 1 else f"{refuted[0]}..{refuted[-1]}"

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-_IRREGULAR = {"entry": "entries", "batch": "batches", "query": "queries", "circuit(s)": "circuits"}
+_IRREGULAR = {"entry": "entries", "batch": "batches", "class": "classes", "query": "queries", "circuit(s)": "circuits"}
 
 
 def plural(noun: str, n: int) -> str:

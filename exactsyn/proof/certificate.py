@@ -12,7 +12,11 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     ``initial_bound`` (``value``, ``reason``, ``detail`` — a bound that needs no SAT
     call, re-derived by the checker); ``table_bound`` (``value``, ``exact``, ``depth`` — an
     integer, or ``"full"`` for a table of every function the library generates (earlier
-    versions wrote 1000000) — ``extended``, or null); ``queries``: one entry per k-query with ``k``, ``status``
+    versions wrote 1000000) — ``extended``, or null); ``class_table`` (what the cached
+    4-line class table established, or null/absent: ``library`` of the table, ``depth``,
+    ``content_hash`` of its files, ``format``, ``value`` — the optimum when ``exact``, else a
+    lower bound — ``method``, ``seconds``; re-derived by the checker with
+    :func:`exactsyn.tables.verify.check_claim`); ``queries``: one entry per k-query with ``k``, ``status``
     (``unsat`` / ``sat`` / ``unknown``), ``proof`` (file name or null), ``cnf_sha256``,
     ``num_vars``, ``num_clauses``, ``solver``, ``seconds``, ``conflicts``,
     ``proof_bytes`` and ``symmetry`` (the query's rules when they differ from
@@ -251,6 +255,7 @@ def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | 
             "detail": res.initial_bound.detail,
         },
         "table_bound": None if res.table_bound is None else res.table_bound.to_dict(),
+        "class_table": None if res.class_table is None else res.class_table.to_dict(),
         "queries": [gate_query_to_dict(q, res.encoding) for q in res.steps],
     }
     if objective is not None:

@@ -39,7 +39,7 @@ from typing import Any
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import COST_MODELS, library_costs, objective_value
-from exactsyn.core.library import Library
+from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.words import count
@@ -181,6 +181,11 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 which = "full" if depth >= FULL else f"depth-{depth}"
                 note("table", True, f"k >= {value}: meet in the middle over the {which} table ({dt:.2f} s)")
 
+    # A claim of the 4-line class tables: re-derived by the separate numpy checker.
+    cv = _check_class_table(data.get("class_table"), spec, library, circuit, note)
+    table_name = "4-line class table" if cv > table_value else "distance table"
+    table_value = max(table_value, cv)
+
     # Every refuted k.
     refuted: set[int] = set()
     queries = data.get("queries") or []
@@ -241,7 +246,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
             else:
                 proven_k = len(circuit)
-                note("optimal", True, _covered(first, len(circuit), refuted, table_value))
+                note("optimal", True, _covered(first, len(circuit), refuted, table_value, table_name))
     if data.get("objective") is not None:
         _check_objective(directory, data["objective"], spec, library, proven_k, note)
     lb = data.get("lower_bound")
@@ -259,14 +264,14 @@ def _span(ks: list[int]) -> str:
     return str(ks[0]) if len(ks) == 1 else f"{ks[0]}..{ks[-1]}"
 
 
-def _covered(first: int, count: int, refuted: set[int], table_value: int) -> str:
+def _covered(first: int, count: int, refuted: set[int], table_value: int, table_name: str = "distance table") -> str:
     """How every k below ``count`` is ruled out: the table bound, refutations, or nothing to rule out."""
     ks = list(range(first, count))
     by_table = [k for k in ks if k < table_value]
     by_proof = [k for k in ks if k >= table_value]
     parts = []
     if by_table:
-        parts.append(f"k = {_span(by_table)} excluded by the distance table")
+        parts.append(f"k = {_span(by_table)} excluded by the {table_name}")
     if by_proof:
         parts.append(f"k = {_span(by_proof)} refuted by checked LRAT proofs")
     if not parts:
@@ -382,3 +387,61 @@ def _check_objective(
         note("objective optimal", False, f"no refutation of cost <= {value - 1} for k = {', '.join(map(str, missing))}")
     else:
         note("objective optimal", True, f"cost {value} is optimal: every k in {ks[:1] + ks[-1:]} refuted below it")
+
+
+def _check_class_table(
+    raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Callable[[str, bool, str], None]
+) -> int:
+    """Re-derive a class-table claim (the optimum or a lower bound); the bound it supports, else 0.
+
+    Trusted (said in the report line): the cached table whose files hash to the recorded
+    content hash is exact — :func:`exactsyn.tables.verify.verify_table` proves that from
+    the files (``exactsyn tables verify``, which leaves a stamp the line reports), and a
+    rebuild gives the same hash (the build is deterministic).  Re-derived here: the files'
+    SHA-256 against the manifest, the content hash, and the claim itself by a separate
+    numpy implementation (:func:`~exactsyn.tables.verify.check_claim`).
+    """
+    if raw is None:
+        return 0
+    try:
+        name, depth = str(raw["library"]), json_int(raw["depth"])
+        value, exact, content_hash = json_int(raw["value"]), bool(raw["exact"]), str(raw["content_hash"])
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'class_table'") from None
+    from exactsyn.tables import verify
+
+    if name not in ("nct", "mct", "mixed") or spec.lines != 4 or not spec.is_permutation:
+        note("class table", False, "a class-table claim needs a full 4-line permutation and a table library")
+        return 0
+    table_gates = make_library(name, 4).gates
+    if not set(library.gates) <= set(table_gates) or (exact and set(library.gates) != set(table_gates)):
+        note("class table", False, f"the {name} table does not apply to library {library.name}")
+        return 0
+    gates = None
+    if exact:
+        if circuit is None or len(circuit) != value:
+            note("class table", False, f"an exact claim of {value} gates without a checked circuit of that size")
+            return 0
+        gates = circuit.gates
+    try:
+        res = verify.check_claim(name, spec.permutation, value, gates, content_hash=content_hash)
+    except (ExactsynError, OSError) as e:
+        msg = e.message if isinstance(e, ExactsynError) else str(e)
+        note("class table", False, f"{msg}; rebuild it with `exactsyn tables build --library {name} --depth {depth}`")
+        return 0
+    if not res.ok:
+        note("class table", False, "; ".join(res.problems))
+        return 0
+    trust = (
+        "table verified by `exactsyn tables verify`"
+        if res.table_verified
+        else f"trusted, not yet verified here: `exactsyn tables verify --library {name}`"
+    )
+    what = f"k = {value} is the optimum" if exact else f"k >= {value}"
+    note(
+        "class table",
+        True,
+        f"{what}: no shorter split over the {name} depth-{depth} table {content_hash[:12]} "
+        f"({res.tests} classes looked up, files re-hashed, {res.seconds:.1f} s; {trust})",
+    )
+    return value

@@ -24,6 +24,10 @@ time-out returns, marked *not proven optimal*.  The circuit is made in four step
 4. **Shrunk.**  The window optimiser (:func:`exactsyn.optimise.optimise_circuit`, which
    keeps the library, control cap and coupling) replaces windows of up to 3 lines — 4
    lines on 4-line functions once the library's distance table exists — by optimal ones.
+   On 4 lines, when the class table of a library inside this one is cached
+   (:func:`exactsyn.search.classtable.shorten`), every run of consecutive gates whose
+   function the table holds may be replaced by an optimal circuit of it (the cheapest set
+   of runs by dynamic programming over the cut points).
 
 The result is simulated against the spec; the search verifies it again before use.
 
@@ -54,6 +58,7 @@ from exactsyn.core.gates import Gate, invert_permutation, permutation_is_odd, x_
 from exactsyn.core.library import Edge, Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.search.affine import affine_circuit, affine_parts
+from exactsyn.search.classtable import shorten
 from exactsyn.search.distance import distance_table_by, extended_meet_by
 from exactsyn.search.events import Progress, SearchEvent, emit
 from exactsyn.search.heuristic import transformation_based
@@ -316,6 +321,11 @@ def _finish(spec: Spec, library: Library, candidates: list[Circuit], deadline: f
         shrunk = shrink(circuit, library, deadline, window)
         if len(shrunk) < len(circuit):
             said += f", shrunk from {len(circuit)} gates by {window}-line window resynthesis"
+        if spec.lines == 4:
+            table_made = shorten(shrunk, library)
+            if table_made is not None:
+                said += f", then runs of gates replaced from the 4-line class table ({len(shrunk)} gates before)"
+                shrunk = table_made
         if best is None or best.circuit is None or len(shrunk) < len(best.circuit):
             best = Fallback(shrunk, said)
     assert best is not None and best.circuit is not None

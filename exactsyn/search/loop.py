@@ -9,6 +9,13 @@ window resynthesis) gives an upper bound first: when every k below its size is r
 it is itself optimal and the last SAT call is skipped; when time runs out, it is returned
 with the proven lower bound and clearly marked as not proven optimal.
 
+A full 4-line permutation is first put to the cached 4-line class tables
+(:mod:`exactsyn.search.classtable`; Golubitsky, Falconer & Maslov, DAC 2010): over a
+table's own library they give the optimum and its circuit with no SAT call, otherwise
+(a library inside a table's, a function beyond the table's reach, a scan cut by the
+deadline) a proven lower bound the loop starts from.  Without a cached table the
+search runs as before and :attr:`GateResult.hint` says how to build one.
+
 The time limit covers everything here: the fallback, the distance tables (built layer by
 layer, stopped at the deadline) and every query (solved in short conflict-budget slices).
 ``max_gates`` is applied to every answer, the tables' included.
@@ -35,6 +42,7 @@ from exactsyn.search.bounds import (
     lower_bound,
     parity_obstruction,
 )
+from exactsyn.search.classtable import HINT, ClassTableClaim, applies, settle, table_for
 from exactsyn.search.distance import FULL, MeetResult, extended_meet_by
 from exactsyn.search.events import Progress, SearchEvent, emit
 from exactsyn.search.fallback import FIVE_SHRINK_FROM, Fallback, improve_upper, initial_upper
@@ -69,8 +77,10 @@ class GateResult:
     encoding: EncodingOptions
     solver: str
     seconds: float
-    source: str  # "sat" | "heuristic" | "table" | "bound" (circuit met the lower bound) | "none"
+    source: str  # "sat" | "heuristic" | "table" | "class-table" | "bound" (circuit met the lower bound) | "none"
     how: str = ""  # how a "heuristic" circuit was made, or why there is none (exactsyn.search.fallback)
+    class_table: ClassTableClaim | None = None  # what the 4-line class tables established (exactsyn.search.classtable)
+    hint: str = ""  # one line for the user, e.g. how to get the class tables
 
 
 @dataclass(frozen=True)
@@ -138,8 +148,6 @@ def minimise_gates(
     bound = lower_bound(spec, library)
     hopeless = max_gates is not None and bound.value > max_gates  # no circuit within the limit: no fallback either
     use_heuristic = use_heuristic and not hopeless
-    fallback = initial_upper(spec, library, deadline, progress) if use_heuristic else Fallback(None, "")
-    upper = fallback.circuit
     steps: list[Query] = []
     table: TableBound | None = None
     if bounds not in BOUNDS:
@@ -147,6 +155,26 @@ def minimise_gates(
     want_table = (
         bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
     ) or (bounds == "table" and spec.is_permutation and five_table_ok(library))
+    # The cached 4-line class tables: the optimum itself, or a lower bound (search.classtable).
+    claim: ClassTableClaim | None = None
+    hint = ""
+    settled = None
+    if bounds == "table" and bound.value > 0 and applies(spec, library):
+        what = "4-line class table"
+        emit(progress, SearchEvent("table-start", k=bound.value, detail=what))
+        settled = settle(spec, library, deadline)
+        if settled is None:
+            hint = HINT if table_for(library) is not None else ""
+        else:
+            claim = settled.claim
+            emit(progress, SearchEvent("table-done", k=bound.value, value=claim.value,
+                                       seconds=claim.seconds, detail=f"{what} of {claim.library}"))
+            if claim.depth >= 6 and table_for(library) is not None:
+                want_table = False  # the library's own table reaches further than its distance table (12 at most)
+    fallback = Fallback(None, "")
+    if use_heuristic and (settled is None or settled.circuit is None):
+        fallback = initial_upper(spec, library, deadline, progress)
+    upper = fallback.circuit
 
     def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
         if circuit is not None and max_gates is not None and len(circuit) > max_gates:
@@ -170,9 +198,17 @@ def minimise_gates(
             seconds=time.perf_counter() - start,
             source=source,
             how=fallback.how if source == "heuristic" else fallback.reason if circuit is None else "",
+            class_table=claim,
+            hint=hint,
         )
 
     k = bound.value
+    if settled is not None and claim is not None:
+        if settled.circuit is not None:
+            return result(settled.circuit, True, claim.value, "class-table")
+        if claim.value > k:
+            emit(progress, SearchEvent("table-bound", low=k, high=claim.value - 1, detail="4-line class table"))
+            k = claim.value
     per_k = 0.0  # seconds the last encoding took per gate position
     shrunk_five = False  # 5 lines: the fallback shrunk by 4-line windows once (search/fallback.py)
     if k == 0:

@@ -1,0 +1,88 @@
+"""4-line class tables: every 4-line permutation synthesised with a proven minimal gate count.
+
+Method: breadth-first search over classes of functions (24 line relabellings and
+inversion), one canonical 64-bit key per class, stored level by level up to a depth
+``R``; a function deeper than ``R`` is settled by meet in the middle against level ``R``
+(Golubitsky, Falconer & Maslov, "Synthesis of the optimal 4-bit reversible circuits",
+DAC 2010).  Libraries: ``mct``, ``nct`` and ``mixed`` on 4 lines.
+
+API (importing this package is cheap; numba loads on first use)::
+
+    from exactsyn import tables
+
+    tables.resolve_cache_dir()            # $EXACTSYN_CACHE, else $XDG_CACHE_HOME/exactsyn, else ~/.cache/exactsyn
+    tables.build("mct", progress=cb)      # idempotent; cb(description, done, total); returns a TableInfo
+    tables.info()                         # [TableInfo] per library: present, depth, bytes, level counts, hash
+    t = tables.load("mct")                # Tables (memory-mapped); ExactsynError naming the fix if absent
+    ans = t.synthesise(perm)              # Answer: optimal, gate_count, gates (application order),
+                                          #   lower_bound, method, table_hash, seconds, detail
+    t.distribution()                      # exact number of functions needing 0..R gates
+    tables.verify_table("mct")            # independent re-check of the levels (numpy only)
+    tables.check_claim("mct", perm, gate_count, gates)   # independent re-check of one answer
+    tables.sample_distribution("mct", n, seed)           # sampled distribution of optima with intervals
+
+Modules (one job each):
+
+* :mod:`~exactsyn.tables.perm4` — packed keys, composition, the 48 symmetries (plain Python);
+* :mod:`~exactsyn.tables.gateset` — a library's gates as keys (the only bridge to the gate model);
+* :mod:`~exactsyn.tables.kernels` — numba kernels: canonical form, lookup, BFS step, scan;
+* :mod:`~exactsyn.tables.levels` — breadth-first search over classes, level files;
+* :mod:`~exactsyn.tables.store` — cache directory, layout, manifest, hashes, atomic install;
+* :mod:`~exactsyn.tables.manage` — :func:`build`, :func:`info`, :func:`remove`;
+* :mod:`~exactsyn.tables.engine` — :func:`load`, lookup and meet in the middle;
+* :mod:`~exactsyn.tables.verify` — the independent checker (imports no kernel code);
+* :mod:`~exactsyn.tables.sample` — sampled distribution of optima;
+* :mod:`~exactsyn.tables.hardest` — search for functions with large optima.
+
+What a proof from the tables trusts: the table's levels are exact (re-checkable with
+:func:`verify_table`, whose closure test needs no trust in the builder), the content hash
+names the table, and the claim for one function is re-run by :func:`check_claim`.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any
+
+from exactsyn.tables.store import resolve_cache_dir
+
+if TYPE_CHECKING:  # pragma: no cover
+    from exactsyn.tables.engine import Answer, Tables, load
+    from exactsyn.tables.manage import TableInfo, build, info, remove
+    from exactsyn.tables.sample import sample_distribution
+    from exactsyn.tables.verify import check_claim, verify_table
+
+__all__ = [
+    "Answer",
+    "TableInfo",
+    "Tables",
+    "build",
+    "check_claim",
+    "info",
+    "load",
+    "remove",
+    "resolve_cache_dir",
+    "sample_distribution",
+    "verify_table",
+]
+
+_LAZY = {
+    "Answer": "engine",
+    "Tables": "engine",
+    "load": "engine",
+    "TableInfo": "manage",
+    "build": "manage",
+    "info": "manage",
+    "remove": "manage",
+    "sample_distribution": "sample",
+    "check_claim": "verify",
+    "verify_table": "verify",
+}
+
+
+def __getattr__(name: str) -> Any:
+    module = _LAZY.get(name)
+    if module is None:
+        raise AttributeError(name)
+    import importlib
+
+    return getattr(importlib.import_module(f"exactsyn.tables.{module}"), name)

@@ -1,0 +1,255 @@
+"""Exact 4-line synthesis from the class tables: lookup, then meet in the middle.
+
+Let ``T_j`` be level ``j`` of a table of depth ``R`` (the classes needing exactly ``j``
+gates) and ``d`` the optimum of ``f``.
+
+* **Lookup.**  If the class of ``f`` is in ``T_j``, then ``d = j``.  A circuit comes by
+  walking down: some gate ``g`` has ``g∘f`` in ``T_{j−1}`` (the last gate of an optimal
+  circuit), so ``f`` is a circuit of ``g∘f`` followed by ``g``.
+* **Meet in the middle.**  Otherwise ``d > R``.  For ``L = 1, 2, …`` test every
+  function ``A`` needing exactly ``L`` gates (the members of the classes of ``T_L``):
+  is the class of ``f∘A⁻¹`` in ``T_R``?  If ``d = R + L``, splitting an optimal circuit
+  after its first ``L`` gates gives such an ``A`` (both parts are optimal, else ``f``
+  would be shorter); if ``d > R + L`` no ``A`` can hit (``f = (f∘A⁻¹)∘A`` would need at
+  most ``R + L`` gates).  So the first ``L`` with a hit gives ``d = R + L``, and every
+  ``L`` scanned without a hit proves the lower bound ``d ≥ R + L + 1``.  The circuit is
+  ``A``'s followed by ``f∘A⁻¹``'s, both from the lookup.  This is the bidirectional
+  search of Golubitsky, Falconer & Maslov (DAC 2010).
+
+The scan does not expand classes: for a representative ``a`` and the conjugates
+``f_σ = π_σ∘f∘π_σ⁻¹`` it looks up ``canon(f_σ∘a)`` and ``canon(f_σ∘a⁻¹)``, which are the
+classes of ``f∘A⁻¹`` for ``A = π_σ⁻¹∘a^{∓1}∘π_σ``, i.e. for every member ``A`` of the
+class of ``a``.  Equal conjugates are tested once.  Every circuit is simulated against
+``f`` before it is returned.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from exactsyn.core.gates import Gate
+from exactsyn.errors import ExactsynError
+from exactsyn.tables import perm4, store
+from exactsyn.tables.gateset import GateSet, circuit_key, gate_set
+
+SCAN_BLOCK = 1 << 15  # class representatives per parallel call of the scan
+
+
+@dataclass(frozen=True)
+class Level:
+    """One memory-mapped level: sorted mixed keys and their bucket index."""
+
+    number: int
+    vals: np.ndarray
+    index: np.ndarray
+    shift: int
+    functions: int
+
+    def __len__(self) -> int:
+        return len(self.vals)
+
+
+@dataclass(frozen=True)
+class Answer:
+    """Result of :meth:`Tables.synthesise`.
+
+    ``gate_count`` and ``gates`` (application order) are set when the optimum is proven
+    (``optimal``); otherwise ``lower_bound`` is the proven bound reached.  ``detail``
+    holds the method and its numbers (table depth, meet-in-the-middle level, timings).
+    """
+
+    library: str
+    perm: tuple[int, ...]
+    optimal: bool
+    lower_bound: int
+    gate_count: int | None
+    gates: tuple[Gate, ...] | None
+    method: str
+    table_hash: str
+    seconds: float
+    detail: dict[str, Any] = field(default_factory=dict)
+
+
+class Tables:
+    """A loaded class table (memory-mapped; cheap to open)."""
+
+    def __init__(self, directory: Path, manifest: dict[str, Any], gs: GateSet) -> None:
+        self.directory = directory
+        self.manifest = manifest
+        self.gates = gs
+        self.library = gs.library
+        self.depth = int(manifest["depth"])
+        self.complete = bool(manifest.get("complete"))
+        self.content_hash = str(manifest["content_hash"])
+        levels = []
+        for lv in manifest["levels"]:
+            vals = store.read_array(directory / lv["file"], np.uint64, int(lv["classes"]))
+            idx_dtype = np.uint32 if lv["index_file"].endswith(".u32") else np.uint64
+            index = store.read_array(directory / lv["index_file"], idx_dtype, (1 << int(lv["index_bits"])) + 1)
+            levels.append(Level(int(lv["level"]), vals, index, 64 - int(lv["index_bits"]), int(lv["functions"])))
+        self.levels = tuple(levels)
+        self._gate_keys = gs.key_array()
+
+    # ------------------------------------------------------------------ lookups
+    def _level_of_canonical(self, mixed: np.ndarray, candidates: Sequence[int]) -> np.ndarray:
+        from exactsyn.tables import kernels as K
+
+        out = np.full(len(mixed), -1, dtype=np.int64)
+        for j in candidates:
+            lv = self.levels[j]
+            hit = K.contains_many(lv.vals, lv.index, lv.shift, mixed)
+            out[(out < 0) & hit] = j
+        return out
+
+    def levels_of(self, keys: np.ndarray, candidates: Sequence[int] | None = None) -> np.ndarray:
+        """Level of each key's class (−1 when the class is deeper than the table)."""
+        from exactsyn.tables import kernels as K
+
+        mixed = K.mix_many(K.canon_many(np.ascontiguousarray(keys, dtype=np.uint64)))
+        return self._level_of_canonical(mixed, range(len(self.levels)) if candidates is None else candidates)
+
+    def level_of(self, perm: Sequence[int]) -> int | None:
+        """Exact gate count of ``perm`` if it is at most the table depth, else None."""
+        j = int(self.levels_of(np.array([perm4.pack(perm)], dtype=np.uint64))[0])
+        return None if j < 0 else j
+
+    def _walk(self, key: int, level: int) -> list[int]:
+        """Library indices of an optimal circuit (application order) of a function at ``level``."""
+        out: list[int] = []
+        x = key
+        for j in range(level, 0, -1):
+            cands = np.array([perm4.compose(int(g), x) for g in self._gate_keys], dtype=np.uint64)
+            lv = self.levels_of(cands, [j - 1])
+            hit = np.flatnonzero(lv == j - 1)
+            if len(hit) == 0:
+                raise RuntimeError(f"internal error: no way down from level {j} (corrupt table?)")
+            g = int(hit[0])
+            out.append(g)
+            x = int(cands[g])
+        if x != perm4.IDENTITY:
+            raise RuntimeError("internal error: the walk down did not end at the identity")
+        return out[::-1]
+
+    # ------------------------------------------------------------------ synthesis
+    def synthesise(self, perm: Sequence[int], max_extra: int | None = None, time_limit: float | None = None) -> Answer:
+        """Optimal circuit of a 4-line permutation, or the lower bound reached.
+
+        ``max_extra`` caps the meet-in-the-middle level ``L`` (default: the table depth);
+        ``time_limit`` (seconds) stops the scan between blocks.  Raises
+        :class:`ExactsynError` when the permutation is not realisable over the library.
+        """
+        t0 = time.perf_counter()
+        p = perm4.check_perm(perm)
+        f = perm4.pack(p)
+        if self.gates.all_even and perm4.is_odd(f):
+            raise ExactsynError(
+                f"an odd permutation is not realisable with {self.library} gates on 4 lines "
+                "(every gate is an even permutation; Shende, Prasad, Markov & Hayes 2003)"
+            )
+        j = self.level_of(p)
+        if j is not None:
+            gates = self._walk(f, j)
+            return self._answer(p, gates, t0, "table lookup", {"depth": self.depth, "level": j})
+        if self.complete:
+            raise ExactsynError(f"the permutation is not realisable over {self.library}")
+        return self._meet(p, f, t0, self.depth if max_extra is None else min(max_extra, self.depth), time_limit)
+
+    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, time_limit: float | None) -> Answer:
+        from exactsyn.tables import kernels as K
+
+        R = self.depth
+        top = self.levels[R]
+        conj: dict[int, tuple[int, ...]] = {}
+        for sigma in perm4.RELABELLINGS:
+            conj.setdefault(perm4.conjugate(f, sigma), sigma)
+        fkeys = np.array(list(conj), dtype=np.uint64)
+        sigmas = list(conj.values())
+        scanned: list[dict[str, Any]] = []
+        tests = 0
+        deadline = None if time_limit is None else t0 + time_limit
+        for L in range(1, max_extra + 1):
+            reps = self.levels[L].vals
+            t_level = time.perf_counter()
+            out = np.empty(min(SCAN_BLOCK, max(1, len(reps))), dtype=np.int64)
+            for start in range(0, len(reps), SCAN_BLOCK):
+                stop = min(len(reps), start + SCAN_BLOCK)
+                o = out[: stop - start]
+                K.scan(reps, start, stop, fkeys, top.vals, top.index, top.shift, o)
+                hit = np.flatnonzero(o >= 0)
+                if len(hit):
+                    i = int(hit[0])
+                    tests += (i + 1) * 2 * len(fkeys)
+                    scanned.append({"L": L, "classes": i + 1, "seconds": round(time.perf_counter() - t_level, 3)})
+                    a = int(K.unmix_many(np.array([reps[start + i]], dtype=np.uint64))[0])
+                    lane = int(o[i])
+                    sigma = sigmas[lane // 2]
+                    x = a if lane % 2 == 0 else perm4.inverse(a)
+                    back = perm4.inverse_relabelling(sigma)
+                    a_key = perm4.conjugate(perm4.inverse(x), back)  # A = π_σ⁻¹ ∘ x⁻¹ ∘ π_σ
+                    b_key = perm4.compose(f, perm4.inverse(a_key))  # B = f ∘ A⁻¹
+                    gates = self._walk(a_key, L) + self._walk(b_key, R)
+                    detail = {"depth": R, "extra": L, "levels": scanned, "tests": tests}
+                    return self._answer(p, gates, t0, "meet in the middle", detail)
+                tests += (stop - start) * 2 * len(fkeys)
+                if deadline is not None and time.perf_counter() > deadline:
+                    scanned.append({"L": L, "classes": stop, "seconds": round(time.perf_counter() - t_level, 3)})
+                    return self._bound(p, R + L, t0, {"depth": R, "levels": scanned, "tests": tests, "timeout": True})
+            scanned.append({"L": L, "classes": len(reps), "seconds": round(time.perf_counter() - t_level, 3)})
+        return self._bound(p, R + max_extra + 1, t0, {"depth": R, "levels": scanned, "tests": tests})
+
+    def _answer(self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]) -> Answer:
+        gates = tuple(self.gates.gates[i] for i in idx)
+        if circuit_key(gates) != perm4.pack(p):
+            raise RuntimeError("internal error: the table circuit does not compute the function")
+        return Answer(
+            self.library,
+            p,
+            True,
+            len(gates),
+            len(gates),
+            gates,
+            method,
+            self.content_hash,
+            time.perf_counter() - t0,
+            detail,
+        )
+
+    def _bound(self, p: tuple[int, ...], lower: int, t0: float, detail: dict[str, Any]) -> Answer:
+        return Answer(
+            self.library,
+            p,
+            False,
+            lower,
+            None,
+            None,
+            "meet in the middle (incomplete)",
+            self.content_hash,
+            time.perf_counter() - t0,
+            detail,
+        )
+
+    def distribution(self) -> list[int]:
+        """Number of functions needing exactly ``0..depth`` gates (from class sizes)."""
+        return [lv.functions for lv in self.levels]
+
+
+def load(library: str = "mct", cache: Path | None = None, verify_hashes: bool = False) -> Tables:
+    """Open the cached table of ``library``; :class:`ExactsynError` (with the fix) if absent."""
+    gs = gate_set(library)
+    directory = store.table_dir(gs.library, cache)
+    manifest = store.read_manifest(directory)
+    hint = f"build it with `exactsyn tables build --library {gs.library}`"
+    if manifest is None:
+        raise ExactsynError(f"no 4-line table for {gs.library} in {directory.parent}; {hint}")
+    problem = store.check_directory(directory, verify_hashes)
+    if not problem.ok:
+        raise ExactsynError(f"the cached {gs.library} table is damaged ({problem.reasons[0]}); {hint}")
+    if manifest["gate_keys"] != [f"{k:016x}" for k in gs.keys]:
+        raise ExactsynError(f"the cached {gs.library} table was built for other gates; {hint}")
+    return Tables(directory, manifest, gs)
