@@ -25,6 +25,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from exactsyn.core.gates import permutation_is_odd
 from exactsyn.errors import ExactsynError
 
 LINES = 4
@@ -125,14 +126,5 @@ def class_size(k: int) -> int:
 
 
 def is_odd(k: int) -> bool:
-    p = unpack(k)
-    seen = [False] * SIZE
-    cycles = 0
-    for i in range(SIZE):
-        if not seen[i]:
-            cycles += 1
-            j = i
-            while not seen[j]:
-                seen[j] = True
-                j = p[j]
-    return (SIZE - cycles) % 2 == 1
+    """Is the permutation of key ``k`` odd?"""
+    return permutation_is_odd(unpack(k))
