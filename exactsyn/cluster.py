@@ -1,11 +1,12 @@
 """Where parallel work runs: the cores of this machine, or a Dask distributed cluster.
 
-One place for what the batch engines (:mod:`exactsyn.batch.workers`) and the cube
-solver (:mod:`exactsyn.sat.conquer`) share: how many cores this process may use, and
-how to reach Dask — a scheduler given by address (a cluster started elsewhere, e.g.
-through dask-jobqueue on Slurm), or a ``LocalCluster`` of worker processes on loopback
-(``address`` ``None`` or ``"local"``).  dask.distributed is imported only here and only
-when asked for: it is the optional ``cluster`` extra.
+One place for what the batch engines (:mod:`exactsyn.batch.workers`) and the cube solver
+(:mod:`exactsyn.sat.conquer`) share: how many cores this process may use, the worker
+side of a local process pool (:func:`serve_pipe`), and how to reach Dask — a scheduler
+given by address (a cluster started elsewhere, e.g. through dask-jobqueue on Slurm), or
+a ``LocalCluster`` of worker processes on loopback (``address`` ``None`` or
+``"local"``).  dask.distributed is imported only here and only when asked for: it is the
+optional ``cluster`` extra.
 """
 
 from __future__ import annotations
@@ -13,7 +14,10 @@ from __future__ import annotations
 import contextlib
 import logging
 import os
-from collections.abc import Iterator
+import signal
+import tempfile
+from collections.abc import Callable, Iterator
+from multiprocessing.connection import Connection
 from typing import Any
 
 from exactsyn.errors import ExactsynError
@@ -27,6 +31,30 @@ def default_jobs() -> int:
         return max(1, len(os.sched_getaffinity(0)))
     except AttributeError:  # pragma: no cover - not on Linux
         return max(1, os.cpu_count() or 1)
+
+
+def serve_pipe(conn: Connection, scratch: str, handle: Callable[[Any], Any]) -> None:
+    """The body of a local worker process: answer each job from ``conn`` with ``handle(job)``.
+
+    Ctrl-C is left to the parent, which stops its workers. Every temporary file of the
+    worker goes below ``scratch``, a directory the parent removes at the end, also after it
+    had to kill the worker. ``None`` or a closed pipe ends the loop.
+    """
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    os.environ["TMPDIR"] = scratch
+    tempfile.tempdir = scratch
+    while True:
+        try:
+            job = conn.recv()
+        except (EOFError, OSError):
+            return
+        if job is None:
+            return
+        out = handle(job)
+        try:
+            conn.send(out)
+        except OSError:
+            return
 
 
 def distributed() -> Any:

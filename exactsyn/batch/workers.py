@@ -22,9 +22,7 @@ from __future__ import annotations
 
 import itertools
 import multiprocessing as mp
-import os
 import shutil
-import signal
 import tempfile
 import time
 from collections import deque
@@ -34,7 +32,7 @@ from multiprocessing.connection import Connection, wait
 from typing import Any, Protocol
 
 from exactsyn.batch.task import Outcome, Task, failed, run_task, run_tasks
-from exactsyn.cluster import dask_client, default_jobs, describe, distributed
+from exactsyn.cluster import dask_client, default_jobs, describe, distributed, serve_pipe
 from exactsyn.errors import ExactsynError
 
 __all__ = ["DaskEngine", "Engine", "LocalPool", "default_jobs", "hard_limit"]
@@ -57,23 +55,7 @@ def hard_limit(time_limit: float | None, grace: float = 30.0) -> float | None:
 
 # ------------------------------------------------------------------ local processes
 def _worker_main(conn: Connection, scratch: str) -> None:
-    signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent handles Ctrl-C and stops us
-    # Every temporary file of this worker goes below the pool's own directory, which the
-    # pool removes at the end, also after it had to kill the worker.
-    os.environ["TMPDIR"] = scratch
-    tempfile.tempdir = scratch
-    while True:
-        try:
-            task = conn.recv()
-        except (EOFError, OSError):
-            return
-        if task is None:
-            return
-        out = run_task(task)
-        try:
-            conn.send(out)
-        except OSError:
-            return
+    serve_pipe(conn, scratch, run_task)
 
 
 @dataclass

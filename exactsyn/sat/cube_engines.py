@@ -23,7 +23,6 @@ from __future__ import annotations
 import multiprocessing as mp
 import os
 import shutil
-import signal
 import tempfile
 import time
 import uuid
@@ -33,7 +32,7 @@ from dataclasses import dataclass, replace
 from multiprocessing.connection import Connection, wait
 from typing import Any
 
-from exactsyn.cluster import dask_client, describe, distributed
+from exactsyn.cluster import dask_client, describe, distributed, serve_pipe
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.conquer import CubeEngine, CubeJob, CubeOptions, CubeOutcome, OnOutcome, solve_cube
 
@@ -47,25 +46,10 @@ def make_engine(options: CubeOptions) -> CubeEngine:
 
 # ------------------------------------------------------------------ local processes
 def _worker_main(conn: Connection, scratch: str, parent: int) -> None:
-    signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent handles Ctrl-C and stops us
-    os.environ["TMPDIR"] = scratch  # proof traces go below the engine's directory, removed at the end
-    tempfile.tempdir = scratch
-
     def orphaned() -> bool:  # the parent was killed before it could stop us: give up the cube
         return os.getppid() != parent
 
-    while True:
-        try:
-            job = conn.recv()
-        except (EOFError, OSError):
-            return
-        if job is None:
-            return
-        out = solve_cube(job, orphaned)
-        try:
-            conn.send(out)
-        except OSError:
-            return
+    serve_pipe(conn, scratch, lambda job: solve_cube(job, orphaned))
 
 
 @dataclass
