@@ -43,21 +43,15 @@ import time
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 
 def built(length: int, seed: int) -> list[int]:
     from exactsyn.core.library import make_library
+    from exactsyn.spec.samples import random_library_function
 
-    lib = make_library("mct", 5)
-    rng = random.Random(seed)
-    s = np.arange(32)
-    for _ in range(length):
-        s = lib.gates[rng.randrange(len(lib.gates))].apply(s)
-    return [int(v) for v in s]
+    return list(random_library_function(make_library("mct", 5), length, random.Random(seed)))
 
 
 def cpu_now() -> float:

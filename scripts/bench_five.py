@@ -25,8 +25,6 @@ import sys
 import time
 from pathlib import Path
 
-import numpy as np
-
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
@@ -37,14 +35,11 @@ from exactsyn.sat.solve import solve_cnf  # noqa: E402
 from exactsyn.search.bounds import lower_bound  # noqa: E402
 from exactsyn.search.five import five_meet, hashed_table  # noqa: E402
 from exactsyn.spec.reversible import from_permutation  # noqa: E402
+from exactsyn.spec.samples import random_library_function  # noqa: E402
 
 
 def built(lib, length: int, seed: int) -> list[int]:  # type: ignore[no-untyped-def]
-    rng = random.Random(seed)
-    s = np.arange(32)
-    for _ in range(length):
-        s = lib.gates[rng.randrange(len(lib.gates))].apply(s)
-    return [int(v) for v in s]
+    return list(random_library_function(lib, length, random.Random(seed)))
 
 
 def peak_mib() -> float:

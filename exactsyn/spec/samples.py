@@ -4,15 +4,20 @@ A uniform random permutation is a shuffle (Fisher–Yates; Knuth, TAOCP vol. 2, 
 Algorithm P, as done by :meth:`random.Random.shuffle`). A uniform random *even* permutation is
 drawn by rejection: exactly half of all permutations of 2^n ≥ 2 points are even, so on average
 two draws are needed. A function "made by a random circuit" of g gates needs at most g gates;
-such functions are how instances with a known upper bound are built.
+such functions are how instances with a known upper bound are built, either from X gates with
+a chosen number of controls (:func:`random_circuit`) or from gates drawn uniformly from a
+library (:func:`random_library_function`).
 """
 
 from __future__ import annotations
 
 import random
 
+import numpy as np
+
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, permutation_is_odd, x_gate
+from exactsyn.core.library import Library
 
 
 def random_permutation(lines: int, rng: random.Random, *, even: bool = False) -> tuple[int, ...]:
@@ -41,3 +46,11 @@ def random_circuit(
         top = min(max_controls, len(others))
         out.append(x_gate(t, rng.sample(others, rng.randint(min(min_controls, top), top))))
     return Circuit(lines, tuple(out))
+
+
+def random_library_function(library: Library, gates: int, rng: random.Random) -> tuple[int, ...]:
+    """The function of ``gates`` gates drawn uniformly (with repetition) from ``library``."""
+    state = np.arange(1 << library.lines)
+    for _ in range(gates):
+        state = library.gates[rng.randrange(len(library.gates))].apply(state)
+    return tuple(int(v) for v in state)

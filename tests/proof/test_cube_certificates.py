@@ -7,7 +7,6 @@ import random
 import shutil
 from pathlib import Path
 
-import numpy as np
 import pytest
 from optional import need
 
@@ -19,16 +18,13 @@ from exactsyn.proof.check import check_certificate
 from exactsyn.sat.conquer import CubeOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.reversible import from_permutation
+from exactsyn.spec.samples import random_library_function
 
 MCT4 = make_library("mct", 4)
 
 
 def built(library, length: int, seed: int) -> list[int]:  # type: ignore[no-untyped-def]
-    rng = random.Random(seed)
-    state = np.arange(1 << library.lines)
-    for _ in range(length):
-        state = library.gates[rng.randrange(len(library.gates))].apply(state)
-    return [int(v) for v in state]
+    return list(random_library_function(library, length, random.Random(seed)))
 
 
 PERM = built(MCT4, 6, 3)

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import random
 
-import numpy as np
 import pytest
 from helpers import random_perm
 
@@ -20,17 +19,14 @@ from exactsyn.sat.solve import solve_cnf
 from exactsyn.sat.status import Status
 from exactsyn.search.bfs import optimal_sizes
 from exactsyn.spec.reversible import from_permutation
+from exactsyn.spec.samples import random_library_function
 
 NCT3 = make_library("nct", 3)
 MCT4 = make_library("mct", 4)
 
 
 def built(library, length: int, seed: int) -> list[int]:  # type: ignore[no-untyped-def]
-    rng = random.Random(seed)
-    state = np.arange(1 << library.lines)
-    for _ in range(length):
-        state = library.gates[rng.randrange(len(library.gates))].apply(state)
-    return [int(v) for v in state]
+    return list(random_library_function(library, length, random.Random(seed)))
 
 
 def test_positions_come_from_both_ends_inwards() -> None:

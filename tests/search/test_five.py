@@ -19,16 +19,13 @@ from exactsyn.search.distance import distance_table
 from exactsyn.search.five import hashed_table, row_hash
 from exactsyn.search.loop import minimise_gates
 from exactsyn.spec.reversible import from_permutation
+from exactsyn.spec.samples import random_library_function
 
 MCT5 = make_library("mct", 5)
 
 
 def built(length: int, seed: int) -> list[int]:
-    rng = random.Random(seed)
-    state = np.arange(32)
-    for _ in range(length):
-        state = MCT5.gates[rng.randrange(len(MCT5.gates))].apply(state)
-    return [int(v) for v in state]
+    return list(random_library_function(MCT5, length, random.Random(seed)))
 
 
 def test_hashed_table_holds_exactly_the_breadth_first_ball() -> None:
