@@ -5,9 +5,13 @@ from __future__ import annotations
 import heapq
 import io
 import itertools
+import json
 import random
 from pathlib import Path
 from typing import Any
+
+from exactsyn.errors import ExactsynError
+from exactsyn.proof.check import check_certificate
 
 #: the repository (instances/ and the README live here); test modules may sit in subfolders
 ROOT = Path(__file__).resolve().parent.parent
@@ -162,3 +166,19 @@ def trace_normal_form(word, library) -> tuple[int, ...]:  # type: ignore[no-unty
         best = min(movable, key=lambda i: rest[i])
         out.append(rest.pop(best))
     return tuple(out)
+
+
+def edit(d: Path, fn) -> None:  # type: ignore[no-untyped-def]
+    """Tamper with a certificate: apply ``fn`` to its parsed result.json and write it back."""
+    p = d / "result.json"
+    data = json.loads(p.read_text())
+    fn(data)
+    p.write_text(json.dumps(data))
+
+
+def rejected(d: Path) -> bool:
+    """Does the certificate checker refuse directory ``d`` (a failed check or an error)?"""
+    try:
+        return not check_certificate(d).ok
+    except ExactsynError:
+        return True

@@ -9,7 +9,7 @@ import shutil
 from pathlib import Path
 
 import pytest
-from helpers import INSTANCES, random_perm
+from helpers import INSTANCES, edit, random_perm, rejected
 
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
@@ -56,20 +56,6 @@ def cert(tmp_path: Path) -> Path:
     data = json.loads((d / "result.json").read_text())
     assert len([q for q in data["queries"] if q["status"] == "unsat"]) >= 2
     return d
-
-
-def edit(d: Path, fn) -> None:  # type: ignore[no-untyped-def]
-    p = d / "result.json"
-    data = json.loads(p.read_text())
-    fn(data)
-    p.write_text(json.dumps(data))
-
-
-def rejected(d: Path) -> bool:
-    try:
-        return not check_certificate(d).ok
-    except ExactsynError:
-        return True
 
 
 def test_untouched_certificate_checks(cert: Path) -> None:

@@ -8,11 +8,11 @@ import shutil
 from pathlib import Path
 
 import pytest
+from helpers import edit, rejected
 from optional import need
 
 import exactsyn as ex
 from exactsyn.core.library import make_library
-from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
 from exactsyn.proof.check import check_certificate
 from exactsyn.sat.conquer import CubeOptions
@@ -47,20 +47,6 @@ def cert(split_cert: Path, tmp_path: Path) -> Path:
     d = tmp_path / "cert"
     shutil.copytree(split_cert, d)
     return d
-
-
-def edit(d: Path, fn) -> None:  # type: ignore[no-untyped-def]
-    p = d / "result.json"
-    data = json.loads(p.read_text())
-    fn(data)
-    p.write_text(json.dumps(data))
-
-
-def rejected(d: Path) -> bool:
-    try:
-        return not check_certificate(d).ok
-    except ExactsynError:
-        return True
 
 
 def split_queries(data: dict) -> list[dict]:  # type: ignore[type-arg]
