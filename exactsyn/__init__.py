@@ -15,7 +15,7 @@ costs) → ``sat`` (encoders, solver calls) → ``search`` (the k loop, objectiv
 heuristics) → ``proof`` (LRAT capture, certificates, the checker) → ``io`` (JSON,
 OpenQASM, drawings); ``batch`` runs many functions; ``cli`` is the command line.
 
-Names are loaded on first use (PEP 562), so ``import exactsyn.proof.check`` does not pull
+Names are loaded on first use (PEP 562), so ``import exactsyn.proof.checker`` does not pull
 in the solvers and ``from exactsyn import __version__`` stays cheap.
 """
 
@@ -28,8 +28,8 @@ __version__ = "0.1.0"
 
 #: public name -> (implementing module, name there)
 _EXPORTS: dict[str, tuple[str, str]] = {
-    "synthesise": ("exactsyn.api", "synthesise"),
-    "Synthesis": ("exactsyn.api", "Synthesis"),
+    "synthesise": ("exactsyn.api.synthesis", "synthesise"),
+    "Synthesis": ("exactsyn.api.synthesis", "Synthesis"),
     "Circuit": ("exactsyn.core.circuit", "Circuit"),
     "Gate": ("exactsyn.core.gates", "Gate"),
     "x_gate": ("exactsyn.core.gates", "x_gate"),
@@ -43,28 +43,28 @@ _EXPORTS: dict[str, tuple[str, str]] = {
     "cost_model": ("exactsyn.core.costs", "cost_model"),
     "ExactsynError": ("exactsyn.errors", "ExactsynError"),
     "NoCircuitError": ("exactsyn.errors", "NoCircuitError"),
-    "Spec": ("exactsyn.spec.reversible", "Spec"),
-    "from_permutation": ("exactsyn.spec.reversible", "from_permutation"),
-    "parse_perm": ("exactsyn.spec.reversible", "parse_perm"),
-    "parse_cycles": ("exactsyn.spec.reversible", "parse_cycles"),
-    "load_spec": ("exactsyn.spec.files", "load_any"),
-    "read_circuit": ("exactsyn.io.files", "read_circuit"),
-    "write_circuit": ("exactsyn.io.files", "write_circuit"),
-    "write_qasm2": ("exactsyn.io.files", "write_qasm2"),
-    "write_qasm3": ("exactsyn.io.files", "write_qasm3"),
-    "write_json": ("exactsyn.io.files", "write_json"),
-    "render": ("exactsyn.io.files", "render"),
+    "Spec": ("exactsyn.specification.reversible", "Spec"),
+    "from_permutation": ("exactsyn.specification.reversible", "from_permutation"),
+    "parse_perm": ("exactsyn.specification.reversible", "parse_perm"),
+    "parse_cycles": ("exactsyn.specification.reversible", "parse_cycles"),
+    "load_spec": ("exactsyn.specification.loader", "load_any"),
+    "read_circuit": ("exactsyn.io.formats", "read_circuit"),
+    "write_circuit": ("exactsyn.io.formats", "write_circuit"),
+    "write_qasm2": ("exactsyn.io.formats", "write_qasm2"),
+    "write_qasm3": ("exactsyn.io.formats", "write_qasm3"),
+    "write_json": ("exactsyn.io.formats", "write_json"),
+    "render": ("exactsyn.io.formats", "render"),
     "read_qasm": ("exactsyn.io.qasm", "read_qasm"),
     "to_qasm2": ("exactsyn.io.qasm", "to_qasm2"),
     "to_qasm3": ("exactsyn.io.qasm", "to_qasm3"),
     "circuit_to_dict": ("exactsyn.io.jsonio", "circuit_to_dict"),
     "circuit_from_dict": ("exactsyn.io.jsonio", "circuit_from_dict"),
-    "check_certificate": ("exactsyn.proof.check", "check_certificate"),
+    "check_certificate": ("exactsyn.proof.checker", "check_certificate"),
     "optimise_circuit": ("exactsyn.optimise", "optimise_circuit"),
     "OptimiseResult": ("exactsyn.optimise", "OptimiseResult"),
-    "read_circuit_layout": ("exactsyn.io.files", "read_circuit_layout"),
+    "read_circuit_layout": ("exactsyn.io.formats", "read_circuit_layout"),
     "Layout": ("exactsyn.io.layout", "Layout"),
-    "CheckReport": ("exactsyn.proof.check", "CheckReport"),
+    "CheckReport": ("exactsyn.proof.checker", "CheckReport"),
     "Query": ("exactsyn.sat.query", "Query"),
     "Status": ("exactsyn.sat.status", "Status"),
     "clear_caches": ("exactsyn.caches", "clear"),
@@ -130,14 +130,14 @@ def __dir__() -> list[str]:
 
 
 if TYPE_CHECKING:  # the same names, for type checkers and editors
-    from exactsyn.api import Synthesis, synthesise
+    from exactsyn.api.synthesis import Synthesis, synthesise
     from exactsyn.caches import clear as clear_caches
     from exactsyn.core.circuit import Circuit
     from exactsyn.core.costs import COST_MODELS, CostModel, cost_model
     from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
     from exactsyn.core.library import PRESETS, Library, make_library
     from exactsyn.errors import ExactsynError, NoCircuitError
-    from exactsyn.io.files import (
+    from exactsyn.io.formats import (
         read_circuit,
         read_circuit_layout,
         render,
@@ -150,8 +150,8 @@ if TYPE_CHECKING:  # the same names, for type checkers and editors
     from exactsyn.io.layout import Layout
     from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
     from exactsyn.optimise import OptimiseResult, optimise_circuit
-    from exactsyn.proof.check import CheckReport, check_certificate
+    from exactsyn.proof.checker import CheckReport, check_certificate
     from exactsyn.sat.query import Query
     from exactsyn.sat.status import Status
-    from exactsyn.spec.files import load_any as load_spec
-    from exactsyn.spec.reversible import Spec, from_permutation, parse_cycles, parse_perm
+    from exactsyn.specification.loader import load_any as load_spec
+    from exactsyn.specification.reversible import Spec, from_permutation, parse_cycles, parse_perm

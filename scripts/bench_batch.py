@@ -73,7 +73,7 @@ def main() -> None:
         n, size = tree_bytes(certs)
         print(f"certificates: {n} files, {size / 1e6:.1f} MB; store file {store.stat().st_size / 1e6:.1f} MB")
     if args.check and certs.is_dir():
-        from exactsyn.proof.check import check_certificate
+        from exactsyn.proof.checker import check_certificate
 
         dirs = sorted(p for p in certs.iterdir() if p.is_dir() and not p.name.startswith("."))
         sample = random.Random(0).sample(dirs, min(args.check, len(dirs)))

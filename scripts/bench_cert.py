@@ -22,7 +22,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 from bench import load_set  # noqa: E402  (scripts/bench.py, beside this file)
 
 import exactsyn as ex  # noqa: E402
-from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
+from exactsyn.specification.reversible import Spec, from_permutation  # noqa: E402
 
 
 def specs_for(name: str, limit: int) -> tuple[str, list[Spec]]:

@@ -25,7 +25,7 @@ from bench import load_set  # noqa: E402  (scripts/bench.py, beside this file)
 import exactsyn as ex  # noqa: E402
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.sat.encode import ENCODINGS  # noqa: E402
-from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
+from exactsyn.specification.reversible import Spec, from_permutation  # noqa: E402
 
 
 def instance_set(name: str, limit: int, seed: int) -> tuple[str, list[Spec]]:

@@ -49,7 +49,7 @@ sys.path.insert(0, str(ROOT))
 
 def built(length: int, seed: int) -> list[int]:
     from exactsyn.core.library import make_library
-    from exactsyn.spec.samples import random_library_function
+    from exactsyn.specification.samples import random_library_function
 
     return list(random_library_function(make_library("mct", 5), length, random.Random(seed)))
 
@@ -153,9 +153,9 @@ def scaling(args: argparse.Namespace) -> None:
     from exactsyn.core.library import make_library
     from exactsyn.sat.conquer import CubeOptions, conquer
     from exactsyn.sat.cube_engines import DaskCubes, LocalCubes
-    from exactsyn.sat.cubes import split_query
+    from exactsyn.sat.cube_split import split_query
     from exactsyn.sat.encode import encode
-    from exactsyn.spec.reversible import from_permutation
+    from exactsyn.specification.reversible import from_permutation
 
     lib = make_library("mct", 5)
     perm = built(args.length, args.seed)

@@ -26,7 +26,7 @@ from exactsyn.core.costs import cost_model  # noqa: E402
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.sat.encode import CostLimit, Encoding, EncodingOptions, encode  # noqa: E402
 from exactsyn.sat.encode_depth import encode_depth  # noqa: E402
-from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
+from exactsyn.specification.reversible import Spec, from_permutation  # noqa: E402
 
 
 def _perm(n: int, seed: int) -> Spec:

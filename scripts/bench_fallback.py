@@ -19,10 +19,10 @@ from pathlib import Path
 
 from exactsyn.core.gates import permutation_is_odd
 from exactsyn.core.library import make_library
-from exactsyn.search.distance import extended_meet
 from exactsyn.search.fallback import fallback_circuit
-from exactsyn.spec.reversible import from_permutation
-from exactsyn.spec.samples import random_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.specification.samples import random_permutation
+from exactsyn.tables.distance import extended_meet
 
 ROOT = Path(__file__).resolve().parent.parent
 

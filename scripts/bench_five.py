@@ -1,4 +1,4 @@
-"""Which 5-line table depth pays: hashed distance tables (exactsyn.search.five) against SAT.
+"""Which 5-line table depth pays: hashed distance tables (exactsyn.tables.hashed) against SAT.
 
 For seeded 5-line functions built from random circuits of the given lengths, prints
 
@@ -29,13 +29,13 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from exactsyn.core.library import make_library  # noqa: E402
-from exactsyn.proof.capture import solve_with_lrat  # noqa: E402
 from exactsyn.sat.encode import encode  # noqa: E402
+from exactsyn.sat.lrat_capture import solve_with_lrat  # noqa: E402
 from exactsyn.sat.solve import solve_cnf  # noqa: E402
 from exactsyn.search.bounds import lower_bound  # noqa: E402
-from exactsyn.search.five import five_meet, hashed_table  # noqa: E402
-from exactsyn.spec.reversible import from_permutation  # noqa: E402
-from exactsyn.spec.samples import random_library_function  # noqa: E402
+from exactsyn.specification.reversible import from_permutation  # noqa: E402
+from exactsyn.specification.samples import random_library_function  # noqa: E402
+from exactsyn.tables.hashed import five_meet, hashed_table  # noqa: E402
 
 
 def built(lib, length: int, seed: int) -> list[int]:  # type: ignore[no-untyped-def]

@@ -15,8 +15,8 @@ import time
 
 from pysat.examples.genhard import PHP
 
-from exactsyn.proof.capture import solve_with_lrat
 from exactsyn.proof.lrat import check_lrat
+from exactsyn.sat.lrat_capture import solve_with_lrat
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -88,7 +88,7 @@ _BASELINE_CHILD = """
 import json, sys, time
 from exactsyn.core.library import make_library
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables.sample import sample_function
 lib_name, n, seed, limit = sys.argv[1], int(sys.argv[2]), int(sys.argv[3]), float(sys.argv[4])
 lib = make_library(lib_name, 4)
@@ -176,7 +176,7 @@ def run_sample(library: str, n: int, seed: int, time_limit: float | None, baseli
 
 def run_hard(files: list[tuple[str, str]], libraries: set[str]) -> None:
     from exactsyn import synthesise
-    from exactsyn.proof.check import check_certificate
+    from exactsyn.proof.checker import check_certificate
 
     for rel, library in files:
         path = ROOT / rel

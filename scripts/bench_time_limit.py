@@ -18,7 +18,7 @@ import subprocess
 import sys
 import time
 
-from exactsyn.spec.samples import random_circuit, random_permutation
+from exactsyn.specification.samples import random_circuit, random_permutation
 
 
 def random_even(n: int, seed: int) -> list[int]:

@@ -38,10 +38,10 @@ from exactsyn.core.library import Library, make_library  # noqa: E402
 from exactsyn.sat.dimacs import cnf_sha256, dimacs_text  # noqa: E402
 from exactsyn.sat.encode import SYMMETRY_RULES, CostLimit, Encoding, EncodingOptions, encode  # noqa: E402
 from exactsyn.sat.encode_depth import depth_slots, encode_depth  # noqa: E402
-from exactsyn.spec.boolean import function_from_mapping  # noqa: E402
-from exactsyn.spec.embed import embed  # noqa: E402
-from exactsyn.spec.files import load_any  # noqa: E402
-from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
+from exactsyn.specification.boolean import function_from_mapping  # noqa: E402
+from exactsyn.specification.embed import embed  # noqa: E402
+from exactsyn.specification.loader import load_any  # noqa: E402
+from exactsyn.specification.reversible import Spec, from_permutation  # noqa: E402
 
 KS = range(7)
 LIBRARIES = ("nct", "mct", "mixed", "nct-swap", "mct-swap", "nct-peres")

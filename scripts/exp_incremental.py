@@ -26,7 +26,7 @@ from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.sat.encode import encode  # noqa: E402
 from exactsyn.sat.solve import solve_cnf  # noqa: E402
 from exactsyn.search.bounds import lower_bound  # noqa: E402
-from exactsyn.spec.reversible import Spec, from_permutation  # noqa: E402
+from exactsyn.specification.reversible import Spec, from_permutation  # noqa: E402
 
 
 def fresh(spec: Spec, lib, kmax: int) -> tuple[int | None, float]:  # type: ignore[no-untyped-def]

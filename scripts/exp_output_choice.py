@@ -15,8 +15,8 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 import exactsyn as ex  # noqa: E402
-from exactsyn.spec.boolean import function_from_mapping  # noqa: E402
-from exactsyn.spec.embed import embed  # noqa: E402
+from exactsyn.specification.boolean import function_from_mapping  # noqa: E402
+from exactsyn.specification.embed import embed  # noqa: E402
 
 INSTANCES = ["half-adder", "full-adder", "decoder2to4", "greenhouse-vent"]
 

@@ -1,7 +1,7 @@
 """Generate the benchmark instance sets in instances/sets/ (run once; output is committed).
 
 * hard3.jsonl — the 577 3-line functions that need 8 NCT gates, found by breadth-first
-  enumeration (exactsyn.search.bfs); Shende et al., IEEE TCAD 2003, count 577 of them.
+  enumeration (exactsyn.tables.bfs); Shende et al., IEEE TCAD 2003, count 577 of them.
 * five-line.jsonl — 5-line functions built from seeded random circuits of 5..8 gates
   (so the optimum is at most the circuit length); the optimum of each is then proven
   with exactsyn itself (every smaller k refuted, with a checked certificate) and stored
@@ -26,8 +26,8 @@ sys.path.insert(0, str(ROOT))
 import exactsyn as ex  # noqa: E402
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.io.jsonio import gate_to_dict  # noqa: E402
-from exactsyn.search.bfs import optimal_sizes  # noqa: E402
-from exactsyn.spec.reversible import from_permutation  # noqa: E402
+from exactsyn.specification.reversible import from_permutation  # noqa: E402
+from exactsyn.tables.bfs import optimal_sizes  # noqa: E402
 
 OUT = ROOT / "instances" / "sets"
 

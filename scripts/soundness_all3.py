@@ -19,7 +19,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 import exactsyn as ex  # noqa: E402
 from exactsyn.core.library import make_library  # noqa: E402
-from exactsyn.search.bfs import optimal_sizes  # noqa: E402
+from exactsyn.tables.bfs import optimal_sizes  # noqa: E402
 
 LIB = make_library("nct", 3)
 

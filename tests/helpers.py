@@ -11,7 +11,7 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.check import check_certificate
+from exactsyn.proof.checker import check_certificate
 
 #: the repository (instances/ and the README live here); test modules may sit in subfolders
 ROOT = Path(__file__).resolve().parent.parent

@@ -96,7 +96,7 @@ def test_every_module_imports_on_its_own(module: str) -> None:
 
 def test_the_checker_imports_no_sat_solver() -> None:
     code = (
-        "import sys, exactsyn.proof.check; "
+        "import sys, exactsyn.proof.checker; "
         "print(sorted(m for m in sys.modules if m.startswith(('pysat.solvers', 'pysolvers'))))"
     )
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT)

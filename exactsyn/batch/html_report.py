@@ -31,11 +31,11 @@ from exactsyn.batch.plan import GENERATED_SOURCE
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.table import OptimumTable, size_table, write_chart
 from exactsyn.core.circuit import Circuit
+from exactsyn.core.words import plural
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.svg import to_svg
-from exactsyn.io.words import plural
-from exactsyn.proof.check import check_certificate
+from exactsyn.proof.checker import check_certificate
 
 OPEN_GROUP_LIMIT = 60  # sections with at most this many items start open
 

@@ -24,7 +24,7 @@ from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.sat.encode import EncodingOptions
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
 
 
 @dataclass(frozen=True)

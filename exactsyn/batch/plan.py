@@ -24,8 +24,8 @@ from exactsyn.batch.task import GATES, Goal, LibraryChoice, item_key, library_id
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import EncodingOptions
-from exactsyn.spec.files import load_any
-from exactsyn.spec.reversible import Spec, from_permutation
+from exactsyn.specification.loader import load_any
+from exactsyn.specification.reversible import Spec, from_permutation
 
 REDUCTION = "line relabelling and inversion"
 SET_KINDS = ("all", "classes", "random")

@@ -25,7 +25,7 @@ from rich.progress import (
 from rich.text import Text
 
 from exactsyn.batch.run import Event
-from exactsyn.io.words import count
+from exactsyn.core.words import count
 
 
 class _Rate(ProgressColumn):

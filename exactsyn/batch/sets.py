@@ -43,7 +43,7 @@ from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.core.gates import invert_permutation as invert
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.spec.reversible import MAX_LINES
+from exactsyn.specification.reversible import MAX_LINES
 
 #: Largest line count for which every function (or every class) is enumerated.
 MAX_ENUMERATED_LINES = 3

@@ -53,7 +53,7 @@ from typing import Any, Literal
 
 from exactsyn.batch.task import Outcome
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import path_problem
+from exactsyn.io.formats import path_problem
 
 FORMAT = "exactsyn-results"
 SCHEMA_VERSION = 1

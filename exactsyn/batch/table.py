@@ -20,8 +20,8 @@ from typing import Any
 
 from exactsyn import __version__
 from exactsyn.batch.store import BatchInfo, Store
+from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
-from exactsyn.io.words import count
 
 
 @dataclass(frozen=True)

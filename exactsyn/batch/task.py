@@ -23,15 +23,15 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn import __version__
-from exactsyn.api import synthesise
+from exactsyn.api.synthesis import synthesise
 from exactsyn.caches import memo
 from exactsyn.core.costs import cost_model, library_costs
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.jsonio import gate_to_dict
-from exactsyn.proof.check import check_certificate
+from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.encode import EncodingOptions
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 STATUSES = ("done", "timeout", "failed")
 

@@ -11,7 +11,7 @@ import numpy as np
 
 from exactsyn.cli.common import fail
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import read_circuit
+from exactsyn.io.formats import read_circuit
 
 
 @click.command()

@@ -35,11 +35,11 @@ from exactsyn.cli.options import (
     solver_option,
     store_option,
 )
+from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
 from exactsyn.io.draw import draw_text
-from exactsyn.io.words import count
 from exactsyn.sat.encode import options_for
-from exactsyn.spec.reversible import parse_perm
+from exactsyn.specification.reversible import parse_perm
 
 DEFAULT_STORE = "exactsyn-results.sqlite"
 

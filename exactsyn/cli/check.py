@@ -10,9 +10,9 @@ import sys
 import click
 
 from exactsyn.cli.common import fail
+from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
-from exactsyn.io.words import count
-from exactsyn.proof.check import CheckLine, check_certificate
+from exactsyn.proof.checker import CheckLine, check_certificate
 
 
 @click.command()

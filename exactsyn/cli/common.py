@@ -9,7 +9,7 @@ from typing import NoReturn
 import click
 
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import write_data
+from exactsyn.io.formats import write_data
 
 
 def fail(message: str, code: int = 2) -> NoReturn:

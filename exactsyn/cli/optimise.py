@@ -19,7 +19,7 @@ from exactsyn.cli.options import Choice, coupling_option, max_controls_option
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import SUFFIXES, circuit_layout_from_text, read_circuit_layout, render, write_data
+from exactsyn.io.formats import SUFFIXES, circuit_layout_from_text, read_circuit_layout, render, write_data
 from exactsyn.io.layout import Layout, check_layout
 from exactsyn.optimise import (
     EquivalenceError,
@@ -29,7 +29,7 @@ from exactsyn.optimise import (
     optimise_circuit,
 )
 from exactsyn.optimise.driver import DEFAULT_HORIZON
-from exactsyn.optimise.report import qasm_header, result_to_dict, summary_text
+from exactsyn.optimise.summary import qasm_header, result_to_dict, summary_text
 
 FORMATS = ("qasm2", "qasm3", "json")
 

@@ -25,7 +25,7 @@ import click
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import did_you_mean
 from exactsyn.sat.conquer import SPLIT_MODES
-from exactsyn.sat.cubes import DEFAULT_DEPTH, SCHEMES
+from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
 from exactsyn.sat.solve import SOLVERS
 from exactsyn.search.loop import BOUNDS

@@ -16,7 +16,7 @@ from exactsyn.cli.batch import DEFAULT_STORE
 from exactsyn.cli.common import emit, fail
 from exactsyn.cli.options import Choice, deprecated, store_option
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import PICTURE_FORMATS, check_writable, format_for, read_circuit_layout, render
+from exactsyn.io.formats import PICTURE_FORMATS, check_writable, format_for, read_circuit_layout, render
 
 DEFAULT_WRAP = 40  # gate columns per row of a drawing
 

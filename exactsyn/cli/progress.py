@@ -26,7 +26,7 @@ from rich.live import Live
 from rich.spinner import Spinner
 from rich.text import Text
 
-from exactsyn.io.words import count
+from exactsyn.core.words import count
 from exactsyn.sat.conquer import CubeEvent
 from exactsyn.sat.query import Query
 from exactsyn.sat.status import Status

@@ -15,7 +15,15 @@ import sys
 
 import click
 
-from exactsyn.api import OPTIMA_MODES, Synthesis, synthesise
+from exactsyn.api.synthesis import OPTIMA_MODES, Synthesis, synthesise
+from exactsyn.api.view import (
+    listing_summary,
+    objective_summary,
+    qasm_header,
+    status_line,
+    synthesis_to_dict,
+    synthesis_to_text,
+)
 from exactsyn.cli.common import emit, fail
 from exactsyn.cli.options import (
     Choice,
@@ -40,18 +48,10 @@ from exactsyn.cli.progress import SynthProgress, choose_mode
 from exactsyn.core.cliffordt import decompose
 from exactsyn.core.cliffordt import verify as verify_clifford_t
 from exactsyn.errors import ExactsynError, NoCircuitError
-from exactsyn.io.files import CIRCUIT_FORMATS, check_writable, format_for, read_circuit_layout, render
+from exactsyn.io.formats import CIRCUIT_FORMATS, check_writable, format_for, read_circuit_layout, render
 from exactsyn.io.layout import Layout
 from exactsyn.io.qasm import clifford_t_to_qasm2, clifford_t_to_qasm3
-from exactsyn.io.report import (
-    listing_summary,
-    objective_summary,
-    qasm_header,
-    status_line,
-    synthesis_to_dict,
-    synthesis_to_text,
-)
-from exactsyn.spec.reversible import Spec, parse_cycles, parse_perm
+from exactsyn.specification.reversible import Spec, parse_cycles, parse_perm
 
 
 def read_function(spec_file: str | None, perm: str | None, cycles: str | None, lines: int | None) -> Spec | str:

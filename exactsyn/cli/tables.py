@@ -11,8 +11,8 @@ from contextlib import contextmanager
 import click
 
 from exactsyn.cli.common import fail
+from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError, did_you_mean
-from exactsyn.io.words import count
 
 LIBRARIES = ("nct", "mct", "mixed")
 #: What a bare ``exactsyn tables build`` builds: the default library of ``synth`` and ``mct``.

@@ -46,8 +46,8 @@ from itertools import permutations
 import numpy as np
 
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
+from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
-from exactsyn.io.words import count
 
 #: Largest gate whose unitary is multiplied out (a 2^10 × 2^10 complex matrix is 16 MiB).
 MAX_UNITARY_QUBITS = 10

@@ -2,15 +2,16 @@
 
 Modules, one job each:
 
-* :mod:`~exactsyn.optimise.gateset` — which gates input and output may use (no enumeration);
+* :mod:`~exactsyn.optimise.allowed_gates` — which gates input and output may use (no enumeration);
 * :mod:`~exactsyn.optimise.commute` — exact commutation of two gates;
 * :mod:`~exactsyn.optimise.windows` — convex windows on the gate dependency graph;
 * :mod:`~exactsyn.optimise.resynthesis` — optimal circuits of window permutations (interface and tables);
 * :mod:`~exactsyn.optimise.driver` — the passes, to a fixpoint, and :func:`optimise_circuit`;
 * :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
-* :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.report` — measures and the log.
+* :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log.
 """
 
+from exactsyn.optimise.allowed_gates import GateSet, gate_set
 from exactsyn.optimise.driver import (
     MAX_LINES,
     OBJECTIVES,
@@ -22,7 +23,6 @@ from exactsyn.optimise.driver import (
     optimise_circuit,
 )
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
-from exactsyn.optimise.gateset import GateSet, gate_set
 from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.resynthesis import Optimum, TableResynthesis, WindowProblem, WindowResynthesis
 

@@ -36,9 +36,9 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import CostModel, cost_model
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
+from exactsyn.optimise.allowed_gates import GateSet, gate_set
 from exactsyn.optimise.commute import relabel
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
-from exactsyn.optimise.gateset import GateSet, gate_set
 from exactsyn.optimise.meet import CombinedResynthesis, MeetResynthesis
 from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis

@@ -1,6 +1,6 @@
 """4-line windows: proven minimum gate counts from a distance table and a bounded meet in the middle.
 
-A breadth-first distance table of depth ``D`` (:func:`exactsyn.search.distance.distance_table`:
+A breadth-first distance table of depth ``D`` (:func:`exactsyn.tables.distance.distance_table`:
 every function of at most ``D`` gates with its distance; ``D = 5`` for NCT and MCT on 4
 lines, whose layer sizes the tests compare with Golubitsky, Falconer, Maslov, "Synthesis
 of the optimal 4-bit reversible circuits", DAC 2010) answers a window in one of two ways:
@@ -29,9 +29,9 @@ import numpy as np
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Edge, Library
-from exactsyn.optimise.gateset import GateSet
+from exactsyn.optimise.allowed_gates import GateSet
 from exactsyn.optimise.resynthesis import Optimum, WindowProblem, WindowResynthesis
-from exactsyn.search.distance import FULL, DistanceTable, distance_table
+from exactsyn.tables.distance import FULL, DistanceTable, distance_table
 
 #: Extra layers beyond the table depth that the bounded meet in the middle tries.
 DEFAULT_EXTRA = 3

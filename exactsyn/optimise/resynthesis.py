@@ -11,7 +11,7 @@ known constants).
 :class:`TableResynthesis` answers for windows of up to 3 lines from exhaustive tables:
 
 * every permutation reachable over the window's library gets its minimum gate count from
-  breadth-first search of the whole group (:func:`exactsyn.search.bfs.optimal_sizes`; the
+  breadth-first search of the whole group (:func:`exactsyn.tables.bfs.optimal_sizes`; the
   method of Shende, Prasad, Markov, Hayes, "Synthesis of reversible logic circuits",
   IEEE TCAD 22(6), 2003, whose distribution the tests reproduce);
 * for ``gates-then-cost`` a dynamic programme over the same layers gives the least cost
@@ -34,8 +34,8 @@ import numpy as np
 from exactsyn.core.costs import CostModel
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Edge, Library, gate_table
-from exactsyn.optimise.gateset import GateSet
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.optimise.allowed_gates import GateSet
+from exactsyn.tables.bfs import optimal_sizes
 
 
 @dataclass(frozen=True)

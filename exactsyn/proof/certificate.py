@@ -21,7 +21,7 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     ``num_vars``, ``num_clauses``, ``solver``, ``seconds``, ``conflicts``,
     ``proof_bytes`` and ``symmetry`` (the query's rules when they differ from
     ``encoding``'s, e.g. a raced query answered without symmetry breaking); a query
-    split into cubes (:mod:`exactsyn.sat.cubes`) has ``proof`` null and a ``split``
+    split into cubes (:mod:`exactsyn.sat.cube_split`) has ``proof`` null and a ``split``
     object: ``scheme``, ``positions``, ``engine`` (informative) and ``cubes``, one entry
     per cube with ``index``, ``label``, ``clauses`` (the clauses appended to the CNF, as
     lists of literals, one per branching from the root), ``status``, ``proof`` (the
@@ -40,7 +40,7 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     ``1..m`` being the clauses of the re-derived CNF in order (a cube's clauses follow)
     (Cruz-Filipe, Heule, Hunt, Kaufmann, Schneider-Kamp, "Efficient certified RAT verification", CADE 2017).
 
-:mod:`exactsyn.proof.check` re-checks a certificate without trusting the solver.
+:mod:`exactsyn.proof.checker` re-checks a certificate without trusting the solver.
 """
 
 from __future__ import annotations
@@ -55,10 +55,10 @@ from typing import TYPE_CHECKING, Any
 from exactsyn import __version__
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import path_problem
+from exactsyn.io.formats import path_problem
 from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
 from exactsyn.sat.encode import ENCODING_VERSION, EncodingOptions
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 if TYPE_CHECKING:  # types only: writing a certificate needs no solver module
     from exactsyn.sat.conquer import SplitRecord
@@ -212,7 +212,7 @@ def objective_query_to_dict(q: Query) -> dict[str, Any]:
 
 
 def objective_to_dict(res: ObjectiveResult) -> dict[str, Any]:
-    """The ``objective`` section (format in :mod:`exactsyn.proof.check`, which re-checks it)."""
+    """The ``objective`` section (format in :mod:`exactsyn.proof.checker`, which re-checks it)."""
     return {
         "name": res.objective,
         "cost_model": res.cost_model,

@@ -1,6 +1,6 @@
 """Do the cubes of a split query cover it?  Checked from the CNF and the cube list alone.
 
-A split query (:mod:`exactsyn.sat.cubes`) is refuted by refuting every cube — the CNF
+A split query (:mod:`exactsyn.sat.cube_split`) is refuted by refuting every cube — the CNF
 plus the cube's clauses — and by showing that every assignment satisfying the CNF
 satisfies some cube.  The checker trusts nothing about how the cubes were made; it
 reads each cube as the path of a branching tree (its clauses in order) and folds the

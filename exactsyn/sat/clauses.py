@@ -165,7 +165,7 @@ def spec_at_ends(b: ClauseBuilder, v: VariableLayout) -> None:
 
 
 def output_placement(b: ClauseBuilder, v: VariableLayout) -> None:
-    """Outputs placed by the solver (:mod:`exactsyn.spec.embed`).
+    """Outputs placed by the solver (:mod:`exactsyn.specification.embed`).
 
     ``y[o][l]``: output ``o`` is read on line ``l`` — exactly one line per output
     (pairwise at-most-one), at most one output per line — and then

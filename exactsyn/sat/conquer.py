@@ -1,6 +1,6 @@
 """Solve the cubes of one k-query on many processes (cube and conquer, the conquer half).
 
-The cubes come from :mod:`exactsyn.sat.cubes`; they are solved on a local process pool
+The cubes come from :mod:`exactsyn.sat.cube_split`; they are solved on a local process pool
 or on Dask (:mod:`exactsyn.sat.cube_engines`).  Each cube is the query's CNF plus the
 cube's clauses *appended at the end*, solved from scratch:
 
@@ -8,11 +8,11 @@ cube's clauses *appended at the end*, solved from scratch:
   decodes to a circuit like any other (and is simulated before it is used) — and every
   other cube is cancelled;
 * an unsatisfiable cube comes back, when certifying, with its own LRAT refutation of
-  "CNF + cube clauses" captured by :func:`exactsyn.proof.capture.solve_with_lrat`
+  "CNF + cube clauses" captured by :func:`exactsyn.sat.lrat_capture.solve_with_lrat`
   (clause ids ``1..m`` are the CNF's, the cube's clauses ``m+1…``), stored through the
   proof sink as ``k11-c0007.lrat.gz``;
 * the query is refuted when every cube is; that the cubes cover the query is argued in
-  :mod:`exactsyn.sat.cubes` and re-checked by :mod:`exactsyn.proof.cover`.
+  :mod:`exactsyn.sat.cube_split` and re-checked by :mod:`exactsyn.proof.cover`.
 
 A worker receives the question (spec, library, k, encoding options), not 170,000
 clauses: it encodes the query itself, once per process, and compares the CNF's hash with
@@ -30,13 +30,13 @@ from typing import Protocol
 from exactsyn.caches import memo
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.capture import solve_with_lrat
-from exactsyn.sat.cubes import DEFAULT_DEPTH, DEFAULT_SCHEME, CubePlan, split_query
+from exactsyn.sat.cube_split import DEFAULT_DEPTH, DEFAULT_SCHEME, CubePlan, split_query
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding, EncodingOptions, encode
+from exactsyn.sat.lrat_capture import solve_with_lrat
 from exactsyn.sat.solve import solve_cnf
 from exactsyn.sat.status import Status
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 #: A query still open after this long on its own is split (when splitting is asked for).
 SPLIT_AFTER = 1.0
@@ -48,7 +48,7 @@ class CubeOptions:
 
     ``jobs`` local worker processes, or Dask: ``scheduler`` is a scheduler address, or
     ``"local"`` for a ``LocalCluster`` of ``jobs`` processes on 127.0.0.1.  ``scheme`` and
-    ``depth`` choose the cubes (:func:`exactsyn.sat.cubes.split_query`); a query still
+    ``depth`` choose the cubes (:func:`exactsyn.sat.cube_split.split_query`); a query still
     open after ``after`` seconds on its own is split.
     """
 

@@ -17,7 +17,7 @@ The encoder is a pipeline over data:
    * :func:`~exactsyn.sat.clauses.spec_at_ends` — the spec as unit or guarded clauses
      where the ends are variables (``textbook``, guarded queries);
    * :func:`~exactsyn.sat.clauses.output_placement` — outputs placed by the solver
-     (embeddings, :mod:`exactsyn.spec.embed`);
+     (embeddings, :mod:`exactsyn.specification.embed`);
    * :func:`~exactsyn.sat.clauses.gate_choice` — one gate per position (or an empty
      slot), the target variables;
    * :func:`~exactsyn.sat.clauses.row_semantics` — the frame and the gate clauses for
@@ -70,7 +70,7 @@ from exactsyn.sat.question import (
     options_for,
 )
 from exactsyn.sat.symmetry import commuting_pairs, inverse_pairs, symmetry_breaking
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 __all__ = [
     "DEFAULT_SYMMETRY",

@@ -42,7 +42,7 @@ from pysat.formula import IDPool
 from exactsyn.core.library import Library
 from exactsyn.sat.encode import Encoding, EncodingOptions, Question, encode_question
 from exactsyn.sat.symmetry import inverse_pairs
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 DEPTH_OPTIONS = EncodingOptions("onehot", ("touch",))
 

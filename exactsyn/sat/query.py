@@ -4,7 +4,7 @@ A query is one CNF of :mod:`exactsyn.sat.encode` (or :mod:`exactsyn.sat.encode_d
 asking "is there a circuit of exactly ``k`` gates" (objective ``gates``), "… of ``k``
 gates and cost ≤ ``limit``" (``cost``), or "of depth ≤ ``k``" (``depth``).  The runner
 picks the solver, stores an LRAT refutation through a *proof sink* when certifying
-(CaDiCaL 1.9.5, :mod:`exactsyn.proof.capture`), hashes the CNF for the certificate, and
+(CaDiCaL 1.9.5, :mod:`exactsyn.sat.lrat_capture`), hashes the CNF for the certificate, and
 decodes a model into a circuit.  A query still open after ``QUICK_SECONDS`` may be
 raced against a second formulation on another process (:mod:`exactsyn.sat.race`), or
 split into cubes solved on a process pool or a Dask cluster (:mod:`exactsyn.sat.conquer`).
@@ -21,11 +21,11 @@ from dataclasses import dataclass
 from typing import Any
 
 from exactsyn.core.circuit import Circuit
-from exactsyn.proof.capture import solve_with_lrat
 from exactsyn.sat.conquer import CubeOptions, CubeProgress, SplitRecord, conquer
 from exactsyn.sat.cube_engines import make_engine
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding
+from exactsyn.sat.lrat_capture import solve_with_lrat
 from exactsyn.sat.race import race
 from exactsyn.sat.solve import solve_cnf
 from exactsyn.sat.status import Status

@@ -32,7 +32,7 @@ from typing import Literal
 
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 ENCODINGS = {
     "onehot": "one-hot gate choice, constants substituted, symmetry breaking (default)",

@@ -31,7 +31,7 @@ import tempfile
 import time
 from dataclasses import dataclass
 
-from exactsyn.proof.capture import solve_with_lrat
+from exactsyn.sat.lrat_capture import solve_with_lrat
 from exactsyn.sat.solve import solve_cnf
 from exactsyn.sat.status import Status
 

@@ -5,7 +5,7 @@ limit is enforced by solving in slices of a conflict budget (CaDiCaL keeps its l
 clauses between calls, so slicing costs little) and checking the clock in between.  Each
 slice is sized from the conflict rate measured so far to last about
 :data:`SLICE_SECONDS` (never past the limit), so a hard query stops within a fraction of
-a second of its limit (the same rule as the LRAT runs of :mod:`exactsyn.proof.capture`).
+a second of its limit (the same rule as the LRAT runs of :mod:`exactsyn.sat.lrat_capture`).
 """
 
 from __future__ import annotations

@@ -22,8 +22,8 @@ from exactsyn.caches import memo
 from exactsyn.core.gates import invert_permutation
 from exactsyn.core.library import Library
 from exactsyn.sat.clauses import ClauseBuilder, ClauseFamily, VariableLayout
+from exactsyn.sat.forbidden import forbidden_windows, weighted_forbidden_windows, window_size_ok
 from exactsyn.sat.question import SYMMETRY_RULES
-from exactsyn.sat.windows import forbidden_windows, weighted_forbidden_windows, window_size_ok
 
 
 @memo(maxsize=64)
@@ -91,7 +91,7 @@ def window_rule(w: int) -> ClauseFamily:
     """``window2``, ``window3``, ``window4`` — forbid every run of ``w`` consecutive gates
     that is not the least optimal circuit of its own function.
 
-    The table is precomputed by enumeration in :mod:`exactsyn.sat.windows`, where the
+    The table is precomputed by enumeration in :mod:`exactsyn.sat.forbidden`, where the
     argument is spelt out: each window of ``C*`` is the least optimal circuit of its
     function, else ``C*`` could be shortened or made smaller.  ``window2`` contains
     ``no-repeat`` and ``commute``.  A window length is skipped when ``|G|^w`` exceeds the
@@ -100,7 +100,7 @@ def window_rule(w: int) -> ClauseFamily:
     Under a cost limit the rule changes meaning: it forbids the windows that are not the
     least circuit of their function in the order of :attr:`CostLimit.order` (cost first,
     or gate count first), whose argument is in
-    :func:`exactsyn.sat.windows.weighted_forbidden_windows`; the plain window rule would
+    :func:`exactsyn.sat.forbidden.weighted_forbidden_windows`; the plain window rule would
     replace a window by a shorter one of higher cost.
     """
 
@@ -168,7 +168,7 @@ def trace(b: ClauseBuilder, v: VariableLayout) -> None:
 
 def touch(b: ClauseBuilder, v: VariableLayout) -> None:
     """``touch`` (redundant, implied) — ``∨_d t[d][l]`` for every line ``l`` whose output
-    differs from its input on a specified row (:meth:`exactsyn.spec.reversible.Spec.changed_lines`).
+    differs from its input on a specified row (:meth:`exactsyn.specification.reversible.Spec.changed_lines`).
 
     Only a gate targeting ``l`` changes ``l``, so every circuit meeting the spec satisfies
     it, under a cost limit too.  In a guarded question the clause depends on k and holds only

@@ -35,7 +35,7 @@ from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import CostLimit, EncodingOptions, encode
 from exactsyn.search.loop import verify
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 ENUM_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "trace", "touch"))
 EQUIVALENCE = "reordering of adjacent gates that commute as permutations (one circuit per class: its least reordering)"

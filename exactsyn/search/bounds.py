@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 from exactsyn.core.gates import permutation_is_odd
 from exactsyn.core.library import Library
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 
 @dataclass(frozen=True)
@@ -76,7 +76,7 @@ def completion_obstruction(spec: Spec) -> str | None:
     A reversible completion exists exactly when the specified rows can be given
     distinct outputs, each consistent with its specified bits: a bipartite matching
     (Kuhn's augmenting paths).  Specs with solver-chosen constants or output lines come
-    from :mod:`exactsyn.spec.embed`, whose line count already guarantees a completion.
+    from :mod:`exactsyn.specification.embed`, whose line count already guarantees a completion.
     """
     if spec.is_permutation or spec.has_choices:
         return None

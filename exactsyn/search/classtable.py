@@ -21,7 +21,7 @@ from dataclasses import dataclass
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
 
 #: Table libraries, smallest gate set first (the tightest bound for a sub-library comes first).
 TABLE_ORDER = ("nct", "mct", "mixed")
@@ -68,7 +68,7 @@ class Settled:
 
 
 def _gate_set(name: str) -> frozenset[object]:
-    from exactsyn.tables.gateset import gate_set
+    from exactsyn.tables.gate_keys import gate_set
 
     return frozenset(gate_set(name).gates)
 

@@ -59,11 +59,11 @@ from exactsyn.core.library import Edge, Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.search.affine import affine_circuit, affine_parts
 from exactsyn.search.classtable import shorten
-from exactsyn.search.distance import distance_table_by, extended_meet_by
 from exactsyn.search.events import Progress, SearchEvent, emit
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.rewrite import CannotRewrite, rewrite_circuit, uncoupled
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
+from exactsyn.tables.distance import distance_table_by, extended_meet_by
 
 #: Smaller presets whose circuits are circuits of a library too, largest first.
 SUB_PRESETS = ("mct", "nct")
@@ -242,7 +242,7 @@ class _OutOfTime(Exception):
 @memo(maxsize=16)
 def _window_answers(preset: str, lines: int, cap: int | None, coupling: tuple[Edge, ...], window: int) -> Any:
     """The window resynthesis of a library, kept per process (its 3-line tables take 0.1 s to build)."""
-    from exactsyn.optimise.gateset import gate_set
+    from exactsyn.optimise.allowed_gates import gate_set
     from exactsyn.optimise.meet import CombinedResynthesis, MeetResynthesis
     from exactsyn.optimise.resynthesis import TableResynthesis
 

@@ -21,7 +21,7 @@ from collections.abc import Sequence
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, invert_permutation, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.spec.reversible import MAX_LINES
+from exactsyn.specification.reversible import MAX_LINES
 
 
 def _ones(value: int, lines: int) -> tuple[int, ...]:

@@ -43,11 +43,11 @@ from exactsyn.search.bounds import (
     parity_obstruction,
 )
 from exactsyn.search.classtable import HINT, ClassTableClaim, applies, settle, table_for
-from exactsyn.search.distance import FULL, MeetResult, extended_meet_by
 from exactsyn.search.events import Progress, SearchEvent, emit
 from exactsyn.search.fallback import FIVE_SHRINK_FROM, Fallback, improve_upper, initial_upper
-from exactsyn.search.five import five_meet, five_next_depth, five_table_ok
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
+from exactsyn.tables.distance import FULL, MeetResult, extended_meet_by
+from exactsyn.tables.hashed import five_meet, five_next_depth, five_table_ok
 
 BOUNDS = {
     "table": "cheap bounds, then distance tables with meet in the middle (up to 5 lines, full specs)",
@@ -85,7 +85,7 @@ class GateResult:
 
 @dataclass(frozen=True)
 class TableBound:
-    """A bound from the distance tables (:mod:`exactsyn.search.distance`), re-derivable from its depth."""
+    """A bound from the distance tables (:mod:`exactsyn.tables.distance`), re-derivable from its depth."""
 
     value: int  # every circuit has at least this many gates
     exact: bool  # value is the optimum (a circuit of that size was found)
@@ -223,7 +223,7 @@ def minimise_gates(
             what = f"distance table of {library.name}" + ("" if five is None else f", depth {five}")
             emit(progress, SearchEvent("table-start", k=k, detail=what))
             mr: MeetResult | None
-            if five is not None:  # hashed 5-line tables: a shallow one first, a deeper one later (search/five.py)
+            if five is not None:  # hashed 5-line tables: a shallow one first, a deeper one later (tables/hashed.py)
                 mr = five_meet(spec.permutation, library, five)
             else:
                 mr = extended_meet_by(spec.permutation, library, deadline)

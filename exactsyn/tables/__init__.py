@@ -24,10 +24,10 @@ API (importing this package is cheap; numba loads on first use)::
 Modules (one job each):
 
 * :mod:`~exactsyn.tables.perm4` — packed keys, composition, the 48 symmetries (plain Python);
-* :mod:`~exactsyn.tables.gateset` — a library's gates as keys (the only bridge to the gate model);
+* :mod:`~exactsyn.tables.gate_keys` — a library's gates as keys (the only bridge to the gate model);
 * :mod:`~exactsyn.tables.kernels` — numba kernels: canonical form, lookup, BFS step, scan;
 * :mod:`~exactsyn.tables.levels` — breadth-first search over classes, level files;
-* :mod:`~exactsyn.tables.store` — cache directory, layout, manifest, hashes, atomic install;
+* :mod:`~exactsyn.tables.storage` — cache directory, layout, manifest, hashes, atomic install;
 * :mod:`~exactsyn.tables.manage` — :func:`build`, :func:`info`, :func:`remove`;
 * :mod:`~exactsyn.tables.engine` — :func:`load`, lookup and meet in the middle;
 * :mod:`~exactsyn.tables.verify` — the independent checker (imports no kernel code);
@@ -43,7 +43,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from exactsyn.tables.store import resolve_cache_dir
+from exactsyn.tables.storage import resolve_cache_dir
 
 if TYPE_CHECKING:  # pragma: no cover
     from exactsyn.tables.engine import Answer, Tables, load

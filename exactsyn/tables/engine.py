@@ -35,8 +35,8 @@ import numpy as np
 
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.tables import perm4, store
-from exactsyn.tables.gateset import GateSet, circuit_key, gate_set
+from exactsyn.tables import perm4, storage
+from exactsyn.tables.gate_keys import GateSet, circuit_key, gate_set
 
 SCAN_BLOCK = 1 << 15  # class representatives per parallel call of the scan
 
@@ -89,9 +89,9 @@ class Tables:
         self.content_hash = str(manifest["content_hash"])
         levels = []
         for lv in manifest["levels"]:
-            vals = store.read_array(directory / lv["file"], np.uint64, int(lv["classes"]))
+            vals = storage.read_array(directory / lv["file"], np.uint64, int(lv["classes"]))
             idx_dtype = np.uint32 if lv["index_file"].endswith(".u32") else np.uint64
-            index = store.read_array(directory / lv["index_file"], idx_dtype, (1 << int(lv["index_bits"])) + 1)
+            index = storage.read_array(directory / lv["index_file"], idx_dtype, (1 << int(lv["index_bits"])) + 1)
             levels.append(Level(int(lv["level"]), vals, index, 64 - int(lv["index_bits"]), int(lv["functions"])))
         self.levels = tuple(levels)
         self._gate_keys = gs.key_array()
@@ -242,12 +242,12 @@ class Tables:
 def load(library: str = "mct", cache: Path | None = None, verify_hashes: bool = False) -> Tables:
     """Open the cached table of ``library``; :class:`ExactsynError` (with the fix) if absent."""
     gs = gate_set(library)
-    directory = store.table_dir(gs.library, cache)
-    manifest = store.read_manifest(directory)
+    directory = storage.table_dir(gs.library, cache)
+    manifest = storage.read_manifest(directory)
     hint = f"build it with `exactsyn tables build --library {gs.library}`"
     if manifest is None:
         raise ExactsynError(f"no 4-line table for {gs.library} in {directory.parent}; {hint}")
-    problem = store.check_directory(directory, verify_hashes)
+    problem = storage.check_directory(directory, verify_hashes)
     if not problem.ok:
         raise ExactsynError(f"the cached {gs.library} table is damaged ({problem.reasons[0]}); {hint}")
     if manifest["gate_keys"] != [f"{k:016x}" for k in gs.keys]:

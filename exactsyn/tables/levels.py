@@ -28,8 +28,8 @@ from typing import Any
 
 import numpy as np
 
-from exactsyn.tables import store
-from exactsyn.tables.gateset import GateSet
+from exactsyn.tables import storage
+from exactsyn.tables.gate_keys import GateSet
 
 #: ``progress(description, done, total)``; ``total`` may change between levels.
 Progress = Callable[[str, int, int], None]
@@ -119,15 +119,15 @@ def _finish_level(directory: Path, level: int, count: int) -> dict[str, Any]:
     """Index and class-size counts of a written level; its manifest entry."""
     from exactsyn.tables import kernels as K
 
-    vals = store.read_array(directory / store.level_file(level), np.uint64, count)
+    vals = storage.read_array(directory / storage.level_file(level), np.uint64, count)
     index, shift = K.make_index(vals)
-    name = store.index_file(level, index.dtype)
+    name = storage.index_file(level, index.dtype)
     index.astype(index.dtype.newbyteorder("<")).tofile(directory / name)
     hist = K.class_size_counts(vals).sum(axis=0) if count else np.zeros(49, dtype=np.int64)
     entry = {
         "level": level,
         "classes": count,
-        "file": store.level_file(level),
+        "file": storage.level_file(level),
         "index_file": name,
         "index_bits": 64 - shift,
         "functions": int((hist * np.arange(49)).sum()),
@@ -145,16 +145,16 @@ def build_levels(
 
     report = progress or _noop
     ident = K.mix_many(np.array([perm4.IDENTITY], dtype=np.uint64))
-    path0 = directory / store.level_file(0)
+    path0 = directory / storage.level_file(0)
     ident.tofile(path0)
     sizes = [1]
     entries: list[dict[str, Any]] = []
     for level in range(depth + 1):
-        path = directory / store.level_file(level)
+        path = directory / storage.level_file(level)
         if level > 0:
-            cur = store.read_array(directory / store.level_file(level - 1), np.uint64, sizes[level - 1])
+            cur = storage.read_array(directory / storage.level_file(level - 1), np.uint64, sizes[level - 1])
             prev = (
-                store.read_array(directory / store.level_file(level - 2), np.uint64, sizes[level - 2])
+                storage.read_array(directory / storage.level_file(level - 2), np.uint64, sizes[level - 2])
                 if level > 1
                 else np.zeros(0, dtype=np.uint64)
             )
@@ -178,14 +178,14 @@ def build_table(
     levels = build_levels(gs, depth, directory, report, memory)
     for lv in levels:
         report(f"hashing level {lv['level']}", 0, 1)
-        for name_key, size_key, hash_key in store.FILE_KEYS:
+        for name_key, size_key, hash_key in storage.FILE_KEYS:
             path = directory / lv[name_key]
             lv[size_key] = path.stat().st_size
-            lv[hash_key] = store.sha256_file(path)
+            lv[hash_key] = storage.sha256_file(path)
     complete = len(levels) <= depth  # an empty level: every realisable function is in the table
     manifest: dict[str, Any] = {
-        "format": store.FORMAT,
-        "format_version": store.FORMAT_VERSION,
+        "format": storage.FORMAT,
+        "format_version": storage.FORMAT_VERSION,
         "library": gs.library,
         "lines": 4,
         "gates": gs.describe(),
@@ -203,7 +203,7 @@ def build_table(
             "memory_budget_bytes": memory,
         },
     }
-    store.write_manifest(directory, manifest)
+    storage.write_manifest(directory, manifest)
     return manifest
 
 

@@ -4,7 +4,7 @@
 its files are there with the manifest's sizes, it returns at once without reading
 them (``exactsyn tables info --hashes`` re-hashes them, and every certificate check
 re-hashes the table it uses).  Otherwise it builds into a temporary directory and renames it into place (see
-:mod:`exactsyn.tables.store`), so a crash or Ctrl-C never leaves a table that looks
+:mod:`exactsyn.tables.storage`), so a crash or Ctrl-C never leaves a table that looks
 complete; a stale temporary directory of a dead build is removed by the next build.
 """
 
@@ -17,8 +17,8 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn.errors import ExactsynError
-from exactsyn.tables import store
-from exactsyn.tables.gateset import TABLE_LIBRARIES, gate_set
+from exactsyn.tables import storage
+from exactsyn.tables.gate_keys import TABLE_LIBRARIES, gate_set
 from exactsyn.tables.levels import DEFAULT_MEMORY, Progress, build_table
 
 #: Depth of the table built for each library.  ``mct``: levels 0..8 (about 2.4e8 classes,
@@ -48,12 +48,12 @@ def info(library: str | None = None, cache: Path | None = None, hashes: bool = F
     names = [library] if library else list(TABLE_LIBRARIES)
     out = []
     for name in names:
-        directory = store.table_dir(name, cache)
-        manifest = store.read_manifest(directory)
+        directory = storage.table_dir(name, cache)
+        manifest = storage.read_manifest(directory)
         if manifest is None:
             out.append(TableInfo(name, directory, False))
             continue
-        problem = store.check_directory(directory, hashes)
+        problem = storage.check_directory(directory, hashes)
         levels = manifest["levels"]
         out.append(
             TableInfo(
@@ -61,7 +61,7 @@ def info(library: str | None = None, cache: Path | None = None, hashes: bool = F
                 directory=directory,
                 present=problem.ok,
                 depth=int(manifest["depth"]),
-                bytes=sum(int(lv[size]) for lv in levels for _, size, _ in store.FILE_KEYS),
+                bytes=sum(int(lv[size]) for lv in levels for _, size, _ in storage.FILE_KEYS),
                 classes=tuple(int(lv["classes"]) for lv in levels),
                 functions=tuple(int(lv["functions"]) for lv in levels),
                 content_hash=manifest.get("content_hash"),
@@ -74,7 +74,7 @@ def info(library: str | None = None, cache: Path | None = None, hashes: bool = F
 
 def _clean_stale(library: str, cache: Path | None) -> None:
     """Remove temporary build directories whose process is gone."""
-    root = store.tables_root(cache)
+    root = storage.tables_root(cache)
     if not root.is_dir():
         return
     for entry in root.glob(f".{library}.build-*"):
@@ -103,19 +103,19 @@ def build(
     want = DEFAULT_DEPTH[gs.library] if depth is None else depth
     if want < 0:
         raise ExactsynError("table depth must be 0 or more")
-    directory = store.table_dir(gs.library, cache)
+    directory = storage.table_dir(gs.library, cache)
     if not force:
-        manifest = store.read_manifest(directory)
+        manifest = storage.read_manifest(directory)
         if manifest is not None and (int(manifest["depth"]) >= want or manifest.get("complete")):
             if progress:
                 progress("checking the cached table", 0, 1)
-            if store.check_directory(directory, hashes=False).ok:
+            if storage.check_directory(directory, hashes=False).ok:
                 return info(gs.library, cache)[0]
     _clean_stale(gs.library, cache)
-    work = store.new_work_dir(gs.library, cache)
+    work = storage.new_work_dir(gs.library, cache)
     try:
         build_table(gs, want, work, progress, memory)
-        store.install(work, directory)
+        storage.install(work, directory)
     except BaseException:
         shutil.rmtree(work, ignore_errors=True)
         raise
@@ -124,7 +124,7 @@ def build(
 
 def remove(library: str, cache: Path | None = None) -> bool:
     """Delete the cached table of ``library``; True if there was one."""
-    directory = store.table_dir(gate_set(library).library, cache)
+    directory = storage.table_dir(gate_set(library).library, cache)
     if not directory.exists():
         return False
     shutil.rmtree(directory)

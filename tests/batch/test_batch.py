@@ -1,6 +1,6 @@
 """Batch jobs and reference tables: class reduction, the results store, engines, bad input.
 
-References outside the code under test: breadth-first tables (exactsyn.search.bfs, no SAT),
+References outside the code under test: breadth-first tables (exactsyn.tables.bfs, no SAT),
 the published 3-line NCT distribution of Shende, Prasad, Markov & Hayes (IEEE TCAD
 22(6), 2003), and brute-force orbit enumeration for the class counts.
 """
@@ -48,10 +48,10 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import x_gate
 from exactsyn.core.library import Library, make_library
 from exactsyn.io.jsonio import gate_from_dict
-from exactsyn.proof.check import check_certificate
+from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.encode import EncodingOptions
-from exactsyn.search.bfs import optimal_sizes
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables.bfs import optimal_sizes
 
 NCT3 = make_library("nct", 3)
 NCT2 = make_library("nct", 2)

@@ -24,8 +24,8 @@ from click.testing import CliRunner
 from exactsyn.batch.store import Store
 from exactsyn.cli import main
 from exactsyn.core.library import make_library
-from exactsyn.proof.check import check_certificate
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.proof.checker import check_certificate
+from exactsyn.tables.bfs import optimal_sizes
 
 NCT3 = make_library("nct", 3)
 

@@ -17,7 +17,7 @@ from exactsyn.batch.task import LibraryChoice, item_key
 from exactsyn.core.library import make_library
 from exactsyn.sat.encode import EncodingOptions
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.files import load_any
+from exactsyn.specification.loader import load_any
 
 NAND = """{name}inputs = ["a", "b"]
 outputs = ["y"]
@@ -77,7 +77,7 @@ def test_a_plan_keeps_the_embedding_of_files_without_a_name(tmp_path: Path) -> N
 def test_keys_of_specs_without_choices_are_those_older_stores_hold() -> None:
     # Keys written by exactsyn before the embedding choices entered the key (computed then,
     # kept here): a store started by that version must still resume without redoing them.
-    from exactsyn.spec.reversible import Spec, from_permutation
+    from exactsyn.specification.reversible import Spec, from_permutation
 
     lib, enc = make_library("nct", 3), EncodingOptions()
     full = from_permutation([1, 0, 3, 2, 5, 7, 4, 6])

@@ -1,7 +1,7 @@
 """The HTML batch report (exactsyn report), checked against breadth-first search and in headless Chromium.
 
 References outside the code under test: the report's distribution and optima are compared
-with breadth-first search (exactsyn.search.bfs, no SAT); each drawn circuit is read back
+with breadth-first search (exactsyn.tables.bfs, no SAT); each drawn circuit is read back
 from its SVG geometry alone (tests/svg_readback.py) and simulated; the page is rendered by
 Chromium over the DevTools protocol (tests/browser.py), which reports console messages,
 exceptions, failed loads and every network request; screenshots are decoded by Pillow.
@@ -81,7 +81,7 @@ def _report(store: Path, out: Path, *extra: str) -> str:
 
 def test_report_holds_the_table_the_chart_and_every_function(two_line_store: Path, tmp_path: Path) -> None:
     from exactsyn.core.library import make_library
-    from exactsyn.search.bfs import optimal_sizes
+    from exactsyn.tables.bfs import optimal_sizes
 
     page = _report(two_line_store, tmp_path / "r.html")
     bfs = optimal_sizes(make_library("nct", 2))  # breadth-first, no SAT

@@ -13,7 +13,7 @@ from helpers import ROOT
 
 from exactsyn.cli import main
 from exactsyn.core.library import make_library
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.tables.bfs import optimal_sizes
 
 
 def run(*args: str) -> subprocess.CompletedProcess[str]:

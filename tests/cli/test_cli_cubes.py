@@ -9,7 +9,7 @@ from click.testing import CliRunner
 
 from exactsyn.cli import main
 from exactsyn.core.library import make_library
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.tables.bfs import optimal_sizes
 
 # One of the 577 3-line functions that need 8 NCT gates (Shende et al., IEEE TCAD 2003),
 # found by breadth-first search; with --split-after 0 every k-query is split.

@@ -16,7 +16,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import x_gate
 from exactsyn.core.library import make_library
 from exactsyn.io.jsonio import gate_from_dict
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.tables.bfs import optimal_sizes
 
 NCT3 = make_library("nct", 3)
 

@@ -11,9 +11,9 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import peres_gate, swap_gate, x_gate
 from exactsyn.core.library import connected, make_library, parse_coupling
 from exactsyn.errors import ExactsynError, NoCircuitError
-from exactsyn.search.bfs import optimal_sizes
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import Spec, from_permutation
+from exactsyn.specification.reversible import Spec, from_permutation
+from exactsyn.tables.bfs import optimal_sizes
 
 NEW_LIBRARIES = [
     ("nct-swap", ""),

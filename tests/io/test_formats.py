@@ -511,8 +511,8 @@ def test_layout_in_json_and_its_errors() -> None:
 
 
 def test_apply_draw_and_synth_read_several_registers(tmp_path) -> None:  # type: ignore[no-untyped-def]
-    from exactsyn.io.files import read_circuit as load_circuit
-    from exactsyn.spec.files import load_any
+    from exactsyn.io.formats import read_circuit as load_circuit
+    from exactsyn.specification.loader import load_any
 
     text = 'OPENQASM 2.0;\ninclude "qelib1.inc";\nqreg a[2];\nqreg c[1];\nccx a[0],a[1],c[0];\ncx c[0],a[0];\n'
     path = tmp_path / "two.qasm"

@@ -26,7 +26,7 @@ from exactsyn.cli import main
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import render
+from exactsyn.io.formats import render
 from exactsyn.io.jsonio import circuit_to_dict
 from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
 from exactsyn.io.svg import to_svg

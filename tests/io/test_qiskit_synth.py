@@ -11,7 +11,7 @@ from optional import need_qiskit
 from exactsyn.core.library import make_library
 from exactsyn.io.qasm import to_qasm2
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
 
 qiskit = need_qiskit()  # the test-only reference reader
 from qiskit import QuantumCircuit  # noqa: E402

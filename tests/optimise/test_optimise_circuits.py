@@ -32,9 +32,9 @@ from exactsyn.optimise import (
     gate_set,
     optimise_circuit,
 )
-from exactsyn.optimise.report import result_to_dict, summary_text
+from exactsyn.optimise.summary import result_to_dict, summary_text
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
 
 QISKIT_QUBITS = 10
 
@@ -209,7 +209,7 @@ def test_qiskit_library_adders_round_trip(family: str, kind: str, bits: int) -> 
     from qiskit.circuit.library import CDKMRippleCarryAdder, VBERippleCarryAdder
     from qiskit.quantum_info import Operator
 
-    from exactsyn.io.files import render
+    from exactsyn.io.formats import render
     from exactsyn.io.qasm import read_qasm_layout
 
     cls = CDKMRippleCarryAdder if family == "CDKM" else VBERippleCarryAdder

@@ -15,14 +15,14 @@ from exactsyn.core.costs import COST_MODELS
 from exactsyn.core.gates import peres_gate, swap_gate, x_gate
 from exactsyn.core.library import PRESET_KINDS, make_library
 from exactsyn.errors import ExactsynError
+from exactsyn.optimise.allowed_gates import gate_set
 from exactsyn.optimise.commute import commute, simulate_commute
 from exactsyn.optimise.equivalence import check_equivalent
-from exactsyn.optimise.gateset import gate_set
 from exactsyn.optimise.meet import MeetResynthesis
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem
 from exactsyn.optimise.windows import GatePool, grow
-from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.distance import meet_in_the_middle
+from exactsyn.tables.bfs import optimal_sizes
+from exactsyn.tables.distance import meet_in_the_middle
 
 
 # ------------------------------------------------------------------ gate sets
@@ -134,7 +134,7 @@ def test_four_line_meet_in_the_middle_matches_the_full_search() -> None:
         gates = tuple(rng.choice(lib.gates) for _ in range(length))
         perm = Circuit(4, gates).permutation()
         best = res.optimum(WindowProblem(perm, 4))
-        # reference: the unbounded meet in the middle of exactsyn.search.distance (exact up to 10 gates)
+        # reference: the unbounded meet in the middle of exactsyn.tables.distance (exact up to 10 gates)
         ref = meet_in_the_middle(perm, lib)
         assert best is not None and ref.exact is not None
         assert best.gate_count == ref.exact and Circuit(4, best.gates).permutation() == perm

@@ -14,10 +14,10 @@ from helpers import INSTANCES, edit, random_perm, rejected
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
-from exactsyn.proof.check import check_certificate
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.proof.checker import check_certificate
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables.bfs import optimal_sizes
 
 NCT3 = make_library("nct", 3)
 
@@ -29,7 +29,7 @@ def certify(perm: list[int], directory: Path, library=NCT3) -> Path:  # type: ig
 
 
 def test_certificates_of_3bit_functions_check_and_match_breadth_first(tmp_path: Path) -> None:
-    # Independent reference: breadth-first optimum (exactsyn.search.bfs, checked against
+    # Independent reference: breadth-first optimum (exactsyn.tables.bfs, checked against
     # Shende et al., IEEE TCAD 2003).  A sample of random and of the hardest functions.
     table = optimal_sizes(NCT3)
     rng = random.Random(11)
@@ -167,8 +167,8 @@ def test_certificate_of_an_embedded_function_with_solver_choices(tmp_path: Path)
     # Full adder with the outputs placed by the solver: 4 gates (common practice).
     import tomllib
 
-    from exactsyn.spec.boolean import function_from_mapping
-    from exactsyn.spec.embed import embed
+    from exactsyn.specification.boolean import function_from_mapping
+    from exactsyn.specification.embed import embed
 
     fn = function_from_mapping(tomllib.loads((INSTANCES / "full-adder.toml").read_text()), "fa")
     spec, _ = embed(fn)

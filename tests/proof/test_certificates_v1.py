@@ -22,9 +22,9 @@ from helpers import DATA, INSTANCES, layer_depths, naive_bfs, optimal_words
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import spec_to_dict
-from exactsyn.proof.check import check_certificate
-from exactsyn.search.bfs import optimal_sizes
-from exactsyn.spec.files import load_any
+from exactsyn.proof.checker import check_certificate
+from exactsyn.specification.loader import load_any
+from exactsyn.tables.bfs import optimal_sizes
 
 OLD = DATA / "certificates-v1"
 NAMES = [

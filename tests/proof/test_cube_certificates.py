@@ -14,11 +14,11 @@ from optional import need
 import exactsyn as ex
 from exactsyn.core.library import make_library
 from exactsyn.proof.certificate import proof_writer, write_result
-from exactsyn.proof.check import check_certificate
+from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.conquer import CubeOptions
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
-from exactsyn.spec.samples import random_library_function
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.specification.samples import random_library_function
 
 MCT4 = make_library("mct", 4)
 

@@ -1,4 +1,4 @@
-"""LRAT capture (exactsyn.proof.capture) and the independent checker (exactsyn.proof.lrat).
+"""LRAT capture (exactsyn.sat.lrat_capture) and the independent checker (exactsyn.proof.lrat).
 
 Outside references used here:
 * Pigeonhole formulas PHP(n) (n+1 pigeons, n holes) are unsatisfiable, and
@@ -24,8 +24,8 @@ from pysat.examples.genhard import PHP
 from pysat.solvers import Minisat22
 
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.capture import HOOK_NAME, ProofRun, solve_with_lrat, tracer_available
 from exactsyn.proof.lrat import check_lrat
+from exactsyn.sat.lrat_capture import HOOK_NAME, ProofRun, solve_with_lrat, tracer_available
 
 # ---------------------------------------------------------------- helpers
 
@@ -294,7 +294,7 @@ def test_numbering_model_violations_fail_loudly():
     # The capture learns each input clause's solver id from the trace lines
     # written while adding it; a trace that fits no consistent numbering must
     # raise rather than yield a certificate with wrong ids.
-    from exactsyn.proof.capture import _IdWatch
+    from exactsyn.sat.lrat_capture import _IdWatch
 
     watch = _IdWatch()
     watch.after_add(b"")  # clause 1 -> id 1

@@ -13,13 +13,13 @@ from exactsyn.proof.cover import check_coverage
 from exactsyn.proof.lrat import check_lrat_extended, prepare
 from exactsyn.sat.conquer import CubeJob, CubeOptions, conquer, solve_cube, split_options
 from exactsyn.sat.cube_engines import LocalCubes
-from exactsyn.sat.cubes import split_positions, split_query
+from exactsyn.sat.cube_split import split_positions, split_query
 from exactsyn.sat.encode import encode
 from exactsyn.sat.solve import solve_cnf
 from exactsyn.sat.status import Status
-from exactsyn.search.bfs import optimal_sizes
-from exactsyn.spec.reversible import from_permutation
-from exactsyn.spec.samples import random_library_function
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.specification.samples import random_library_function
+from exactsyn.tables.bfs import optimal_sizes
 
 NCT3 = make_library("nct", 3)
 MCT4 = make_library("mct", 4)

@@ -7,7 +7,7 @@ import pytest
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import EncodingOptions, encode
-from exactsyn.spec.reversible import parse_cycles
+from exactsyn.specification.reversible import parse_cycles
 
 
 def test_a_guarded_textbook_query_is_refused() -> None:

@@ -8,7 +8,7 @@ from exactsyn.core.library import make_library
 from exactsyn.proof.lrat import check_lrat
 from exactsyn.sat.encode import EncodingOptions, encode
 from exactsyn.sat.race import race
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
 
 
 def test_race_on_unsat_pigeonhole_returns_a_checked_proof() -> None:

@@ -9,10 +9,10 @@ from helpers import random_perm
 
 from exactsyn.core.library import make_library
 from exactsyn.sat.encode import EncodingOptions
-from exactsyn.sat.windows import allowed_windows, forbidden_windows
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.sat.forbidden import allowed_windows, forbidden_windows
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables.bfs import optimal_sizes
 
 
 def test_allowed_windows_are_one_per_function_at_that_distance() -> None:
@@ -35,7 +35,7 @@ def test_window2_contains_the_pairwise_rules() -> None:
 
 
 def test_window_rules_keep_an_optimal_circuit() -> None:
-    # Independent reference: breadth-first optimum (exactsyn.search.bfs).
+    # Independent reference: breadth-first optimum (exactsyn.tables.bfs).
     lib = make_library("nct", 3)
     table = optimal_sizes(lib)
     opts = EncodingOptions("onehot", ("touch", "window2", "window3", "window4"))

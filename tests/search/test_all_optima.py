@@ -18,8 +18,8 @@ from helpers import optimal_words, trace_normal_form
 from exactsyn.core.library import Library, make_library
 from exactsyn.sat.encode import CostLimit
 from exactsyn.search.all_optima import enumerate_optimal
-from exactsyn.search.bfs import optimal_sizes
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables.bfs import optimal_sizes
 
 
 def _normal_form(word: Sequence[int], library: Library) -> tuple[int, ...]:

@@ -13,8 +13,8 @@ from hypothesis import strategies as st
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.search.bfs import distance_layers, distribution, optimal_circuit, optimal_sizes
 from exactsyn.search.heuristic import cancel_pairs, transformation_based
+from exactsyn.tables.bfs import distance_layers, distribution, optimal_circuit, optimal_sizes
 
 
 def parity(perm: list[int] | tuple[int, ...]) -> int:

@@ -25,8 +25,8 @@ from exactsyn.search.fallback import (
 )
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.rewrite import CannotRewrite, _v_chain, double_transposition, lower_gate, rewrite_circuit
-from exactsyn.spec.reversible import from_permutation
-from exactsyn.spec.samples import random_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.specification.samples import random_permutation
 
 
 def _even_perm(n: int, rng: random.Random) -> list[int]:

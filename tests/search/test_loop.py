@@ -11,10 +11,10 @@ from helpers import hwb, perm_from_bits, random_perm
 from exactsyn.core.library import make_library
 from exactsyn.errors import NoCircuitError
 from exactsyn.sat.encode import EncodingOptions, encode, options_for
-from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.distance import meet_in_the_middle
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation, parse_cycles
+from exactsyn.specification.reversible import from_permutation, parse_cycles
+from exactsyn.tables.bfs import optimal_sizes
+from exactsyn.tables.distance import meet_in_the_middle
 
 NCT3 = make_library("nct", 3)
 
@@ -29,7 +29,7 @@ def sat_optimum(perm: list[int], library=NCT3, encoding: str = "onehot") -> int:
 
 
 def test_sat_matches_breadth_first_on_500_random_3bit_functions() -> None:
-    # Independent method: breadth-first enumeration (exactsyn.search.bfs), whose distribution
+    # Independent method: breadth-first enumeration (exactsyn.tables.bfs), whose distribution
     # is checked against Shende et al., IEEE TCAD 2003, in tests/search/test_bfs_heuristic.py.
     table = optimal_sizes(NCT3)
     rng = random.Random(20261201)

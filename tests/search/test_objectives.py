@@ -23,11 +23,11 @@ from exactsyn.core.gates import x_gate
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
-from exactsyn.proof.check import check_certificate
-from exactsyn.search.bfs import optimal_sizes
+from exactsyn.proof.checker import check_certificate
 from exactsyn.search.loop import minimise_gates
 from exactsyn.search.objectives import optimise
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables.bfs import optimal_sizes
 
 Perm = tuple[int, ...]
 NCT3 = make_library("nct", 3)

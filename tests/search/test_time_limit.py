@@ -15,7 +15,7 @@ import time
 import pytest
 
 import exactsyn as ex
-from exactsyn.spec.samples import random_circuit, random_permutation
+from exactsyn.specification.samples import random_circuit, random_permutation
 
 
 def _even(n: int, seed: int) -> list[int]:

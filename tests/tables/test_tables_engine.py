@@ -13,9 +13,9 @@ from exactsyn import tables
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.search.distance import extended_meet
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables.distance import extended_meet
 
 
 def _random_circuit_perm(rng: random.Random, library: str, length: int) -> tuple[int, ...]:

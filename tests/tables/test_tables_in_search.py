@@ -20,12 +20,12 @@ from helpers import hwb
 from exactsyn import synthesise
 from exactsyn.cli.main import main
 from exactsyn.core.library import make_library
-from exactsyn.proof.check import check_certificate
+from exactsyn.proof.checker import check_certificate
 from exactsyn.search import classtable
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
-from exactsyn.tables import store
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables import storage
 
 
 @pytest.fixture
@@ -156,8 +156,8 @@ def test_a_tampered_table_is_rejected_by_check(
     cert = tmp_path / "cert"
     synthesise(hwb(4), library="mct", certificate=cert)
     copy = tmp_path / "cache"
-    shutil.copytree(store.table_dir("mct", table_cache), store.table_dir("mct", copy))
-    path = store.table_dir("mct", copy) / store.level_file(5)
+    shutil.copytree(storage.table_dir("mct", table_cache), storage.table_dir("mct", copy))
+    path = storage.table_dir("mct", copy) / storage.level_file(5)
     data = bytearray(path.read_bytes())
     data[800] ^= 0x10
     path.write_bytes(bytes(data))
@@ -200,7 +200,7 @@ def test_tables_commands(cached: Path) -> None:
     runner = CliRunner()
     info = runner.invoke(main, ["tables", "info"])
     assert info.exit_code == 0 and "mct" in info.output and "depth 6" in info.output
-    d = store.table_dir("mct", cached)
+    d = storage.table_dir("mct", cached)
     before = {p.name: p.stat().st_mtime_ns for p in d.iterdir()}
     again = runner.invoke(main, ["tables", "build", "--library", "mct", "--depth", "6", "-q"])
     assert again.exit_code == 0 and "depth 6" in again.output

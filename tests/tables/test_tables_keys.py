@@ -9,7 +9,7 @@ from helpers import random_perm
 
 from exactsyn.tables import kernels as K
 from exactsyn.tables import perm4, verify
-from exactsyn.tables.gateset import gate_set
+from exactsyn.tables.gate_keys import gate_set
 
 
 def _random_keys(n: int, seed: int) -> list[int]:
@@ -32,7 +32,7 @@ def test_pack_compose_inverse_follow_the_conventions() -> None:
 def test_relabelling_moves_gates_like_renaming_their_lines() -> None:
     # Conjugating a gate's permutation by π_σ must give the permutation of the renamed gate.
     gs = gate_set("mixed")
-    from exactsyn.tables.gateset import relabel_gate
+    from exactsyn.tables.gate_keys import relabel_gate
 
     for g, k in zip(gs.gates, gs.keys, strict=True):
         for sigma in perm4.RELABELLINGS[::5]:

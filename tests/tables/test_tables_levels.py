@@ -8,7 +8,7 @@ import pytest
 
 from exactsyn import tables
 from exactsyn.core.library import make_library
-from exactsyn.search.bfs import distance_layers
+from exactsyn.tables.bfs import distance_layers
 
 
 @pytest.mark.parametrize(("library", "depth"), [("mct", 4), ("nct", 4), ("mixed", 3)])

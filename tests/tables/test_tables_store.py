@@ -15,12 +15,12 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import x_gate
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import kernels as K
-from exactsyn.tables import store, verify
+from exactsyn.tables import storage, verify
 
 
 def _copy_table(src_cache: Path, dst_cache: Path, library: str) -> Path:
-    dst = store.table_dir(library, dst_cache)
-    shutil.copytree(store.table_dir(library, src_cache), dst)
+    dst = storage.table_dir(library, dst_cache)
+    shutil.copytree(storage.table_dir(library, src_cache), dst)
     return dst
 
 
@@ -42,7 +42,7 @@ def test_cache_directory_follows_the_environment(monkeypatch: pytest.MonkeyPatch
 
 
 def test_build_is_idempotent(depth4: Path) -> None:
-    d = store.table_dir("mct", depth4)
+    d = storage.table_dir("mct", depth4)
     before = {p.name: p.stat().st_mtime_ns for p in d.iterdir()}
     info = tables.build("mct", depth=4, cache=depth4)
     assert info.present and info.depth == 4
@@ -57,7 +57,7 @@ def test_an_interrupted_build_leaves_nothing_that_looks_complete(tmp_path: Path)
 
     with pytest.raises(KeyboardInterrupt):
         tables.build("mct", depth=4, cache=tmp_path, progress=stop)
-    root = store.tables_root(tmp_path)
+    root = storage.tables_root(tmp_path)
     assert not (root / "mct").exists()
     assert not list(root.glob(".mct.build-*"))
     with pytest.raises(ExactsynError, match="exactsyn tables build"):
@@ -66,45 +66,45 @@ def test_an_interrupted_build_leaves_nothing_that_looks_complete(tmp_path: Path)
 
 def test_a_changed_byte_is_caught_and_rebuilt(depth4: Path, tmp_path: Path) -> None:
     d = _copy_table(depth4, tmp_path, "mct")
-    path = d / store.level_file(3)
+    path = d / storage.level_file(3)
     data = bytearray(path.read_bytes())
     data[100] ^= 0x01
     path.write_bytes(bytes(data))
-    assert store.check_directory(d, hashes=False).ok  # same size
-    assert not store.check_directory(d, hashes=True).ok
+    assert storage.check_directory(d, hashes=False).ok  # same size
+    assert not storage.check_directory(d, hashes=True).ok
     with pytest.raises(ExactsynError, match="damaged"):
         tables.load("mct", cache=tmp_path, verify_hashes=True)
     report = verify.verify_table("mct", cache=tmp_path, workers=1, stamp=False)
     assert not report.ok and any("level-03.u64" in p for p in report.problems)
     assert not tables.info("mct", cache=tmp_path, hashes=True)[0].present
-    good = json.loads((store.table_dir("mct", depth4) / store.MANIFEST).read_text())["content_hash"]
+    good = json.loads((storage.table_dir("mct", depth4) / storage.MANIFEST).read_text())["content_hash"]
     assert tables.build("mct", depth=4, cache=tmp_path, force=True).content_hash == good
-    assert store.check_directory(d, hashes=True).ok
+    assert storage.check_directory(d, hashes=True).ok
 
 
 def _rewrite(d: Path, levels: list[np.ndarray]) -> None:
     """Write ``levels`` as a table with a consistent manifest (sizes, counts, hashes)."""
-    manifest = json.loads((d / store.MANIFEST).read_text())
+    manifest = json.loads((d / storage.MANIFEST).read_text())
     for j, vals in enumerate(levels):
         vals = np.ascontiguousarray(np.sort(vals), dtype=np.uint64)
-        vals.tofile(d / store.level_file(j))
+        vals.tofile(d / storage.level_file(j))
         index, shift = K.make_index(vals)
         lv = manifest["levels"][j]
         (d / lv["index_file"]).unlink()
-        lv["index_file"] = store.index_file(j, index.dtype)
+        lv["index_file"] = storage.index_file(j, index.dtype)
         index.tofile(d / lv["index_file"])
         lv["index_bits"] = 64 - shift
         lv["classes"] = len(vals)
         hist = K.class_size_counts(vals).sum(axis=0)
         lv["functions"] = int((hist * np.arange(49)).sum())
-        for name, size, digest in store.FILE_KEYS:
+        for name, size, digest in storage.FILE_KEYS:
             lv[size] = (d / lv[name]).stat().st_size
-            lv[digest] = store.sha256_file(d / lv[name])
-    store.write_manifest(d, manifest)
+            lv[digest] = storage.sha256_file(d / lv[name])
+    storage.write_manifest(d, manifest)
 
 
 def _levels(d: Path) -> list[np.ndarray]:
-    manifest = json.loads((d / store.MANIFEST).read_text())
+    manifest = json.loads((d / storage.MANIFEST).read_text())
     return [np.fromfile(d / lv["file"], dtype="<u8") for lv in manifest["levels"]]
 
 
@@ -121,7 +121,7 @@ def test_a_consistently_rehashed_wrong_table_is_rejected(depth4: Path, tmp_path:
     else:  # a 4-gate class missing
         levels[4] = np.delete(levels[4], 11)
     _rewrite(d, levels)
-    assert store.check_directory(d, hashes=True).ok  # the hashes cannot see it
+    assert storage.check_directory(d, hashes=True).ok  # the hashes cannot see it
     report = verify.verify_table("mct", cache=tmp_path, workers=1, stamp=False)
     assert not report.ok
     assert any("closure" in p or "descent" in p for p in report.problems)
@@ -132,7 +132,7 @@ def test_the_checker_accepts_a_good_table_with_two_workers(depth4: Path, tmp_pat
     report = verify.verify_table("mct", cache=tmp_path, workers=2)
     assert report.ok, report.problems
     assert report.functions == (1, 32, 784, 16204, 294507)
-    assert (store.table_dir("mct", tmp_path) / verify.STAMP).is_file()
+    assert (storage.table_dir("mct", tmp_path) / verify.STAMP).is_file()
 
 
 def test_claims_are_rechecked(table_cache: Path, mct6: tables.Tables) -> None:

@@ -31,7 +31,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library, gate_table
 from exactsyn.errors import NoCircuitError
-from exactsyn.search.bfs import row_keys
+from exactsyn.tables.bfs import row_keys
 
 # Build the next layer only while the table stays below this many entries and the
 # candidate rows of one expansion stay below MAX_CANDIDATES (memory ≈ candidates × 2^n bytes).

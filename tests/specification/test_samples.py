@@ -7,7 +7,7 @@ import random
 
 import pytest
 
-from exactsyn.spec.samples import random_circuit, random_permutation
+from exactsyn.specification.samples import random_circuit, random_permutation
 
 
 def _inversions(p: tuple[int, ...]) -> int:

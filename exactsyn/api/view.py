@@ -1,4 +1,4 @@
-"""Turn a :class:`~exactsyn.api.Synthesis` into JSON-ready data and text (formatting only).
+"""Turn a :class:`~exactsyn.api.synthesis.Synthesis` into JSON-ready data and text (formatting only).
 
 The JSON object keeps the fields that outside scripts rely on: ``lines``,
 ``gate_count``, ``optimal`` (true only when proven), ``lower_bound``, ``library`` and
@@ -24,17 +24,17 @@ from typing import TYPE_CHECKING, Any
 from exactsyn import __version__
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import COST_MODELS, CostModel, circuit_cost
+from exactsyn.core.words import count
 from exactsyn.io.draw import draw_text
 from exactsyn.io.jsonio import gate_to_dict
-from exactsyn.io.words import count
 from exactsyn.sat.status import Status
 from exactsyn.search.all_optima import EQUIVALENCE, Enumeration
-from exactsyn.search.distance import FULL
 from exactsyn.search.loop import GateResult
 from exactsyn.search.objectives import ObjectiveResult
+from exactsyn.tables.distance import FULL
 
 if TYPE_CHECKING:  # types only (the API module imports the whole pipeline)
-    from exactsyn.api import Synthesis
+    from exactsyn.api.synthesis import Synthesis
     from exactsyn.core.cliffordt import CliffordT
 
 

@@ -4,10 +4,10 @@ A reversible circuit can only compute a function that is a permutation.  An irre
 function (a full adder, a comparator, a decoder) is embedded in one by the usual means
 (common practice): extra input lines held at constants, and output lines that carry
 garbage, i.e. are don't-cares.  This module only *reads* such a description; turning it
-into a :class:`exactsyn.spec.reversible.Spec` on a chosen number of lines is the caller's job.
+into a :class:`exactsyn.specification.reversible.Spec` on a chosen number of lines is the caller's job.
 
 TOML format (a file is in this format when it has ``inputs`` or ``outputs``; otherwise
-it is a permutation spec, see :mod:`exactsyn.spec.reversible`)::
+it is a permutation spec, see :mod:`exactsyn.specification.reversible`)::
 
     name = "full-adder"                 # optional string, shown in outputs
     description = "..."                 # optional string, ignored
@@ -45,7 +45,7 @@ parentheses, the input names, the constants ``0`` and ``1`` and three functions:
 arguments).  They are parsed with :mod:`ast` and evaluated by walking a whitelist of node
 types; nothing is ever compiled to code or passed to ``eval``.
 
-At most :data:`exactsyn.spec.reversible.MAX_LINES` lines in total (inputs, outputs and ``lines``).
+At most :data:`exactsyn.specification.reversible.MAX_LINES` lines in total (inputs, outputs and ``lines``).
 """
 
 from __future__ import annotations
@@ -59,7 +59,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from exactsyn.errors import ExactsynError, did_you_mean
-from exactsyn.spec.reversible import MAX_LINES
+from exactsyn.specification.reversible import MAX_LINES
 
 Evaluator = Callable[[int], int]
 

@@ -7,7 +7,7 @@ full is the case where every mask is all ones.
 
 Parsers here read permutations as a list (``1,0,3,2``), in cycle notation
 (``(0 1)(2 3)``) or from a TOML mapping of our own format (documented in the README; files are read by
-:mod:`exactsyn.spec.files`).
+:mod:`exactsyn.specification.loader`).
 Line ``l`` is bit ``l`` of the integer (line 0 = least significant bit).
 """
 
@@ -29,7 +29,7 @@ class Spec:
 
     For every input ``i``: the output bits in ``care[i]`` must equal those of
     ``outputs[i]``.  Two optional freedoms come from embedding irreversible functions
-    (:mod:`exactsyn.spec.embed`):
+    (:mod:`exactsyn.specification.embed`):
 
     * ``open_lines`` — constant input lines whose value (the same for every row) the
       solver chooses; specified rows have 0 on those bits and stand for "whatever the

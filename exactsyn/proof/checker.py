@@ -7,7 +7,7 @@ means the spec, library or encoding was changed after the fact), checks each LRA
 refutation by unit propagation over its hints (:mod:`exactsyn.proof.lrat`), re-derives the
 initial bound and any distance-table bound (by rebuilding the table and repeating the
 meet-in-the-middle test), checks a query split into cubes cube by cube together with the
-cubes' coverage (:mod:`exactsyn.proof.cubes`), requires a refutation for every k from the bound to
+cubes' coverage (:mod:`exactsyn.proof.cube_check`), requires a refutation for every k from the bound to
 ``gate_count − 1``, and simulates the circuit against the spec on every input.
 
 The ``objective`` section: each refuted cost or depth CNF is re-derived
@@ -40,9 +40,9 @@ from typing import Any
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import COST_MODELS, library_costs, objective_value
 from exactsyn.core.library import Library, make_library
+from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.jsonio import gate_from_dict
-from exactsyn.io.words import count
 from exactsyn.proof.certificate import (
     FORMAT,
     FORMAT_VERSION,
@@ -53,17 +53,17 @@ from exactsyn.proof.certificate import (
     read_proof,
     spec_from_dict,
 )
-from exactsyn.proof.cubes import check_split
+from exactsyn.proof.cube_check import check_split
 from exactsyn.proof.lrat import check_lrat
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import CostLimit, EncodingOptions, encode
 from exactsyn.sat.encode_depth import encode_depth
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import lower_bound, nonaffine_extra
-from exactsyn.search.distance import FULL, extended_meet, meet_in_the_middle
-from exactsyn.search.five import MAX_DEPTH as FIVE_MAX_DEPTH
-from exactsyn.search.five import five_meet, five_table_ok
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.reversible import Spec
+from exactsyn.tables.distance import FULL, extended_meet, meet_in_the_middle
+from exactsyn.tables.hashed import MAX_DEPTH as FIVE_MAX_DEPTH
+from exactsyn.tables.hashed import five_meet, five_table_ok
 
 
 @dataclass(frozen=True)
@@ -163,7 +163,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         else:
             t0 = time.perf_counter()
             try:
-                if five:  # the hashed 5-line table of search/five.py, rebuilt at the recorded depth
+                if five:  # the hashed 5-line table of tables/hashed.py, rebuilt at the recorded depth
                     mr = five_meet(spec.permutation, library, depth)
                 else:
                     mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)

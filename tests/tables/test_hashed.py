@@ -13,13 +13,13 @@ import pytest
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
-from exactsyn.proof.check import check_certificate
+from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.conquer import CubeOptions
-from exactsyn.search.distance import distance_table
-from exactsyn.search.five import hashed_table, row_hash
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
-from exactsyn.spec.samples import random_library_function
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.specification.samples import random_library_function
+from exactsyn.tables.distance import distance_table
+from exactsyn.tables.hashed import hashed_table, row_hash
 
 MCT5 = make_library("mct", 5)
 

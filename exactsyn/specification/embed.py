@@ -19,10 +19,10 @@ from collections import Counter
 from dataclasses import dataclass
 from typing import Any
 
+from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
-from exactsyn.io.words import count
-from exactsyn.spec.boolean import BooleanFunction
-from exactsyn.spec.reversible import MAX_LINES, Spec
+from exactsyn.specification.boolean import BooleanFunction
+from exactsyn.specification.reversible import MAX_LINES, Spec
 
 
 @dataclass(frozen=True)

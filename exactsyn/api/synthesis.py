@@ -2,7 +2,7 @@
 
 :func:`synthesise` runs the whole pipeline that ``exactsyn synth`` prints:
 
-1. the **spec** (a :class:`~exactsyn.spec.reversible.Spec`, a permutation list, or a spec
+1. the **spec** (a :class:`~exactsyn.specification.reversible.Spec`, a permutation list, or a spec
    file) and the **library** (a preset or kind list, :mod:`exactsyn.core.library`);
 2. the **gate search** (:func:`exactsyn.search.loop.minimise_gates`): bounds, distance
    tables, then k-queries answered by SAT from the lower bound up, every UNSAT answer a
@@ -10,7 +10,7 @@
 3. an **objective** beyond the gate count (:mod:`exactsyn.search.objectives`), when asked;
 4. **every optimal circuit** (:mod:`exactsyn.search.all_optima`), when asked;
 5. the **certificate** (:mod:`exactsyn.proof.certificate`): LRAT refutations and
-   ``result.json``, re-checked by :func:`exactsyn.proof.check.check_certificate`.
+   ``result.json``, re-checked by :func:`exactsyn.proof.checker.check_certificate`.
 
 The time limit covers steps 2–4 (the objective and the listing get what the gate search
 left).  Every circuit is simulated against the spec before it is returned.  When the gate
@@ -39,9 +39,9 @@ from exactsyn.search.events import Progress
 from exactsyn.search.fallback import next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import OBJECTIVES, ObjectiveResult, optimise
-from exactsyn.spec.embed import Embedding
-from exactsyn.spec.files import load_any
-from exactsyn.spec.reversible import Spec, from_permutation
+from exactsyn.specification.embed import Embedding
+from exactsyn.specification.loader import load_any
+from exactsyn.specification.reversible import Spec, from_permutation
 
 OPTIMA_MODES = ("all", "count")
 SpecLike = Spec | Sequence[int] | str | os.PathLike[str]

@@ -3,9 +3,9 @@
 * ``.qasm`` (OpenQASM 2.0 or 3.0, the gate set of :mod:`exactsyn.io.qasm`): the
   circuit's function, as a full permutation, to be resynthesised optimally;
 * ``.json``: a saved circuit (as written by ``--format json``), likewise;
-* TOML: a permutation spec (``permutation`` / ``cycles``, :mod:`exactsyn.spec.reversible`) or a
-  Boolean function (``inputs`` / ``outputs``, :mod:`exactsyn.spec.boolean`), embedded into
-  a reversible spec by :mod:`exactsyn.spec.embed`.
+* TOML: a permutation spec (``permutation`` / ``cycles``, :mod:`exactsyn.specification.reversible`) or a
+  Boolean function (``inputs`` / ``outputs``, :mod:`exactsyn.specification.boolean`), embedded into
+  a reversible spec by :mod:`exactsyn.specification.embed`.
 """
 
 from __future__ import annotations
@@ -14,10 +14,10 @@ import tomllib
 from pathlib import Path
 
 from exactsyn.errors import ExactsynError
-from exactsyn.io.files import circuit_from_text, kind_of_text, read_text
-from exactsyn.spec.boolean import function_from_mapping, is_function_mapping
-from exactsyn.spec.embed import Embedding, embed
-from exactsyn.spec.reversible import Spec, from_permutation, spec_from_mapping
+from exactsyn.io.formats import circuit_from_text, kind_of_text, read_text
+from exactsyn.specification.boolean import function_from_mapping, is_function_mapping
+from exactsyn.specification.embed import Embedding, embed
+from exactsyn.specification.reversible import Spec, from_permutation, spec_from_mapping
 
 
 def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:

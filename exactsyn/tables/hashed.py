@@ -5,12 +5,12 @@ times per layer on 5 lines with the 80 ``mct`` gates: 81, 5,161, 295,601 and abo
 million functions at depth 1–4.  Rows of 32 bytes make the depth-4 ball half a gigabyte,
 so only its inner part is kept as rows:
 
-* ``inner`` — the exact table of depth ``D − 1`` (:func:`exactsyn.search.distance.distance_table`,
+* ``inner`` — the exact table of depth ``D − 1`` (:func:`exactsyn.tables.distance.distance_table`,
   rows, minimum gate counts, last gates; row-exact lookups);
 * ``keys`` — a 64-bit hash of every function of ``B_D`` (inner ones and the last layer),
   sorted, with the least gate count and a last gate for each key.
 
-The test is the one of :mod:`exactsyn.search.distance` (Golubitsky, Falconer, Maslov,
+The test is the one of :mod:`exactsyn.tables.distance` (Golubitsky, Falconer, Maslov,
 DAC 2010): for every ``R`` of ``B_D`` — the inner rows, and the last layer generated on
 the fly as ``g∘P`` for ``P`` in the inner table's last layer — look ``Q = f∘R`` up among
 the keys.  The least ``dist(R) + dist(Q)`` over the hits is the optimum when it is at
@@ -51,7 +51,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library, gate_table
 from exactsyn.errors import ExactsynError
-from exactsyn.search.distance import DistanceTable, MeetResult, distance_table
+from exactsyn.tables.distance import DistanceTable, MeetResult, distance_table
 
 #: Odd 64-bit multipliers of the key mix (fixed: keys must be the same in every process).
 _MULT = np.array(

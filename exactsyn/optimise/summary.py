@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from exactsyn import __version__
-from exactsyn.io.words import count
+from exactsyn.core.words import count
 from exactsyn.optimise.driver import OptimiseResult
 from exactsyn.optimise.metrics import FIELDS, LABELS
 

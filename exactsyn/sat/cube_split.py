@@ -31,7 +31,7 @@ induction over the tree the leaves (the cubes) cover the whole query.  A swap or
 gate has two targets and appears in two ``targets`` branches; overlap does no harm.
 
 A cube's clauses are appended after the CNF's clauses, so in its LRAT refutation the
-clause ids ``1..m`` are still the CNF's (:mod:`exactsyn.proof.capture`).
+clause ids ``1..m`` are still the CNF's (:mod:`exactsyn.sat.lrat_capture`).
 """
 
 from __future__ import annotations

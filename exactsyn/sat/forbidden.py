@@ -25,7 +25,7 @@ import numpy as np
 
 from exactsyn.caches import memo
 from exactsyn.core.library import Library, gate_table
-from exactsyn.search.bfs import row_keys
+from exactsyn.tables.bfs import row_keys
 
 # Enumerating |G|^w sequences of 2^n bytes each: keep it within a few hundred MB.
 MAX_SEQUENCES = 1_200_000

@@ -16,8 +16,13 @@ import pytest
 from helpers import INSTANCES
 
 from exactsyn.errors import ExactsynError
-from exactsyn.spec.boolean import BooleanFunction, evaluate_expression, function_from_mapping, is_function_mapping
-from exactsyn.spec.reversible import spec_from_mapping
+from exactsyn.specification.boolean import (
+    BooleanFunction,
+    evaluate_expression,
+    function_from_mapping,
+    is_function_mapping,
+)
+from exactsyn.specification.reversible import spec_from_mapping
 
 
 def load(name: str) -> BooleanFunction:

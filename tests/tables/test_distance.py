@@ -8,10 +8,10 @@ import numpy as np
 from helpers import random_perm
 
 from exactsyn.core.library import make_library
-from exactsyn.search.bfs import optimal_sizes
-from exactsyn.search.distance import distance_table, extended_meet, meet_in_the_middle
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.reversible import from_permutation
+from exactsyn.specification.reversible import from_permutation
+from exactsyn.tables.bfs import optimal_sizes
+from exactsyn.tables.distance import distance_table, extended_meet, meet_in_the_middle
 
 
 def test_depth3_table_sizes_match_published_counts() -> None:
@@ -22,7 +22,7 @@ def test_depth3_table_sizes_match_published_counts() -> None:
 
 def test_meet_in_the_middle_is_exact_on_three_lines_with_a_small_table() -> None:
     # Depth-2 table on 3 lines: exact up to 4 gates, bound 5 beyond; reference: breadth-first
-    # table (exactsyn.search.bfs, checked against Shende et al. 2003).
+    # table (exactsyn.tables.bfs, checked against Shende et al. 2003).
     lib = make_library("nct", 3)
     table = optimal_sizes(lib)
     rng = random.Random(2)

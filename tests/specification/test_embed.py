@@ -19,12 +19,12 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.qasm import read_qasm
-from exactsyn.search.bfs import optimal_sizes
 from exactsyn.search.loop import minimise_gates
-from exactsyn.spec.boolean import function_from_mapping
-from exactsyn.spec.embed import embed, multiplicity
-from exactsyn.spec.files import load_any
-from exactsyn.spec.reversible import Spec
+from exactsyn.specification.boolean import function_from_mapping
+from exactsyn.specification.embed import embed, multiplicity
+from exactsyn.specification.loader import load_any
+from exactsyn.specification.reversible import Spec
+from exactsyn.tables.bfs import optimal_sizes
 
 
 def solve(mapping: dict, library: str = "nct"):  # type: ignore[no-untyped-def,type-arg]
