@@ -24,7 +24,7 @@ from __future__ import annotations
 import importlib
 from typing import TYPE_CHECKING, Any
 
-__version__ = "0.1.0"
+from exactsyn.version import __version__
 
 #: public name -> (implementing module, name there)
 _EXPORTS: dict[str, tuple[str, str]] = {

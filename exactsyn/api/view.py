@@ -21,7 +21,6 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from exactsyn import __version__
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import COST_MODELS, CostModel, circuit_cost
 from exactsyn.core.words import count
@@ -32,6 +31,7 @@ from exactsyn.search.all_optima import EQUIVALENCE, Enumeration
 from exactsyn.search.loop import GateResult
 from exactsyn.search.objectives import ObjectiveResult
 from exactsyn.tables.distance import FULL
+from exactsyn.version import __version__
 
 if TYPE_CHECKING:  # types only (the API module imports the whole pipeline)
     from exactsyn.api.synthesis import Synthesis

@@ -26,7 +26,6 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from exactsyn import __version__
 from exactsyn.batch.plan import GENERATED_SOURCE
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.table import OptimumTable, size_table, write_chart
@@ -36,6 +35,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.svg import to_svg
 from exactsyn.proof.checker import check_certificate
+from exactsyn.version import __version__
 
 OPEN_GROUP_LIMIT = 60  # sections with at most this many items start open
 

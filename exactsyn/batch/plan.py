@@ -18,7 +18,6 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
-from exactsyn import __version__
 from exactsyn.batch import sets
 from exactsyn.batch.task import GATES, Goal, LibraryChoice, item_key, library_identity, unreadable_key
 from exactsyn.core.library import Library
@@ -26,6 +25,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import EncodingOptions
 from exactsyn.specification.loader import load_any
 from exactsyn.specification.reversible import Spec, from_permutation
+from exactsyn.version import __version__
 
 REDUCTION = "line relabelling and inversion"
 SET_KINDS = ("all", "classes", "random")

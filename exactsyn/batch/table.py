@@ -18,10 +18,10 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from exactsyn import __version__
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
+from exactsyn.version import __version__
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,6 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from exactsyn import __version__
 from exactsyn.api.synthesis import synthesise
 from exactsyn.caches import memo
 from exactsyn.core.costs import cost_model, library_costs
@@ -32,6 +31,7 @@ from exactsyn.io.jsonio import gate_to_dict
 from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.encode import EncodingOptions
 from exactsyn.specification.reversible import Spec
+from exactsyn.version import __version__
 
 STATUSES = ("done", "timeout", "failed")
 

@@ -20,7 +20,6 @@ from typing import Any, NoReturn
 
 import click
 
-from exactsyn import __version__
 from exactsyn.cli.apply import apply
 from exactsyn.cli.batch import batch, table
 from exactsyn.cli.check import check
@@ -29,6 +28,7 @@ from exactsyn.cli.pictures import draw, report
 from exactsyn.cli.synth import synth
 from exactsyn.cli.tables import tables
 from exactsyn.errors import ExactsynError, did_you_mean
+from exactsyn.version import __version__
 
 DEBUG_VARIABLE = "EXACTSYN_DEBUG"
 

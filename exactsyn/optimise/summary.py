@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from typing import Any
 
-from exactsyn import __version__
 from exactsyn.core.words import count
 from exactsyn.optimise.driver import OptimiseResult
 from exactsyn.optimise.metrics import FIELDS, LABELS
+from exactsyn.version import __version__
 
 
 def result_to_dict(result: OptimiseResult, **extra: Any) -> dict[str, Any]:

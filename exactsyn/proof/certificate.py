@@ -52,13 +52,13 @@ import zlib
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from exactsyn import __version__
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import path_problem
 from exactsyn.io.jsonio import gate_from_dict, gate_to_dict
 from exactsyn.sat.encode import ENCODING_VERSION, EncodingOptions
 from exactsyn.specification.reversible import Spec
+from exactsyn.version import __version__
 
 if TYPE_CHECKING:  # types only: writing a certificate needs no solver module
     from exactsyn.sat.conquer import SplitRecord

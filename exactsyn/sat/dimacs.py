@@ -7,8 +7,8 @@ from collections.abc import Callable, Iterable, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from exactsyn import __version__
 from exactsyn.errors import ExactsynError
+from exactsyn.version import __version__
 
 if TYPE_CHECKING:  # types only
     from exactsyn.sat.encode import Encoding

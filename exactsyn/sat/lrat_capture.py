@@ -62,9 +62,7 @@ from typing import Any
 import pysat
 from pysat.solvers import Cadical195
 
-from exactsyn.caches import memo
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.lrat import check_lrat
 from exactsyn.sat.status import Status
 
 HOOK_NAME = "cadical195_tracepr"
@@ -111,28 +109,6 @@ def _pysolvers() -> Any:
 
 def _solver_string() -> str:
     return f"{SOLVER_NAME} via python-sat {getattr(pysat, '__version__', '?')}"
-
-
-@memo(maxsize=None)
-def tracer_available() -> bool:
-    """True when python-sat's tracing hook exists and yields a checkable LRAT proof.
-
-    Runs one tiny capture (the four clauses over two variables) and checks it
-    with :func:`exactsyn.proof.lrat.check_lrat`; the answer is cached.
-    """
-    try:
-        mod = _pysolvers()
-    except ImportError:
-        return False
-    needed = (HOOK_NAME, "cadical195_new", "cadical195_set", "cadical195_add_cl", "cadical195_del")
-    if not all(hasattr(mod, name) for name in needed):
-        return False
-    tiny = [[1, 2], [-1, 2], [1, -2], [-1, -2]]
-    try:
-        run = solve_with_lrat(tiny)
-    except Exception:  # any failure of the probe means "not available"
-        return False
-    return run.status == Status.UNSAT and check_lrat(2, tiny, run.proof).ok
 
 
 def _normalise(clauses: Sequence[Sequence[int]]) -> tuple[list[list[int]], int]:
@@ -419,7 +395,7 @@ def _capture(
 
 
 def tracer_hook_present() -> bool:
-    """True when python-sat's C module has the tracing hook (no solving; see :func:`tracer_available`)."""
+    """True when python-sat's C module has the tracing hook (no solving)."""
     try:
         return hasattr(_pysolvers(), HOOK_NAME)
     except ImportError:

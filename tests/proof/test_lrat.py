@@ -25,7 +25,7 @@ from pysat.solvers import Minisat22
 
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.lrat import check_lrat
-from exactsyn.sat.lrat_capture import HOOK_NAME, ProofRun, solve_with_lrat, tracer_available
+from exactsyn.sat.lrat_capture import HOOK_NAME, ProofRun, solve_with_lrat
 
 # ---------------------------------------------------------------- helpers
 
@@ -274,7 +274,8 @@ def test_tracing_hook_is_still_what_capture_relies_on():
     assert pysat.__version__ == "1.9.dev24"  # the pinned version the hook was read from
     assert hasattr(pysolvers, HOOK_NAME), f"pysolvers.{HOOK_NAME} is gone"
     assert hasattr(Cadical195(), "cadical")  # the raw handle the hook takes
-    assert tracer_available()
+    probe = [[1, 2], [-1, 2], [1, -2], [-1, -2]]
+    assert check_lrat(2, probe, solve_with_lrat(probe).proof).ok  # the hook yields a checkable proof
 
     tiny = [[1, 2], [-1, 2], [1, -2], [-1, -2]]
     run = solve_with_lrat(tiny)
