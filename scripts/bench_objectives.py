@@ -65,7 +65,7 @@ def main() -> None:
         t_gtc = gtc.seconds
         # The cost objective with a chosen rule set is an internal knob (--rules): called directly.
         t = time.perf_counter()
-        cost = optimise("cost", res, model, options=options)
+        cost = optimise("cost", res, model, cost_encoding=options)
         t_cost = time.perf_counter() - t
         depth = _objective(ex.synthesise(perm, library=lib, objective="depth"))
         t_depth = depth.seconds
@@ -80,14 +80,14 @@ def main() -> None:
         )
         if args.compare_windows:
             t = time.perf_counter()
-            base = optimise("cost", res, model, options=BASELINE)
+            base = optimise("cost", res, model, cost_encoding=BASELINE)
             t_base = time.perf_counter() - t
             totals["base"] += t_base
             assert base.value == cost.value
             print(f"{'':<28}   cost without window rules: {t_base:.2f} s ({t_base / max(t_cost, 1e-9):.1f}x)")
         if args.compare_baseline:
             t = time.perf_counter()
-            first = optimise("cost", res, model, options=BASELINE, nonaffine_bound=False)
+            first = optimise("cost", res, model, cost_encoding=BASELINE, nonaffine_bound=False)
             t_first = time.perf_counter() - t
             totals["first"] += t_first
             assert first.value == cost.value

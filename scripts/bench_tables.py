@@ -87,6 +87,7 @@ def build_or_use(library: str, cache: Path | None, rebuild: bool) -> tables.Tabl
 _BASELINE_CHILD = """
 import json, sys, time
 from exactsyn.core.library import make_library
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables.sample import sample_function
@@ -100,7 +101,7 @@ def hwm():  # this process's own peak (ru_maxrss would include the parent's: Lin
 for i in range(n):
     p = sample_function(seed, i, lib.all_even)
     t0 = time.perf_counter()
-    res = minimise_gates(from_permutation(list(p)), lib, time_limit=limit)
+    res = minimise_gates(from_permutation(list(p)), lib, SearchOptions(time_limit=limit))
     print(json.dumps({"i": i, "seconds": time.perf_counter() - t0, "optimal": res.optimal,
                       "gates": None if res.circuit is None else len(res.circuit), "lower": res.lower_bound,
                       "class_table": res.class_table is not None,

@@ -13,29 +13,36 @@
    ``result.json``, re-checked by :func:`exactsyn.proof.checker.check_certificate`.
 
 The time limit covers steps 2–4 (the objective and the listing get what the gate search
-left).  Every circuit is simulated against the spec before it is returned.  When the gate
-search ends without a circuit, the notes say why and what to try next.
+left).  What is asked — library, objective, search settings, where proofs go — is one
+:class:`Request`, built once (by :func:`synthesise` from its keyword arguments, by the
+command line or by a batch task) and passed down unchanged.  Every circuit is simulated
+against the spec before it is returned.  When the gate search ends without a circuit, the
+notes say why and what to try next.
 """
 
 from __future__ import annotations
 
 import os
 import time
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
+from typing import Any
 
 from exactsyn.core.circuit import Circuit
+from exactsyn.core.cliffordt import CliffordT, decompose
+from exactsyn.core.cliffordt import verify as verify_clifford_t
 from exactsyn.core.costs import CostModel, cost_model, library_costs
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
-from exactsyn.sat.conquer import DEFAULT_DEPTH, DEFAULT_SCHEME, SPLIT_AFTER, CubeProgress, split_options
+from exactsyn.sat.conquer import DEFAULT_DEPTH, DEFAULT_SCHEME, SPLIT_AFTER, CubeEvent
 from exactsyn.sat.dimacs import dimacs_writer
-from exactsyn.sat.encode import CostLimit, EncodingOptions, options_for
+from exactsyn.sat.encode import CostLimit, EncodingOptions
+from exactsyn.sat.options import DEFAULT_OPTIONS, Hooks, Observer, SearchOptions, search_options
 from exactsyn.sat.query import Query
 from exactsyn.search.all_optima import Enumeration, enumerate_optimal
-from exactsyn.search.events import Progress
 from exactsyn.search.fallback import next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import OBJECTIVES, ObjectiveResult, optimise
@@ -45,6 +52,51 @@ from exactsyn.specification.reversible import Spec, from_permutation
 
 OPTIMA_MODES = ("all", "count")
 SpecLike = Spec | Sequence[int] | str | os.PathLike[str]
+
+
+@dataclass(frozen=True)
+class Request:
+    """What one synthesis asks for; checked when made (:class:`ExactsynError` for bad values).
+
+    ``library`` is a preset (``nct``, ``mct``, ``mixed``, …) or kind list, with
+    ``max_controls`` and ``coupling``, or a built :class:`Library` (then those two are
+    ignored).  ``objective``: ``gates``, ``gates-then-cost``, ``cost`` or ``depth``;
+    ``cost`` names a cost model or a cost table file.  ``optima``: ``"all"`` lists every
+    optimal circuit (up to reordering adjacent commuting gates), ``"count"`` only counts
+    them, at most ``optima_limit``.  ``certificate``: a directory for the proof log;
+    ``dimacs``: one for every k-query as DIMACS CNF.  ``search``: how the search runs.
+    """
+
+    library: str | Library = "nct"
+    max_controls: int | None = None
+    coupling: str = ""
+    objective: str = "gates"
+    cost: str | CostModel = "ncv"
+    optima: str | None = None
+    optima_limit: int | None = None
+    certificate: Path | None = None
+    dimacs: Path | None = None
+    search: SearchOptions = DEFAULT_OPTIONS
+
+    def __post_init__(self) -> None:
+        if self.objective not in OBJECTIVES:
+            raise ExactsynError(f"unknown objective {self.objective!r}; choose one of: {', '.join(OBJECTIVES)}")
+        if self.optima is not None:
+            if self.optima not in OPTIMA_MODES:
+                raise ExactsynError(f"unknown optima mode {self.optima!r}; choose one of: {', '.join(OPTIMA_MODES)}")
+            if self.objective not in ("gates", "gates-then-cost"):
+                raise ExactsynError("listing every optimal circuit works with objective gates or gates-then-cost")
+        if self.optima_limit is not None and self.optima_limit < 1:
+            raise ExactsynError("the optima limit must be 1 or more")
+
+    def library_for(self, lines: int) -> Library:
+        """The library on ``lines`` lines."""
+        if isinstance(self.library, Library):
+            return self.library
+        return make_library(self.library, lines, self.max_controls, self.coupling)
+
+    def cost_model(self) -> CostModel:
+        return self.cost if isinstance(self.cost, CostModel) else cost_model(self.cost)
 
 
 @dataclass(frozen=True)
@@ -90,6 +142,16 @@ class Synthesis:
         more = () if self.objective_result is None else self.objective_result.queries
         return self.gate_result.steps + more
 
+    @cached_property
+    def clifford_t(self) -> CliffordT | None:
+        """The circuit over Clifford+T gates (:mod:`exactsyn.core.cliffordt`), simulated against the
+        circuit before it is handed out; None without a circuit.  Made on first use."""
+        if self.circuit is None:
+            return None
+        ct = decompose(self.circuit)
+        verify_clifford_t(ct, self.circuit)
+        return ct
+
 
 def resolve_spec(spec: SpecLike, embedding: Embedding | None = None) -> tuple[Spec, Embedding | None]:
     """A :class:`Spec` from a spec, a permutation list, or a spec file (TOML, OpenQASM, JSON)."""
@@ -100,31 +162,6 @@ def resolve_spec(spec: SpecLike, embedding: Embedding | None = None) -> tuple[Sp
     if isinstance(spec, Sequence) and all(isinstance(v, int) and not isinstance(v, bool) for v in spec):
         return from_permutation([int(v) for v in spec]), embedding
     raise ExactsynError("spec must be a Spec, a permutation (list of integers) or the path of a spec file")
-
-
-def _check_options(
-    objective: str,
-    optima: str | None,
-    optima_limit: int | None,
-    time_limit: float | None,
-    max_gates: int | None,
-    jobs: int,
-) -> None:
-    if objective not in OBJECTIVES:
-        raise ExactsynError(f"unknown objective {objective!r}; choose one of: {', '.join(OBJECTIVES)}")
-    if time_limit is not None and not time_limit > 0:
-        raise ExactsynError("the time limit must be positive")
-    if jobs < 1:
-        raise ExactsynError("jobs must be 1 or more")
-    if max_gates is not None and max_gates < 0:
-        raise ExactsynError("the gate limit must be 0 or more")
-    if optima is not None:
-        if optima not in OPTIMA_MODES:
-            raise ExactsynError(f"unknown optima mode {optima!r}; choose one of: {', '.join(OPTIMA_MODES)}")
-        if objective not in ("gates", "gates-then-cost"):
-            raise ExactsynError("listing every optimal circuit works with objective gates or gates-then-cost")
-    if optima_limit is not None and optima_limit < 1:
-        raise ExactsynError("the optima limit must be 1 or more")
 
 
 def synthesise(
@@ -146,110 +183,108 @@ def synthesise(
     solver: str = "cadical195",
     jobs: int = 1,
     embedding: Embedding | None = None,
-    progress: Progress | None = None,
+    progress: Observer | None = None,
     split: str = "auto",
     scheduler: str | None = None,
     cube_scheme: str = DEFAULT_SCHEME,
     cube_depth: int = DEFAULT_DEPTH,
     split_after: float = SPLIT_AFTER,
-    cube_progress: CubeProgress | None = None,
+    cube_progress: Callable[[CubeEvent], None] | None = None,
 ) -> Synthesis:
     """Find a minimum circuit for ``spec`` and prove it minimal (see the module docstring).
 
-    ``library`` is a preset (``nct``, ``mct``, ``mixed``, …) or kind list, or a built
-    :class:`Library` (then ``max_controls`` and ``coupling`` are ignored).  ``objective``:
-    ``gates``, ``gates-then-cost``, ``cost`` or ``depth``; ``cost`` names a cost model
-    (``ncv``, ``t-count``, ``cnot-count``, ``gates``) or a cost table file.  ``optima``:
-    ``"all"`` lists every optimal circuit (up to reordering adjacent commuting gates),
-    ``"count"`` only counts them.  ``certificate``: a directory for the proof log;
-    ``dimacs``: a directory for every k-query as DIMACS CNF.  ``jobs >= 2`` races a hard
-    query against the formulation without symmetry breaking on a second process;
-    ``split`` (``auto``, ``cubes``, ``race``, ``off``; :data:`exactsyn.sat.conquer.SPLIT_MODES`)
-    splits a hard gate query into cubes on ``jobs`` processes or on the Dask ``scheduler``
-    (an address, or ``"local"``), branching on ``cube_depth`` positions by ``cube_scheme``,
-    once the query has been open ``split_after`` seconds on its own.
-    ``progress`` receives every answered query (:class:`~exactsyn.sat.query.Query`) and a
-    :class:`~exactsyn.search.events.SearchEvent` for the other phases (tables, the start
-    of each query, the fallback circuit); ``cube_progress`` every solved cube.
+    The keyword arguments build a :class:`Request` (library, objective, optima, certificate
+    and DIMACS directories) and its :class:`~exactsyn.sat.options.SearchOptions`
+    (:func:`~exactsyn.sat.options.search_options`: time and gate limits, bounds, encoding,
+    solver, and how a hard query uses ``jobs`` processes — the race with 2, cubes from 3 or
+    with ``split="cubes"``, on Dask with ``scheduler``); see :func:`synthesise_request`.
+    ``progress`` receives every answered query (:class:`~exactsyn.sat.query.Query`), a
+    :class:`~exactsyn.search.events.SearchEvent` for the other phases (tables, the start of
+    each query, the fallback circuit) and a :class:`~exactsyn.sat.conquer.CubeEvent` for
+    every solved cube (``cube_progress``, when given, receives those instead).
 
     Raises :class:`~exactsyn.errors.ExactsynError` for bad input and
     :class:`~exactsyn.errors.NoCircuitError` when no circuit of the library can exist.
     """
-    start = time.perf_counter()
-    _check_options(objective, optima, optima_limit, time_limit, max_gates, jobs)
-    cubes = split_options(split, jobs, scheduler, cube_scheme, cube_depth, split_after)
-    spec, embedding = resolve_spec(spec, embedding)
-    lib = library if isinstance(library, Library) else make_library(library, spec.lines, max_controls, coupling)
-    model = cost if isinstance(cost, CostModel) else cost_model(cost)
-    if objective in ("gates-then-cost", "cost"):
-        library_costs(lib, model, positive=objective == "cost")  # a bad table fails now, not after the search
-    options = encoding if isinstance(encoding, EncodingOptions) else options_for(encoding)
-    cert_dir = None if certificate is None else Path(certificate)
-    sink = proof_writer(cert_dir) if cert_dir is not None else None
-
-    gates = minimise_gates(
-        spec,
-        lib,
-        encoding=options,
-        solver=solver,
-        time_limit=time_limit,
-        max_gates=max_gates,
-        progress=progress,
-        proof_sink=sink,
-        cnf_sink=dimacs_writer(Path(dimacs)) if dimacs is not None else None,
-        bounds=bounds,
-        jobs=jobs if split != "off" else 1,
-        split=cubes,
-        cube_progress=cube_progress,
+    request = Request(
+        library=library,
+        max_controls=max_controls,
+        coupling=coupling,
+        objective=objective,
+        cost=cost,
+        optima=optima,
+        optima_limit=optima_limit,
+        certificate=None if certificate is None else Path(certificate),
+        dimacs=None if dimacs is None else Path(dimacs),
+        search=search_options(
+            solver=solver,
+            encoding=encoding,
+            bounds=bounds,
+            time_limit=time_limit,
+            max_gates=max_gates,
+            jobs=jobs,
+            split=split,
+            scheduler=scheduler,
+            cube_scheme=cube_scheme,
+            cube_depth=cube_depth,
+            split_after=split_after,
+        ),
     )
-    notes: list[str] = []
-    if gates.hint:
-        notes.append(gates.hint)
-    if gates.source == "heuristic" and gates.how and not gates.optimal:
-        notes.append(f"the circuit is a fallback, not proven optimal: {gates.how}")
-    if gates.circuit is None:
-        if gates.how:
-            notes.append(gates.how)
-        notes.append(
-            next_steps(
-                spec, lib, lower_bound=gates.lower_bound, time_limit=time_limit, max_gates=max_gates, reason=gates.how
-            )
-        )
+    return synthesise_request(spec, request, observer=_observer(progress, cube_progress), embedding=embedding)
+
+
+def _observer(progress: Observer | None, cube_progress: Callable[[CubeEvent], None] | None) -> Observer | None:
+    """One observer from the two callbacks of :func:`synthesise`."""
+    if cube_progress is None:
+        return progress
+
+    def observe(item: Any) -> None:
+        if isinstance(item, CubeEvent):
+            cube_progress(item)
+        elif progress is not None:
+            progress(item)
+
+    return observe
+
+
+def synthesise_request(
+    spec: SpecLike, request: Request, *, observer: Observer | None = None, embedding: Embedding | None = None
+) -> Synthesis:
+    """Run ``request`` on ``spec``: gate search, objective, optima, certificate (module docstring)."""
+    start = time.perf_counter()
+    spec, embedding = resolve_spec(spec, embedding)
+    lib = request.library_for(spec.lines)
+    model = request.cost_model()
+    if request.objective in ("gates-then-cost", "cost"):
+        library_costs(lib, model, positive=request.objective == "cost")  # a bad table fails now, not after the search
+    options = request.search
+    cert_dir = request.certificate
+    hooks = Hooks(
+        proof=proof_writer(cert_dir) if cert_dir is not None else None,
+        cnf=dimacs_writer(request.dimacs) if request.dimacs is not None else None,
+        observer=observer,
+    )
+    gates = minimise_gates(spec, lib, options, hooks)
+    notes = _gate_notes(gates, spec, lib, options)
+
+    def left(floor: float) -> float | None:
+        limit = options.time_limit
+        return None if limit is None else max(floor, limit - (time.perf_counter() - start))
+
     obj: ObjectiveResult | None = None
-    if objective != "gates" and gates.circuit is not None:
+    if request.objective != "gates" and gates.circuit is not None:
         if not gates.optimal:
             notes.append("the gate count was not proven, so the objective was not optimised")
         else:
-            left = None if time_limit is None else max(0.1, time_limit - (time.perf_counter() - start))
-            obj = optimise(
-                objective, gates, model, time_limit=left, solver=solver, proof_sink=sink, progress=progress
-            )
+            obj = optimise(request.objective, gates, model, options, hooks, time_limit=left(0.1))
     written = write_result(cert_dir, gates, obj).parent if cert_dir is not None else None
-
-    listing: Enumeration | None = None
-    if optima is not None and gates.circuit is not None and gates.optimal:
-        limit_cost = None
-        if obj is not None and obj.costs is not None and obj.optimal:
-            limit_cost = CostLimit(obj.costs, obj.value)
-        left = None if time_limit is None else max(0.0, time_limit - (time.perf_counter() - start))
-        listing = enumerate_optimal(
-            spec,
-            lib,
-            len(gates.circuit),
-            cost_limit=limit_cost,
-            keep=optima == "all",
-            limit=optima_limit,
-            time_limit=left,
-        )
-    elif optima is not None:
-        notes.append("the gate count was not proven, so the optimal circuits were not listed")
-
+    listing = _list_optima(request, gates, obj, left(0.0), notes)
     circuit = gates.circuit if obj is None else obj.circuit
     optimal = gates.optimal if obj is None else obj.optimal
     return Synthesis(
         spec=spec,
         library=lib,
-        objective=objective,
+        objective=request.objective,
         circuit=circuit,
         optimal=optimal if circuit is not None else False,
         gate_result=gates,
@@ -260,4 +295,50 @@ def synthesise(
         certificate=written,
         notes=tuple(notes),
         seconds=time.perf_counter() - start,
+    )
+
+
+def _gate_notes(gates: GateResult, spec: Spec, lib: Library, options: SearchOptions) -> list[str]:
+    """What the user should know about the gate search: a hint, a fallback, why there is no circuit."""
+    notes: list[str] = []
+    if gates.hint:
+        notes.append(gates.hint)
+    if gates.source == "heuristic" and gates.how and not gates.optimal:
+        notes.append(f"the circuit is a fallback, not proven optimal: {gates.how}")
+    if gates.circuit is None:
+        if gates.how:
+            notes.append(gates.how)
+        notes.append(
+            next_steps(
+                spec,
+                lib,
+                lower_bound=gates.lower_bound,
+                time_limit=options.time_limit,
+                max_gates=options.max_gates,
+                reason=gates.how,
+            )
+        )
+    return notes
+
+
+def _list_optima(
+    request: Request, gates: GateResult, obj: ObjectiveResult | None, left: float | None, notes: list[str]
+) -> Enumeration | None:
+    """Every optimal circuit (or their number), when asked and the gate count is proven."""
+    if request.optima is None:
+        return None
+    if gates.circuit is None or not gates.optimal:
+        notes.append("the gate count was not proven, so the optimal circuits were not listed")
+        return None
+    limit_cost = None
+    if obj is not None and obj.costs is not None and obj.optimal:
+        limit_cost = CostLimit(obj.costs, obj.value)
+    return enumerate_optimal(
+        gates.spec,
+        gates.library,
+        len(gates.circuit),
+        cost_limit=limit_cost,
+        keep=request.optima == "all",
+        limit=request.optima_limit,
+        time_limit=left,
     )

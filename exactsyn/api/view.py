@@ -10,10 +10,10 @@ whether it is proven optimal *for the objective*, and ``objective`` holds ``name
 ``cost_model``, ``value``, ``optimal``, ``lower_bound`` (in the objective's unit) and
 ``min_gates`` (the proven minimum gate count).  ``costs`` gives the printed circuit's
 cost under every built-in cost model (and a user table when one was given), and
-``clifford_t`` the counts of its Clifford+T decomposition (``--clifford-t``; the caller
-decomposes and simulates it, this module only formats);
-``circuits`` lists every optimal circuit after ``--all``, ``count`` their number.
-``class_table`` is what the 4-line class tables established (:mod:`exactsyn.search.classtable`),
+``clifford_t`` the counts of its Clifford+T decomposition (``Synthesis.clifford_t``, which
+simulates it; this module only formats); ``circuits`` lists every optimal circuit after
+``--optima all``, ``count`` their number.
+``class_table`` is what the class tables established (:mod:`exactsyn.search.classtable`),
 or null.
 """
 
@@ -35,7 +35,6 @@ from exactsyn.version import __version__
 
 if TYPE_CHECKING:  # types only (the API module imports the whole pipeline)
     from exactsyn.api.synthesis import Synthesis
-    from exactsyn.core.cliffordt import CliffordT
 
 
 def circuit_costs(circuit: Circuit, extra: CostModel | None = None) -> dict[str, int]:
@@ -56,9 +55,10 @@ def objective_summary(obj: ObjectiveResult) -> str:
     )
 
 
-def synthesis_to_dict(syn: Synthesis, clifford_t: CliffordT | None = None) -> dict[str, Any]:
+def synthesis_to_dict(syn: Synthesis) -> dict[str, Any]:
     """The JSON object of ``synth --format json`` (fields in the module docstring)."""
     res, objective, c = syn.gate_result, syn.objective_result, syn.circuit
+    clifford_t = syn.clifford_t
     data: dict[str, Any] = {
         "name": res.spec.name,
         "lines": res.spec.lines,

@@ -13,7 +13,7 @@ from __future__ import annotations
 import json
 import time
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 
 from exactsyn.batch.plan import GENERATED_SOURCE, Plan
 from exactsyn.batch.store import Member, StatusCounts, Store
@@ -21,23 +21,30 @@ from exactsyn.batch.task import Outcome, Task
 from exactsyn.batch.workers import Engine
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import EncodingOptions
+from exactsyn.sat.options import DEFAULT_OPTIONS, SearchOptions
 
 RETRYABLE = ("timeout", "failed")
 
 
 @dataclass(frozen=True)
 class RunOptions:
-    encoding: EncodingOptions = field(default_factory=EncodingOptions)
-    solver: str = "cadical195"
-    time_limit: float | None = None
+    """How a batch runs: the search of every item (one process each; its encoding must be
+    the plan's, which is part of every item key), certificates, re-checks, retries."""
+
+    search: SearchOptions = DEFAULT_OPTIONS
     certificates: bool = True
     verify: bool = False
     retry: frozenset[str] = frozenset()
-    bounds: str = "table"
+
+    @property
+    def encoding(self) -> EncodingOptions:
+        return self.search.encoding
+
+    @property
+    def time_limit(self) -> float | None:
+        return self.search.time_limit
 
     def __post_init__(self) -> None:
-        if self.time_limit is not None and not self.time_limit > 0:
-            raise ExactsynError("the time limit must be positive")
         bad = sorted(self.retry - set(RETRYABLE))
         if bad:
             raise ExactsynError(f"cannot retry status {bad[0]!r}; choose from: {', '.join(RETRYABLE)}")
@@ -107,13 +114,10 @@ def pending_tasks(store: Store, plan: Plan, options: RunOptions) -> tuple[list[T
                 key=it.key,
                 spec=it.spec,
                 library=it.library,
-                encoding=options.encoding,
+                search=options.search,
                 source=it.source,
-                solver=options.solver,
-                time_limit=options.time_limit,
                 certificates=options.certificates,
                 verify=options.verify,
-                bounds=options.bounds,
                 goal=plan.goal,
                 check_files=() if work == "check" else None,
             )

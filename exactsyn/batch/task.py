@@ -22,7 +22,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from exactsyn.api.synthesis import synthesise
+from exactsyn.api.synthesis import Request, synthesise_request
 from exactsyn.caches import memo
 from exactsyn.core.costs import cost_model, library_costs
 from exactsyn.core.library import Library, make_library
@@ -30,6 +30,7 @@ from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.jsonio import gate_to_dict
 from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.encode import EncodingOptions
+from exactsyn.sat.options import DEFAULT_OPTIONS, SearchOptions
 from exactsyn.specification.reversible import Spec
 from exactsyn.version import __version__
 
@@ -129,16 +130,17 @@ def unreadable_key(path: Path) -> str:
 
 @dataclass(frozen=True)
 class Task:
+    """One item for a worker: the function, its library, how to search (the batch's
+    :class:`~exactsyn.sat.options.SearchOptions`, whose encoding is part of the item key)
+    and what to minimise."""
+
     key: str
     spec: Spec
     library: Library
-    encoding: EncodingOptions
+    search: SearchOptions = DEFAULT_OPTIONS
     source: str = ""
-    solver: str = "cadical195"
-    time_limit: float | None = None
     certificates: bool = True
     verify: bool = False
-    bounds: str = "table"  # lower bounds of exactsyn.search.loop (BOUNDS)
     goal: Goal = GATES
     #: set for a check-only task: re-check the stored certificate (these files), do not solve
     check_files: tuple[tuple[str, bytes], ...] | None = field(default=None, repr=False)
@@ -171,8 +173,8 @@ def _row_base(task: Task) -> dict[str, Any]:
         "preset": lib.preset,
         "max_controls": lib.control_cap,
         "objective": task.goal.label(),
-        "encoding": json.dumps(task.encoding.describe(), sort_keys=True),
-        "solver": task.solver,
+        "encoding": json.dumps(task.search.encoding.describe(), sort_keys=True),
+        "solver": task.search.solver,
         "tool_version": __version__,
         "worker": f"{socket.gethostname()}:{os.getpid()}",
     }
@@ -256,17 +258,14 @@ def _run(task: Task, started: float) -> Outcome:
     cert_dir = _scratch()
     _clear(cert_dir)
     try:
-        syn = synthesise(
-            task.spec,
+        request = Request(
             library=task.library,
             objective=task.goal.objective,
             cost=task.goal.cost,
-            encoding=task.encoding,
-            solver=task.solver,
-            time_limit=task.time_limit,
-            bounds=task.bounds,
             certificate=cert_dir if task.certificates else None,
+            search=task.search,
         )
+        syn = synthesise_request(task.spec, request)
     except NoCircuitError as e:
         return failed(task, f"no circuit: {e.message}", wall_seconds=round(time.perf_counter() - started, 4))
     res = syn.gate_result

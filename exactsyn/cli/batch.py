@@ -39,6 +39,7 @@ from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
 from exactsyn.io.draw import draw_text
 from exactsyn.sat.encode import options_for
+from exactsyn.sat.options import SearchOptions
 from exactsyn.specification.reversible import parse_perm
 
 DEFAULT_STORE = "exactsyn-results.sqlite"
@@ -182,15 +183,8 @@ def batch(
             choice.build(max(1, sets[0][1]))  # validates the preset, the cap and the coupling
         else:
             LibraryChoice(choice.preset, max_controls).build(1)  # the coupling is checked per file
-        options = RunOptions(
-            encoding=options_for(encoding),
-            solver=solver,
-            time_limit=time_limit,
-            certificates=not no_certificates,
-            verify=verify,
-            retry=frozenset(retry),
-            bounds=bounds,
-        )
+        search = SearchOptions(solver=solver, encoding=options_for(encoding), bounds=bounds, time_limit=time_limit)
+        options = RunOptions(search, certificates=not no_certificates, verify=verify, retry=frozenset(retry))
         goal = Goal(objective, cost_name)
         goal.label()  # an unreadable cost table fails now
         if specs:

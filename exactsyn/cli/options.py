@@ -18,17 +18,19 @@ Spellings of an earlier release stay for one release and print a one-line note
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
+from pathlib import Path
 from typing import Any
 
 import click
 
+from exactsyn.api.synthesis import Request
 from exactsyn.core.library import KINDS, PRESETS
-from exactsyn.errors import did_you_mean
+from exactsyn.errors import ExactsynError, did_you_mean
 from exactsyn.sat.conquer import SPLIT_MODES
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
+from exactsyn.sat.options import BOUNDS, search_options
 from exactsyn.sat.solve import SOLVERS
-from exactsyn.search.loop import BOUNDS
 from exactsyn.search.objectives import OBJECTIVES
 
 F = Callable[..., Any]
@@ -189,3 +191,36 @@ cube_scheme_option = click.option(
     show_default=True,
     help="How a position branches: " + "; ".join(f"{k} = {v}" for k, v in SCHEMES.items()) + ".",
 )
+
+
+def synthesis_request(asked: dict[str, Any]) -> Request:
+    """The :class:`~exactsyn.api.synthesis.Request` of ``synth`` from its library, search, proof
+    and objective options (the click parameters by name), built once and checked."""
+    if asked["optima_limit"] is not None and asked["optima"] is None:
+        raise ExactsynError("--optima-limit needs --optima all or --optima count")
+    search = search_options(
+        solver=asked["solver"],
+        encoding=asked["encoding"],
+        bounds=asked["bounds"],
+        time_limit=asked["time_limit"],
+        max_gates=asked["max_gates"],
+        jobs=asked["jobs"],
+        split=asked["split"],
+        scheduler=asked["scheduler"],
+        cube_scheme=asked["cube_scheme"],
+        cube_depth=asked["cube_depth"],
+        split_after=asked["split_after"],
+    )
+    cert, dimacs = asked["cert_dir"], asked["dimacs_dir"]
+    return Request(
+        library=asked["library_name"],
+        max_controls=asked["max_controls"],
+        coupling=asked["coupling"],
+        objective=asked["objective"],
+        cost=asked["cost_name"],
+        optima=asked["optima"],
+        optima_limit=asked["optima_limit"],
+        certificate=None if cert is None else Path(cert),
+        dimacs=None if dimacs is None else Path(dimacs),
+        search=search,
+    )

@@ -144,7 +144,7 @@ class SynthProgress:
             self.console.print(text, markup=False, highlight=False, soft_wrap=True)
 
     def cube(self, event: CubeEvent) -> None:
-        """The ``cube_progress`` callback: per-cube counts on the timer line (module docstring)."""
+        """A solved cube (or the start of a split): per-cube counts on the timer line (module docstring)."""
         if self.mode == "off":
             return
         now = time.perf_counter()
@@ -170,6 +170,9 @@ class SynthProgress:
             self.line(query_line(item))
             if item.status != Status.UNKNOWN:
                 self.now.set("next step")
+            return
+        if isinstance(item, CubeEvent):
+            self.cube(item)
             return
         if not isinstance(item, SearchEvent):
             return

@@ -12,10 +12,11 @@ from __future__ import annotations
 
 import json
 import sys
+from typing import Any
 
 import click
 
-from exactsyn.api.synthesis import OPTIMA_MODES, Synthesis, synthesise
+from exactsyn.api.synthesis import OPTIMA_MODES, Synthesis, synthesise_request
 from exactsyn.api.view import (
     listing_summary,
     objective_summary,
@@ -32,7 +33,6 @@ from exactsyn.cli.options import (
     coupling_option,
     cube_depth_option,
     cube_scheme_option,
-    deprecated,
     encoding_option,
     jobs_option,
     library_option,
@@ -43,10 +43,9 @@ from exactsyn.cli.options import (
     solver_option,
     split_after_option,
     split_option,
+    synthesis_request,
 )
 from exactsyn.cli.progress import SynthProgress, choose_mode
-from exactsyn.core.cliffordt import decompose
-from exactsyn.core.cliffordt import verify as verify_clifford_t
 from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.formats import CIRCUIT_FORMATS, check_writable, format_for, read_circuit_layout, render
 from exactsyn.io.layout import Layout
@@ -96,19 +95,18 @@ def _print_result(
             emit(json.dumps(synthesis_to_dict(syn), indent=2), output)
         _summary(syn, fmt, quiet, header_on_stdout and fmt != "text")
         sys.exit(1)
-    ct = decompose(circuit) if fmt == "json" or clifford_t else None
-    if ct is not None:
-        verify_clifford_t(ct, circuit)  # simulated before it is printed, like every circuit
     header = qasm_header(syn)
     counting = fmt == "text" and syn.optima is not None and not syn.optima.circuits
     if fmt == "json":
-        emit(json.dumps(synthesis_to_dict(syn, ct), indent=2), output)
+        emit(json.dumps(synthesis_to_dict(syn), indent=2), output)
     elif counting:
         assert syn.optima is not None
         emit(f"{syn.optima.count}\n", output)  # --optima count: the number only
     elif fmt == "text":
         emit(synthesis_to_text(syn), output)
-    elif ct is not None:
+    elif clifford_t:
+        ct = syn.clifford_t
+        assert ct is not None
         emit(clifford_t_to_qasm2(ct, header) if fmt == "qasm2" else clifford_t_to_qasm3(ct, header), output)
     else:
         emit(render(circuit, fmt, layout=layout, header=header), output)
@@ -203,9 +201,6 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
     "that differ only by reordering adjacent commuting gates; count: print only how many there are.",
 )
 @click.option("--optima-limit", type=click.IntRange(min=1), metavar="N", help="Stop --optima after N circuits.")
-@click.option("--all", "all_circuits", is_flag=True, hidden=True)
-@click.option("--count", "count_only", is_flag=True, hidden=True)
-@click.option("--all-limit", type=click.IntRange(min=1), hidden=True)
 @click.option(
     "--clifford-t",
     is_flag=True,
@@ -219,34 +214,12 @@ def synth(
     perm: str | None,
     cycles: str | None,
     lines: int | None,
-    library_name: str,
-    max_controls: int | None,
-    coupling: str,
     fmt: str | None,
     output: str | None,
-    time_limit: float | None,
-    max_gates: int | None,
-    encoding: str,
-    solver: str,
-    bounds: str,
-    cert_dir: str | None,
-    dimacs_dir: str | None,
-    jobs: int,
-    split: str,
-    scheduler: str | None,
-    cube_depth: int,
-    cube_scheme: str,
-    split_after: float,
-    objective: str,
-    cost_name: str,
-    optima: str | None,
-    optima_limit: int | None,
-    all_circuits: bool,
-    count_only: bool,
-    all_limit: int | None,
     clifford_t: bool,
     show_progress: bool,
     quiet: bool,
+    **asked: Any,
 ) -> None:
     """Find a minimum-gate circuit for a reversible function and prove it minimal.
 
@@ -281,53 +254,19 @@ def synth(
     within the limits or none exists in the library, 2 bad input.
     """
     try:
-        if all_circuits or count_only:
-            old, new = ("--all", "--optima all") if all_circuits else ("--count", "--optima count")
-            deprecated(old, new)
-            if optima is not None or (all_circuits and count_only):
-                raise ExactsynError("give --optima once (--all and --count are its old spellings)")
-            optima = "all" if all_circuits else "count"
-        if all_limit is not None:
-            deprecated("--all-limit", "--optima-limit")
-            optima_limit = optima_limit or all_limit
         chosen = format_for(output, fmt)
         function = read_function(spec_file, perm, cycles, lines)
         if output is not None:
             check_writable(output)  # before the search, not after it
         if clifford_t and chosen not in ("qasm2", "qasm3"):
             raise ExactsynError("--clifford-t needs --format qasm2 or qasm3 (or an -o file ending .qasm/.qasm3)")
-        if optima is not None and chosen not in ("text", "json"):
+        if asked["optima"] is not None and chosen not in ("text", "json"):
             raise ExactsynError("--optima prints text or json (one circuit per file otherwise)")
-        if optima_limit is not None and optima is None:
-            raise ExactsynError("--optima-limit needs --optima all or --optima count")
+        request = synthesis_request(asked)
         display = SynthProgress(choose_mode(quiet, show_progress))
         try:
             with display:
-                syn = synthesise(
-                    function,
-                    library=library_name,
-                    max_controls=max_controls,
-                    coupling=coupling,
-                    objective=objective,
-                    cost=cost_name,
-                    optima=optima,
-                    optima_limit=optima_limit,
-                    certificate=cert_dir,
-                    dimacs=dimacs_dir,
-                    time_limit=time_limit,
-                    max_gates=max_gates,
-                    bounds=bounds,
-                    encoding=encoding,
-                    solver=solver,
-                    jobs=jobs,
-                    progress=display,
-                    split=split,
-                    scheduler=scheduler,
-                    cube_depth=cube_depth,
-                    cube_scheme=cube_scheme,
-                    split_after=split_after,
-                    cube_progress=display.cube,
-                )
+                syn = synthesise_request(function, request, observer=display)
         except NoCircuitError as e:
             fail(e.message, 1)
         _print_result(syn, chosen, output, clifford_t, quiet, _layout_of(spec_file))

@@ -21,11 +21,12 @@ from dataclasses import dataclass
 from typing import Any
 
 from exactsyn.core.circuit import Circuit
-from exactsyn.sat.conquer import CubeOptions, CubeProgress, SplitRecord, conquer
+from exactsyn.sat.conquer import CubeOptions, SplitRecord, conquer
 from exactsyn.sat.cube_engines import make_engine
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding
 from exactsyn.sat.lrat_capture import solve_with_lrat
+from exactsyn.sat.options import NO_HOOKS, Hooks, ProofSink, SearchOptions
 from exactsyn.sat.race import race
 from exactsyn.sat.solve import solve_cnf
 from exactsyn.sat.status import Status
@@ -35,8 +36,7 @@ QUICK_SECONDS = 1.0
 #: The racer without symmetry breaking (see :mod:`exactsyn.sat.race`); writes no proof.
 RACE_SOLVER = "kissat404"
 
-ProofSink = Callable[[str, bytes], str]
-"""``sink(stem, lrat_bytes) -> stored file name``; ``stem`` is :func:`proof_stem` of the query."""
+__all__ = ["Answer", "ProofSink", "Query", "Rival", "proof_stem", "run_query"]
 
 QUERY_OBJECTIVES = ("gates", "cost", "depth")
 
@@ -107,124 +107,152 @@ class Answer:
     encoding: Encoding
 
 
-def _solve(clauses: list[list[int]], solver: str, limit: float | None, certify: bool) -> tuple[Any, ...]:
+@dataclass(frozen=True)
+class Rival:
+    """A second formulation of the same question to race a hard query against (:mod:`exactsyn.sat.race`).
+
+    ``build`` makes its encoding; ``seconds`` is what building it is expected to take (under
+    a time limit the race starts only when more than that is left)."""
+
+    build: Callable[[], Encoding]
+    seconds: float = 0.0
+
+
+@dataclass(frozen=True)
+class _Solved:
+    """What answered a query so far (one solver, the cubes, or the race)."""
+
+    status: Status = Status.UNKNOWN
+    model: tuple[int, ...] | None = None
+    conflicts: int | None = 0
+    solver: str = ""
+    proof: bytes = b""
+    split: SplitRecord | None = None
+    encoding: Encoding | None = None  # set when the rival's encoding answered
+
+
+def _solve(clauses: list[list[int]], solver: str, limit: float | None, certify: bool) -> _Solved:
     if certify:
         run = solve_with_lrat(clauses, limit)
-        return Status(run.status), run.model, run.conflicts or 0, run.solver, run.proof
+        return _Solved(Status(run.status), run.model, run.conflicts or 0, run.solver, run.proof)
     out = solve_cnf(clauses, solver, limit)
-    return Status(out.status), out.model, out.conflicts, solver, b""
+    return _Solved(Status(out.status), out.model, out.conflicts, solver, b"")
 
 
 def run_query(
     enc: Encoding,
+    options: SearchOptions,
+    hooks: Hooks = NO_HOOKS,
     *,
     objective: str = "gates",
     k: int | None = None,
     limit: int | None = None,
-    solver: str = "cadical195",
     time_limit: float | None = None,
-    proof_sink: ProofSink | None = None,
-    rival: Callable[[], Encoding] | None = None,
-    split: CubeOptions | None = None,
-    cube_progress: CubeProgress | None = None,
-    rival_seconds: float = 0.0,
+    rival: Rival | None = None,
 ) -> Answer:
     """Answer one query within ``time_limit`` seconds (``None``: no limit).
 
     ``k`` is the query's size as recorded (default ``enc.k``; the depth for ``depth``).
+    ``options`` gives the solver and how a hard query may use more processes; ``hooks``
+    the proof sink (certifying: CaDiCaL 1.9.5 with LRAT output, an UNSAT answer's
+    refutation stored through the sink) and the observer (every solved cube).
 
-    With ``proof_sink`` the query is solved by CaDiCaL 1.9.5 with LRAT output and an
-    UNSAT answer's refutation is stored through the sink.  With ``rival`` (a builder of a
-    second formulation of the same question) a query still open after
+    With ``rival`` (a second formulation of the same question) a query still open after
     :data:`QUICK_SECONDS` is raced against it; whichever answers first decides, and its
     encoding is the one recorded (both are exact for the question; see
-    :mod:`exactsyn.sat.race`).  ``rival_seconds`` is what building the rival is expected
-    to take: under a time limit the race starts only when more than that (and
-    :data:`QUICK_SECONDS`) is left, else the first solver goes on alone.  With ``split``
-    (gate queries only) a query still open after ``split.after`` seconds is split into
-    cubes instead (no race), solved on ``split.jobs`` processes or Dask, and
-    ``cube_progress`` hears about every cube.
+    :mod:`exactsyn.sat.race`).  With ``options.split`` (gate queries only) a query still open
+    after ``split.after`` seconds is split into cubes instead (no race), solved on
+    ``split.jobs`` processes or Dask.
     """
     if objective not in QUERY_OBJECTIVES:
         raise ValueError(f"unknown query objective {objective!r}")
     k = enc.k if k is None else k  # the depth encoding has depth × lines slots, not k positions
     t0 = time.perf_counter()
-    certify = proof_sink is not None
-    splitting = split is not None and objective == "gates" and not enc.optional and enc.k >= 1
-    racing = not splitting and rival is not None and (time_limit is None or time_limit > QUICK_SECONDS)
+    stem = proof_stem(objective, k, limit)
+    split = options.split if objective == "gates" and not enc.optional and enc.k >= 1 else None
+    if split is not None:
+        rival = None
+    elif rival is not None and time_limit is not None and time_limit <= QUICK_SECONDS:
+        rival = None
     first = time_limit
-    if racing:
-        first = QUICK_SECONDS if time_limit is None else min(QUICK_SECONDS, time_limit)
-    if splitting:
-        assert split is not None
-        first = split.after if time_limit is None else min(split.after, time_limit)
-    record: SplitRecord | None = None
-    status, model, name, proof = Status.UNKNOWN, None, solver, b""
-    conflicts: int | None = 0
+    if split is not None or rival is not None:
+        alone = split.after if split is not None else QUICK_SECONDS
+        first = alone if time_limit is None else min(alone, time_limit)
+
+    def left() -> float | None:
+        return None if time_limit is None else time_limit - (time.perf_counter() - t0)
+
+    got = _Solved(solver=options.solver)
     if first is None or first > 0:
-        status, model, conflicts, name, proof = _solve(enc.clauses, solver, first, certify)
-    if status == Status.UNKNOWN and splitting:
-        assert split is not None
-        rest = None if time_limit is None else time_limit - (time.perf_counter() - t0)
-        if rest is None or rest > 0:
-            won = conquer(
-                enc,
-                split,
-                engine=make_engine(split),
-                certify=certify,
-                solver=solver,
-                time_limit=rest,
-                proof_sink=proof_sink,
-                stem=proof_stem(objective, k, limit),
-                progress=cube_progress,
-            )
-            status, model, name, record = won.status, won.model, won.solver, won.split
-            conflicts = (conflicts or 0) + won.conflicts
-    if status == Status.UNKNOWN and racing and time_limit is not None:
-        remaining = time_limit - (time.perf_counter() - t0)
-        if remaining <= rival_seconds + QUICK_SECONDS:  # no time to build the rival: one solver to the end
-            racing = False
-            if remaining > 0:
-                status, model, conflicts, name, proof = _solve(enc.clauses, solver, remaining, certify)
-    if status == Status.UNKNOWN and racing:
-        assert rival is not None
-        other = rival()
-        rest = None if time_limit is None else time_limit - (time.perf_counter() - t0)
-        outcome = race(
-            [enc.clauses, other.clauses],
-            certify=certify,
-            solver=solver,
-            time_limit=rest,
-            solvers=[solver if not certify else "cadical195", RACE_SOLVER],
-        )
-        status, model, conflicts, name, proof = (
-            Status(outcome.status),
-            outcome.model,
-            outcome.conflicts,
-            outcome.solver,
-            outcome.proof,
-        )
-        if outcome.winner == 1:
-            enc = other
+        got = _solve(enc.clauses, options.solver, first, hooks.certify)
+    if got.status == Status.UNKNOWN and split is not None:
+        got = _conquer(enc, split, options.solver, hooks, left(), stem, got)
+    if got.status == Status.UNKNOWN and rival is not None:
+        got = _race(enc, rival, options.solver, hooks.certify, left(), got)
+    answering = got.encoding or enc
     stored = None
-    if certify and status == Status.UNSAT and record is None:
-        assert proof_sink is not None
-        stored = proof_sink(proof_stem(objective, k, limit), proof)
+    if hooks.proof is not None and got.status == Status.UNSAT and got.split is None:
+        stored = hooks.proof(stem, got.proof)
+    record = got.split
     query = Query(
         objective=objective,
         k=k,
         limit=limit,
-        status=status,
+        status=got.status,
         seconds=time.perf_counter() - t0,
-        conflicts=conflicts,
-        variables=enc.num_vars,
-        clauses=len(enc.clauses),
-        solver=name,
-        cnf_sha256=cnf_sha256(enc.num_vars, enc.clauses) if certify else None,
+        conflicts=got.conflicts,
+        variables=answering.num_vars,
+        clauses=len(answering.clauses),
+        solver=got.solver,
+        cnf_sha256=cnf_sha256(answering.num_vars, answering.clauses) if hooks.certify else None,
         proof=stored,
-        proof_bytes=len(proof) if stored else sum(c.proof_bytes for c in record.cubes) if record else 0,
-        symmetry=enc.options.symmetry if certify else None,
+        proof_bytes=len(got.proof) if stored else sum(c.proof_bytes for c in record.cubes) if record else 0,
+        symmetry=answering.options.symmetry if hooks.certify else None,
         split=record,
     )
-    circuit = enc.decode(model) if status == Status.SAT and model is not None else None
-    return Answer(query, circuit, enc)
+    circuit = answering.decode(got.model) if got.status == Status.SAT and got.model is not None else None
+    return Answer(query, circuit, answering)
+
+
+def _conquer(
+    enc: Encoding, split: CubeOptions, solver: str, hooks: Hooks, rest: float | None, stem: str, before: _Solved
+) -> _Solved:
+    """The query split into cubes (:mod:`exactsyn.sat.conquer`) once it stayed open on its own."""
+    if rest is not None and rest <= 0:
+        return before
+    won = conquer(
+        enc,
+        split,
+        engine=make_engine(split),
+        certify=hooks.certify,
+        solver=solver,
+        time_limit=rest,
+        proof_sink=hooks.proof,
+        stem=stem,
+        progress=hooks.observer,
+    )
+    conflicts = (before.conflicts or 0) + won.conflicts
+    return _Solved(won.status, won.model, conflicts, won.solver, b"", won.split)
+
+
+def _race(enc: Encoding, rival: Rival, solver: str, certify: bool, rest: float | None, before: _Solved) -> _Solved:
+    """The query raced against ``rival`` once it stayed open on its own (one solver on when no time is left
+    to build the rival)."""
+    if rest is not None and rest <= rival.seconds + QUICK_SECONDS:
+        return _solve(enc.clauses, solver, rest, certify) if rest > 0 else before
+    other = rival.build()
+    outcome = race(
+        [enc.clauses, other.clauses],
+        certify=certify,
+        solver=solver,
+        time_limit=rest,
+        solvers=[solver if not certify else "cadical195", RACE_SOLVER],
+    )
+    return _Solved(
+        Status(outcome.status),
+        outcome.model,
+        outcome.conflicts,
+        outcome.solver,
+        outcome.proof,
+        encoding=other if outcome.winner == 1 else None,
+    )

@@ -18,22 +18,23 @@ search runs as before and :attr:`GateResult.hint` says how to build one.
 
 The time limit covers everything here: the fallback, the distance tables (built layer by
 layer, stopped at the deadline) and every query (solved in short conflict-budget slices).
-``max_gates`` is applied to every answer, the tables' included.
+``max_gates`` is applied to every answer, the tables' included.  Both come with the other
+settings in one :class:`~exactsyn.sat.options.SearchOptions`; proofs, CNFs and progress go
+to :class:`~exactsyn.sat.options.Hooks`.
 """
 
 from __future__ import annotations
 
 import functools
 import time
-from collections.abc import Callable
 from dataclasses import dataclass
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Library
-from exactsyn.errors import ExactsynError, NoCircuitError
-from exactsyn.sat.conquer import CubeOptions, CubeProgress
-from exactsyn.sat.encode import Encoding, EncodingOptions, encode
-from exactsyn.sat.query import ProofSink, Query, run_query
+from exactsyn.errors import NoCircuitError
+from exactsyn.sat.encode import EncodingOptions, encode
+from exactsyn.sat.options import BOUNDS, DEFAULT_OPTIONS, NO_HOOKS, Hooks, SearchOptions
+from exactsyn.sat.query import Query, Rival, run_query
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import (
     Bound,
@@ -42,17 +43,15 @@ from exactsyn.search.bounds import (
     lower_bound,
     parity_obstruction,
 )
-from exactsyn.search.classtable import HINT, ClassTableClaim, applies, settle, table_for
-from exactsyn.search.events import Progress, SearchEvent, emit
+from exactsyn.search.classtable import HINT, ClassTableClaim, Settled, applies, settle, table_for
+from exactsyn.search.events import SearchEvent
 from exactsyn.search.fallback import FIVE_SHRINK_FROM, Fallback, improve_upper, initial_upper
 from exactsyn.specification.reversible import Spec
 from exactsyn.tables.distance import FULL, MeetResult, extended_meet_by
 from exactsyn.tables.hashed import five_meet, five_next_depth, five_table_ok
 
-BOUNDS = {
-    "table": "cheap bounds, then distance tables with meet in the middle (up to 5 lines, full specs)",
-    "cheap": "only bounds without tables; every refuted k gets an LRAT proof when certifying",
-}
+__all__ = ["BOUNDS", "GateResult", "TableBound", "check_circuit", "minimise_gates"]
+
 # Number of gates from which the distance table is consulted, by line count: building
 # the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
 TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
@@ -79,7 +78,7 @@ class GateResult:
     seconds: float
     source: str  # "sat" | "heuristic" | "table" | "class-table" | "bound" (circuit met the lower bound) | "none"
     how: str = ""  # how a "heuristic" circuit was made, or why there is none (exactsyn.search.fallback)
-    class_table: ClassTableClaim | None = None  # what the 4-line class tables established (exactsyn.search.classtable)
+    class_table: ClassTableClaim | None = None  # what the class tables established (exactsyn.search.classtable)
     hint: str = ""  # one line for the user, e.g. how to get the class tables
 
 
@@ -102,7 +101,7 @@ class TableBound:
 PLAIN = EncodingOptions("onehot", ())
 
 
-def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
+def check_circuit(circuit: Circuit, spec: Spec, library: Library) -> None:
     """Simulate on every input; refuse to hand out a circuit that is wrong."""
     if circuit.lines != spec.lines or not spec.accepts(circuit.permutation()):
         raise RuntimeError("internal error: decoded circuit does not meet the spec")
@@ -111,182 +110,213 @@ def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
 
 
 def minimise_gates(
-    spec: Spec,
-    library: Library,
-    *,
-    encoding: EncodingOptions | None = None,
-    solver: str = "cadical195",
-    time_limit: float | None = None,
-    max_gates: int | None = None,
-    use_heuristic: bool = True,
-    bounds: str = "table",
-    jobs: int = 1,
-    progress: Progress | None = None,
-    proof_sink: ProofSink | None = None,
-    cnf_sink: Callable[[Encoding], None] | None = None,
-    split: CubeOptions | None = None,
-    cube_progress: CubeProgress | None = None,
+    spec: Spec, library: Library, options: SearchOptions = DEFAULT_OPTIONS, hooks: Hooks = NO_HOOKS
 ) -> GateResult:
     """Find a minimum-gate circuit; see the module docstring.
 
-    With ``proof_sink`` every k-query is solved by CaDiCaL 1.9.5 with LRAT output and
-    each refutation is handed to ``proof_sink(stem, proof)``, which stores it and returns
-    its name (see :mod:`exactsyn.proof.certificate`).  With ``jobs >= 2`` a query still
-    open after a second is raced against the formulation without symmetry breaking.
-    ``cnf_sink`` receives every k-query's encoding (for DIMACS export).  ``progress``
-    receives every answered query and a :class:`~exactsyn.search.events.SearchEvent` for
-    the other phases.  With ``split`` a query still open after ``split.after`` seconds is
-    split into cubes instead of raced (:mod:`exactsyn.sat.conquer`), and ``cube_progress``
-    hears about each cube.  Raises :class:`NoCircuitError` when parity rules every circuit out.
+    ``options`` says how (solver, encoding, bounds, time and gate limits, processes, cubes);
+    ``hooks`` where refutations go (certifying: CaDiCaL 1.9.5 with LRAT output, each
+    refutation handed to ``hooks.proof(stem, proof)``), every query's encoding (DIMACS
+    export) and progress (every answered query and a
+    :class:`~exactsyn.search.events.SearchEvent` for the other phases).  Raises
+    :class:`NoCircuitError` when parity (or affinity, or the spec itself) rules every
+    circuit out.
     """
-    opts = encoding or EncodingOptions()
-    start = time.perf_counter()
-    deadline = None if time_limit is None else start + time_limit
-    reason = parity_obstruction(spec, library) or affine_obstruction(spec, library) or completion_obstruction(spec)
-    if reason:
-        raise NoCircuitError(reason)
-    bound = lower_bound(spec, library)
-    hopeless = max_gates is not None and bound.value > max_gates  # no circuit within the limit: no fallback either
-    use_heuristic = use_heuristic and not hopeless
-    steps: list[Query] = []
-    table: TableBound | None = None
-    if bounds not in BOUNDS:
-        raise ExactsynError(f"unknown bounds mode {bounds!r}; choose one of: {', '.join(BOUNDS)}")
-    want_table = (
-        bounds == "table" and spec.is_permutation and library.involutive and spec.lines <= 4 and len(library) <= 256
-    ) or (bounds == "table" and spec.is_permutation and five_table_ok(library))
-    # The cached 4-line class tables: the optimum itself, or a lower bound (search.classtable).
-    claim: ClassTableClaim | None = None
-    hint = ""
-    settled = None
-    if bounds == "table" and bound.value > 0 and applies(spec, library):
-        what = "4-line class table"
-        emit(progress, SearchEvent("table-start", k=bound.value, detail=what))
-        settled = settle(spec, library, deadline)
-        if settled is None:
-            hint = HINT if table_for(library) is not None else ""
-        else:
-            claim = settled.claim
-            emit(progress, SearchEvent("table-done", k=bound.value, value=claim.value,
-                                       seconds=claim.seconds, detail=f"{what} of {claim.library}"))
-            if claim.depth >= 6 and table_for(library) is not None:
-                want_table = False  # the library's own table reaches further than its distance table (12 at most)
-    fallback = Fallback(None, "")
-    if use_heuristic and (settled is None or settled.circuit is None):
-        fallback = initial_upper(spec, library, deadline, progress)
-    upper = fallback.circuit
+    return _GateSearch(spec, library, options, hooks).run()
 
-    def result(circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
+
+class _GateSearch:
+    """The state of one gate search: bounds, the upper-bound circuit, the queries asked."""
+
+    def __init__(self, spec: Spec, library: Library, options: SearchOptions, hooks: Hooks) -> None:
+        self.spec, self.library, self.options, self.hooks = spec, library, options, hooks
+        self.start = time.perf_counter()
+        limit = options.time_limit
+        self.deadline = None if limit is None else self.start + limit
+        reason = parity_obstruction(spec, library) or affine_obstruction(spec, library) or completion_obstruction(spec)
+        if reason:
+            raise NoCircuitError(reason)
+        self.bound = lower_bound(spec, library)
+        self.steps: list[Query] = []
+        self.table: TableBound | None = None
+        self.claim: ClassTableClaim | None = None
+        self.hint = ""
+        self.fallback = Fallback(None, "")
+        self.per_k = 0.0  # seconds the last encoding took per gate position
+        self._five: int | None = None  # 5 lines: the hashed table depth to consult next
+        self.want_table = options.bounds == "table" and spec.is_permutation and (
+            (library.involutive and spec.lines <= 4 and len(library) <= 256) or five_table_ok(library)
+        )
+
+    # ------------------------------------------------------------------ helpers
+    def elapsed(self) -> float:
+        return time.perf_counter() - self.start
+
+    def left(self) -> float | None:
+        limit = self.options.time_limit
+        return None if limit is None else limit - self.elapsed()
+
+    def emit(self, event: SearchEvent) -> None:
+        self.hooks.notify(event)
+
+    @property
+    def upper(self) -> Circuit | None:
+        return self.fallback.circuit
+
+    def result(self, circuit: Circuit | None, optimal: bool, lb: int, source: str) -> GateResult:
+        max_gates = self.options.max_gates
         if circuit is not None and max_gates is not None and len(circuit) > max_gates:
             # Every answer obeys the gate limit; a proven optimum above it is the bound.
             lb = max(lb, len(circuit)) if optimal else lb
             circuit, optimal, source = None, False, "none"
         if circuit is not None:
-            verify(circuit, spec, library)
+            check_circuit(circuit, self.spec, self.library)
+        fb = self.fallback
         return GateResult(
-            spec=spec,
-            library=library,
+            spec=self.spec,
+            library=self.library,
             circuit=circuit,
             optimal=optimal,
             lower_bound=lb,
             upper_bound=None if circuit is None else len(circuit),
-            initial_bound=bound,
-            table_bound=table,
-            steps=tuple(steps),
-            encoding=opts,
-            solver=solver,
-            seconds=time.perf_counter() - start,
+            initial_bound=self.bound,
+            table_bound=self.table,
+            steps=tuple(self.steps),
+            encoding=self.options.encoding,
+            solver=self.options.solver,
+            seconds=self.elapsed(),
             source=source,
-            how=fallback.how if source == "heuristic" else fallback.reason if circuit is None else "",
-            class_table=claim,
-            hint=hint,
+            how=fb.how if source == "heuristic" else fb.reason if circuit is None else "",
+            class_table=self.claim,
+            hint=self.hint,
         )
 
-    k = bound.value
-    if settled is not None and claim is not None:
-        if settled.circuit is not None:
-            return result(settled.circuit, True, claim.value, "class-table")
-        if claim.value > k:
-            emit(progress, SearchEvent("table-bound", low=k, high=claim.value - 1, detail="4-line class table"))
-            k = claim.value
-    per_k = 0.0  # seconds the last encoding took per gate position
-    shrunk_five = False  # 5 lines: the fallback shrunk by 4-line windows once (search/fallback.py)
-    if k == 0:
-        return result(Circuit(spec.lines), True, 0, "bound")
-    while True:
-        elapsed = time.perf_counter() - start
-        room = time_limit is None or time_limit - elapsed >= TABLE_MIN_SECONDS.get(spec.lines, 0.0)
-        left_now = None if time_limit is None else time_limit - elapsed
-        five = None if spec.lines != 5 else five_next_depth(k, None if table is None else table.depth, left_now)
-        consult = five is not None or (spec.lines != 5 and table is None and k >= TABLE_FROM.get(spec.lines, 99))
-        if want_table and consult and room:
-            what = f"distance table of {library.name}" + ("" if five is None else f", depth {five}")
-            emit(progress, SearchEvent("table-start", k=k, detail=what))
-            mr: MeetResult | None
-            if five is not None:  # hashed 5-line tables: a shallow one first, a deeper one later (tables/hashed.py)
-                mr = five_meet(spec.permutation, library, five)
-            else:
-                mr = extended_meet_by(spec.permutation, library, deadline)
-            emit(progress, SearchEvent("table-done", k=k, value=None if mr is None else mr.exact or mr.lower,
-                                       seconds=time.perf_counter() - start - elapsed, detail=what))
-            if mr is None:  # not built by the deadline
-                want_table = False
+    def give_up(self, k: int) -> GateResult:
+        """Time is out at ``k``: the fallback circuit, not proven, with the bound reached."""
+        return self.result(self.upper, False, k, "heuristic" if self.upper else "none")
+
+    # ------------------------------------------------------------------ phases
+    def run(self) -> GateResult:
+        max_gates = self.options.max_gates
+        hopeless = max_gates is not None and self.bound.value > max_gates  # no circuit within the limit
+        settled = self.class_table()
+        if self.options.fallback and not hopeless and (settled is None or settled.circuit is None):
+            self.fallback = initial_upper(self.spec, self.library, self.deadline, self.hooks.observer)
+        k = self.bound.value
+        if settled is not None and self.claim is not None:
+            if settled.circuit is not None:
+                return self.result(settled.circuit, True, self.claim.value, "class-table")
+            if self.claim.value > k:
+                what = f"{self.spec.lines}-line class table"
+                self.emit(SearchEvent("table-bound", low=k, high=self.claim.value - 1, detail=what))
+                k = self.claim.value
+        if k == 0:
+            return self.result(Circuit(self.spec.lines), True, 0, "bound")
+        return self.raise_k(k)
+
+    def class_table(self) -> Settled | None:
+        """The cached class tables: the optimum itself, or a lower bound (search.classtable)."""
+        if self.options.bounds != "table" or self.bound.value <= 0 or not applies(self.spec, self.library):
+            return None
+        what = f"{self.spec.lines}-line class table"
+        self.emit(SearchEvent("table-start", k=self.bound.value, detail=what))
+        settled = settle(self.spec, self.library, self.deadline)
+        if settled is None:
+            self.hint = HINT if table_for(self.library) is not None else ""
+            return None
+        claim = self.claim = settled.claim
+        self.emit(SearchEvent("table-done", k=self.bound.value, value=claim.value, seconds=claim.seconds,
+                              detail=f"{what} of {claim.library}"))
+        if claim.depth >= 6 and table_for(self.library) is not None:
+            self.want_table = False  # the library's own table reaches further than its distance table (12 at most)
+        return settled
+
+    def raise_k(self, k: int) -> GateResult:
+        """The loop over k: tables when they pay, then one SAT query per k."""
+        shrunk_five = False  # 5 lines: the fallback shrunk by 4-line windows once (search/fallback.py)
+        lines = self.spec.lines
+        while True:
+            if self.want_table and self.consult_table(k):
+                got = self.distance_table(k)
+                if isinstance(got, GateResult):
+                    return got
+                k = got
                 continue
-            if mr.exact is not None and mr.circuit is not None:
-                table = TableBound(mr.exact, True, mr.depth, mr.extended)
-                return result(mr.circuit, True, mr.exact, "table")
-            table = TableBound(mr.lower, False, mr.depth, mr.extended)
-            if mr.lower > k:
-                emit(progress, SearchEvent("table-bound", low=k, high=mr.lower - 1, detail=what))
-            k = max(k, mr.lower)
-            if spec.lines != 5:
-                fallback = improve_upper(fallback, spec, library, deadline, progress)
-                upper = fallback.circuit
-            continue
-        if spec.lines == 5 and k >= FIVE_SHRINK_FROM and not shrunk_five:
-            # the search has reached the queries that take minutes: a better fallback pays now
-            shrunk_five = True
-            fallback = improve_upper(fallback, spec, library, deadline, progress)
-            upper = fallback.circuit
-        if max_gates is not None and k > max_gates:
-            # Every circuit needs at least k > max_gates gates: none within the limit.
-            return result(None, False, k, "none")
-        if upper is not None and k >= len(upper):
-            return result(upper, True, k, "heuristic")
-        left = None if time_limit is None else time_limit - (time.perf_counter() - start)
-        if left is not None and left <= 0:
-            return result(upper, False, k, "heuristic" if upper else "none")
-        if left is not None and left < per_k * k:  # the encoding alone would overrun (the last one's rate)
-            return result(upper, False, k, "heuristic" if upper else "none")
-        emit(progress, SearchEvent("query-start", k=k, seconds=left))
+            if lines == 5 and k >= FIVE_SHRINK_FROM and not shrunk_five:
+                # the search has reached the queries that take minutes: a better fallback pays now
+                shrunk_five = True
+                self.fallback = improve_upper(self.fallback, self.spec, self.library, self.deadline,
+                                              self.hooks.observer)
+            max_gates = self.options.max_gates
+            if max_gates is not None and k > max_gates:
+                # Every circuit needs at least k > max_gates gates: none within the limit.
+                return self.result(None, False, k, "none")
+            if self.upper is not None and k >= len(self.upper):
+                return self.result(self.upper, True, k, "heuristic")
+            answer = self.query(k)
+            if answer is not None:
+                return answer
+            k += 1
+
+    def consult_table(self, k: int) -> bool:
+        """Is the distance table worth consulting before asking SAT for ``k`` gates (now)?"""
+        lines = self.spec.lines
+        left = self.left()
+        room = left is None or left >= TABLE_MIN_SECONDS.get(lines, 0.0)
+        if lines == 5:
+            self._five = five_next_depth(k, None if self.table is None else self.table.depth, left)
+            return self._five is not None and room
+        return self.table is None and k >= TABLE_FROM.get(lines, 99) and room
+
+    def distance_table(self, k: int) -> GateResult | int:
+        """Meet in the middle over the distance table: the answer, or the k to go on from."""
+        five = self._five if self.spec.lines == 5 else None
+        what = f"distance table of {self.library.name}" + ("" if five is None else f", depth {five}")
+        self.emit(SearchEvent("table-start", k=k, detail=what))
+        t0 = self.elapsed()
+        mr: MeetResult | None
+        if five is not None:  # hashed 5-line tables (tables/hashed.py)
+            mr = five_meet(self.spec.permutation, self.library, five)
+        else:
+            mr = extended_meet_by(self.spec.permutation, self.library, self.deadline)
+        self.emit(SearchEvent("table-done", k=k, value=None if mr is None else mr.exact or mr.lower,
+                              seconds=self.elapsed() - t0, detail=what))
+        if mr is None:  # not built by the deadline
+            self.want_table = False
+            return k
+        if mr.exact is not None and mr.circuit is not None:
+            self.table = TableBound(mr.exact, True, mr.depth, mr.extended)
+            return self.result(mr.circuit, True, mr.exact, "table")
+        self.table = TableBound(mr.lower, False, mr.depth, mr.extended)
+        if mr.lower > k:
+            self.emit(SearchEvent("table-bound", low=k, high=mr.lower - 1, detail=what))
+        if self.spec.lines != 5:
+            self.fallback = improve_upper(self.fallback, self.spec, self.library, self.deadline, self.hooks.observer)
+        return max(k, mr.lower)
+
+    def query(self, k: int) -> GateResult | None:
+        """Ask SAT for ``k`` gates: the answer, or None when refuted (go on with ``k + 1``)."""
+        left = self.left()
+        if left is not None and (left <= 0 or left < self.per_k * k):
+            return self.give_up(k)  # the encoding alone would overrun (the last one's rate)
+        self.emit(SearchEvent("query-start", k=k, seconds=left))
         t_enc = time.perf_counter()
-        enc = encode(spec, library, k, opts)
-        per_k = (time.perf_counter() - t_enc) / max(k, 1)
-        if cnf_sink:
-            cnf_sink(enc)
-        if time_limit is not None:  # encoding took time too
-            left = time_limit - (time.perf_counter() - start)
-            if left <= 0:
-                return result(upper, False, k, "heuristic" if upper else "none")
+        enc = encode(self.spec, self.library, k, self.options.encoding)
+        self.per_k = (time.perf_counter() - t_enc) / max(k, 1)
+        if self.hooks.cnf:
+            self.hooks.cnf(enc)
+        left = self.left()
+        if left is not None and left <= 0:  # encoding took time too
+            return self.give_up(k)
         rival = None
-        if jobs >= 2 and enc.options.symmetry:
-            rival = functools.partial(encode, spec, library, k, PLAIN)
-        ans = run_query(
-            enc,
-            solver=solver,
-            time_limit=left,
-            proof_sink=proof_sink,
-            rival=rival,
-            rival_seconds=per_k * k,
-            split=split,
-            cube_progress=cube_progress,
-        )
-        steps.append(ans.query)
-        if progress:
-            progress(ans.query)
+        if self.options.jobs >= 2 and enc.options.symmetry:
+            rival = Rival(functools.partial(encode, self.spec, self.library, k, PLAIN), self.per_k * k)
+        ans = run_query(enc, self.options, self.hooks, time_limit=left, rival=rival)
+        self.steps.append(ans.query)
+        self.hooks.notify(ans.query)
         if ans.query.status == Status.SAT:
             assert ans.circuit is not None
-            return result(ans.circuit, True, k, "sat")
+            return self.result(ans.circuit, True, k, "sat")
         if ans.query.status == Status.UNKNOWN:
-            return result(upper, False, k, "heuristic" if upper else "none")
-        k += 1
+            return self.give_up(k)
+        return None

@@ -30,7 +30,6 @@ circuit so far, marked not proven.
 from __future__ import annotations
 
 import time
-from collections.abc import Callable
 from dataclasses import dataclass
 
 from exactsyn.core.circuit import Circuit
@@ -38,10 +37,11 @@ from exactsyn.core.costs import CostModel, library_costs, objective_value
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import CostLimit, Encoding, EncodingOptions, encode
 from exactsyn.sat.encode_depth import encode_depth
-from exactsyn.sat.query import ProofSink, Query, run_query
+from exactsyn.sat.options import DEFAULT_OPTIONS, NO_HOOKS, Hooks, SearchOptions
+from exactsyn.sat.query import Query, run_query
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import nonaffine_extra
-from exactsyn.search.loop import GateResult, verify
+from exactsyn.search.loop import GateResult, check_circuit
 
 OBJECTIVES = {
     "gates": "fewest gates (the default)",
@@ -72,15 +72,18 @@ def optimise(
     objective: str,
     gate_result: GateResult,
     model: CostModel | None = None,
+    search: SearchOptions = DEFAULT_OPTIONS,
+    hooks: Hooks = NO_HOOKS,
     *,
     time_limit: float | None = None,
-    solver: str = "cadical195",
-    proof_sink: ProofSink | None = None,
-    progress: Callable[[Query], None] | None = None,
-    options: EncodingOptions = COST_OPTIONS,
+    cost_encoding: EncodingOptions = COST_OPTIONS,
     nonaffine_bound: bool = True,
 ) -> ObjectiveResult:
-    """Tighten ``gate_result`` (a proven minimum-gate result) for ``objective``."""
+    """Tighten ``gate_result`` (a proven minimum-gate result) for ``objective``.
+
+    ``search`` gives the solver; ``hooks`` the proof sink and the observer (every answered
+    query); ``time_limit`` is the time this step may take (the search's remaining time).
+    """
     if objective not in OBJECTIVES or objective == "gates":
         raise ExactsynError(f"unknown objective {objective!r}; choose one of: {', '.join(OBJECTIVES)}")
     if gate_result.circuit is None or not gate_result.optimal:
@@ -102,14 +105,11 @@ def optimise(
         return None if time_limit is None else max(0.0, time_limit - (time.perf_counter() - start))
 
     def ask(enc: Encoding, what: str, k: int, limit: int | None) -> tuple[Query, Circuit | None]:
-        ans = run_query(
-            enc, objective=what, k=k, limit=limit, solver=solver, time_limit=left(), proof_sink=proof_sink
-        )
+        ans = run_query(enc, search, hooks, objective=what, k=k, limit=limit, time_limit=left())
         queries.append(ans.query)
-        if progress:
-            progress(ans.query)
+        hooks.notify(ans.query)
         if ans.circuit is not None:
-            verify(ans.circuit, spec, library)
+            check_circuit(ans.circuit, spec, library)
         return ans.query, ans.circuit
 
     def done(optimal: bool, bound: int) -> ObjectiveResult:
@@ -125,7 +125,7 @@ def optimise(
             tuple(queries),
             time.perf_counter() - start,
             extra,
-            options.symmetry,
+            cost_encoding.symmetry,
         )
 
     if objective == "depth":
@@ -151,7 +151,7 @@ def optimise(
         top = k_star if fixed_k else (limit - extra) // c_min
         if k > top:
             return done(True, value)
-        enc = encode(spec, library, k, options, cost_limit=CostLimit(costs, limit, order))
+        enc = encode(spec, library, k, cost_encoding, cost_limit=CostLimit(costs, limit, order))
         q, circ = ask(enc, "cost", k, limit)
         if q.status == Status.UNKNOWN:
             return done(False, k_star * c_min)

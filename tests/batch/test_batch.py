@@ -50,6 +50,7 @@ from exactsyn.core.library import Library, make_library
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.encode import EncodingOptions
+from exactsyn.sat.options import SearchOptions
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables.bfs import optimal_sizes
 
@@ -299,7 +300,7 @@ def test_local_pool_stops_a_worker_that_holds_an_item_past_the_hard_limit() -> N
     # A random 6-line function with MCT gates and no time limit of its own: SAT would
     # search for minutes; the pool's hard limit (2 x 1.0 + 0.5 s) stops the worker.
     spec = from_permutation(random.Random(3).sample(range(64), 64))
-    task = Task("0" * 64, spec, make_library("mct", 6), EncodingOptions(), time_limit=None, certificates=False)
+    task = Task("0" * 64, spec, make_library("mct", 6), SearchOptions(), certificates=False)
     outs: list[Outcome] = []
     started = time.monotonic()
     LocalPool(1, time_limit=1.0, grace=0.5).run([task], outs.append)

@@ -206,10 +206,14 @@ def test_real_processes_print_no_traceback() -> None:
         assert r.stdout == ""
 
 
+def test_synth_spellings_removed_after_their_release_are_refused_in_one_line() -> None:
+    for old in ("--count", "--all"):
+        code, out, err = invoke("synth", "--cycles", "(5 6)", old)
+        one_line(code, err)
+        assert out == "" and old in err
+
+
 def test_old_option_spellings_work_for_one_release_with_a_note(tmp_path: Path) -> None:
-    code, out, err = invoke("synth", "--cycles", "(5 6)", "--count")
-    assert code == 0 and out.strip().isdigit()
-    assert "--count is deprecated" in err and "--optima count" in err
     store = tmp_path / "s.sqlite"
     code, out, err = invoke("batch", "--all", "1", "--store", str(store), "-q")
     assert code == 0 and "--all 1 is deprecated" in err and "--every 1" in err

@@ -11,6 +11,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import peres_gate, swap_gate, x_gate
 from exactsyn.core.library import connected, make_library, parse_coupling
 from exactsyn.errors import ExactsynError, NoCircuitError
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import Spec, from_permutation
 from exactsyn.tables.bfs import optimal_sizes
@@ -47,7 +48,7 @@ def test_sat_matches_breadth_first_search(name: str, coupling: str, bounds: str)
     perms = sorted(table.as_dict().items())
     rng = random.Random(sum(map(ord, name + coupling + bounds)))
     for perm, size in rng.sample(perms, min(25, len(perms))):
-        res = minimise_gates(from_permutation(perm), lib, bounds=bounds)
+        res = minimise_gates(from_permutation(perm), lib, SearchOptions(bounds=bounds))
         assert res.optimal and res.circuit is not None
         assert len(res.circuit) == size, (name, perm)
         assert res.circuit.permutation() == perm
@@ -60,7 +61,7 @@ def test_unreachable_function_is_refused_with_exit_one() -> None:
     toffoli = Circuit(3, (x_gate(2, (0, 1)),)).permutation()
     assert toffoli not in optimal_sizes(lib)
     with pytest.raises(NoCircuitError):
-        minimise_gates(from_permutation(toffoli), lib, bounds="cheap", max_gates=8)
+        minimise_gates(from_permutation(toffoli), lib, SearchOptions(bounds="cheap", max_gates=8))
 
 
 def _or_onto_constant_one() -> Spec:

@@ -33,6 +33,7 @@ from exactsyn.optimise import (
     optimise_circuit,
 )
 from exactsyn.optimise.summary import result_to_dict, summary_text
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 
@@ -103,7 +104,7 @@ def test_long_three_line_circuits_shrink_to_the_sat_optimum() -> None:
         c = Circuit(3, tuple(rng.choice(lib.gates) for _ in range(25)))
         res = run(c)
         # independent engine: SAT with refutations for every smaller k, no distance tables
-        ref = minimise_gates(from_permutation(list(c.permutation())), lib, bounds="cheap")
+        ref = minimise_gates(from_permutation(list(c.permutation())), lib, SearchOptions(bounds="cheap"))
         assert ref.optimal and ref.circuit is not None and res.output.gate_count == len(ref.circuit)
 
 

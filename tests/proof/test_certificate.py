@@ -15,6 +15,7 @@ from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
 from exactsyn.proof.checker import check_certificate
+from exactsyn.sat.options import Hooks, SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables.bfs import optimal_sizes
@@ -23,7 +24,8 @@ NCT3 = make_library("nct", 3)
 
 
 def certify(perm: list[int], directory: Path, library=NCT3) -> Path:  # type: ignore[no-untyped-def]
-    res = minimise_gates(from_permutation(perm), library, proof_sink=proof_writer(directory), bounds="cheap")
+    hooks = Hooks(proof=proof_writer(directory))
+    res = minimise_gates(from_permutation(perm), library, SearchOptions(bounds="cheap"), hooks)
     assert res.optimal
     return write_result(directory, res)
 
@@ -138,7 +140,8 @@ def test_table_bound_certificate_for_hwb4(tmp_path: Path) -> None:
     from helpers import hwb
 
     d = tmp_path / "hwb4"
-    res = minimise_gates(from_permutation(hwb(4)), make_library("mct", 4), proof_sink=proof_writer(d))
+    hooks = Hooks(proof=proof_writer(d))
+    res = minimise_gates(from_permutation(hwb(4)), make_library("mct", 4), SearchOptions(), hooks)
     write_result(d, res)
     rep = check_certificate(d)
     assert rep.ok and rep.gate_count == 11
@@ -157,7 +160,7 @@ def test_raced_queries_give_a_checkable_certificate(tmp_path: Path, monkeypatch:
     table = optimal_sizes(NCT3)
     p = [int(v) for v in table.permutations()[table.sizes == 7][3]]
     d = tmp_path / "raced"
-    res = minimise_gates(from_permutation(p), NCT3, proof_sink=proof_writer(d), bounds="cheap", jobs=2)
+    res = minimise_gates(from_permutation(p), NCT3, SearchOptions(bounds="cheap", jobs=2), Hooks(proof=proof_writer(d)))
     write_result(d, res)
     rep = check_certificate(d)
     assert rep.ok and rep.gate_count == 7
@@ -173,7 +176,7 @@ def test_certificate_of_an_embedded_function_with_solver_choices(tmp_path: Path)
     fn = function_from_mapping(tomllib.loads((INSTANCES / "full-adder.toml").read_text()), "fa")
     spec, _ = embed(fn)
     d = tmp_path / "fa"
-    res = minimise_gates(spec, make_library("nct", 4), proof_sink=proof_writer(d), bounds="cheap")
+    res = minimise_gates(spec, make_library("nct", 4), SearchOptions(bounds="cheap"), Hooks(proof=proof_writer(d)))
     write_result(d, res)
     rep = check_certificate(d)
     assert rep.ok and rep.gate_count == 4

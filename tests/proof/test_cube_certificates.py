@@ -16,6 +16,7 @@ from exactsyn.core.library import make_library
 from exactsyn.proof.certificate import proof_writer, write_result
 from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.conquer import CubeOptions
+from exactsyn.sat.options import Hooks, SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.specification.samples import random_library_function
@@ -34,9 +35,8 @@ PERM = built(MCT4, 6, 3)
 def split_cert(tmp_path_factory: pytest.TempPathFactory) -> Path:
     d = tmp_path_factory.mktemp("cubes") / "cert"
     # after=0: every k-query is split at once, so the certificate holds several split queries.
-    res = minimise_gates(
-        from_permutation(PERM), MCT4, proof_sink=proof_writer(d), bounds="cheap", split=CubeOptions(1, after=0.0)
-    )
+    options = SearchOptions(bounds="cheap", split=CubeOptions(1, after=0.0))
+    res = minimise_gates(from_permutation(PERM), MCT4, options, Hooks(proof=proof_writer(d)))
     assert res.optimal and res.circuit is not None
     write_result(d, res)
     return d
@@ -62,7 +62,7 @@ def test_split_certificate_checks_and_says_how_coverage_was_shown(cert: Path) ->
     details = [line.detail for line in rep.lines if line.what.startswith("k=")]
     assert any("cubes cover the query" in d and "by construction" in d for d in details)
     # The unsplit search agrees on the optimum.
-    plain = minimise_gates(from_permutation(PERM), MCT4, bounds="cheap")
+    plain = minimise_gates(from_permutation(PERM), MCT4, SearchOptions(bounds="cheap"))
     assert plain.circuit is not None and rep.gate_count == len(plain.circuit)
 
 
@@ -114,7 +114,8 @@ def test_dask_local_cluster_gives_the_same_optimum_and_a_checkable_certificate(t
     ) as cluster:  # fmt: skip
         d = tmp_path / "c"
         split = CubeOptions(2, scheduler=cluster.scheduler_address, after=0.0)  # every query split
-        res = minimise_gates(from_permutation(PERM), MCT4, proof_sink=proof_writer(d), bounds="cheap", split=split)
+        options = SearchOptions(bounds="cheap", split=split)
+        res = minimise_gates(from_permutation(PERM), MCT4, options, Hooks(proof=proof_writer(d)))
     write_result(d, res)
     plain = ex.synthesise(PERM, library="mct", bounds="cheap", split="off")
     assert res.optimal and res.circuit is not None and len(res.circuit) == plain.gate_count

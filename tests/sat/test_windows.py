@@ -10,6 +10,7 @@ from helpers import random_perm
 from exactsyn.core.library import make_library
 from exactsyn.sat.encode import EncodingOptions
 from exactsyn.sat.forbidden import allowed_windows, forbidden_windows
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables.bfs import optimal_sizes
@@ -43,6 +44,6 @@ def test_window_rules_keep_an_optimal_circuit() -> None:
     perms = [random_perm(rng, 3) for _ in range(150)]
     perms += [[int(v) for v in r] for r in table.permutations()[table.sizes == 8][:60]]
     for p in perms:
-        res = minimise_gates(from_permutation(p), lib, encoding=opts, bounds="cheap")
+        res = minimise_gates(from_permutation(p), lib, SearchOptions(encoding=opts, bounds="cheap"))
         assert res.circuit is not None and list(res.circuit.permutation()) == p
         assert len(res.circuit) == table.size(p), p

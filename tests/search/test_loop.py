@@ -11,6 +11,7 @@ from helpers import hwb, perm_from_bits, random_perm
 from exactsyn.core.library import make_library
 from exactsyn.errors import NoCircuitError
 from exactsyn.sat.encode import EncodingOptions, encode, options_for
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation, parse_cycles
 from exactsyn.tables.bfs import optimal_sizes
@@ -21,7 +22,7 @@ NCT3 = make_library("nct", 3)
 
 def sat_optimum(perm: list[int], library=NCT3, encoding: str = "onehot") -> int:  # type: ignore[no-untyped-def]
     # bounds="cheap": the SAT engine decides every k (no distance tables).
-    res = minimise_gates(from_permutation(perm), library, encoding=options_for(encoding), bounds="cheap")
+    res = minimise_gates(from_permutation(perm), library, SearchOptions(encoding=options_for(encoding), bounds="cheap"))
     assert res.optimal and res.circuit is not None
     # Independent check: numpy simulation of the decoded circuit.
     assert list(res.circuit.permutation()) == perm
@@ -111,7 +112,7 @@ def test_peres_is_two_gates() -> None:
 def test_swap_is_three_cnots() -> None:
     # SWAP = 3 CNOTs (common practice).
     swap = from_permutation(perm_from_bits(2, lambda a, b: (b, a)))
-    res = minimise_gates(swap, make_library("nct", 2), bounds="cheap")
+    res = minimise_gates(swap, make_library("nct", 2), SearchOptions(bounds="cheap"))
     assert res.circuit is not None and res.optimal
     assert len(res.circuit) == 3 and all(g.name() == "CNOT" for g in res.circuit.gates)
 
@@ -146,7 +147,7 @@ def test_odd_permutation_with_nct_on_four_lines_is_refused_at_once() -> None:
 
 def test_time_limit_returns_a_labelled_heuristic_circuit() -> None:
     spec = from_permutation(hwb(4))
-    res = minimise_gates(spec, make_library("mct", 4), time_limit=1.0)
+    res = minimise_gates(spec, make_library("mct", 4), SearchOptions(time_limit=1.0))
     assert res.circuit is not None and not res.optimal
     assert res.lower_bound <= 11 <= len(res.circuit)
     assert list(res.circuit.permutation()) == hwb(4)
@@ -154,7 +155,7 @@ def test_time_limit_returns_a_labelled_heuristic_circuit() -> None:
 
 def test_hwb4_needs_eleven_mct_gates_with_distance_tables() -> None:
     # Golubitsky, Falconer, Maslov, DAC 2010: hwb4 needs 11 MCT gates (from memory).
-    res = minimise_gates(from_permutation(hwb(4)), make_library("mct", 4), bounds="table")
+    res = minimise_gates(from_permutation(hwb(4)), make_library("mct", 4), SearchOptions(bounds="table"))
     assert res.optimal and res.circuit is not None and res.table_bound is not None
     assert len(res.circuit) == 11
     assert list(res.circuit.permutation()) == hwb(4)
@@ -164,7 +165,7 @@ def test_hwb4_needs_eleven_mct_gates_with_distance_tables() -> None:
 def test_hwb4_needs_eleven_mct_gates() -> None:
     # Golubitsky, Falconer, Maslov, DAC 2010: hwb4 needs 11 MCT gates (from memory).
     # Pure SAT: every k refuted by the solver (several minutes).
-    res = minimise_gates(from_permutation(hwb(4)), make_library("mct", 4), bounds="cheap")
+    res = minimise_gates(from_permutation(hwb(4)), make_library("mct", 4), SearchOptions(bounds="cheap"))
     assert res.optimal and res.circuit is not None
     assert len(res.circuit) == 11
     assert list(res.circuit.permutation()) == hwb(4)
@@ -179,4 +180,4 @@ def test_a_function_outside_the_group_a_library_generates_is_no_circuit() -> Non
     assert spec.permutation not in optimal_sizes(lib)
     for bounds in ("table", "cheap"):
         with pytest.raises(NoCircuitError, match="affine"):
-            minimise_gates(spec, lib, bounds=bounds)
+            minimise_gates(spec, lib, SearchOptions(bounds=bounds))

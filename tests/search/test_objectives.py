@@ -24,6 +24,7 @@ from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
 from exactsyn.proof.checker import check_certificate
+from exactsyn.sat.options import Hooks, SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.search.objectives import optimise
 from exactsyn.specification.reversible import from_permutation
@@ -117,8 +118,8 @@ def test_cost_objective_refuses_zero_costs() -> None:
 
 def _certify(tmp_path: Path, perm: Perm, objective: str, model_name: str = "ncv") -> Path:
     d = tmp_path / objective
-    res = minimise_gates(from_permutation(perm), NCT3, proof_sink=proof_writer(d), bounds="cheap")
-    obj = optimise(objective, res, cost_model(model_name), proof_sink=proof_writer(d))
+    res = minimise_gates(from_permutation(perm), NCT3, SearchOptions(bounds="cheap"), Hooks(proof=proof_writer(d)))
+    obj = optimise(objective, res, cost_model(model_name), hooks=Hooks(proof=proof_writer(d)))
     write_result(d, res, obj)
     return d
 

@@ -19,6 +19,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.io.jsonio import gate_from_dict
 from exactsyn.io.qasm import read_qasm
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.boolean import function_from_mapping
 from exactsyn.specification.embed import embed, multiplicity
@@ -30,7 +31,7 @@ from exactsyn.tables.bfs import optimal_sizes
 def solve(mapping: dict, library: str = "nct"):  # type: ignore[no-untyped-def,type-arg]
     fn = function_from_mapping(mapping, "test")
     spec, emb = embed(fn)
-    res = minimise_gates(spec, make_library(library, spec.lines), bounds="cheap")
+    res = minimise_gates(spec, make_library(library, spec.lines), SearchOptions(bounds="cheap"))
     assert res.optimal and res.circuit is not None
     return fn, spec, emb, res
 
@@ -112,7 +113,7 @@ def test_dont_cares_give_the_best_completion() -> None:
     outputs = [1, 0, 3, 2, 0, 0, 0, 0]
     care = [7, 7, 7, 7, 0, 0, 0, 0]
     spec = Spec(3, tuple(outputs), tuple(care), "partial")
-    res = minimise_gates(spec, make_library("nct", 3), bounds="cheap")
+    res = minimise_gates(spec, make_library("nct", 3), SearchOptions(bounds="cheap"))
     assert res.optimal and res.circuit is not None and spec.accepts(res.circuit.permutation())
     # Independent: enumerate every completion and take its breadth-first optimum.
     table = optimal_sizes(make_library("nct", 3))

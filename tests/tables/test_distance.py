@@ -8,6 +8,7 @@ import numpy as np
 from helpers import random_perm
 
 from exactsyn.core.library import make_library
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables.bfs import optimal_sizes
@@ -51,6 +52,6 @@ def test_table_optimum_equals_sat_optimum_on_four_lines() -> None:
             s = lib.gates[rng.randrange(len(lib))].apply(s)
         p = tuple(int(v) for v in s)
         r = meet_in_the_middle(p, lib, 3)
-        sat = minimise_gates(from_permutation(list(p)), lib, bounds="cheap")
+        sat = minimise_gates(from_permutation(list(p)), lib, SearchOptions(bounds="cheap"))
         assert sat.circuit is not None and sat.optimal
         assert r.exact == len(sat.circuit)

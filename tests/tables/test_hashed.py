@@ -15,6 +15,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
 from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.conquer import CubeOptions
+from exactsyn.sat.options import Hooks, SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.specification.samples import random_library_function
@@ -54,9 +55,9 @@ def test_optima_of_5line_functions_built_from_circuits(seed: int) -> None:
     # (Seeds whose optimum the changed-lines bound settles without a query are skipped.)
     perm = built(4, seed)
     spec = from_permutation(perm)
-    split = minimise_gates(spec, MCT5, bounds="cheap", split=CubeOptions(1, depth=1, after=0.0))
-    plain = minimise_gates(spec, MCT5, bounds="cheap")
-    table = minimise_gates(spec, MCT5, bounds="table")
+    split = minimise_gates(spec, MCT5, SearchOptions(bounds="cheap", split=CubeOptions(1, depth=1, after=0.0)))
+    plain = minimise_gates(spec, MCT5, SearchOptions(bounds="cheap"))
+    table = minimise_gates(spec, MCT5, SearchOptions(bounds="table"))
     assert split.optimal and plain.optimal and table.optimal
     assert split.circuit is not None and plain.circuit is not None and table.circuit is not None
     assert len(split.circuit) == len(plain.circuit) == len(table.circuit) <= 4
@@ -67,7 +68,7 @@ def test_optima_of_5line_functions_built_from_circuits(seed: int) -> None:
 def test_certificate_with_a_5line_table_bound_is_rederived(tmp_path: Path) -> None:
     perm = built(6, 7)
     d = tmp_path / "c"
-    res = minimise_gates(from_permutation(perm), MCT5, proof_sink=proof_writer(d))
+    res = minimise_gates(from_permutation(perm), MCT5, SearchOptions(), Hooks(proof=proof_writer(d)))
     assert res.optimal and res.table_bound is not None and res.table_bound.exact
     write_result(d, res)
     rep = check_certificate(d)
@@ -100,12 +101,11 @@ def test_split_optima_of_7gate_5line_functions_on_two_workers_equal_the_unsplit_
     # independently of the cubes, and the certificate of the split run must check.
     perm = built(7, seed)
     spec = from_permutation(perm)
-    plain = minimise_gates(spec, MCT5, bounds="cheap", jobs=1)
+    plain = minimise_gates(spec, MCT5, SearchOptions(bounds="cheap", jobs=1))
     assert plain.optimal and plain.circuit is not None and len(plain.circuit) <= 7
     cert = tmp_path / "c"
-    split = minimise_gates(
-        spec, MCT5, bounds="cheap", proof_sink=proof_writer(cert), split=CubeOptions(2, depth=2, after=0.0)
-    )
+    options = SearchOptions(bounds="cheap", split=CubeOptions(2, depth=2, after=0.0))
+    split = minimise_gates(spec, MCT5, options, Hooks(proof=proof_writer(cert)))
     assert split.optimal and split.circuit is not None
     assert len(split.circuit) == len(plain.circuit)
     assert split.circuit.permutation() == tuple(perm)

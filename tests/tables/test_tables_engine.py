@@ -13,6 +13,7 @@ from exactsyn import tables
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables.distance import extended_meet
@@ -61,7 +62,7 @@ def test_optima_equal_sat_on_short_functions(mct6: tables.Tables) -> None:
     lib = make_library("mct", 4)
     for k in (2, 4, 5, 6):
         p = _random_circuit_perm(rng, "mct", k)
-        sat = minimise_gates(from_permutation(list(p)), lib, bounds="cheap")
+        sat = minimise_gates(from_permutation(list(p)), lib, SearchOptions(bounds="cheap"))
         ans = mct6.synthesise(p)
         assert sat.optimal and sat.circuit is not None
         assert ans.gate_count == len(sat.circuit) and _simulates(ans)

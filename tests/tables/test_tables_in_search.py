@@ -21,6 +21,7 @@ from exactsyn import synthesise
 from exactsyn.cli.main import main
 from exactsyn.core.library import make_library
 from exactsyn.proof.checker import check_certificate
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search import classtable
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.loop import minimise_gates
@@ -68,7 +69,7 @@ def test_table_optima_equal_sat(cached: Path, library: str) -> None:
     for length in (3, 5) if library == "mixed" else (3, 5, 6):  # SAT on mixed is slower
         p = _circuit_perm(rng, library, length)
         got = synthesise(p, library=library)
-        ref = minimise_gates(from_permutation(p), lib, bounds="cheap")
+        ref = minimise_gates(from_permutation(p), lib, SearchOptions(bounds="cheap"))
         assert got.optimal and ref.optimal and ref.circuit is not None
         assert got.gate_result.source == "class-table"
         assert got.gate_count == len(ref.circuit)
@@ -81,7 +82,7 @@ def test_beyond_the_table_the_search_goes_on_from_its_bound(cached: Path) -> Non
     lib = make_library("nct", 4)
     for _ in range(20):
         p = _circuit_perm(rng, "nct", 40)
-        res = minimise_gates(from_permutation(p), lib, time_limit=3)
+        res = minimise_gates(from_permutation(p), lib, SearchOptions(time_limit=3))
         claim = res.class_table
         assert claim is not None
         if not claim.exact:
@@ -95,7 +96,7 @@ def test_a_coupled_library_gets_the_table_bound(cached: Path) -> None:
     # On the chain 0-1-2-3 every gate is an MCT gate, so the MCT optimum is a lower bound.
     p = list(hwb(4))
     chain = make_library("mct", 4, None, "0-1,1-2,2-3")
-    res = minimise_gates(from_permutation(p), chain, time_limit=3)
+    res = minimise_gates(from_permutation(p), chain, SearchOptions(time_limit=3))
     assert res.class_table is not None and not res.class_table.exact
     assert res.class_table.value == 11 and res.lower_bound >= 11
 
