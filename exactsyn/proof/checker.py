@@ -100,6 +100,10 @@ def _load(path: Path) -> tuple[Path, dict[str, Any]]:
     return directory, data
 
 
+Note = Callable[[str, bool, str], None]
+"""``note(what, ok, detail)``: one line of the report."""
+
+
 def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     """Re-check a certificate; see the module docstring for what is checked."""
     start = time.perf_counter()
@@ -115,80 +119,115 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         if progress:
             progress(line)
 
-    # The circuit, simulated on every input.
-    circuit: Circuit | None = None
-    raw = data.get("circuit")
-    if raw is not None and not isinstance(raw, list):
-        note("circuit", False, "malformed 'circuit' (not a list of gates)")
-    elif raw is not None:
-        try:
-            circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in raw))
-        except ExactsynError as e:
-            note("circuit", False, e.message)
-        else:
-            if not all(library.contains(g) for g in circuit.gates):
-                note("circuit", False, "uses a gate outside the library")
-            elif not spec.accepts(circuit.permutation()):
-                note("circuit", False, "simulation: the circuit does not meet the spec")
-            elif data.get("gate_count") != len(circuit):
-                note("circuit", False, f"gate_count {data.get('gate_count')} but the circuit has {len(circuit)}")
-            else:
-                note("circuit", True, f"{count(len(circuit), 'gate')}, meets the spec on all {spec.size} inputs")
+    circuit = _check_circuit(data, spec, library, note)
+    first = _check_initial_bound(data, spec, library, note)
+    table_value = _check_table_bound(data.get("table_bound"), spec, library, note)
+    cv = _check_class_table(data.get("class_table"), spec, library, circuit, note)
+    table_name = "4-line class table" if cv > table_value else "distance table"
+    table_value = max(table_value, cv)
+    refuted = _check_gate_queries(directory, data.get("queries") or [], spec, library, options, note)
 
-    # The bound that needs no SAT call.
+    optimal_claim = bool(data.get("optimal"))
+    proven_k: int | None = None
+    if optimal_claim:
+        if circuit is None or first is None:
+            note("optimal", False, "optimality claimed without a checked circuit and bound")
+        else:
+            missing = [k for k in range(first, len(circuit)) if k not in refuted and k >= table_value]
+            if missing:
+                note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
+            else:
+                proven_k = len(circuit)
+                note("optimal", True, _covered(first, len(circuit), refuted, table_value, table_name))
+    if data.get("objective") is not None:
+        _check_objective(directory, data["objective"], spec, library, proven_k, note)
+    lb = data.get("lower_bound")
+    if isinstance(lb, int) and first is not None:
+        support = first
+        while support in refuted or support < table_value:
+            support += 1
+        if lb > support:
+            note("lower_bound", False, f"claims lower bound {lb}, checked only {support}")
+    ok = all(line.ok for line in out)
+    gate_count = None if circuit is None else len(circuit)
+    return CheckReport(ok, tuple(out), optimal_claim, gate_count, time.perf_counter() - start)
+
+
+def _check_circuit(data: dict[str, Any], spec: Spec, library: Library, note: Note) -> Circuit | None:
+    """The circuit, simulated on every input (None when there is none or it is malformed)."""
+    raw = data.get("circuit")
+    if raw is None:
+        return None
+    if not isinstance(raw, list):
+        note("circuit", False, "malformed 'circuit' (not a list of gates)")
+        return None
+    try:
+        circuit = Circuit(spec.lines, tuple(gate_from_dict(g) for g in raw))
+    except ExactsynError as e:
+        note("circuit", False, e.message)
+        return None
+    if not all(library.contains(g) for g in circuit.gates):
+        note("circuit", False, "uses a gate outside the library")
+    elif not spec.accepts(circuit.permutation()):
+        note("circuit", False, "simulation: the circuit does not meet the spec")
+    elif data.get("gate_count") != len(circuit):
+        note("circuit", False, f"gate_count {data.get('gate_count')} but the circuit has {len(circuit)}")
+    else:
+        note("circuit", True, f"{count(len(circuit), 'gate')}, meets the spec on all {spec.size} inputs")
+    return circuit
+
+
+def _check_initial_bound(data: dict[str, Any], spec: Spec, library: Library, note: Note) -> int | None:
+    """The bound that needs no SAT call, re-derived; the claimed value when it holds."""
     bound = lower_bound(spec, library)
     initial = data.get("initial_bound")
     claimed = initial.get("value") if isinstance(initial, dict) else None
     if not isinstance(claimed, int) or claimed > bound.value:
         note("bound", False, f"initial bound {claimed!r} is not re-derived (got {bound.value}: {bound.detail})")
-        first = None
-    else:
-        note("bound", True, f"k >= {claimed}: {bound.detail}")
-        first = claimed
+        return None
+    note("bound", True, f"k >= {claimed}: {bound.detail}")
+    return claimed
 
-    # A bound from the distance tables: re-derived by rebuilding the table at the
-    # recorded depth and repeating the meet-in-the-middle test.
-    table_value = 0
-    tb = data.get("table_bound")
-    if tb is not None:
-        try:
-            raw_depth = FULL if tb["depth"] == "full" else tb["depth"]
-            depth, value = json_int(raw_depth), json_int(tb["value"])
-            extended, exact = bool(tb["extended"]), bool(tb["exact"])
-        except (KeyError, TypeError, ValueError):
-            raise ExactsynError("certificate: malformed 'table_bound'") from None
-        five = spec.lines == 5 and five_table_ok(library) and 1 <= depth <= FIVE_MAX_DEPTH and not extended
-        if not spec.is_permutation or not library.involutive or (spec.lines > 4 and not five) or not 0 <= depth <= FULL:
-            note("table", False, "a table bound needs a full permutation on at most 4 lines (5 with hashed tables)")
+
+def _check_table_bound(tb: Any, spec: Spec, library: Library, note: Note) -> int:
+    """A bound from the distance tables, re-derived by rebuilding the table at the recorded depth
+    and repeating the meet-in-the-middle test; the bound it supports (0 when none)."""
+    if tb is None:
+        return 0
+    try:
+        raw_depth = FULL if tb["depth"] == "full" else tb["depth"]
+        depth, value = json_int(raw_depth), json_int(tb["value"])
+        extended, exact = bool(tb["extended"]), bool(tb["exact"])
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'table_bound'") from None
+    five = spec.lines == 5 and five_table_ok(library) and 1 <= depth <= FIVE_MAX_DEPTH and not extended
+    if not spec.is_permutation or not library.involutive or (spec.lines > 4 and not five) or not 0 <= depth <= FULL:
+        note("table", False, "a table bound needs a full permutation on at most 4 lines (5 with hashed tables)")
+        return 0
+    t0 = time.perf_counter()
+    try:
+        if five:  # the hashed 5-line table of tables/hashed.py, rebuilt at the recorded depth
+            mr = five_meet(spec.permutation, library, depth)
         else:
-            t0 = time.perf_counter()
-            try:
-                if five:  # the hashed 5-line table of tables/hashed.py, rebuilt at the recorded depth
-                    mr = five_meet(spec.permutation, library, depth)
-                else:
-                    mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
-            except NoCircuitError as e:
-                mr = None
-                note("table", False, e.message)
-            dt = time.perf_counter() - t0
-            got = -1 if mr is None else mr.exact if mr.exact is not None else mr.lower
-            if mr is None:
-                pass
-            elif value > got or (exact and mr.exact != value):
-                note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
-            else:
-                table_value = value
-                which = "full" if depth >= FULL else f"depth-{depth}"
-                note("table", True, f"k >= {value}: meet in the middle over the {which} table ({dt:.2f} s)")
+            mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
+    except NoCircuitError as e:
+        note("table", False, e.message)
+        return 0
+    dt = time.perf_counter() - t0
+    got = mr.exact if mr.exact is not None else mr.lower
+    if value > got or (exact and mr.exact != value):
+        note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
+        return 0
+    which = "full" if depth >= FULL else f"depth-{depth}"
+    note("table", True, f"k >= {value}: meet in the middle over the {which} table ({dt:.2f} s)")
+    return value
 
-    # A claim of the 4-line class tables: re-derived by the separate numpy checker.
-    cv = _check_class_table(data.get("class_table"), spec, library, circuit, note)
-    table_name = "4-line class table" if cv > table_value else "distance table"
-    table_value = max(table_value, cv)
 
-    # Every refuted k.
+def _check_gate_queries(
+    directory: Path, queries: Any, spec: Spec, library: Library, options: EncodingOptions, note: Note
+) -> set[int]:
+    """Every refuted k: its CNF re-derived and hashed, its LRAT proof (or its cubes) checked."""
     refuted: set[int] = set()
-    queries = data.get("queries") or []
     if not isinstance(queries, list):
         raise ExactsynError("certificate: malformed 'queries' (not a list)")
     for q in queries:
@@ -213,51 +252,36 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
         if digest != q.get("cnf_sha256"):
             note(f"k={k}", False, "re-derived CNF differs from the one proved (spec, library or encoding changed)")
             continue
-        if q.get("split") is not None:  # refuted cube by cube (proof/cubes.py)
+        if q.get("split") is not None:  # refuted cube by cube (proof/cube_check.py)
             if check_split(directory, q["split"], enc.num_vars, enc.clauses, f"k={k}", note):
                 refuted.add(k)
             continue
-        if not q.get("proof"):
-            note(f"k={k}", False, "no proof file")
-            continue
-        try:
-            proof = read_proof(directory, str(q["proof"]))
-        except ExactsynError as e:
-            note(f"k={k}", False, e.message)
-            continue
-        t0 = time.perf_counter()
-        rep = check_lrat(enc.num_vars, enc.clauses, proof)
-        dt = time.perf_counter() - t0
-        if rep.ok:
+        if _check_refutation(directory, q.get("proof"), enc.num_vars, enc.clauses, f"k={k}", note):
             refuted.add(k)
-            note(f"k={k}", True, f"LRAT refutation checked: {rep.steps} steps, {len(proof)} bytes, {dt:.2f} s")
-        else:
-            note(f"k={k}", False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
+    return refuted
 
-    gate_count = None if circuit is None else len(circuit)
-    optimal_claim = bool(data.get("optimal"))
-    proven_k: int | None = None
-    if optimal_claim:
-        if circuit is None or first is None:
-            note("optimal", False, "optimality claimed without a checked circuit and bound")
-        else:
-            missing = [k for k in range(first, len(circuit)) if k not in refuted and k >= table_value]
-            if missing:
-                note("optimal", False, f"no checked refutation for k = {', '.join(map(str, missing))}")
-            else:
-                proven_k = len(circuit)
-                note("optimal", True, _covered(first, len(circuit), refuted, table_value, table_name))
-    if data.get("objective") is not None:
-        _check_objective(directory, data["objective"], spec, library, proven_k, note)
-    lb = data.get("lower_bound")
-    if isinstance(lb, int) and first is not None:
-        support = first
-        while support in refuted or support < table_value:
-            support += 1
-        if lb > support:
-            note("lower_bound", False, f"claims lower bound {lb}, checked only {support}")
-    ok = all(line.ok for line in out)
-    return CheckReport(ok, tuple(out), optimal_claim, gate_count, time.perf_counter() - start)
+
+def _check_refutation(
+    directory: Path, name: Any, num_vars: int, clauses: list[list[int]], label: str, note: Note, size: bool = True
+) -> bool:
+    """Check one stored LRAT refutation of ``clauses``; one report line either way."""
+    if not name:
+        note(label, False, "no proof file")
+        return False
+    try:
+        proof = read_proof(directory, str(name))
+    except ExactsynError as e:
+        note(label, False, e.message)
+        return False
+    t0 = time.perf_counter()
+    rep = check_lrat(num_vars, clauses, proof)
+    dt = time.perf_counter() - t0
+    if not rep.ok:
+        note(label, False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
+        return False
+    bytes_part = f", {len(proof)} bytes" if size else ""
+    note(label, True, f"LRAT refutation checked: {rep.steps} steps{bytes_part}, {dt:.2f} s")
+    return True
 
 
 def _span(ks: list[int]) -> str:
@@ -285,7 +309,7 @@ def _check_objective(
     spec: Spec,
     library: Library,
     k_star: int | None,
-    note: Callable[[str, bool, str], None],
+    note: Note,
 ) -> None:
     """Re-check the ``objective`` section; ``k_star`` is the gate count the gate part proved (or None)."""
     try:
@@ -298,26 +322,64 @@ def _check_objective(
         raise ExactsynError("certificate: malformed 'objective'") from None
     if name not in ("gates-then-cost", "cost", "depth") or (name != "depth") == (costs is None):
         raise ExactsynError(f"certificate: objective {name!r} is not known or lacks its costs")
-    model = d.get("cost_model")
+    if not _objective_circuit(d.get("cost_model"), costs, circuit, value, name, spec, library, note):
+        return
+    order = "gates" if name == "gates-then-cost" else "cost"
+    refuted = _objective_queries(directory, queries, spec, library, options, costs, order, note)
+    if not optimal:
+        return
+    if name == "depth":
+        trivial = value == 0 or (value == 1 and not spec.is_identity())
+        ok = trivial or ("depth", value - 1) in refuted
+        note(
+            "objective optimal", ok, f"depth {value} " + ("is optimal" if ok else f"lacks a refutation of {value - 1}")
+        )
+        return
+    assert costs is not None
+    _objective_cost_claim(d, name, costs, circuit, value, k_star, refuted, spec, library, note)
+
+
+def _objective_circuit(
+    model: Any,
+    costs: tuple[int, ...] | None,
+    circuit: Circuit,
+    value: int,
+    name: str,
+    spec: Spec,
+    library: Library,
+    note: Note,
+) -> bool:
+    """The objective's costs (re-derived for a built-in model) and circuit (simulated, value recomputed)."""
     if costs is not None:
         if len(costs) != len(library.gates):
             note("objective", False, "one cost per library gate is needed")
-            return
-        if model in COST_MODELS:
-            again = library_costs(library, COST_MODELS[model])
-            if again != costs:
-                note("objective", False, f"stored costs are not those of cost model {model}")
-                return
+            return False
+        if model in COST_MODELS and library_costs(library, COST_MODELS[model]) != costs:
+            note("objective", False, f"stored costs are not those of cost model {model}")
+            return False
     if not all(library.contains(g) for g in circuit.gates) or not spec.accepts(circuit.permutation()):
         note("objective", False, "the objective's circuit does not meet the spec in this library")
-        return
+        return False
     got = objective_value(circuit, library, costs)
     if got != value:
         note("objective", False, f"claims value {value}, the circuit has {got}")
-        return
+        return False
     size = count(len(circuit), "gate")
     note("objective", True, f"{name}: circuit of {size} with value {value}, simulated on every input")
+    return True
 
+
+def _objective_queries(
+    directory: Path,
+    queries: list[Any],
+    spec: Spec,
+    library: Library,
+    options: EncodingOptions,
+    costs: tuple[int, ...] | None,
+    order: str,
+    note: Note,
+) -> dict[tuple[str, int], int]:
+    """Every refuted cost or depth query, re-derived and checked: (kind, k) -> largest refuted limit."""
     refuted: dict[tuple[str, int], int] = {}  # (kind, k) -> largest refuted limit (depth: k itself)
     for q in queries:
         if not isinstance(q, dict) or q.get("status") not in tuple(Status):
@@ -330,7 +392,6 @@ def _check_objective(
         if kind == "depth" and isinstance(k, int) and k >= 0:
             enc = encode_depth(spec, library, k)
         elif kind == "cost" and costs is not None and isinstance(k, int) and isinstance(limit, int) and k >= 0:
-            order = "gates" if name == "gates-then-cost" else "cost"
             enc = encode(spec, library, k, options, cost_limit=CostLimit(costs, limit, order))
         else:
             note(label, False, "malformed query")
@@ -338,30 +399,26 @@ def _check_objective(
         if cnf_sha256(enc.num_vars, enc.clauses) != q.get("cnf_sha256"):
             note(label, False, "re-derived CNF differs from the one proved")
             continue
-        try:
-            proof = read_proof(directory, str(q.get("proof")))
-        except ExactsynError as e:
-            note(label, False, e.message)
+        if not _check_refutation(directory, q.get("proof"), enc.num_vars, enc.clauses, label, note, size=False):
             continue
-        t0 = time.perf_counter()
-        rep = check_lrat(enc.num_vars, enc.clauses, proof)
-        if not rep.ok:
-            note(label, False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
-            continue
-        note(label, True, f"LRAT refutation checked: {rep.steps} steps, {time.perf_counter() - t0:.2f} s")
         key = (str(kind), k)
         refuted[key] = max(refuted.get(key, -1), limit if isinstance(limit, int) else k)
+    return refuted
 
-    if not optimal:
-        return
-    if name == "depth":
-        trivial = value == 0 or (value == 1 and not spec.is_identity())
-        ok = trivial or ("depth", value - 1) in refuted
-        note(
-            "objective optimal", ok, f"depth {value} " + ("is optimal" if ok else f"lacks a refutation of {value - 1}")
-        )
-        return
-    assert costs is not None
+
+def _objective_cost_claim(
+    d: Any,
+    name: str,
+    costs: tuple[int, ...],
+    circuit: Circuit,
+    value: int,
+    k_star: int | None,
+    refuted: dict[tuple[str, int], int],
+    spec: Spec,
+    library: Library,
+    note: Note,
+) -> None:
+    """An optimal cost: a refutation below it for every gate count that could cost less."""
     if k_star is None:
         note("objective optimal", False, "the gate part does not prove the minimum gate count")
         return
@@ -390,7 +447,7 @@ def _check_objective(
 
 
 def _check_class_table(
-    raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Callable[[str, bool, str], None]
+    raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Note
 ) -> int:
     """Re-derive a class-table claim (the optimum or a lower bound); the bound it supports, else 0.
 
