@@ -43,7 +43,7 @@ from exactsyn.sat.encode import CostLimit, EncodingOptions
 from exactsyn.sat.options import DEFAULT_OPTIONS, Hooks, Observer, SearchOptions, search_options
 from exactsyn.sat.query import Query
 from exactsyn.search.all_optima import Enumeration, enumerate_optimal
-from exactsyn.search.fallback import next_steps
+from exactsyn.search.fallback import Suggestion, next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import OBJECTIVES, ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
@@ -108,7 +108,8 @@ class Synthesis:
     ``optimal`` is true only when that circuit is *proven* optimal for the objective.
     ``lower_bound`` / ``upper_bound`` bound the minimum gate count.  ``steps`` lists
     every SAT query asked (gate queries first, then the objective's).  ``notes`` holds
-    what the user should know (e.g. why an objective was not optimised).
+    what the user should know (e.g. why an objective was not optimised); without a
+    circuit, ``suggestions`` says which settings may bring one.
     """
 
     spec: Spec
@@ -124,6 +125,7 @@ class Synthesis:
     certificate: Path | None
     notes: tuple[str, ...]
     seconds: float
+    suggestions: tuple[Suggestion, ...] = ()  # what to try when no circuit was found
 
     @property
     def lower_bound(self) -> int:
@@ -265,7 +267,13 @@ def synthesise_request(
         observer=observer,
     )
     gates = minimise_gates(spec, lib, options, hooks)
-    notes = _gate_notes(gates, spec, lib, options)
+    notes = _gate_notes(gates)
+    suggestions: tuple[Suggestion, ...] = ()
+    if gates.circuit is None:
+        suggestions = next_steps(
+            spec, lib, lower_bound=gates.lower_bound, time_limit=options.time_limit,
+            max_gates=options.max_gates, reason=gates.how,
+        )
 
     def left(floor: float) -> float | None:
         limit = options.time_limit
@@ -295,29 +303,19 @@ def synthesise_request(
         certificate=written,
         notes=tuple(notes),
         seconds=time.perf_counter() - start,
+        suggestions=suggestions,
     )
 
 
-def _gate_notes(gates: GateResult, spec: Spec, lib: Library, options: SearchOptions) -> list[str]:
+def _gate_notes(gates: GateResult) -> list[str]:
     """What the user should know about the gate search: a hint, a fallback, why there is no circuit."""
     notes: list[str] = []
     if gates.hint:
         notes.append(gates.hint)
     if gates.source == "heuristic" and gates.how and not gates.optimal:
         notes.append(f"the circuit is a fallback, not proven optimal: {gates.how}")
-    if gates.circuit is None:
-        if gates.how:
-            notes.append(gates.how)
-        notes.append(
-            next_steps(
-                spec,
-                lib,
-                lower_bound=gates.lower_bound,
-                time_limit=options.time_limit,
-                max_gates=options.max_gates,
-                reason=gates.how,
-            )
-        )
+    if gates.circuit is None and gates.how:
+        notes.append(gates.how)
     return notes
 
 

@@ -114,6 +114,8 @@ def synthesis_to_dict(syn: Synthesis) -> dict[str, Any]:
         data["choices"] = None if choice is None else {"constants": choice[0], "output_lines": list(choice[1])}
     if syn.notes:
         data["notes"] = list(syn.notes)
+    if syn.suggestions:
+        data["next_steps"] = [{"setting": s.setting, "value": s.value, "text": s.describe()} for s in syn.suggestions]
     return data
 
 

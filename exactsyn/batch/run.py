@@ -49,7 +49,7 @@ class RunOptions:
         if bad:
             raise ExactsynError(f"cannot retry status {bad[0]!r}; choose from: {', '.join(RETRYABLE)}")
         if self.verify and not self.certificates:
-            raise ExactsynError("--verify checks certificates; it cannot be combined with --no-certificates")
+            raise ExactsynError("re-checking certificates (verify) needs certificates")
 
 
 @dataclass(frozen=True)

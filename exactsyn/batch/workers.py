@@ -82,7 +82,7 @@ class LocalPool:
 
     def __post_init__(self) -> None:
         if self.jobs < 1:
-            raise ExactsynError("--jobs must be 1 or more")
+            raise ExactsynError("jobs must be 1 or more")
 
     def describe(self) -> str:
         return f"{self.jobs} local worker process{'es' if self.jobs != 1 else ''}"

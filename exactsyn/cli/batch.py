@@ -183,6 +183,8 @@ def batch(
             choice.build(max(1, sets[0][1]))  # validates the preset, the cap and the coupling
         else:
             LibraryChoice(choice.preset, max_controls).build(1)  # the coupling is checked per file
+        if verify and no_certificates:
+            raise ExactsynError("--verify checks certificates; it cannot be combined with --no-certificates")
         search = SearchOptions(solver=solver, encoding=options_for(encoding), bounds=bounds, time_limit=time_limit)
         options = RunOptions(search, certificates=not no_certificates, verify=verify, retry=frozenset(retry))
         goal = Goal(objective, cost_name)

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import json
 import sys
+from collections.abc import Callable
 from typing import Any
 
 import click
@@ -50,6 +51,7 @@ from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.formats import CIRCUIT_FORMATS, check_writable, format_for, read_circuit_layout, render
 from exactsyn.io.layout import Layout
 from exactsyn.io.qasm import clifford_t_to_qasm2, clifford_t_to_qasm3
+from exactsyn.search.fallback import Suggestion
 from exactsyn.specification.reversible import Spec, parse_cycles, parse_perm
 
 
@@ -113,6 +115,22 @@ def _print_result(
     _summary(syn, fmt, quiet, header_on_stdout and not counting)
 
 
+#: How ``synth`` spells each suggestion of :func:`exactsyn.search.fallback.next_steps`.
+_SPELLED: dict[str, Callable[[Any], str]] = {
+    "max_gates": lambda v: f"--max-gates {v} or more" if v is not None else "a higher --max-gates",
+    "time_limit": lambda v: f"a longer --time-limit than {v:g} s",
+    "library": lambda v: f"a richer library such as --library {v}",
+    "coupling": lambda v: "a --coupling graph that connects every line",
+    "max_controls": lambda v: "a higher --max-controls",
+    "bounds": lambda v: "--bounds cheap with --certificate to see which k are refuted",
+}
+
+
+def next_steps_line(suggestions: tuple[Suggestion, ...]) -> str:
+    """``what to try next: --max-gates 9 or more; or a longer --time-limit than 5 s``."""
+    return "what to try next: " + "; or ".join(_SPELLED[s.setting](s.value) for s in suggestions)
+
+
 def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
     """The summary on stderr, unless -q or the text on stdout already starts with it."""
     if quiet:
@@ -121,6 +139,8 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
         click.echo(status_line(syn.gate_result), err=True)
         for note in syn.notes:
             click.echo(f"exactsyn: note: {note}", err=True)
+        if syn.suggestions:
+            click.echo(f"exactsyn: note: {next_steps_line(syn.suggestions)}", err=True)
         if syn.objective_result is not None:
             click.echo(objective_summary(syn.objective_result), err=True)
         if syn.optima is not None and (fmt != "text" or not syn.optima.circuits):

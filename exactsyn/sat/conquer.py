@@ -68,8 +68,8 @@ class CubeOptions:
 
 
 SPLIT_MODES = {
-    "auto": "cubes on a Dask scheduler, or on --jobs local processes from 3 up; with 2 jobs the race",
-    "cubes": "split hard queries into cubes on --jobs processes (or the Dask scheduler)",
+    "auto": "cubes on a Dask scheduler, or on local processes from 3 jobs up; with 2 jobs the race",
+    "cubes": "split hard queries into cubes on the jobs' processes (or the Dask scheduler)",
     "race": "race a hard query against the formulation without symmetry breaking (2 processes)",
     "off": "one process per query",
 }

@@ -36,7 +36,7 @@ def parity_obstruction(spec: Spec, library: Library) -> str | None:
         return (
             f"the permutation is odd, but every gate of library {library.name} on {library.lines} lines "
             "is an even permutation, so no circuit exists (Shende et al., IEEE TCAD 2003); "
-            "allow a gate with n-1 controls (e.g. --library mct) or add a line"
+            "allow a gate with n-1 controls (e.g. the mct library) or add a line"
         )
     return None
 
@@ -52,7 +52,7 @@ def affine_obstruction(spec: Spec, library: Library) -> str | None:
     if all(is_affine(g.permutation(library.lines)) for g in library.gates):
         return (
             f"every gate of library {library.name} is affine (x -> A.x + b over GF(2)) but the permutation "
-            "is not, so no circuit exists; allow a Toffoli gate (e.g. --library nct)"
+            "is not, so no circuit exists; allow a Toffoli gate (e.g. the nct library)"
         )
     return None
 

@@ -40,7 +40,7 @@ largest smaller preset (``mct`` for ``mixed`` and the swap presets, ``nct`` for
 ``nct-swap`` and ``nct-peres``) and keeps the smaller circuit.
 
 When no circuit can be made, :attr:`Fallback.reason` says why, and :func:`next_steps`
-what to try instead.
+what to try instead (as :class:`Suggestion` values the command line words as its options).
 """
 
 from __future__ import annotations
@@ -429,6 +429,35 @@ def improve_upper(
     return best
 
 
+@dataclass(frozen=True)
+class Suggestion:
+    """One setting of the search that may bring a circuit when none was found.
+
+    ``setting`` names a keyword of :func:`exactsyn.synthesise` (``max_gates``,
+    ``time_limit``, ``library``, ``coupling``, ``max_controls``, ``bounds``); ``value`` is
+    the value to try (the least gate limit that can help, a richer preset) or the value
+    that did not suffice (the time limit); the command line words them as its options.
+    """
+
+    setting: str
+    value: object = None
+
+    def describe(self) -> str:
+        """The suggestion in words, without command-line spellings."""
+        v = self.value
+        if self.setting == "max_gates":
+            return f"a gate limit of {v} or more" if v is not None else "a higher gate limit"
+        if self.setting == "time_limit":
+            return f"a longer time limit than {v:g} s" if isinstance(v, int | float) else "a longer time limit"
+        if self.setting == "library":
+            return f"a richer library such as {v}"
+        if self.setting == "coupling":
+            return "a coupling graph that connects every line"
+        if self.setting == "max_controls":
+            return "a higher control cap"
+        return "cheap bounds with a certificate, to see which k are refuted"
+
+
 def next_steps(
     spec: Spec,
     library: Library,
@@ -437,22 +466,20 @@ def next_steps(
     time_limit: float | None,
     max_gates: int | None,
     reason: str = "",
-) -> str:
-    """What to try when no circuit was found, as one sentence."""
-    tips: list[str] = []
-    if max_gates is not None and lower_bound > max_gates:
-        tips.append(f"--max-gates {lower_bound} or more")
-    elif max_gates is not None:
-        tips.append("a higher --max-gates")
+) -> tuple[Suggestion, ...]:
+    """What to try when no circuit was found (at least one suggestion)."""
+    tips: list[Suggestion] = []
+    if max_gates is not None:
+        tips.append(Suggestion("max_gates", lower_bound if lower_bound > max_gates else None))
     if time_limit is not None:
-        tips.append(f"a longer --time-limit than {time_limit:g} s")
+        tips.append(Suggestion("time_limit", time_limit))
     richer = [p for p in ("mct", "mixed") if p not in library.name.split("@")[0].split(":")[0]]
     if reason and richer:
-        tips.append(f"a richer library such as --library {richer[0]}")
+        tips.append(Suggestion("library", richer[0]))
     if library.coupling:
-        tips.append("a coupling graph that connects every line")
+        tips.append(Suggestion("coupling"))
     if library.control_cap is not None and library.control_cap < max(1, spec.lines - 1) and reason:
-        tips.append("a higher --max-controls")
+        tips.append(Suggestion("max_controls"))
     if not tips:
-        tips.append("--bounds cheap with --certificate to see which k are refuted")
-    return "what to try next: " + "; or ".join(tips)
+        tips.append(Suggestion("bounds", "cheap"))
+    return tuple(tips)

@@ -12,6 +12,7 @@ import random
 import pytest
 
 import exactsyn as ex
+from exactsyn.cli.synth import next_steps_line
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import x_gate
 from exactsyn.core.library import make_library
@@ -185,12 +186,16 @@ def test_max_gates_holds_under_the_tables_too() -> None:
     # SWAP of lines 0 and 1 needs 3 CNOTs (common practice); the table finds them at once
     res = ex.synthesise(ex.parse_cycles("(1 2)"), library="nct", max_gates=2)
     assert res.circuit is None and res.lower_bound == 3
-    assert any("--max-gates 3" in n for n in res.notes)
+    assert ("max_gates", 3) in [(s.setting, s.value) for s in res.suggestions]
     ok = ex.synthesise(ex.parse_cycles("(1 2)"), library="nct", max_gates=3)
     assert ok.circuit is not None and len(ok.circuit) == 3 and ok.optimal
 
 
 def test_next_steps_name_what_would_help() -> None:
     lib = make_library("nct", 4, None, "chain")
-    text = next_steps(from_permutation(list(range(16))), lib, lower_bound=9, time_limit=5.0, max_gates=4, reason="x")
-    assert "--max-gates 9" in text and "--time-limit" in text and "coupling" in text
+    tips = next_steps(from_permutation(list(range(16))), lib, lower_bound=9, time_limit=5.0, max_gates=4, reason="x")
+    assert [(s.setting, s.value) for s in tips][:2] == [("max_gates", 9), ("time_limit", 5.0)]
+    assert "coupling" in [s.setting for s in tips]
+    assert not any("--" in s.describe() for s in tips)  # command-line spellings belong to the command line
+    line = next_steps_line(tips)
+    assert "--max-gates 9 or more" in line and "--time-limit than 5 s" in line and "--coupling" in line
