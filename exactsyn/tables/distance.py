@@ -88,13 +88,6 @@ class DistanceTable:
         return out[::-1]
 
 
-def default_depth(library: Library) -> int:
-    """The depth :func:`distance_table` reaches under the size caps (0 unless every gate is self-inverse)."""
-    if not library.involutive:
-        return 0
-    return distance_table(library, None).depth
-
-
 class _Builder:
     """A distance table under construction, one breadth-first layer at a time.
 
