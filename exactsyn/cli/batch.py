@@ -14,12 +14,12 @@ import click
 
 from exactsyn.batch.lookup import member_result
 from exactsyn.batch.plan import plan_files, plan_generated
-from exactsyn.batch.progress import BatchProgress
 from exactsyn.batch.run import RunOptions, RunSummary, run_batch
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.table import size_table, to_csv, to_json, to_text, write_chart, write_text_file
 from exactsyn.batch.task import Goal, LibraryChoice
 from exactsyn.batch.workers import DaskEngine, LocalPool, default_jobs
+from exactsyn.cli.batch_display import BatchProgress
 from exactsyn.cli.common import fail
 from exactsyn.cli.options import (
     Choice,
