@@ -19,7 +19,8 @@ from exactsyn.cli.options import Choice, coupling_option, max_controls_option
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
-from exactsyn.io.formats import SUFFIXES, circuit_layout_from_text, read_circuit_layout, render, write_data
+from exactsyn.io import registry
+from exactsyn.io.formats import circuit_layout_from_text, read_circuit_layout, render, write_data
 from exactsyn.io.layout import Layout, check_layout
 from exactsyn.optimise import (
     EquivalenceError,
@@ -40,11 +41,11 @@ def output_format(fmt: str | None, output: str | None, input_format: str) -> str
         return fmt
     if output is None:
         return input_format
-    suffix = Path(output).suffix.lower()
-    if suffix == ".qasm":
-        return input_format if input_format != "json" else "qasm3"
-    if SUFFIXES.get(suffix) in FORMATS:
-        return SUFFIXES[suffix]
+    claims = [f.name for f in registry.by_suffix(Path(output).suffix, readable=True)]
+    if input_format in claims:
+        return input_format
+    if claims:
+        return claims[-1]
     raise ExactsynError(f"cannot tell the format of {output} from its suffix; give --format qasm2, qasm3 or json")
 
 

@@ -24,6 +24,7 @@ import click
 
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import did_you_mean
+from exactsyn.io import formats as _formats  # registers the built-in formats
 from exactsyn.sat.conquer import SPLIT_MODES
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
@@ -43,6 +44,30 @@ class Choice(click.Choice):  # type: ignore[type-arg]
         except click.BadParameter:
             names = [str(c) for c in self.choices]
             self.fail(f"{value!r} is not one of {', '.join(names)}{did_you_mean(value, names)}", param, ctx)
+
+
+class FormatChoice(Choice):
+    """``--format``: the registered formats (of one kind, or with a reader), looked up when asked,
+    so a format registered after this option was made is a choice too."""
+
+    def __init__(self, kind: str | None = None, *, readable: bool = False) -> None:
+        self.kind, self.readable = kind, readable
+        super().__init__([])
+
+    @property  # type: ignore[override]
+    def choices(self) -> tuple[str, ...]:
+        return _formats.registry.names(self.kind, readable=self.readable)
+
+    @choices.setter
+    def choices(self, value: object) -> None:
+        pass  # click.Choice.__init__ stores its list; the registry is the list here
+
+
+def with_formats(command: click.Command) -> click.Command:
+    """Put the registry's readable formats into a command's help where it says ``{readable}``."""
+    if command.help:
+        command.help = command.help.replace("{readable}", _formats.registry.describe(readable=True))
+    return command
 
 
 def deprecated(old: str, new: str) -> None:

@@ -27,6 +27,7 @@ from exactsyn.api.view import (
 from exactsyn.cli.common import emit, fail
 from exactsyn.cli.options import (
     Choice,
+    FormatChoice,
     bounds_option,
     cost_option,
     coupling_option,
@@ -48,9 +49,10 @@ from exactsyn.cli.progress import SynthProgress, choose_mode
 from exactsyn.core.cliffordt import decompose
 from exactsyn.core.cliffordt import verify as verify_clifford_t
 from exactsyn.errors import ExactsynError, NoCircuitError
-from exactsyn.io.formats import CIRCUIT_FORMATS, check_writable, format_for, read_circuit_layout, render
+from exactsyn.io.formats import check_writable, format_for, read_circuit_layout, render
 from exactsyn.io.layout import Layout
 from exactsyn.io.qasm import clifford_t_to_qasm2, clifford_t_to_qasm3
+from exactsyn.io.registry import suffixes
 from exactsyn.specification.reversible import Spec, parse_cycles, parse_perm
 
 
@@ -142,9 +144,8 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
 @click.option(
     "--format",
     "fmt",
-    type=Choice(CIRCUIT_FORMATS),
-    help="Output format; default from the -o suffix (.txt .json .qasm .qasm2 .qasm3 .svg .png), text on stdout. "
-    "Wins over the suffix.",
+    type=FormatChoice(),
+    help=f"Output format; default from the -o suffix ({' '.join(suffixes())}), text on stdout. Wins over the suffix.",
 )
 @click.option(
     "-o", "--output", type=click.Path(dir_okay=False), metavar="FILE", help="Write the result here, not stdout."
