@@ -1,57 +1,30 @@
 """The ``exactsyn optimise`` command: read a circuit, call :func:`exactsyn.optimise.optimise_circuit`, write.
 
-A standalone click command; the command group attaches it with ``main.add_command``.
+Only parsing and printing: the output's format, its read-back check and the log are
+:mod:`exactsyn.optimise.output`.  A standalone click command; the command group attaches
+it with ``main.add_command``.
 Exit status: 0 written, 1 the internal equivalence check failed (nothing written),
 2 bad input (one line on stderr, nothing written).
 """
 
 from __future__ import annotations
 
-import json
 import time
-from pathlib import Path
 from typing import Any
 
 import click
 
 from exactsyn.cli.common import fail
-from exactsyn.cli.options import Choice, coupling_option, max_controls_option
-from exactsyn.core.circuit import Circuit
+from exactsyn.cli.options import Choice, FormatChoice, coupling_option, max_controls_option, with_formats
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
-from exactsyn.io import registry
-from exactsyn.io.formats import circuit_layout_from_text, read_circuit_layout, render, write_data
-from exactsyn.io.layout import Layout, check_layout
-from exactsyn.optimise import (
-    EquivalenceError,
-    InternalCheckError,
-    ProgressEvent,
-    check_equivalent,
-    optimise_circuit,
-)
+from exactsyn.io.formats import read_circuit_layout
+from exactsyn.io.layout import check_layout
+from exactsyn.io.registry import suffixes
+from exactsyn.optimise import InternalCheckError, ProgressEvent, optimise_circuit
 from exactsyn.optimise.driver import DEFAULT_HORIZON
-from exactsyn.optimise.summary import qasm_header, result_to_dict, summary_text
-
-FORMATS = ("qasm2", "qasm3", "json")
-
-
-def output_format(fmt: str | None, output: str | None, input_format: str) -> str:
-    """``--format``, else the suffix of ``-o`` (``.qasm`` keeps the input's version), else the input's."""
-    if fmt is not None:
-        return fmt
-    if output is None:
-        return input_format
-    claims = [f.name for f in registry.by_suffix(Path(output).suffix, readable=True)]
-    if input_format in claims:
-        return input_format
-    if claims:
-        return claims[-1]
-    raise ExactsynError(f"cannot tell the format of {output} from its suffix; give --format qasm2, qasm3 or json")
-
-
-def _read_back(text: str) -> tuple[Circuit, Layout]:
-    circuit, layout, _ = circuit_layout_from_text(text)  # our own output: no path to judge by
-    return circuit, layout
+from exactsyn.optimise.output import checked_text, log_path_for, output_format, write_checked, write_log
+from exactsyn.optimise.summary import summary_text
 
 
 class _Bar:
@@ -98,6 +71,7 @@ class _Bar:
             self.progress.stop()
 
 
+@with_formats
 @click.command("optimise", context_settings={"help_option_names": ["-h", "--help"]})
 @click.argument("input_file", metavar="IN", type=click.Path(dir_okay=False))
 @click.option(
@@ -110,9 +84,9 @@ class _Bar:
 @click.option(
     "--format",
     "fmt",
-    type=Choice(FORMATS),
-    help="Output format; default from the suffix of OUT (.qasm2, .qasm3, .json; .qasm keeps the input's "
-    "OpenQASM version), else the input's format.",
+    type=FormatChoice(readable=True),
+    help=f"Output format; default from the suffix of OUT ({', '.join(suffixes(readable=True))}; .qasm keeps "
+    "the input's OpenQASM version), else the input's format.",
 )
 @click.option(
     "--library",
@@ -200,8 +174,8 @@ def optimise(
     exhaustive tables; when a proven-optimal circuit for it is smaller, it replaces the
     window.  This repeats until nothing changes.  The output is then compared with the
     input: every input state up to 24 lines, a seeded sample of 131072 random states
-    beyond.  IN and OUT are OpenQASM 2/3 (any number of registers; gate definitions are
-    read by their unitary) or exactsyn's JSON.
+    beyond.  IN and OUT are {readable} (OpenQASM: any number of registers; gate
+    definitions are read by their unitary).
 
     \b
     Examples:
@@ -219,7 +193,7 @@ def optimise(
         circuit, layout, input_format = read_circuit_layout(input_file)
         check_layout(layout, circuit.lines)
         out_format = output_format(fmt, output, input_format)
-        log = None if no_log else (log_path or (str(Path(output).with_suffix(".log.json")) if output else None))
+        log = None if no_log else (log_path or (log_path_for(output) if output else None))
         try:
             result = optimise_circuit(
                 circuit,
@@ -235,22 +209,12 @@ def optimise(
             )
         finally:
             bar.close()
-        text = str(render(result.output, out_format, layout=layout, header=qasm_header(result)))
-        back, back_layout = _read_back(text)
-        again = check_equivalent(back, result.output, seed=seed)
-        if not again.equal or back_layout != layout:
-            raise EquivalenceError(
-                f"internal error: the written {out_format} does not read back as the optimised circuit; nothing written"
-            )
         if output is None:
-            click.echo(text, nl=False)
+            click.echo(checked_text(result, out_format, layout=layout, seed=seed), nl=False)
         else:
-            write_data(text, output)
+            write_checked(result, out_format, output, layout=layout, seed=seed)
         if log is not None:
-            record = result_to_dict(result, input=input_file, output=output, format=out_format)
-            if not layout.is_single:
-                record["registers"] = layout.to_dict()
-            write_data(json.dumps(record, indent=2) + "\n", log)
+            write_log(result, log, input=input_file, output=output, fmt=out_format, layout=layout)
         if not quiet:
             click.echo(summary_text(result), nl=False, err=output is None)
             if log is not None:

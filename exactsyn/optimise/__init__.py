@@ -8,7 +8,8 @@ Modules, one job each:
 * :mod:`~exactsyn.optimise.resynthesis` — optimal circuits of window permutations (interface and tables);
 * :mod:`~exactsyn.optimise.driver` — the passes, to a fixpoint, and :func:`optimise_circuit`;
 * :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
-* :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log.
+* :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log;
+* :mod:`~exactsyn.optimise.output` — the output file, read back and re-checked before it is kept.
 """
 
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
