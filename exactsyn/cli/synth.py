@@ -2,7 +2,7 @@
 
 The output format is ``--format``, else the suffix of ``-o``, else text on stdout.  The
 summary line is printed once: as the ``#`` header of text on stdout, otherwise on stderr.
-Progress is shown by :mod:`exactsyn.cli.progress`.
+Progress is shown by :mod:`exactsyn.cli.synth_display`.
 
 Exit status: 0 a circuit was printed, 1 no circuit within the limits (or none exists),
 2 bad input (one line on stderr).
@@ -45,7 +45,7 @@ from exactsyn.cli.options import (
     split_after_option,
     split_option,
 )
-from exactsyn.cli.progress import SynthProgress, choose_mode
+from exactsyn.cli.synth_display import SynthProgress, choose_mode
 from exactsyn.core.cliffordt import decompose
 from exactsyn.core.cliffordt import verify as verify_clifford_t
 from exactsyn.errors import ExactsynError, NoCircuitError

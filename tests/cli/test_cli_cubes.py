@@ -45,7 +45,7 @@ def test_progress_counts_cubes_with_an_estimate_and_the_query_line_names_them() 
 
     from rich.console import Console
 
-    from exactsyn.cli.progress import SynthProgress, cube_line
+    from exactsyn.cli.synth_display import SynthProgress, cube_line
     from exactsyn.sat.conquer import CubeEvent
 
     buf = io.StringIO()

@@ -16,7 +16,7 @@ from rich.console import Console
 
 import exactsyn as ex
 from exactsyn.cli import main
-from exactsyn.cli.progress import SynthProgress, event_line, query_line
+from exactsyn.cli.synth_display import SynthProgress, event_line, query_line
 from exactsyn.sat.query import Query
 from exactsyn.sat.status import Status
 from exactsyn.search.events import SearchEvent
