@@ -19,7 +19,7 @@ from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.table import size_table, to_csv, to_json, to_text, write_chart, write_text_file
 from exactsyn.batch.task import Goal, LibraryChoice
 from exactsyn.batch.workers import DaskEngine, LocalPool, default_jobs
-from exactsyn.cli.batch_display import BatchProgress
+from exactsyn.cli.batch_display import BatchDisplay
 from exactsyn.cli.common import fail
 from exactsyn.cli.options import (
     Choice,
@@ -35,6 +35,7 @@ from exactsyn.cli.options import (
     solver_option,
     store_option,
 )
+from exactsyn.cli.progress import choose_mode
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
 from exactsyn.io.draw import draw_text
@@ -205,11 +206,8 @@ def batch(
         with Store(store_path) as store:
             previous = signal.signal(signal.SIGTERM, _terminated)  # a scheduler's stop: like Ctrl-C
             try:
-                if quiet:
-                    summary = run_batch(store, plan, options, eng)
-                else:
-                    with BatchProgress() as bar:
-                        summary = run_batch(store, plan, options, eng, bar)
+                with BatchDisplay(choose_mode(quiet, forced=True)) as display:
+                    summary = run_batch(store, plan, options, eng, None if quiet else display)
             except KeyboardInterrupt:
                 click.echo("interrupted: finished items are stored; re-run the same command to resume", err=True)
                 sys.exit(130)

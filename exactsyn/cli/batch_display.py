@@ -1,21 +1,17 @@
-"""Progress of ``exactsyn batch``: count, rate, ETA, done / timed out / failed.
+"""What ``exactsyn batch`` shows while it runs: count, rate, ETA, done / timed out / failed.
 
-On a terminal a live bar (rich); otherwise — a log file, a cluster job's output — one
-plain line every ``interval`` seconds and one at the end.  It consumes
-:class:`exactsyn.batch.run.Event` values; the command line owns it and points it at
-stderr, so the library never prints.
+On a terminal a live bar; otherwise — a log file, a cluster job's output — one plain line
+at most every :data:`~exactsyn.cli.progress.PLAIN_SECONDS` and one at the end (the
+display of :mod:`exactsyn.cli.progress`).  It consumes the :class:`exactsyn.batch.run.Event`
+values the library reports; the library never prints.
 """
 
 from __future__ import annotations
-
-import time
-from typing import Any
 
 from rich.console import Console
 from rich.progress import (
     BarColumn,
     MofNCompleteColumn,
-    Progress,
     ProgressColumn,
     Task,
     TextColumn,
@@ -25,7 +21,10 @@ from rich.progress import (
 from rich.text import Text
 
 from exactsyn.batch.run import Event
+from exactsyn.cli.progress import BarState, Display, clock
 from exactsyn.core.words import count
+
+LABEL = "batch"
 
 
 class _Rate(ProgressColumn):
@@ -34,20 +33,22 @@ class _Rate(ProgressColumn):
         return Text("--/s" if speed is None else f"{speed:.1f}/s")
 
 
-def _clock(seconds: float) -> str:
-    s = int(seconds)
-    return f"{s // 3600}:{s % 3600 // 60:02d}:{s % 60:02d}"
+def plain_line(bar: BarState) -> str:
+    """``batch 12/40  0.4/s  elapsed 0:30  ETA 1:10  done 11  timeout 1  failed 0``."""
+    rate = bar.done / bar.elapsed if bar.elapsed > 0 else 0.0
+    eta = clock((bar.total - bar.done) / rate) if rate > 0 else "?"
+    return (
+        f"{LABEL} {bar.done}/{bar.total}  {rate:.1f}/s  elapsed {clock(bar.elapsed)}  ETA {eta}  "
+        + "  ".join(f"{k} {v}" for k, v in bar.fields.items())
+    )
 
 
-class BatchProgress:
-    """Context manager; call it with each event."""
+class BatchDisplay(Display):
+    """Context manager; call it with each event of :func:`exactsyn.batch.run.run_batch`."""
 
-    def __init__(self, console: Console | None = None, interval: float = 30.0) -> None:
-        self.console = console or Console(stderr=True)
-        self.live = self.console.is_terminal
-        self.interval = interval
-        self._progress = Progress(
-            TextColumn("[bold]batch"),
+    def __init__(self, mode: str, console: Console | None = None) -> None:
+        columns = (
+            TextColumn(f"[bold]{LABEL}"),
             BarColumn(bar_width=30),
             MofNCompleteColumn(),
             _Rate(),
@@ -58,52 +59,17 @@ class BatchProgress:
                 "done [green]{task.fields[done]}[/] timeout [yellow]{task.fields[timeout]}[/] "
                 "failed [red]{task.fields[failed]}[/]"
             ),
-            console=self.console,
-            speed_estimate_period=60,
         )
-        self._task: Any = None
+        super().__init__(mode, console, columns=columns, transient=False, plain_line=plain_line)
         self._counts = {"done": 0, "timeout": 0, "failed": 0}
         self._total = 0
-        self._started = time.monotonic()
-        self._last = self._started
-
-    def __enter__(self) -> BatchProgress:
-        if self.live:
-            self._progress.start()
-        return self
-
-    def __exit__(self, *exc: object) -> None:
-        if self.live:
-            self._progress.stop()
-        elif self._task is not None:
-            self._line()
 
     def __call__(self, event: Event) -> None:
         if event.phase == "start":
             if event.skipped:
-                done = count(event.skipped, "item")
-                self.console.print(f"{done} already finished in the store: skipped", highlight=False)
+                self.line(f"{count(event.skipped, 'item')} already finished in the store: skipped")
             self._total = event.total
-            self._started = self._last = time.monotonic()
-            fields: dict[str, Any] = dict(self._counts)
-            self._task = self._progress.add_task("batch", total=event.total, **fields)
-        elif event.phase == "item" and self._task is not None:
+            self.update(LABEL, 0, self._total, **self._counts)
+        elif event.phase == "item" and self.task is not None:
             self._counts[event.status] = self._counts.get(event.status, 0) + 1
-            fields = dict(self._counts)
-            self._progress.update(self._task, advance=1, **fields)
-            if not self.live and time.monotonic() - self._last >= self.interval:
-                self._line()
-
-    def _line(self) -> None:
-        now = time.monotonic()
-        self._last = now
-        n = sum(self._counts.values())
-        elapsed = now - self._started
-        rate = n / elapsed if elapsed > 0 else 0.0
-        eta = _clock((self._total - n) / rate) if rate > 0 else "?"
-        self.console.print(
-            f"batch {n}/{self._total}  {rate:.1f}/s  elapsed {_clock(elapsed)}  ETA {eta}  "
-            + "  ".join(f"{k} {v}" for k, v in self._counts.items()),
-            highlight=False,
-            soft_wrap=True,
-        )
+            self.update(LABEL, sum(self._counts.values()), self._total, **self._counts)

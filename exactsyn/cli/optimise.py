@@ -9,66 +9,27 @@ Exit status: 0 written, 1 the internal equivalence check failed (nothing written
 
 from __future__ import annotations
 
-import time
-from typing import Any
-
 import click
 
 from exactsyn.cli.common import fail
-from exactsyn.cli.options import Choice, FormatChoice, coupling_option, max_controls_option, with_formats
+from exactsyn.cli.options import (
+    Choice,
+    FormatChoice,
+    coupling_option,
+    max_controls_option,
+    progress_option,
+    with_formats,
+)
+from exactsyn.cli.progress import OptimiseDisplay, choose_mode
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import read_circuit_layout
 from exactsyn.io.layout import check_layout
 from exactsyn.io.registry import suffixes
-from exactsyn.optimise import InternalCheckError, ProgressEvent, optimise_circuit
+from exactsyn.optimise import InternalCheckError, optimise_circuit
 from exactsyn.optimise.driver import DEFAULT_HORIZON
 from exactsyn.optimise.output import checked_text, log_path_for, output_format, write_checked, write_log
 from exactsyn.optimise.summary import summary_text
-
-
-class _Bar:
-    """A rich progress bar on stderr that appears only once the work has taken more than a second."""
-
-    def __init__(self, enabled: bool) -> None:
-        self.enabled = enabled
-        self.start = time.monotonic()
-        self.progress: Any = None
-        self.task: Any = None
-        self.phase = ""
-
-    def __call__(self, event: ProgressEvent) -> None:
-        if not self.enabled or time.monotonic() - self.start < 1.0:
-            return
-        if self.progress is None:
-            from rich.console import Console
-            from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
-
-            console = Console(stderr=True)
-            if not console.is_terminal:
-                self.enabled = False
-                return
-            self.progress = Progress(
-                TextColumn("{task.description}"),
-                BarColumn(bar_width=30),
-                MofNCompleteColumn(),
-                TextColumn("gates {task.fields[gates]}"),
-                TimeElapsedColumn(),
-                console=console,
-                transient=True,
-            )
-            self.progress.start()
-        label = f"round {event.round}" if event.phase == "optimise" else "equivalence check"
-        if self.task is None or label != self.phase:
-            if self.task is not None:
-                self.progress.remove_task(self.task)
-            self.task = self.progress.add_task(label, total=event.total, gates=event.gates)
-            self.phase = label
-        self.progress.update(self.task, completed=event.done, total=event.total, gates=event.gates)
-
-    def close(self) -> None:
-        if self.progress is not None:
-            self.progress.stop()
 
 
 @with_formats
@@ -150,6 +111,7 @@ class _Bar:
     help="Write the JSON log here (default: beside OUT, as OUT's name with .log.json).",
 )
 @click.option("--no-log", is_flag=True, help="Do not write the JSON log.")
+@progress_option
 @click.option("-q", "--quiet", is_flag=True, help="No summary and no progress bar.")
 def optimise(
     input_file: str,
@@ -165,6 +127,7 @@ def optimise(
     seed: int,
     log_path: str | None,
     no_log: bool,
+    show_progress: bool,
     quiet: bool,
 ) -> None:
     """Make a whole circuit smaller: replace every small window by a proven-optimal circuit.
@@ -188,13 +151,12 @@ def optimise(
     and a JSON log written beside OUT.  Exit status: 0 written, 1 the equivalence check
     failed (a bug; nothing written), 2 bad input (nothing written).
     """
-    bar = _Bar(not quiet)
     try:
         circuit, layout, input_format = read_circuit_layout(input_file)
         check_layout(layout, circuit.lines)
         out_format = output_format(fmt, output, input_format)
         log = None if no_log else (log_path or (log_path_for(output) if output else None))
-        try:
+        with OptimiseDisplay(choose_mode(quiet, show_progress)) as display:
             result = optimise_circuit(
                 circuit,
                 library=library_name,
@@ -205,10 +167,8 @@ def optimise(
                 window=window,
                 horizon=horizon,
                 seed=seed,
-                progress=bar,
+                progress=display,
             )
-        finally:
-            bar.close()
         if output is None:
             click.echo(checked_text(result, out_format, layout=layout, seed=seed), nl=False)
         else:

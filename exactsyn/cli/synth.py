@@ -45,7 +45,8 @@ from exactsyn.cli.options import (
     split_after_option,
     split_option,
 )
-from exactsyn.cli.synth_display import SynthProgress, choose_mode
+from exactsyn.cli.progress import choose_mode
+from exactsyn.cli.synth_display import SynthDisplay
 from exactsyn.core.cliffordt import decompose
 from exactsyn.core.cliffordt import verify as verify_clifford_t
 from exactsyn.errors import ExactsynError, NoCircuitError
@@ -301,7 +302,7 @@ def synth(
             raise ExactsynError("--optima prints text or json (one circuit per file otherwise)")
         if optima_limit is not None and optima is None:
             raise ExactsynError("--optima-limit needs --optima all or --optima count")
-        display = SynthProgress(choose_mode(quiet, show_progress))
+        display = SynthDisplay(choose_mode(quiet, show_progress))
         try:
             with display:
                 syn = synthesise(

@@ -1,17 +1,16 @@
-"""Live progress of ``exactsyn synth`` on stderr (rich).
+"""What ``exactsyn synth`` shows while it searches, on the display of :mod:`exactsyn.cli.progress`.
 
-What the search reports (:mod:`exactsyn.search.events`) is shown in one of three modes:
+What the search reports (:mod:`exactsyn.search.events`) is shown as:
 
-* ``live`` (stderr is a terminal, or ``--progress``): a spinner line with a running timer
-  for the current phase — "building distance table of nct … 3.2 s", "k = 12: SAT solver
-  running … 41.0 s of 120" — and one permanent line per finished step: each answered
-  query, the fallback circuit, "k = 8..11 excluded by the table"; while a query is split
-  into cubes (:mod:`exactsyn.sat.conquer`), the timer line counts them — "k = 11: cubes
-  12/25 (unsat 12), 5:10 elapsed, ETA 5:40" — and a permanent line is printed when the
-  split starts, every :data:`CUBE_LINE_SECONDS` while it runs, and when it ends;
-* ``plain`` (``--progress`` on a non-terminal, e.g. a log file): the permanent lines
-  only, no animation;
-* ``off`` (``-q``, or stderr is not a terminal and ``--progress`` was not given).
+* the status line, live on a terminal: what runs now with a running timer — "building
+  distance table of nct … 3.2 s", "k = 12: SAT solver running … 41.0 s of 120"; while a
+  query is split into cubes (:mod:`exactsyn.sat.conquer`) it counts them — "k = 11: cubes
+  12/25 (unsat 12), 5:10 elapsed, ETA 5:40";
+* permanent lines, live and plain (``--progress`` on a non-terminal, e.g. a log file):
+  each answered query, the fallback circuit, "k = 8..11 excluded by the table", and for
+  a split query a line when it starts, every :data:`CUBE_LINE_SECONDS` while it runs and
+  when it ends;
+* nothing with ``-q``, or on a non-terminal without ``--progress``.
 
 The display only formats; it never changes what is computed.
 """
@@ -22,29 +21,16 @@ import time
 from typing import Any
 
 from rich.console import Console
-from rich.live import Live
-from rich.spinner import Spinner
-from rich.text import Text
 
+from exactsyn.cli.progress import Display, clock
 from exactsyn.core.words import count
 from exactsyn.sat.conquer import CubeEvent
 from exactsyn.sat.query import Query
 from exactsyn.sat.status import Status
 from exactsyn.search.events import SearchEvent
 
-MODES = ("live", "plain", "off")
 #: A permanent cube-count line at most this often (the live line updates on every cube).
 CUBE_LINE_SECONDS = 30.0
-
-
-def choose_mode(quiet: bool, forced: bool, console: Console | None = None) -> str:
-    """``off`` with ``-q``; ``live`` on a terminal; ``plain`` when forced onto a non-terminal."""
-    if quiet:
-        return "off"
-    terminal = (console or Console(stderr=True)).is_terminal
-    if terminal:
-        return "live"
-    return "plain" if forced else "off"
 
 
 def query_line(q: Query) -> str:
@@ -60,17 +46,11 @@ def query_line(q: Query) -> str:
     )
 
 
-def _clock(seconds: float) -> str:
-    m, s = divmod(int(seconds), 60)
-    h, m = divmod(m, 60)
-    return f"{h}:{m:02d}:{s:02d}" if h else f"{m}:{s:02d}"
-
-
 def cube_line(k: int, done: int, total: int, counts: dict[str, int], elapsed: float) -> str:
     """``k = 11: cubes 12/25 (unsat 12), 5:10 elapsed, ETA 5:40`` (the ETA from the mean cube so far)."""
     parts = ", ".join(f"{name} {n}" for name, n in counts.items() if n)
-    eta = f", ETA {_clock(elapsed / done * (total - done))}" if 0 < done < total else ""
-    return f"k = {k}: cubes {done}/{total}" + (f" ({parts})" if parts else "") + f", {_clock(elapsed)} elapsed{eta}"
+    eta = f", ETA {clock(elapsed / done * (total - done))}" if 0 < done < total else ""
+    return f"k = {k}: cubes {done}/{total}" + (f" ({parts})" if parts else "") + f", {clock(elapsed)} elapsed{eta}"
 
 
 def event_line(e: SearchEvent) -> str | None:
@@ -93,58 +73,17 @@ def _gates(n: int | None) -> str:
     return "no circuit" if n is None else count(n, "gate")
 
 
-class _Now:
-    """The live line: a spinner, what runs, and its running time (re-rendered by rich)."""
-
-    def __init__(self) -> None:
-        self.spinner = Spinner("dots")
-        self.label = "starting"
-        self.since = time.perf_counter()
-        self.budget: float | None = None
-
-    def set(self, label: str, budget: float | None = None) -> None:
-        self.label, self.since, self.budget = label, time.perf_counter(), budget
-
-    def __rich__(self) -> Spinner:
-        elapsed = time.perf_counter() - self.since
-        limit = "" if self.budget is None else f" (at most {self.budget:.0f} s left)"
-        self.spinner.text = Text(f"{self.label} … {elapsed:.1f} s{limit}")
-        return self.spinner
-
-
-class SynthProgress:
+class SynthDisplay(Display):
     """The ``progress`` callback of :func:`exactsyn.synthesise` for the command line (module docstring)."""
 
     def __init__(self, mode: str, console: Console | None = None) -> None:
-        if mode not in MODES:
-            raise ValueError(f"unknown progress mode {mode!r}")
-        self.mode = mode
-        self.console = console or Console(stderr=True, highlight=False)
-        self.now = _Now()
-        self.live: Live | None = None
+        super().__init__(mode, console)
+        self.now.label = "starting"
         self._cubes: dict[str, int] = {}
         self._cube_start = self._cube_said = 0.0
 
-    def __enter__(self) -> SynthProgress:
-        if self.mode == "live" and self.console.is_terminal:
-            self.live = Live(self.now, console=self.console, refresh_per_second=8, transient=True)
-            self.live.start()
-        return self
-
-    def __exit__(self, *exc: object) -> None:
-        self.close()
-
-    def close(self) -> None:
-        if self.live is not None:
-            self.live.stop()
-            self.live = None
-
-    def line(self, text: str) -> None:
-        if self.mode != "off":
-            self.console.print(text, markup=False, highlight=False, soft_wrap=True)
-
     def cube(self, event: CubeEvent) -> None:
-        """The ``cube_progress`` callback: per-cube counts on the timer line (module docstring)."""
+        """The ``cube_progress`` callback: per-cube counts on the status line (module docstring)."""
         if self.mode == "off":
             return
         now = time.perf_counter()
@@ -155,10 +94,7 @@ class SynthProgress:
         elif event.phase == "cube":
             self._cubes[event.status] = self._cubes.get(event.status, 0) + 1
         text = cube_line(event.k, event.done, event.total, self._cubes, now - self._cube_start)
-        if event.phase == "start":
-            self.now.set(text)
-        else:
-            self.now.label = text  # the timer keeps counting from the split
+        self.status(text, restart=event.phase == "start")  # the timer keeps counting from the split
         if event.phase == "end" or (event.phase == "cube" and now - self._cube_said >= CUBE_LINE_SECONDS):
             self._cube_said = now
             self.line(text)
@@ -169,16 +105,16 @@ class SynthProgress:
         if isinstance(item, Query):
             self.line(query_line(item))
             if item.status != Status.UNKNOWN:
-                self.now.set("next step")
+                self.status("next step")
             return
         if not isinstance(item, SearchEvent):
             return
         if item.phase == "table-start":
-            self.now.set(f"building {item.detail}")
+            self.status(f"building {item.detail}")
             if self.live is None:
                 self.line(f"building {item.detail} …")
         elif item.phase == "query-start":
-            self.now.set(f"k = {item.k}: SAT solver running", item.seconds)
+            self.status(f"k = {item.k}: SAT solver running", item.seconds)
         text = event_line(item)
         if text is not None:
             self.line(text)
