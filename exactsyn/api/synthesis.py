@@ -26,7 +26,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from exactsyn.core.circuit import Circuit
-from exactsyn.core.costs import CostModel, cost_model, library_costs
+from exactsyn.core.costs import OBJECTIVES, CostModel, cost_model, library_costs
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
@@ -35,10 +35,10 @@ from exactsyn.sat.dimacs import dimacs_writer
 from exactsyn.sat.encode import CostLimit, EncodingOptions, options_for
 from exactsyn.sat.query import Query
 from exactsyn.search.all_optima import Enumeration, enumerate_optimal
-from exactsyn.search.events import Progress
+from exactsyn.search.events import SearchProgress
 from exactsyn.search.fallback import next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
-from exactsyn.search.objectives import OBJECTIVES, ObjectiveResult, optimise
+from exactsyn.search.objectives import ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
 from exactsyn.specification.loader import load_any
 from exactsyn.specification.reversible import Spec, from_permutation
@@ -146,7 +146,7 @@ def synthesise(
     solver: str = "cadical195",
     jobs: int = 1,
     embedding: Embedding | None = None,
-    progress: Progress | None = None,
+    progress: SearchProgress | None = None,
     split: str = "auto",
     scheduler: str | None = None,
     cube_scheme: str = DEFAULT_SCHEME,

@@ -27,7 +27,7 @@ from exactsyn.io.formats import read_circuit_layout
 from exactsyn.io.layout import check_layout
 from exactsyn.io.registry import suffixes
 from exactsyn.optimise import InternalCheckError, optimise_circuit
-from exactsyn.optimise.driver import DEFAULT_HORIZON
+from exactsyn.optimise.driver import DEFAULT_HORIZON, WINDOW_OBJECTIVES
 from exactsyn.optimise.output import checked_text, log_path_for, output_format, write_checked, write_log
 from exactsyn.optimise.summary import summary_text
 
@@ -66,7 +66,7 @@ from exactsyn.optimise.summary import summary_text
 @coupling_option
 @click.option(
     "--objective",
-    type=Choice(["gates", "gates-then-cost"]),
+    type=Choice(WINDOW_OBJECTIVES),
     default="gates",
     show_default=True,
     help="What a replacement must lower: the gate count, or the gate count and then the --cost among "

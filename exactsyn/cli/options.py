@@ -22,6 +22,7 @@ from typing import Any
 
 import click
 
+from exactsyn.core.costs import OBJECTIVES
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import did_you_mean
 from exactsyn.io import formats as _formats  # registers the built-in formats
@@ -30,7 +31,6 @@ from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
 from exactsyn.sat.solve import SOLVERS
 from exactsyn.search.loop import BOUNDS
-from exactsyn.search.objectives import OBJECTIVES
 
 F = Callable[..., Any]
 

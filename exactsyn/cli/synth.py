@@ -47,8 +47,7 @@ from exactsyn.cli.options import (
 )
 from exactsyn.cli.progress import choose_mode
 from exactsyn.cli.synth_display import SynthDisplay
-from exactsyn.core.cliffordt import decompose
-from exactsyn.core.cliffordt import verify as verify_clifford_t
+from exactsyn.core.cliffordt import check_clifford_t, decompose
 from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.formats import check_writable, format_for, read_circuit_layout, render
 from exactsyn.io.layout import Layout
@@ -101,7 +100,7 @@ def _print_result(
         sys.exit(1)
     ct = decompose(circuit) if fmt == "json" or clifford_t else None
     if ct is not None:
-        verify_clifford_t(ct, circuit)  # simulated before it is printed, like every circuit
+        check_clifford_t(ct, circuit)  # simulated before it is printed, like every circuit
     header = qasm_header(syn)
     counting = fmt == "text" and syn.optima is not None and not syn.optima.circuits
     if fmt == "json":

@@ -147,13 +147,13 @@ def counts(libraries: tuple[str, ...]) -> None:
         fail("no class table cached; build them with `exactsyn tables build`")
 
 
-@tables.command()
+@tables.command("verify")
 @click.option("--library", "libraries", multiple=True, metavar="NAME",
               help="nct, mct, mixed or all (default: all cached).")
 @click.option("-j", "--jobs", type=click.IntRange(1, 64), default=2, show_default=True, help="Worker processes.")
 @progress_option
 @click.option("-q", "--quiet", is_flag=True, help="No progress bar.")
-def verify(libraries: tuple[str, ...], jobs: int, show_progress: bool, quiet: bool) -> None:
+def verify_tables(libraries: tuple[str, ...], jobs: int, show_progress: bool, quiet: bool) -> None:
     """Re-check cached tables from their files alone, with a separate numpy implementation.
 
     Proves every level exact (closure under every gate, descent, canonical keys, class

@@ -15,7 +15,7 @@ Modules, one job each:
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
 from exactsyn.optimise.driver import (
     MAX_LINES,
-    OBJECTIVES,
+    WINDOW_OBJECTIVES,
     EquivalenceError,
     InternalCheckError,
     OptimiseResult,
@@ -29,7 +29,7 @@ from exactsyn.optimise.resynthesis import Optimum, TableResynthesis, WindowProbl
 
 __all__ = [
     "MAX_LINES",
-    "OBJECTIVES",
+    "WINDOW_OBJECTIVES",
     "EquivalenceCheck",
     "EquivalenceError",
     "GateSet",

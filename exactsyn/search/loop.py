@@ -43,7 +43,7 @@ from exactsyn.search.bounds import (
     parity_obstruction,
 )
 from exactsyn.search.classtable import HINT, ClassTableClaim, applies, settle, table_for
-from exactsyn.search.events import Progress, SearchEvent, emit
+from exactsyn.search.events import SearchEvent, SearchProgress, emit
 from exactsyn.search.fallback import FIVE_SHRINK_FROM, Fallback, improve_upper, initial_upper
 from exactsyn.specification.reversible import Spec
 from exactsyn.tables.distance import FULL, MeetResult, extended_meet_by
@@ -102,7 +102,7 @@ class TableBound:
 PLAIN = EncodingOptions("onehot", ())
 
 
-def verify(circuit: Circuit, spec: Spec, library: Library) -> None:
+def verify_circuit(circuit: Circuit, spec: Spec, library: Library) -> None:
     """Simulate on every input; refuse to hand out a circuit that is wrong."""
     if circuit.lines != spec.lines or not spec.accepts(circuit.permutation()):
         raise RuntimeError("internal error: decoded circuit does not meet the spec")
@@ -121,7 +121,7 @@ def minimise_gates(
     use_heuristic: bool = True,
     bounds: str = "table",
     jobs: int = 1,
-    progress: Progress | None = None,
+    progress: SearchProgress | None = None,
     proof_sink: ProofSink | None = None,
     cnf_sink: Callable[[Encoding], None] | None = None,
     split: CubeOptions | None = None,
@@ -182,7 +182,7 @@ def minimise_gates(
             lb = max(lb, len(circuit)) if optimal else lb
             circuit, optimal, source = None, False, "none"
         if circuit is not None:
-            verify(circuit, spec, library)
+            verify_circuit(circuit, spec, library)
         return GateResult(
             spec=spec,
             library=library,
