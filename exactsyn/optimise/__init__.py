@@ -10,6 +10,9 @@ Modules, one job each:
 * :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
 * :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log;
 * :mod:`~exactsyn.optimise.output` — the output file, read back and re-checked before it is kept.
+
+Imports: the base modules, :mod:`exactsyn.core`, :mod:`exactsyn.io` and :mod:`exactsyn.tables`
+(the exhaustive tables of windows); :mod:`exactsyn.search` uses it to shrink fallbacks.
 """
 
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
