@@ -26,7 +26,6 @@ from exactsyn.cli.options import (
     bounds_option,
     cost_option,
     coupling_option,
-    deprecated,
     encoding_option,
     jobs_option,
     library_option,
@@ -49,7 +48,6 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
 @click.argument("specs", nargs=-1, type=click.Path())
 @store_option(DEFAULT_STORE, "Results store (SQLite); certificates go to <store>.certs/.")
 @click.option("--every", "every_lines", type=int, metavar="N", help="Every N-line function (N <= 3).")
-@click.option("--all", "all_lines", type=int, hidden=True)
 @click.option(
     "--classes",
     "class_lines",
@@ -65,7 +63,6 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
     metavar="K",
     help="How many functions --random draws.  [default: 100]",
 )
-@click.option("--count", type=int, hidden=True)
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the random sample.")
 @library_option
 @max_controls_option
@@ -112,11 +109,9 @@ def batch(
     specs: tuple[str, ...],
     store_path: str,
     every_lines: int | None,
-    all_lines: int | None,
     class_lines: int | None,
     random_lines: int | None,
     sample: int | None,
-    count: int | None,
     seed: int,
     library_name: str,
     max_controls: int | None,
@@ -155,16 +150,6 @@ def batch(
     """
 
     try:
-        if all_lines is not None:
-            deprecated(f"--all {all_lines}", f"--every {all_lines}")
-            if every_lines is not None:
-                raise ExactsynError("give --every once (--all N is its old spelling)")
-            every_lines = all_lines
-        if count is not None:
-            deprecated(f"--count {count}", f"--sample {count}")
-            if sample is not None:
-                raise ExactsynError("give --sample once (--count K is its old spelling)")
-            sample = count
         if sample is not None and random_lines is None:
             raise ExactsynError("--sample K is the size of a --random sample; give --random N too")
         sets = [

@@ -11,8 +11,8 @@ The scheme every command follows (README "Options"):
 * ``-q/--quiet``: nothing on stderr but errors; ``--progress``: live progress even when
   stderr is not a terminal.
 
-Spellings of an earlier release stay for one release and print a one-line note
-(:func:`deprecated`).
+Spellings of the previous release are refused (:data:`REMOVED_SPELLINGS`): the one-line
+error names what replaced them.
 """
 
 from __future__ import annotations
@@ -70,9 +70,14 @@ def with_formats(command: click.Command) -> click.Command:
     return command
 
 
-def deprecated(old: str, new: str) -> None:
-    """The one-line note for an old spelling (kept for one release)."""
-    click.echo(f"exactsyn: note: {old} is deprecated and goes in the next release; use {new}", err=True)
+#: Spellings of the previous release, by command: the old option (or ``ARGUMENT`` for a
+#: positional argument that became an option) and what to write now.  Click refuses them
+#: as unknown; :func:`exactsyn.cli.main.click_message` adds the new spelling.
+REMOVED_SPELLINGS: dict[str, dict[str, str]] = {
+    "synth": {"--all": "--optima all", "--count": "--optima count", "--all-limit": "--optima-limit N"},
+    "batch": {"--all": "--every N", "--count": "--sample K"},
+    "report": {"ARGUMENT": "--store FILE"},
+}
 
 
 def jobs_option(default: int | None, help_text: str) -> Callable[[F], F]:

@@ -15,7 +15,7 @@ import click
 from exactsyn.batch.html_report import build_report
 from exactsyn.cli.batch import DEFAULT_STORE
 from exactsyn.cli.common import emit, fail
-from exactsyn.cli.options import FormatChoice, deprecated, store_option, with_formats
+from exactsyn.cli.options import FormatChoice, store_option, with_formats
 from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import check_writable, format_for, read_circuit_layout, render
 from exactsyn.io.registry import PICTURE, suffixes
@@ -82,7 +82,6 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
 
 
 @click.command()
-@click.argument("old_store", metavar="[STORE]", required=False, type=click.Path(dir_okay=False))
 @store_option(DEFAULT_STORE)
 @click.option("-o", "--output", required=True, type=click.Path(dir_okay=False), help="The HTML file to write.")
 @click.option("--batch", "batch_id", metavar="ID", help="Batch id (a prefix will do); default the last one run.")
@@ -92,7 +91,7 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
     is_flag=True,
     help="Re-check every certificate now (as 'exactsyn check' does) instead of reporting the stored verdict.",
 )
-def report(old_store: str | None, store_path: str, output: str, batch_id: str | None, recheck: bool) -> None:
+def report(store_path: str, output: str, batch_id: str | None, recheck: bool) -> None:
     """Write one self-contained HTML page for a batch of a results store.
 
     The page shows the distribution table and its bar chart, and for each stored
@@ -105,9 +104,6 @@ def report(old_store: str | None, store_path: str, output: str, batch_id: str | 
       exactsyn report --store nct3.sqlite -o nct3.html
     """
     try:
-        if old_store is not None:
-            deprecated(f"'report {old_store}'", f"'report --store {old_store}'")
-            store_path = old_store
         if Path(output).suffix.lower() not in (".html", ".htm"):
             raise ExactsynError(f"the report is an HTML page: give -o a file ending .html, not {output}")
         check_writable(output, "report file")

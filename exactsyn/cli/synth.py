@@ -33,7 +33,6 @@ from exactsyn.cli.options import (
     coupling_option,
     cube_depth_option,
     cube_scheme_option,
-    deprecated,
     encoding_option,
     jobs_option,
     library_option,
@@ -204,9 +203,6 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
     "that differ only by reordering adjacent commuting gates; count: print only how many there are.",
 )
 @click.option("--optima-limit", type=click.IntRange(min=1), metavar="N", help="Stop --optima after N circuits.")
-@click.option("--all", "all_circuits", is_flag=True, hidden=True)
-@click.option("--count", "count_only", is_flag=True, hidden=True)
-@click.option("--all-limit", type=click.IntRange(min=1), hidden=True)
 @click.option(
     "--clifford-t",
     is_flag=True,
@@ -242,9 +238,6 @@ def synth(
     cost_name: str,
     optima: str | None,
     optima_limit: int | None,
-    all_circuits: bool,
-    count_only: bool,
-    all_limit: int | None,
     clifford_t: bool,
     show_progress: bool,
     quiet: bool,
@@ -282,15 +275,6 @@ def synth(
     within the limits or none exists in the library, 2 bad input.
     """
     try:
-        if all_circuits or count_only:
-            old, new = ("--all", "--optima all") if all_circuits else ("--count", "--optima count")
-            deprecated(old, new)
-            if optima is not None or (all_circuits and count_only):
-                raise ExactsynError("give --optima once (--all and --count are its old spellings)")
-            optima = "all" if all_circuits else "count"
-        if all_limit is not None:
-            deprecated("--all-limit", "--optima-limit")
-            optima_limit = optima_limit or all_limit
         chosen = format_for(output, fmt)
         function = read_function(spec_file, perm, cycles, lines)
         if output is not None:
