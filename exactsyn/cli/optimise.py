@@ -9,6 +9,9 @@ Exit status: 0 written, 1 the internal equivalence check failed (nothing written
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import Any, TypeVar
+
 import click
 
 from exactsyn.cli.common import fail
@@ -31,88 +34,102 @@ from exactsyn.optimise.driver import DEFAULT_HORIZON, WINDOW_OBJECTIVES
 from exactsyn.optimise.output import checked_text, log_path_for, output_format, write_checked, write_log
 from exactsyn.optimise.summary import summary_text
 
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+#: The options of ``exactsyn optimise``, in the order ``--help`` lists them.
+_OPTIONS: tuple[Callable[[F], F], ...] = (
+    click.option(
+        "-o",
+        "--output",
+        metavar="OUT",
+        type=click.Path(dir_okay=False),
+        help="Write the optimised circuit here (default: stdout, and the summary goes to stderr).",
+    ),
+    click.option(
+        "--format",
+        "fmt",
+        type=FormatChoice(readable=True),
+        help=f"Output format; default from the suffix of OUT ({', '.join(suffixes(readable=True))}; .qasm keeps "
+        "the input's OpenQASM version), else the input's format.",
+    ),
+    click.option(
+        "--library",
+        "library_name",
+        default="auto",
+        show_default=True,
+        metavar="NAME|KINDS",
+        help="Gates the output may use; every input gate must be one of them. 'auto' = the smallest preset "
+        "holding the input's gates (nct, mct, mixed, nct-swap, mct-swap, mixed-swap, nct-peres). Presets: "
+        + "; ".join(f"{k} = {v}" for k, v in PRESETS.items())
+        + ". Or a comma-separated list of kinds: "
+        + ", ".join(KINDS)
+        + ".",
+    ),
+    max_controls_option,
+    coupling_option,
+    click.option(
+        "--objective",
+        type=Choice(WINDOW_OBJECTIVES),
+        default="gates",
+        show_default=True,
+        help="What a replacement must lower: the gate count, or the gate count and then the --cost among "
+        "circuits with as many gates.",
+    ),
+    click.option(
+        "--cost",
+        "cost_name",
+        default="ncv",
+        show_default=True,
+        metavar="MODEL|FILE",
+        help="Cost for gates-then-cost: ncv (NOT 1, CNOT 1, Toffoli 5), t-count or cnot-count (of the Clifford+T "
+        "decomposition), or a TOML/JSON table of gate names to integer costs.",
+    ),
+    click.option(
+        "--window",
+        type=click.IntRange(1, 4),
+        default=3,
+        show_default=True,
+        help="Largest number of lines of a window. 3: exhaustive tables of every 3-line function. 4: a 4-line "
+        "distance table (about 3 s to build) and a bounded meet in the middle; objective gates only.",
+    ),
+    click.option(
+        "--horizon",
+        type=click.IntRange(1, None),
+        default=DEFAULT_HORIZON,
+        show_default=True,
+        help="Gates a window's growth looks past the last gate that joined it (more: finds more, slower).",
+    ),
+    click.option(
+        "--seed",
+        type=int,
+        default=0,
+        show_default=True,
+        help="Seed of the random inputs of the equivalence check on circuits of more than 24 lines.",
+    ),
+    click.option(
+        "--log",
+        "log_path",
+        metavar="FILE",
+        type=click.Path(dir_okay=False),
+        help="Write the JSON log here (default: beside OUT, as OUT's name with .log.json).",
+    ),
+    click.option("--no-log", is_flag=True, help="Do not write the JSON log."),
+    progress_option,
+    click.option("-q", "--quiet", is_flag=True, help="No summary and no progress bar."),
+)
+
+
+def _with_options(command: F) -> F:
+    for option in reversed(_OPTIONS):
+        command = option(command)
+    return command
+
 
 @with_formats
 @click.command("optimise", context_settings={"help_option_names": ["-h", "--help"]})
 @click.argument("input_file", metavar="IN", type=click.Path(dir_okay=False))
-@click.option(
-    "-o",
-    "--output",
-    metavar="OUT",
-    type=click.Path(dir_okay=False),
-    help="Write the optimised circuit here (default: stdout, and the summary goes to stderr).",
-)
-@click.option(
-    "--format",
-    "fmt",
-    type=FormatChoice(readable=True),
-    help=f"Output format; default from the suffix of OUT ({', '.join(suffixes(readable=True))}; .qasm keeps "
-    "the input's OpenQASM version), else the input's format.",
-)
-@click.option(
-    "--library",
-    "library_name",
-    default="auto",
-    show_default=True,
-    metavar="NAME|KINDS",
-    help="Gates the output may use; every input gate must be one of them. 'auto' = the smallest preset "
-    "holding the input's gates (nct, mct, mixed, nct-swap, mct-swap, mixed-swap, nct-peres). Presets: "
-    + "; ".join(f"{k} = {v}" for k, v in PRESETS.items())
-    + ". Or a comma-separated list of kinds: "
-    + ", ".join(KINDS)
-    + ".",
-)
-@max_controls_option
-@coupling_option
-@click.option(
-    "--objective",
-    type=Choice(WINDOW_OBJECTIVES),
-    default="gates",
-    show_default=True,
-    help="What a replacement must lower: the gate count, or the gate count and then the --cost among "
-    "circuits with as many gates.",
-)
-@click.option(
-    "--cost",
-    "cost_name",
-    default="ncv",
-    show_default=True,
-    metavar="MODEL|FILE",
-    help="Cost for gates-then-cost: ncv (NOT 1, CNOT 1, Toffoli 5), t-count or cnot-count (of the Clifford+T "
-    "decomposition), or a TOML/JSON table of gate names to integer costs.",
-)
-@click.option(
-    "--window",
-    type=click.IntRange(1, 4),
-    default=3,
-    show_default=True,
-    help="Largest number of lines of a window. 3: exhaustive tables of every 3-line function. 4: a 4-line "
-    "distance table (about 3 s to build) and a bounded meet in the middle; objective gates only.",
-)
-@click.option(
-    "--horizon",
-    type=click.IntRange(1, None),
-    default=DEFAULT_HORIZON,
-    show_default=True,
-    help="Gates a window's growth looks past the last gate that joined it (more: finds more, slower).",
-)
-@click.option(
-    "--seed",
-    type=int,
-    default=0,
-    show_default=True,
-    help="Seed of the random inputs of the equivalence check on circuits of more than 24 lines.",
-)
-@click.option(
-    "--log",
-    "log_path",
-    metavar="FILE",
-    type=click.Path(dir_okay=False),
-    help="Write the JSON log here (default: beside OUT, as OUT's name with .log.json).",
-)
-@click.option("--no-log", is_flag=True, help="Do not write the JSON log.")
-@progress_option
-@click.option("-q", "--quiet", is_flag=True, help="No summary and no progress bar.")
+@_with_options
 def optimise(
     input_file: str,
     output: str | None,
