@@ -16,7 +16,7 @@ from exactsyn.io.formats import read_circuit
 
 
 @with_formats
-@click.command()
+@click.command(short_help="Run a saved circuit on inputs and print its truth table.")
 @click.argument("circuit_file", type=click.Path(dir_okay=False))
 @click.option("--inputs", metavar="LIST", help="Only these inputs (comma-separated integers); default all.")
 @click.option("--perm", "as_perm", is_flag=True, help="Print the function as one permutation line.")

@@ -34,7 +34,7 @@ def parse_labels(text: str | None) -> list[str] | None:
 
 
 @with_formats
-@click.command()
+@click.command(short_help="Draw a saved circuit as SVG, PNG or a terminal drawing.")
 @click.argument("circuit_file", type=click.Path(dir_okay=False))
 @click.option(
     "--format",
