@@ -10,13 +10,18 @@ modules can move without breaking ``import exactsyn as ex``::
     ex.write_qasm3(res.circuit, "out.qasm")
     assert ex.check_certificate("cert/").ok
 
-Pipeline (one subpackage per stage): ``spec`` → ``core`` (gates, circuits, libraries,
-costs) → ``sat`` (encoders, solver calls) → ``search`` (the k loop, objectives, tables,
-heuristics) → ``proof`` (LRAT capture, certificates, the checker) → ``io`` (JSON,
-OpenQASM, drawings); ``batch`` runs many functions; ``cli`` is the command line.
+Subpackages in layer order, each importing only from those before it: the base modules
+(``errors``, ``caches``, ``version``, ``cluster``) → ``core`` (gates, circuits, libraries,
+costs) → ``io`` (the format registry, JSON, OpenQASM, drawings) → ``specification`` (what
+to synthesise) → ``tables`` (breadth-first and class tables) → ``sat`` (encoders, solver
+calls) → ``optimise`` (whole circuits by windows) → ``search`` (the k loop, objectives,
+fallbacks) → ``proof`` (certificates, the checker) → ``api`` (one call, its views) →
+``batch`` (many functions) → ``cli`` (the command line).
 
 Names are loaded on first use (PEP 562), so ``import exactsyn.proof.checker`` does not pull
-in the solvers and ``from exactsyn import __version__`` stays cheap.
+in the solvers and ``from exactsyn import __version__`` stays cheap.  ``write_<format>``
+(``write_json``, ``write_qasm2``, ``write_qasm3``, ``write_svg``, ...) exists for every
+format of :mod:`exactsyn.io.registry` and writes that format whatever the suffix.
 """
 
 from __future__ import annotations
@@ -50,9 +55,9 @@ _EXPORTS: dict[str, tuple[str, str]] = {
     "load_spec": ("exactsyn.specification.loader", "load_any"),
     "read_circuit": ("exactsyn.io.formats", "read_circuit"),
     "write_circuit": ("exactsyn.io.formats", "write_circuit"),
-    "write_qasm2": ("exactsyn.io.formats", "write_qasm2"),
-    "write_qasm3": ("exactsyn.io.formats", "write_qasm3"),
-    "write_json": ("exactsyn.io.formats", "write_json"),
+    "Format": ("exactsyn.io.registry", "Format"),
+    "formats": ("exactsyn.io.registry", "formats"),
+    "register_format": ("exactsyn.io.registry", "register"),
     "render": ("exactsyn.io.formats", "render"),
     "read_qasm": ("exactsyn.io.qasm", "read_qasm"),
     "to_qasm2": ("exactsyn.io.qasm", "to_qasm2"),
@@ -77,6 +82,7 @@ __all__ = [
     "Circuit",
     "CostModel",
     "ExactsynError",
+    "Format",
     "Gate",
     "Layout",
     "Library",
@@ -92,6 +98,7 @@ __all__ = [
     "circuit_to_dict",
     "clear_caches",
     "cost_model",
+    "formats",
     "from_permutation",
     "load_spec",
     "make_library",
@@ -102,31 +109,38 @@ __all__ = [
     "read_circuit",
     "read_circuit_layout",
     "read_qasm",
+    "register_format",
     "render",
     "swap_gate",
     "synthesise",
     "to_qasm2",
     "to_qasm3",
     "write_circuit",
-    "write_json",
-    "write_qasm2",
-    "write_qasm3",
     "x_gate",
 ]
+#: ``write_<format>`` for every registered format (module docstring); not in ``__all__``,
+#: which stays fixed while formats may be registered later.
+_WRITER_PREFIX = "write_"
 
 
 def __getattr__(name: str) -> Any:
-    try:
+    if name in _EXPORTS:
         module, attr = _EXPORTS[name]
-    except KeyError:
-        raise AttributeError(f"module 'exactsyn' has no attribute {name!r}") from None
-    value = getattr(importlib.import_module(module), attr)
-    globals()[name] = value  # later lookups skip this function
-    return value
+        value = getattr(importlib.import_module(module), attr)
+        globals()[name] = value  # later lookups skip this function
+        return value
+    if name.startswith(_WRITER_PREFIX):
+        formats = importlib.import_module("exactsyn.io.formats")
+        fmt = name.removeprefix(_WRITER_PREFIX)
+        if fmt in formats.registry.names():
+            return formats.writer(fmt)  # not cached: the format may be unregistered
+    raise AttributeError(f"module 'exactsyn' has no attribute {name!r}")
 
 
 def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(__all__))
+    registry = importlib.import_module("exactsyn.io.registry")
+    writers = {_WRITER_PREFIX + name for name in registry.names()}
+    return sorted(set(globals()) | set(__all__) | writers)
 
 
 if TYPE_CHECKING:  # the same names, for type checkers and editors
@@ -137,18 +151,12 @@ if TYPE_CHECKING:  # the same names, for type checkers and editors
     from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
     from exactsyn.core.library import PRESETS, Library, make_library
     from exactsyn.errors import ExactsynError, NoCircuitError
-    from exactsyn.io.formats import (
-        read_circuit,
-        read_circuit_layout,
-        render,
-        write_circuit,
-        write_json,
-        write_qasm2,
-        write_qasm3,
-    )
+    from exactsyn.io.formats import read_circuit, read_circuit_layout, render, write_circuit
     from exactsyn.io.jsonio import circuit_from_dict, circuit_to_dict
     from exactsyn.io.layout import Layout
     from exactsyn.io.qasm import read_qasm, to_qasm2, to_qasm3
+    from exactsyn.io.registry import Format, formats
+    from exactsyn.io.registry import register as register_format
     from exactsyn.optimise import OptimiseResult, optimise_circuit
     from exactsyn.proof.checker import CheckReport, check_certificate
     from exactsyn.sat.query import Query

@@ -4,4 +4,9 @@
 and its result :class:`~exactsyn.api.synthesis.Synthesis`); :mod:`~exactsyn.api.view` turns a
 result into JSON data, text and the OpenQASM header.  The package root (:mod:`exactsyn`)
 re-exports the public names.
+
+Imports: every layer below it (base modules, :mod:`exactsyn.core`, :mod:`exactsyn.io`,
+:mod:`exactsyn.specification`, :mod:`exactsyn.tables`, :mod:`exactsyn.sat`,
+:mod:`exactsyn.optimise`, :mod:`exactsyn.search`, :mod:`exactsyn.proof`); only
+:mod:`exactsyn.batch` and :mod:`exactsyn.cli` import it.
 """

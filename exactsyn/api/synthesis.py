@@ -31,9 +31,8 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn.core.circuit import Circuit
-from exactsyn.core.cliffordt import CliffordT, decompose
-from exactsyn.core.cliffordt import verify as verify_clifford_t
-from exactsyn.core.costs import CostModel, cost_model, library_costs
+from exactsyn.core.cliffordt import CliffordT, check_clifford_t, decompose
+from exactsyn.core.costs import OBJECTIVES, CostModel, cost_model, library_costs
 from exactsyn.core.library import Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.certificate import proof_writer, write_result
@@ -45,7 +44,7 @@ from exactsyn.sat.query import Query
 from exactsyn.search.all_optima import Enumeration, enumerate_optimal
 from exactsyn.search.fallback import Suggestion, next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
-from exactsyn.search.objectives import OBJECTIVES, ObjectiveResult, optimise
+from exactsyn.search.objectives import ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
 from exactsyn.specification.loader import load_any
 from exactsyn.specification.reversible import Spec, from_permutation
@@ -151,7 +150,7 @@ class Synthesis:
         if self.circuit is None:
             return None
         ct = decompose(self.circuit)
-        verify_clifford_t(ct, self.circuit)
+        check_clifford_t(ct, self.circuit)
         return ct
 
 

@@ -6,7 +6,11 @@ inversion) → :mod:`~exactsyn.batch.run` (skip finished items, hand the rest to
 engine) → :mod:`~exactsyn.batch.workers` (local processes or Dask distributed run
 :func:`~exactsyn.batch.task.run_task`) → :mod:`~exactsyn.batch.store` (SQLite in WAL
 mode, one transaction per completed item, certificates beside it).  The tables are
-:mod:`exactsyn.batch.table`.
+:mod:`exactsyn.batch.table`, the HTML page :mod:`exactsyn.batch.html_report`.  Nothing here
+prints: progress goes to a callback (the command line's display is
+:mod:`exactsyn.cli.batch_display`).
+
+Imports: :mod:`exactsyn.api` and every layer below it; only :mod:`exactsyn.cli` imports it.
 """
 
 from exactsyn.batch.plan import Plan, PlanItem, choose_classes, plan_files, plan_generated

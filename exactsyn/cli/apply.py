@@ -10,16 +10,18 @@ import click
 import numpy as np
 
 from exactsyn.cli.common import fail
+from exactsyn.cli.options import with_formats
 from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import read_circuit
 
 
-@click.command()
+@with_formats
+@click.command(short_help="Run a saved circuit on inputs and print its truth table.")
 @click.argument("circuit_file", type=click.Path(dir_okay=False))
 @click.option("--inputs", metavar="LIST", help="Only these inputs (comma-separated integers); default all.")
 @click.option("--perm", "as_perm", is_flag=True, help="Print the function as one permutation line.")
 def apply(circuit_file: str, inputs: str | None, as_perm: bool) -> None:
-    """Run a saved circuit (JSON or OpenQASM 2/3) on inputs and print its truth table.
+    """Run a saved circuit ({readable}) on inputs and print its truth table.
 
     \b
     Example:

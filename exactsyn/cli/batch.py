@@ -14,19 +14,18 @@ import click
 
 from exactsyn.batch.lookup import member_result
 from exactsyn.batch.plan import plan_files, plan_generated
-from exactsyn.batch.progress import BatchProgress
 from exactsyn.batch.run import RunOptions, RunSummary, run_batch
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.batch.table import size_table, to_csv, to_json, to_text, write_chart, write_text_file
 from exactsyn.batch.task import Goal, LibraryChoice
 from exactsyn.batch.workers import DaskEngine, LocalPool, default_jobs
+from exactsyn.cli.batch_display import BatchDisplay
 from exactsyn.cli.common import fail
 from exactsyn.cli.options import (
     Choice,
     bounds_option,
     cost_option,
     coupling_option,
-    deprecated,
     encoding_option,
     jobs_option,
     library_option,
@@ -35,6 +34,7 @@ from exactsyn.cli.options import (
     solver_option,
     store_option,
 )
+from exactsyn.cli.progress import choose_mode
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
 from exactsyn.io.draw import draw_text
@@ -49,7 +49,6 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
 @click.argument("specs", nargs=-1, type=click.Path())
 @store_option(DEFAULT_STORE, "Results store (SQLite); certificates go to <store>.certs/.")
 @click.option("--every", "every_lines", type=int, metavar="N", help="Every N-line function (N <= 3).")
-@click.option("--all", "all_lines", type=int, hidden=True)
 @click.option(
     "--classes",
     "class_lines",
@@ -65,7 +64,6 @@ DEFAULT_STORE = "exactsyn-results.sqlite"
     metavar="K",
     help="How many functions --random draws.  [default: 100]",
 )
-@click.option("--count", type=int, hidden=True)
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the random sample.")
 @library_option
 @max_controls_option
@@ -112,11 +110,9 @@ def batch(
     specs: tuple[str, ...],
     store_path: str,
     every_lines: int | None,
-    all_lines: int | None,
     class_lines: int | None,
     random_lines: int | None,
     sample: int | None,
-    count: int | None,
     seed: int,
     library_name: str,
     max_controls: int | None,
@@ -155,16 +151,6 @@ def batch(
     """
 
     try:
-        if all_lines is not None:
-            deprecated(f"--all {all_lines}", f"--every {all_lines}")
-            if every_lines is not None:
-                raise ExactsynError("give --every once (--all N is its old spelling)")
-            every_lines = all_lines
-        if count is not None:
-            deprecated(f"--count {count}", f"--sample {count}")
-            if sample is not None:
-                raise ExactsynError("give --sample once (--count K is its old spelling)")
-            sample = count
         if sample is not None and random_lines is None:
             raise ExactsynError("--sample K is the size of a --random sample; give --random N too")
         sets = [
@@ -201,11 +187,8 @@ def batch(
         with Store(store_path) as store:
             previous = signal.signal(signal.SIGTERM, _terminated)  # a scheduler's stop: like Ctrl-C
             try:
-                if quiet:
-                    summary = run_batch(store, plan, options, eng)
-                else:
-                    with BatchProgress() as bar:
-                        summary = run_batch(store, plan, options, eng, bar)
+                with BatchDisplay(choose_mode(quiet, forced=True)) as display:
+                    summary = run_batch(store, plan, options, eng, None if quiet else display)
             except KeyboardInterrupt:
                 click.echo("interrupted: finished items are stored; re-run the same command to resume", err=True)
                 sys.exit(130)

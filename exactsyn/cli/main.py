@@ -24,6 +24,7 @@ from exactsyn.cli.apply import apply
 from exactsyn.cli.batch import batch, table
 from exactsyn.cli.check import check
 from exactsyn.cli.optimise import optimise
+from exactsyn.cli.options import REMOVED_SPELLINGS
 from exactsyn.cli.pictures import draw, report
 from exactsyn.cli.synth import synth
 from exactsyn.cli.tables import tables
@@ -39,13 +40,22 @@ def _say(message: str, code: int) -> NoReturn:
 
 
 def click_message(e: click.ClickException) -> str:
-    """A click exception as one line: the command, what is wrong, where to read more."""
+    """A click exception as one line: the command, what is wrong, where to read more.
+
+    A spelling of the previous release (:data:`~exactsyn.cli.options.REMOVED_SPELLINGS`)
+    is named with what replaced it.
+    """
     text = e.format_message().strip().rstrip(".")
     ctx = getattr(e, "ctx", None)
+    removed = REMOVED_SPELLINGS.get(ctx.command.name or "", {}) if ctx is not None else {}
     if isinstance(e, click.NoSuchOption) and ctx is not None:
-        # click also suggests hidden options (old spellings): suggest among the visible ones only
-        shown = [o for p in ctx.command.params if not getattr(p, "hidden", False) for o in p.opts]
-        text = f"No such option '{e.option_name}'{did_you_mean(e.option_name, shown)}"
+        if e.option_name in removed:
+            text = f"No such option '{e.option_name}': it is now {removed[e.option_name]}"
+        else:  # click would also suggest hidden options: suggest among the visible ones only
+            shown = [o for p in ctx.command.params if not getattr(p, "hidden", False) for o in p.opts]
+            text = f"No such option '{e.option_name}'{did_you_mean(e.option_name, shown)}"
+    elif "ARGUMENT" in removed and text.startswith("Got unexpected extra argument"):  # click's words for it
+        text += f": it is now {removed['ARGUMENT']}"
     where = ctx.command_path if ctx is not None else "exactsyn"
     if isinstance(e, click.UsageError):
         text = text[0].lower() + text[1:] if text else text

@@ -1,181 +1,135 @@
 """The ``exactsyn optimise`` command: read a circuit, call :func:`exactsyn.optimise.optimise_circuit`, write.
 
-A standalone click command; the command group attaches it with ``main.add_command``.
+Only parsing and printing: the output's format, its read-back check and the log are
+:mod:`exactsyn.optimise.output`.  A standalone click command; the command group attaches
+it with ``main.add_command``.
 Exit status: 0 written, 1 the internal equivalence check failed (nothing written),
 2 bad input (one line on stderr, nothing written).
 """
 
 from __future__ import annotations
 
-import json
-import time
-from pathlib import Path
-from typing import Any
+from collections.abc import Callable
+from typing import Any, TypeVar
 
 import click
 
 from exactsyn.cli.common import fail
-from exactsyn.cli.options import Choice, coupling_option, max_controls_option
-from exactsyn.core.circuit import Circuit
+from exactsyn.cli.options import (
+    Choice,
+    FormatChoice,
+    coupling_option,
+    max_controls_option,
+    progress_option,
+    with_formats,
+)
+from exactsyn.cli.progress import OptimiseDisplay, choose_mode
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
-from exactsyn.io.formats import SUFFIXES, circuit_layout_from_text, read_circuit_layout, render, write_data
-from exactsyn.io.layout import Layout, check_layout
-from exactsyn.optimise import (
-    EquivalenceError,
-    InternalCheckError,
-    ProgressEvent,
-    check_equivalent,
-    optimise_circuit,
+from exactsyn.io.formats import read_circuit_layout
+from exactsyn.io.layout import check_layout
+from exactsyn.io.registry import suffixes
+from exactsyn.optimise import InternalCheckError, optimise_circuit
+from exactsyn.optimise.driver import DEFAULT_HORIZON, WINDOW_OBJECTIVES
+from exactsyn.optimise.output import checked_text, log_path_for, output_format, write_checked, write_log
+from exactsyn.optimise.summary import summary_text
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+#: The options of ``exactsyn optimise``, in the order ``--help`` lists them.
+_OPTIONS: tuple[Callable[[F], F], ...] = (
+    click.option(
+        "-o",
+        "--output",
+        metavar="OUT",
+        type=click.Path(dir_okay=False),
+        help="Write the optimised circuit here (default: stdout, and the summary goes to stderr).",
+    ),
+    click.option(
+        "--format",
+        "fmt",
+        type=FormatChoice(readable=True),
+        help=f"Output format; default from the suffix of OUT ({', '.join(suffixes(readable=True))}; .qasm keeps "
+        "the input's OpenQASM version), else the input's format.",
+    ),
+    click.option(
+        "--library",
+        "library_name",
+        default="auto",
+        show_default=True,
+        metavar="NAME|KINDS",
+        help="Gates the output may use; every input gate must be one of them. 'auto' = the smallest preset "
+        "holding the input's gates (nct, mct, mixed, nct-swap, mct-swap, mixed-swap, nct-peres). Presets: "
+        + "; ".join(f"{k} = {v}" for k, v in PRESETS.items())
+        + ". Or a comma-separated list of kinds: "
+        + ", ".join(KINDS)
+        + ".",
+    ),
+    max_controls_option,
+    coupling_option,
+    click.option(
+        "--objective",
+        type=Choice(WINDOW_OBJECTIVES),
+        default="gates",
+        show_default=True,
+        help="What a replacement must lower: the gate count, or the gate count and then the --cost among "
+        "circuits with as many gates.",
+    ),
+    click.option(
+        "--cost",
+        "cost_name",
+        default="ncv",
+        show_default=True,
+        metavar="MODEL|FILE",
+        help="Cost for gates-then-cost: ncv (NOT 1, CNOT 1, Toffoli 5), t-count or cnot-count (of the Clifford+T "
+        "decomposition), or a TOML/JSON table of gate names to integer costs.",
+    ),
+    click.option(
+        "--window",
+        type=click.IntRange(1, 4),
+        default=3,
+        show_default=True,
+        help="Largest number of lines of a window. 3: exhaustive tables of every 3-line function. 4: a 4-line "
+        "distance table (about 3 s to build) and a bounded meet in the middle; objective gates only.",
+    ),
+    click.option(
+        "--horizon",
+        type=click.IntRange(1, None),
+        default=DEFAULT_HORIZON,
+        show_default=True,
+        help="Gates a window's growth looks past the last gate that joined it (more: finds more, slower).",
+    ),
+    click.option(
+        "--seed",
+        type=int,
+        default=0,
+        show_default=True,
+        help="Seed of the random inputs of the equivalence check on circuits of more than 24 lines.",
+    ),
+    click.option(
+        "--log",
+        "log_path",
+        metavar="FILE",
+        type=click.Path(dir_okay=False),
+        help="Write the JSON log here (default: beside OUT, as OUT's name with .log.json).",
+    ),
+    click.option("--no-log", is_flag=True, help="Do not write the JSON log."),
+    progress_option,
+    click.option("-q", "--quiet", is_flag=True, help="No summary and no progress bar."),
 )
-from exactsyn.optimise.driver import DEFAULT_HORIZON
-from exactsyn.optimise.summary import qasm_header, result_to_dict, summary_text
-
-FORMATS = ("qasm2", "qasm3", "json")
 
 
-def output_format(fmt: str | None, output: str | None, input_format: str) -> str:
-    """``--format``, else the suffix of ``-o`` (``.qasm`` keeps the input's version), else the input's."""
-    if fmt is not None:
-        return fmt
-    if output is None:
-        return input_format
-    suffix = Path(output).suffix.lower()
-    if suffix == ".qasm":
-        return input_format if input_format != "json" else "qasm3"
-    if SUFFIXES.get(suffix) in FORMATS:
-        return SUFFIXES[suffix]
-    raise ExactsynError(f"cannot tell the format of {output} from its suffix; give --format qasm2, qasm3 or json")
+def _with_options(command: F) -> F:
+    for option in reversed(_OPTIONS):
+        command = option(command)
+    return command
 
 
-def _read_back(text: str) -> tuple[Circuit, Layout]:
-    circuit, layout, _ = circuit_layout_from_text(text)  # our own output: no path to judge by
-    return circuit, layout
-
-
-class _Bar:
-    """A rich progress bar on stderr that appears only once the work has taken more than a second."""
-
-    def __init__(self, enabled: bool) -> None:
-        self.enabled = enabled
-        self.start = time.monotonic()
-        self.progress: Any = None
-        self.task: Any = None
-        self.phase = ""
-
-    def __call__(self, event: ProgressEvent) -> None:
-        if not self.enabled or time.monotonic() - self.start < 1.0:
-            return
-        if self.progress is None:
-            from rich.console import Console
-            from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
-
-            console = Console(stderr=True)
-            if not console.is_terminal:
-                self.enabled = False
-                return
-            self.progress = Progress(
-                TextColumn("{task.description}"),
-                BarColumn(bar_width=30),
-                MofNCompleteColumn(),
-                TextColumn("gates {task.fields[gates]}"),
-                TimeElapsedColumn(),
-                console=console,
-                transient=True,
-            )
-            self.progress.start()
-        label = f"round {event.round}" if event.phase == "optimise" else "equivalence check"
-        if self.task is None or label != self.phase:
-            if self.task is not None:
-                self.progress.remove_task(self.task)
-            self.task = self.progress.add_task(label, total=event.total, gates=event.gates)
-            self.phase = label
-        self.progress.update(self.task, completed=event.done, total=event.total, gates=event.gates)
-
-    def close(self) -> None:
-        if self.progress is not None:
-            self.progress.stop()
-
-
+@with_formats
 @click.command("optimise", context_settings={"help_option_names": ["-h", "--help"]})
 @click.argument("input_file", metavar="IN", type=click.Path(dir_okay=False))
-@click.option(
-    "-o",
-    "--output",
-    metavar="OUT",
-    type=click.Path(dir_okay=False),
-    help="Write the optimised circuit here (default: stdout, and the summary goes to stderr).",
-)
-@click.option(
-    "--format",
-    "fmt",
-    type=Choice(FORMATS),
-    help="Output format; default from the suffix of OUT (.qasm2, .qasm3, .json; .qasm keeps the input's "
-    "OpenQASM version), else the input's format.",
-)
-@click.option(
-    "--library",
-    "library_name",
-    default="auto",
-    show_default=True,
-    metavar="NAME|KINDS",
-    help="Gates the output may use; every input gate must be one of them. 'auto' = the smallest preset "
-    "holding the input's gates (nct, mct, mixed, nct-swap, mct-swap, mixed-swap, nct-peres). Presets: "
-    + "; ".join(f"{k} = {v}" for k, v in PRESETS.items())
-    + ". Or a comma-separated list of kinds: "
-    + ", ".join(KINDS)
-    + ".",
-)
-@max_controls_option
-@coupling_option
-@click.option(
-    "--objective",
-    type=Choice(["gates", "gates-then-cost"]),
-    default="gates",
-    show_default=True,
-    help="What a replacement must lower: the gate count, or the gate count and then the --cost among "
-    "circuits with as many gates.",
-)
-@click.option(
-    "--cost",
-    "cost_name",
-    default="ncv",
-    show_default=True,
-    metavar="MODEL|FILE",
-    help="Cost for gates-then-cost: ncv (NOT 1, CNOT 1, Toffoli 5), t-count or cnot-count (of the Clifford+T "
-    "decomposition), or a TOML/JSON table of gate names to integer costs.",
-)
-@click.option(
-    "--window",
-    type=click.IntRange(1, 4),
-    default=3,
-    show_default=True,
-    help="Largest number of lines of a window. 3: exhaustive tables of every 3-line function. 4: a 4-line "
-    "distance table (about 3 s to build) and a bounded meet in the middle; objective gates only.",
-)
-@click.option(
-    "--horizon",
-    type=click.IntRange(1, None),
-    default=DEFAULT_HORIZON,
-    show_default=True,
-    help="Gates a window's growth looks past the last gate that joined it (more: finds more, slower).",
-)
-@click.option(
-    "--seed",
-    type=int,
-    default=0,
-    show_default=True,
-    help="Seed of the random inputs of the equivalence check on circuits of more than 24 lines.",
-)
-@click.option(
-    "--log",
-    "log_path",
-    metavar="FILE",
-    type=click.Path(dir_okay=False),
-    help="Write the JSON log here (default: beside OUT, as OUT's name with .log.json).",
-)
-@click.option("--no-log", is_flag=True, help="Do not write the JSON log.")
-@click.option("-q", "--quiet", is_flag=True, help="No summary and no progress bar.")
+@_with_options
 def optimise(
     input_file: str,
     output: str | None,
@@ -190,6 +144,7 @@ def optimise(
     seed: int,
     log_path: str | None,
     no_log: bool,
+    show_progress: bool,
     quiet: bool,
 ) -> None:
     """Make a whole circuit smaller: replace every small window by a proven-optimal circuit.
@@ -199,8 +154,8 @@ def optimise(
     exhaustive tables; when a proven-optimal circuit for it is smaller, it replaces the
     window.  This repeats until nothing changes.  The output is then compared with the
     input: every input state up to 24 lines, a seeded sample of 131072 random states
-    beyond.  IN and OUT are OpenQASM 2/3 (any number of registers; gate definitions are
-    read by their unitary) or exactsyn's JSON.
+    beyond.  IN and OUT are {readable} (OpenQASM: any number of registers; gate
+    definitions are read by their unitary).
 
     \b
     Examples:
@@ -213,13 +168,12 @@ def optimise(
     and a JSON log written beside OUT.  Exit status: 0 written, 1 the equivalence check
     failed (a bug; nothing written), 2 bad input (nothing written).
     """
-    bar = _Bar(not quiet)
     try:
         circuit, layout, input_format = read_circuit_layout(input_file)
         check_layout(layout, circuit.lines)
         out_format = output_format(fmt, output, input_format)
-        log = None if no_log else (log_path or (str(Path(output).with_suffix(".log.json")) if output else None))
-        try:
+        log = None if no_log else (log_path or (log_path_for(output) if output else None))
+        with OptimiseDisplay(choose_mode(quiet, show_progress)) as display:
             result = optimise_circuit(
                 circuit,
                 library=library_name,
@@ -230,26 +184,14 @@ def optimise(
                 window=window,
                 horizon=horizon,
                 seed=seed,
-                progress=bar,
-            )
-        finally:
-            bar.close()
-        text = str(render(result.output, out_format, layout=layout, header=qasm_header(result)))
-        back, back_layout = _read_back(text)
-        again = check_equivalent(back, result.output, seed=seed)
-        if not again.equal or back_layout != layout:
-            raise EquivalenceError(
-                f"internal error: the written {out_format} does not read back as the optimised circuit; nothing written"
+                progress=display,
             )
         if output is None:
-            click.echo(text, nl=False)
+            click.echo(checked_text(result, out_format, layout=layout, seed=seed), nl=False)
         else:
-            write_data(text, output)
+            write_checked(result, out_format, output, layout=layout, seed=seed)
         if log is not None:
-            record = result_to_dict(result, input=input_file, output=output, format=out_format)
-            if not layout.is_single:
-                record["registers"] = layout.to_dict()
-            write_data(json.dumps(record, indent=2) + "\n", log)
+            write_log(result, log, input=input_file, output=output, fmt=out_format, layout=layout)
         if not quiet:
             click.echo(summary_text(result), nl=False, err=output is None)
             if log is not None:

@@ -11,8 +11,8 @@ The scheme every command follows (README "Options"):
 * ``-q/--quiet``: nothing on stderr but errors; ``--progress``: live progress even when
   stderr is not a terminal.
 
-Spellings of an earlier release stay for one release and print a one-line note
-(:func:`deprecated`).
+Spellings of the previous release are refused (:data:`REMOVED_SPELLINGS`): the one-line
+error names what replaced them.
 """
 
 from __future__ import annotations
@@ -24,14 +24,15 @@ from typing import Any
 import click
 
 from exactsyn.api.synthesis import Request
+from exactsyn.core.costs import OBJECTIVES
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError, did_you_mean
+from exactsyn.io import formats as _formats  # registers the built-in formats
 from exactsyn.sat.conquer import SPLIT_MODES
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
 from exactsyn.sat.options import BOUNDS, search_options
 from exactsyn.sat.solve import SOLVERS
-from exactsyn.search.objectives import OBJECTIVES
 
 F = Callable[..., Any]
 
@@ -47,9 +48,38 @@ class Choice(click.Choice):  # type: ignore[type-arg]
             self.fail(f"{value!r} is not one of {', '.join(names)}{did_you_mean(value, names)}", param, ctx)
 
 
-def deprecated(old: str, new: str) -> None:
-    """The one-line note for an old spelling (kept for one release)."""
-    click.echo(f"exactsyn: note: {old} is deprecated and goes in the next release; use {new}", err=True)
+class FormatChoice(Choice):
+    """``--format``: the registered formats (of one kind, or with a reader), looked up when asked,
+    so a format registered after this option was made is a choice too."""
+
+    def __init__(self, kind: str | None = None, *, readable: bool = False) -> None:
+        self.kind, self.readable = kind, readable
+        super().__init__([])
+
+    @property  # type: ignore[override]
+    def choices(self) -> tuple[str, ...]:
+        return _formats.registry.names(self.kind, readable=self.readable)
+
+    @choices.setter
+    def choices(self, value: object) -> None:
+        pass  # click.Choice.__init__ stores its list; the registry is the list here
+
+
+def with_formats(command: click.Command) -> click.Command:
+    """Put the registry's readable formats into a command's help where it says ``{readable}``."""
+    if command.help:
+        command.help = command.help.replace("{readable}", _formats.registry.describe(readable=True))
+    return command
+
+
+#: Spellings of the previous release, by command: the old option (or ``ARGUMENT`` for a
+#: positional argument that became an option) and what to write now.  Click refuses them
+#: as unknown; :func:`exactsyn.cli.main.click_message` adds the new spelling.
+REMOVED_SPELLINGS: dict[str, dict[str, str]] = {
+    "synth": {"--all": "--optima all", "--count": "--optima count", "--all-limit": "--optima-limit N"},
+    "batch": {"--all": "--every N", "--count": "--sample K"},
+    "report": {"ARGUMENT": "--store FILE"},
+}
 
 
 def jobs_option(default: int | None, help_text: str) -> Callable[[F], F]:

@@ -1,8 +1,9 @@
 """The ``exactsyn draw`` and ``exactsyn report`` commands.
 
-``draw`` draws a saved circuit (JSON or OpenQASM 2/3, as ``exactsyn apply`` reads it) as
-SVG, PNG or a terminal drawing; ``report`` writes one self-contained HTML page for a
-batch of a results store.  Exit status: 0 written, 2 bad input (one line on stderr).
+``draw`` draws a saved circuit (any format :mod:`exactsyn.io.registry` reads, as
+``exactsyn apply`` reads it) in a picture format of the registry (SVG, PNG, a terminal
+drawing); ``report`` writes one self-contained HTML page for a batch of a results store.
+Exit status: 0 written, 2 bad input (one line on stderr).
 """
 
 from __future__ import annotations
@@ -14,9 +15,10 @@ import click
 from exactsyn.batch.html_report import build_report
 from exactsyn.cli.batch import DEFAULT_STORE
 from exactsyn.cli.common import emit, fail
-from exactsyn.cli.options import Choice, deprecated, store_option
+from exactsyn.cli.options import FormatChoice, store_option, with_formats
 from exactsyn.errors import ExactsynError
-from exactsyn.io.formats import PICTURE_FORMATS, check_writable, format_for, read_circuit_layout, render
+from exactsyn.io.formats import check_writable, format_for, read_circuit_layout, render
+from exactsyn.io.registry import PICTURE, suffixes
 
 DEFAULT_WRAP = 40  # gate columns per row of a drawing
 
@@ -31,13 +33,14 @@ def parse_labels(text: str | None) -> list[str] | None:
     return names
 
 
-@click.command()
+@with_formats
+@click.command(short_help="Draw a saved circuit as SVG, PNG or a terminal drawing.")
 @click.argument("circuit_file", type=click.Path(dir_okay=False))
 @click.option(
     "--format",
     "fmt",
-    type=Choice(PICTURE_FORMATS),
-    help="Picture format; default from the -o suffix (.svg, .png, .txt), text on stdout.",
+    type=FormatChoice(PICTURE),
+    help=f"Picture format; default from the -o suffix ({', '.join(suffixes(PICTURE))}), text on stdout.",
 )
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the picture here, not stdout.")
 @click.option("--packed", is_flag=True, help="Draw parallel layers: gates on disjoint lines side by side.")
@@ -51,7 +54,7 @@ def parse_labels(text: str | None) -> list[str] | None:
     help="Gate columns per row of an svg/png picture before it wraps; 0 = never wrap.",
 )
 def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, labels: str | None, wrap: int) -> None:
-    """Draw a saved circuit (JSON or OpenQASM 2/3) as SVG, PNG or a terminal drawing.
+    """Draw a saved circuit ({readable}) as SVG, PNG or a terminal drawing.
 
     One wire per line, line 0 at the top; filled dot = control, hollow dot = negative
     control, circled plus = target, a cross on both lines = swap; gates in application
@@ -68,7 +71,7 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
     try:
         if wrap < 0:
             raise ExactsynError("--wrap must be 0 (never wrap) or more")
-        chosen = format_for(output, fmt, PICTURE_FORMATS)
+        chosen = format_for(output, fmt, PICTURE)
         if packed and chosen == "text":
             raise ExactsynError("--packed is for svg and png; the terminal drawing has one gate per column")
         circuit, layout, _ = read_circuit_layout(circuit_file)  # several registers label the lines
@@ -79,7 +82,6 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
 
 
 @click.command()
-@click.argument("old_store", metavar="[STORE]", required=False, type=click.Path(dir_okay=False))
 @store_option(DEFAULT_STORE)
 @click.option("-o", "--output", required=True, type=click.Path(dir_okay=False), help="The HTML file to write.")
 @click.option("--batch", "batch_id", metavar="ID", help="Batch id (a prefix will do); default the last one run.")
@@ -89,7 +91,7 @@ def draw(circuit_file: str, fmt: str | None, output: str | None, packed: bool, l
     is_flag=True,
     help="Re-check every certificate now (as 'exactsyn check' does) instead of reporting the stored verdict.",
 )
-def report(old_store: str | None, store_path: str, output: str, batch_id: str | None, recheck: bool) -> None:
+def report(store_path: str, output: str, batch_id: str | None, recheck: bool) -> None:
     """Write one self-contained HTML page for a batch of a results store.
 
     The page shows the distribution table and its bar chart, and for each stored
@@ -102,9 +104,6 @@ def report(old_store: str | None, store_path: str, output: str, batch_id: str | 
       exactsyn report --store nct3.sqlite -o nct3.html
     """
     try:
-        if old_store is not None:
-            deprecated(f"'report {old_store}'", f"'report --store {old_store}'")
-            store_path = old_store
         if Path(output).suffix.lower() not in (".html", ".htm"):
             raise ExactsynError(f"the report is an HTML page: give -o a file ending .html, not {output}")
         check_writable(output, "report file")

@@ -1,109 +1,94 @@
-"""Live progress of ``exactsyn synth`` on stderr (rich).
+"""The one progress display of the command line: rich, on stderr.
 
-What the search reports (:mod:`exactsyn.search.events`) is shown in one of three modes:
+Three modes (:func:`choose_mode`):
 
-* ``live`` (stderr is a terminal, or ``--progress``): a spinner line with a running timer
-  for the current phase — "building distance table of nct … 3.2 s", "k = 12: SAT solver
-  running … 41.0 s of 120" — and one permanent line per finished step: each answered
-  query, the fallback circuit, "k = 8..11 excluded by the table"; while a query is split
-  into cubes (:mod:`exactsyn.sat.conquer`), the timer line counts them — "k = 11: cubes
-  12/25 (unsat 12), 5:10 elapsed, ETA 5:40" — and a permanent line is printed when the
-  split starts, every :data:`CUBE_LINE_SECONDS` while it runs, and when it ends;
-* ``plain`` (``--progress`` on a non-terminal, e.g. a log file): the permanent lines
-  only, no animation;
-* ``off`` (``-q``, or stderr is not a terminal and ``--progress`` was not given).
+* ``live`` (stderr is a terminal): a line with a spinner and a running timer for what runs
+  now (:meth:`Display.status`), a bar when the work has a size (:meth:`Display.update`),
+  and permanent lines (:meth:`Display.line`) printed above them;
+* ``plain`` (not a terminal — a log file, a cluster job's output — where the command
+  shows progress there by default or was given ``--progress``): the permanent lines, and
+  the bar as one plain line at most every :data:`PLAIN_SECONDS` and once at the end;
+* ``off`` (``-q``, or not a terminal and no ``--progress`` where that is needed).
 
-The display only formats; it never changes what is computed.
+What each command shows is a small adapter over :class:`Display`:
+:mod:`exactsyn.cli.synth_display` (``synth``: the search's steps and queries),
+:mod:`exactsyn.cli.batch_display` (``batch``: items, rate, ETA), :class:`OptimiseDisplay`
+(``optimise``: rounds and the equivalence check) and :func:`step_bar` (``tables
+build/verify``: a described bar).  The library never prints:
+it reports through callbacks, and the display only formats what it is handed.
 """
 
 from __future__ import annotations
 
 import time
-from typing import Any
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from typing import Any, Self
 
-from rich.console import Console
+from rich.console import Console, Group, RenderableType
 from rich.live import Live
+from rich.progress import (
+    BarColumn,
+    MofNCompleteColumn,
+    Progress,
+    ProgressColumn,
+    TaskID,
+    TaskProgressColumn,
+    TextColumn,
+    TimeElapsedColumn,
+)
 from rich.spinner import Spinner
 from rich.text import Text
 
-from exactsyn.core.words import count
-from exactsyn.sat.conquer import CubeEvent
-from exactsyn.sat.query import Query
-from exactsyn.sat.status import Status
-from exactsyn.search.events import SearchEvent
+from exactsyn.optimise.driver import ProgressEvent
 
 MODES = ("live", "plain", "off")
-#: A permanent cube-count line at most this often (the live line updates on every cube).
-CUBE_LINE_SECONDS = 30.0
+#: A plain progress line (not on a terminal) at most this often.
+PLAIN_SECONDS = 10.0
 
 
 def choose_mode(quiet: bool, forced: bool, console: Console | None = None) -> str:
-    """``off`` with ``-q``; ``live`` on a terminal; ``plain`` when forced onto a non-terminal."""
+    """``off`` with ``-q``; ``live`` on a terminal; ``plain`` when forced onto a non-terminal, else ``off``."""
     if quiet:
         return "off"
-    terminal = (console or Console(stderr=True)).is_terminal
-    if terminal:
+    if (console or Console(stderr=True)).is_terminal:
         return "live"
     return "plain" if forced else "off"
 
 
-def query_line(q: Query) -> str:
-    """One answered query: ``k=5   UNSAT     0.07 s   (551 vars, 9577 clauses, 2355 conflicts)``."""
-    if q.objective != "gates":
-        return f"{q.label():<18} {q.status.upper():<7} {q.seconds:8.2f} s"
-    conflicts = "conflicts not reported" if q.conflicts is None else f"{q.conflicts} conflicts"
-    return (
-        f"k={q.k:<3} {q.status.upper():<7} {q.seconds:8.2f} s"
-        f"   ({q.variables} vars, {q.clauses} clauses, {conflicts}; {q.solver or 'solver'}"
-        + ("" if q.split is None else f"; {count(len(q.split.cubes), 'cube')}")
-        + ")"
-    )
-
-
-def _clock(seconds: float) -> str:
+def clock(seconds: float) -> str:
+    """``5:10``, or ``1:02:03`` from an hour on."""
     m, s = divmod(int(seconds), 60)
     h, m = divmod(m, 60)
     return f"{h}:{m:02d}:{s:02d}" if h else f"{m}:{s:02d}"
 
 
-def cube_line(k: int, done: int, total: int, counts: dict[str, int], elapsed: float) -> str:
-    """``k = 11: cubes 12/25 (unsat 12), 5:10 elapsed, ETA 5:40`` (the ETA from the mean cube so far)."""
-    parts = ", ".join(f"{name} {n}" for name, n in counts.items() if n)
-    eta = f", ETA {_clock(elapsed / done * (total - done))}" if 0 < done < total else ""
-    return f"k = {k}: cubes {done}/{total}" + (f" ({parts})" if parts else "") + f", {_clock(elapsed)} elapsed{eta}"
+@dataclass(frozen=True)
+class BarState:
+    """The bar as a plain line sees it."""
+
+    description: str
+    done: int
+    total: int
+    elapsed: float  # seconds since the bar started
+    fields: dict[str, Any]
 
 
-def event_line(e: SearchEvent) -> str | None:
-    """The permanent line of a finished step, or ``None`` for phases shown only live."""
-    if e.phase == "table-done":
-        took = f"{e.seconds:.1f} s" if e.seconds is not None else ""
-        if e.value is None:
-            return f"{e.detail}: stopped at the time limit after {took}"
-        return f"{e.detail}: done in {took}"
-    if e.phase == "table-bound":
-        if e.low == e.high:
-            return f"k = {e.low} excluded by the table"
-        return f"k = {e.low}..{e.high} excluded by the table"
-    if e.phase in ("fallback", "sub-library"):
-        return f"upper bound: {_gates(e.value)} ({e.detail})"
-    return None
-
-
-def _gates(n: int | None) -> str:
-    return "no circuit" if n is None else count(n, "gate")
+def default_plain_line(bar: BarState) -> str:
+    """``round 2: 1200/2200 (gates 980), 0:14 elapsed``."""
+    extra = ", ".join(f"{k} {v}" for k, v in bar.fields.items())
+    extra = f" ({extra})" if extra else ""
+    return f"{bar.description}: {bar.done}/{bar.total}{extra}, {clock(bar.elapsed)} elapsed"
 
 
 class _Now:
-    """The live line: a spinner, what runs, and its running time (re-rendered by rich)."""
+    """The status line: a spinner, what runs, and its running time (re-rendered by rich)."""
 
     def __init__(self) -> None:
         self.spinner = Spinner("dots")
-        self.label = "starting"
+        self.label: str | None = None
         self.since = time.perf_counter()
         self.budget: float | None = None
-
-    def set(self, label: str, budget: float | None = None) -> None:
-        self.label, self.since, self.budget = label, time.perf_counter(), budget
 
     def __rich__(self) -> Spinner:
         elapsed = time.perf_counter() - self.since
@@ -112,76 +97,138 @@ class _Now:
         return self.spinner
 
 
-class SynthProgress:
-    """The ``progress`` callback of :func:`exactsyn.synthesise` for the command line (module docstring)."""
+class Display:
+    """Context manager: the live region, the plain lines, or nothing (module docstring).
 
-    def __init__(self, mode: str, console: Console | None = None) -> None:
+    ``columns`` are the bar's rich columns (default: description, bar, percentage,
+    elapsed); ``transient`` clears the live region at the end (else the last bar stays);
+    ``delay`` holds the live region back until the work has taken that long;
+    ``plain_line`` formats the bar for plain mode.
+    """
+
+    def __init__(
+        self,
+        mode: str,
+        console: Console | None = None,
+        *,
+        columns: Sequence[str | ProgressColumn] = (),
+        transient: bool = True,
+        delay: float = 0.0,
+        plain_line: Callable[[BarState], str] = default_plain_line,
+        every: float = PLAIN_SECONDS,
+    ) -> None:
         if mode not in MODES:
             raise ValueError(f"unknown progress mode {mode!r}")
         self.mode = mode
         self.console = console or Console(stderr=True, highlight=False)
+        self.transient, self.delay, self.every, self.plain_line = transient, delay, every, plain_line
         self.now = _Now()
+        columns = columns or (TextColumn("{task.description}"), BarColumn(), TaskProgressColumn(), TimeElapsedColumn())
+        self.bars = Progress(*columns, console=self.console, auto_refresh=False, speed_estimate_period=60)
+        self.task: TaskID | None = None
         self.live: Live | None = None
-        self._cubes: dict[str, int] = {}
-        self._cube_start = self._cube_said = 0.0
+        self.started = time.monotonic()
+        self._bar_started = self._said = self.started
+        self._state: BarState | None = None
 
-    def __enter__(self) -> SynthProgress:
-        if self.mode == "live" and self.console.is_terminal:
-            self.live = Live(self.now, console=self.console, refresh_per_second=8, transient=True)
-            self.live.start()
+    def __enter__(self) -> Self:
+        self._show()
         return self
 
     def __exit__(self, *exc: object) -> None:
         self.close()
 
     def close(self) -> None:
+        """Stop the live region; in plain mode say where the bar ended."""
         if self.live is not None:
             self.live.stop()
             self.live = None
+        elif self.mode == "plain" and self._state is not None:
+            self.line(self.plain_line(self._state))
+            self._state = None
+
+    def __rich__(self) -> RenderableType:
+        parts: list[RenderableType] = []
+        if self.now.label is not None:
+            parts.append(self.now)
+        if self.task is not None:
+            parts.append(self.bars)
+        return Group(*parts)
+
+    def _show(self) -> None:
+        """Start the live region once it is due (a terminal, live mode, past ``delay``)."""
+        if self.live is not None or self.mode != "live" or not self.console.is_terminal:
+            return
+        if time.monotonic() - self.started < self.delay:
+            return
+        self.live = Live(self, console=self.console, refresh_per_second=8, transient=self.transient)
+        self.live.start()
 
     def line(self, text: str) -> None:
+        """A permanent line (live and plain)."""
         if self.mode != "off":
             self.console.print(text, markup=False, highlight=False, soft_wrap=True)
 
-    def cube(self, event: CubeEvent) -> None:
-        """A solved cube (or the start of a split): per-cube counts on the timer line (module docstring)."""
-        if self.mode == "off":
-            return
-        now = time.perf_counter()
-        if event.phase == "start":
-            self._cubes, self._cube_start = {"unsat": 0, "sat": 0, "unknown": 0}, now
-            self._cube_said = now
-            self.line(f"k = {event.k}: split into {count(event.total, 'cube')}")
-        elif event.phase == "cube":
-            self._cubes[event.status] = self._cubes.get(event.status, 0) + 1
-        text = cube_line(event.k, event.done, event.total, self._cubes, now - self._cube_start)
-        if event.phase == "start":
-            self.now.set(text)
-        else:
-            self.now.label = text  # the timer keeps counting from the split
-        if event.phase == "end" or (event.phase == "cube" and now - self._cube_said >= CUBE_LINE_SECONDS):
-            self._cube_said = now
-            self.line(text)
+    def status(self, label: str, budget: float | None = None, *, restart: bool = True) -> None:
+        """What runs now, on the status line with its running time and the time left (``budget``).
 
-    def __call__(self, item: Any) -> None:
+        ``restart=False`` only relabels: the timer and the time left stay.
+        """
+        self.now.label = label
+        if restart:
+            self.now.since, self.now.budget = time.perf_counter(), budget
+        self._show()
+
+    def update(self, description: str, done: int, total: int, /, **fields: Any) -> None:
+        """The bar: ``done`` of ``total`` (a new bar when there was none)."""
         if self.mode == "off":
             return
-        if isinstance(item, Query):
-            self.line(query_line(item))
-            if item.status != Status.UNKNOWN:
-                self.now.set("next step")
-            return
-        if isinstance(item, CubeEvent):
-            self.cube(item)
-            return
-        if not isinstance(item, SearchEvent):
-            return
-        if item.phase == "table-start":
-            self.now.set(f"building {item.detail}")
-            if self.live is None:
-                self.line(f"building {item.detail} …")
-        elif item.phase == "query-start":
-            self.now.set(f"k = {item.k}: SAT solver running", item.seconds)
-        text = event_line(item)
-        if text is not None:
-            self.line(text)
+        now = time.monotonic()
+        if self.task is None:
+            self.task = self.bars.add_task(description, total=max(total, 1), **fields)
+            self._bar_started = self._said = now
+        self.bars.update(self.task, description=description, completed=done, total=max(total, 1), **fields)
+        self._state = BarState(description, done, total, now - self._bar_started, dict(fields))
+        self._show()
+        if self.mode == "plain" and now - self._said >= self.every:
+            self._said = now
+            self.line(self.plain_line(self._state))
+
+    def reset(self) -> None:
+        """Drop the bar (the next :meth:`update` starts a new one with its own clock)."""
+        if self.task is not None:
+            self.bars.remove_task(self.task)
+            self.task = None
+            self._state = None
+
+
+def step_bar(display: Display, label: str = "") -> Callable[[str, int, int], None]:
+    """A ``progress(description, done, total)`` callback (tables build and verify) drawing ``label: description``."""
+
+    def update(description: str, done: int, total: int) -> None:
+        display.update(f"{label}: {description}" if label else description, done, total)
+
+    return update
+
+
+class OptimiseDisplay(Display):
+    """The ``progress`` callback of :func:`exactsyn.optimise.optimise_circuit`: a bar per round and one for
+    the equivalence check, shown once the work has taken more than a second."""
+
+    def __init__(self, mode: str, console: Console | None = None) -> None:
+        columns = (
+            TextColumn("{task.description}"),
+            BarColumn(bar_width=30),
+            MofNCompleteColumn(),
+            TextColumn("gates {task.fields[gates]}"),
+            TimeElapsedColumn(),
+        )
+        super().__init__(mode, console, columns=columns, delay=1.0)
+        self._phase = ""
+
+    def __call__(self, event: ProgressEvent) -> None:
+        label = f"round {event.round}" if event.phase == "optimise" else "equivalence check"
+        if label != self._phase:
+            self.reset()
+            self._phase = label
+        self.update(label, event.done, event.total, gates=event.gates)

@@ -2,7 +2,7 @@
 
 The output format is ``--format``, else the suffix of ``-o``, else text on stdout.  The
 summary line is printed once: as the ``#`` header of text on stdout, otherwise on stderr.
-Progress is shown by :mod:`exactsyn.cli.progress`.
+Progress is shown by :mod:`exactsyn.cli.synth_display`.
 
 Exit status: 0 a circuit was printed, 1 no circuit within the limits (or none exists),
 2 bad input (one line on stderr).
@@ -29,6 +29,7 @@ from exactsyn.api.view import (
 from exactsyn.cli.common import emit, fail
 from exactsyn.cli.options import (
     Choice,
+    FormatChoice,
     bounds_option,
     cost_option,
     coupling_option,
@@ -46,11 +47,13 @@ from exactsyn.cli.options import (
     split_option,
     synthesis_request,
 )
-from exactsyn.cli.progress import SynthProgress, choose_mode
+from exactsyn.cli.progress import choose_mode
+from exactsyn.cli.synth_display import SynthDisplay
 from exactsyn.errors import ExactsynError, NoCircuitError
-from exactsyn.io.formats import CIRCUIT_FORMATS, check_writable, format_for, read_circuit_layout, render
+from exactsyn.io.formats import check_writable, format_for, read_circuit_layout, render
 from exactsyn.io.layout import Layout
 from exactsyn.io.qasm import clifford_t_to_qasm2, clifford_t_to_qasm3
+from exactsyn.io.registry import suffixes
 from exactsyn.search.fallback import Suggestion
 from exactsyn.specification.reversible import Spec, parse_cycles, parse_perm
 
@@ -160,9 +163,8 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
 @click.option(
     "--format",
     "fmt",
-    type=Choice(CIRCUIT_FORMATS),
-    help="Output format; default from the -o suffix (.txt .json .qasm .qasm2 .qasm3 .svg .png), text on stdout. "
-    "Wins over the suffix.",
+    type=FormatChoice(),
+    help=f"Output format; default from the -o suffix ({' '.join(suffixes())}), text on stdout. Wins over the suffix.",
 )
 @click.option(
     "-o", "--output", type=click.Path(dir_okay=False), metavar="FILE", help="Write the result here, not stdout."
@@ -283,7 +285,7 @@ def synth(
         if asked["optima"] is not None and chosen not in ("text", "json"):
             raise ExactsynError("--optima prints text or json (one circuit per file otherwise)")
         request = synthesis_request(asked)
-        display = SynthProgress(choose_mode(quiet, show_progress))
+        display = SynthDisplay(choose_mode(quiet, show_progress))
         try:
             with display:
                 syn = synthesise_request(function, request, observer=display)

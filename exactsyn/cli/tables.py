@@ -5,12 +5,11 @@ Only parsing and printing; the work is :mod:`exactsyn.tables` (build, info, veri
 
 from __future__ import annotations
 
-from collections.abc import Iterator
-from contextlib import contextmanager
-
 import click
 
 from exactsyn.cli.common import fail
+from exactsyn.cli.options import progress_option
+from exactsyn.cli.progress import Display, choose_mode, step_bar
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError, did_you_mean
 
@@ -42,31 +41,6 @@ def _size(n: int) -> str:
     return f"{n} B"  # pragma: no cover
 
 
-@contextmanager
-def _bar(quiet: bool, label: str) -> Iterator[object]:
-    """A rich progress bar on stderr fed by ``(description, done, total)`` callbacks."""
-    if quiet:
-        yield None
-        return
-    from rich.console import Console
-    from rich.progress import BarColumn, Progress, TaskProgressColumn, TextColumn, TimeElapsedColumn
-
-    with Progress(
-        TextColumn("{task.description}"),
-        BarColumn(),
-        TaskProgressColumn(),
-        TimeElapsedColumn(),
-        console=Console(stderr=True),
-        transient=True,
-    ) as bar:
-        task = bar.add_task("starting", total=1)
-
-        def update(description: str, done: int, total: int) -> None:
-            bar.update(task, description=f"{label}: {description}", completed=done, total=max(total, 1))
-
-        yield update
-
-
 @click.group()
 def tables() -> None:
     """The 4-line class tables: every 4-line permutation proven optimal in seconds.
@@ -94,8 +68,9 @@ def tables() -> None:
               help="Levels to store (default: mct 8, nct 8, mixed 6). Memory and disk grow about 12x per level.")
 @click.option("--rebuild", is_flag=True, help="Build again even when a table is cached (e.g. after info --hashes "
               "found it damaged).")
+@progress_option
 @click.option("-q", "--quiet", is_flag=True, help="No progress bar.")
-def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, quiet: bool) -> None:
+def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, show_progress: bool, quiet: bool) -> None:
     """Build the class tables into the cache; returns at once when they are there.
 
     A table already cached at the depth asked (or deeper) is only checked for its files
@@ -108,8 +83,8 @@ def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, quiet: b
     names = _libraries(libraries, DEFAULT_BUILD)
     try:
         for name in names:
-            with _bar(quiet, name) as update:
-                got = t.build(name, depth=depth, progress=update, force=rebuild)  # type: ignore[arg-type]
+            with Display(choose_mode(quiet, show_progress)) as display:
+                got = t.build(name, depth=depth, progress=step_bar(display, name), force=rebuild)
             click.echo(
                 f"{name}: depth {got.depth}, {count(sum(got.classes), 'class')}, {_size(got.bytes)} in {got.directory}"
                 f" (content hash {str(got.content_hash)[:16]})"
@@ -172,12 +147,13 @@ def counts(libraries: tuple[str, ...]) -> None:
         fail("no class table cached; build them with `exactsyn tables build`")
 
 
-@tables.command()
+@tables.command("verify")
 @click.option("--library", "libraries", multiple=True, metavar="NAME",
               help="nct, mct, mixed or all (default: all cached).")
 @click.option("-j", "--jobs", type=click.IntRange(1, 64), default=2, show_default=True, help="Worker processes.")
+@progress_option
 @click.option("-q", "--quiet", is_flag=True, help="No progress bar.")
-def verify(libraries: tuple[str, ...], jobs: int, quiet: bool) -> None:
+def verify_tables(libraries: tuple[str, ...], jobs: int, show_progress: bool, quiet: bool) -> None:
     """Re-check cached tables from their files alone, with a separate numpy implementation.
 
     Proves every level exact (closure under every gate, descent, canonical keys, class
@@ -194,8 +170,8 @@ def verify(libraries: tuple[str, ...], jobs: int, quiet: bool) -> None:
                 fail(f"no {name} table cached; build it with `exactsyn tables build --library {name}`")
             continue
         try:
-            with _bar(quiet, name) as update:
-                res = t.verify_table(name, workers=jobs, progress=update)  # type: ignore[arg-type]
+            with Display(choose_mode(quiet, show_progress)) as display:
+                res = t.verify_table(name, workers=jobs, progress=step_bar(display, name))
         except ExactsynError as e:
             fail(e.message)
         if res.ok:

@@ -297,7 +297,7 @@ def simulate(ct: CliffordT) -> np.ndarray:
     return state
 
 
-def verify(ct: CliffordT, circuit: Circuit) -> None:
+def check_clifford_t(ct: CliffordT, circuit: Circuit) -> None:
     """Refuse a decomposition that does not map every input ``|i>|0>`` exactly to ``|p[i]>|0>``."""
     out = simulate(ct)
     perm = circuit.permutation()

@@ -243,6 +243,18 @@ def library_costs(library: Library, model: CostModel, *, positive: bool = False)
     return costs
 
 
+#: What a search or an optimisation can minimise, by name (the one list: ``synth --objective``
+#: offers all of them, ``optimise --objective`` those a window replacement can lower).
+OBJECTIVES: Mapping[str, str] = MappingProxyType(
+    {
+        "gates": "fewest gates (the default)",
+        "gates-then-cost": "fewest gates, then the least cost among those",
+        "cost": "least cost over circuits of any length (may need more gates; small functions)",
+        "depth": "fewest layers, gates on disjoint lines sharing a layer",
+    }
+)
+
+
 def objective_value(circuit: Circuit, library: Library, costs: tuple[int, ...] | None) -> int:
     """The circuit's cost under ``costs`` (one per library gate), or its depth when ``costs`` is None."""
     if costs is None:

@@ -1,47 +1,40 @@
 """Circuits to and from files, with the format taken from the suffix unless one is given.
 
-Formats: ``json`` (:mod:`exactsyn.io.jsonio`), ``qasm2`` and ``qasm3``
-(:mod:`exactsyn.io.qasm`), ``text`` (the terminal drawing, :mod:`exactsyn.io.draw`),
-``svg`` and ``png`` (:mod:`exactsyn.io.svg`, :mod:`exactsyn.io.png`).  Suffixes:
-``.json``, ``.qasm`` (OpenQASM 2.0, the version every reader knows), ``.qasm2``,
-``.qasm3``, ``.txt``, ``.svg``, ``.png``; any other suffix is refused unless a format is
-given.  Reading tells JSON from OpenQASM by the first character (``{``).
+The formats are those of :mod:`exactsyn.io.registry` (built in: ``text``, ``json``,
+``qasm2``, ``qasm3``, ``svg``, ``png``; suffixes ``.txt``, ``.json``, ``.qasm`` (OpenQASM
+2.0, the version every reader knows), ``.qasm2``, ``.qasm3``, ``.svg``, ``.png``); any
+other suffix is refused unless a format is given.  Reading asks the registry which
+format a text is by its content (``{`` or a JSON list: JSON; ``OPENQASM``: OpenQASM),
+then by its suffix.
 """
 
 from __future__ import annotations
 
 import json
 import tomllib
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
-from exactsyn.io.draw import draw_text
-from exactsyn.io.jsonio import circuit_to_dict, load_json_circuit
-from exactsyn.io.layout import Layout, apply_layout, layout_from_dict
-from exactsyn.io.qasm import read_qasm_layout, to_qasm2, to_qasm3
-from exactsyn.io.svg import to_svg
+from exactsyn.io import registry
+from exactsyn.io.layout import Layout
+from exactsyn.io.registry import RenderOptions
 
-CIRCUIT_FORMATS = ("text", "json", "qasm2", "qasm3", "svg", "png")
-PICTURE_FORMATS = ("text", "svg", "png")
-SUFFIXES = {
-    ".json": "json",
-    ".qasm": "qasm2",
-    ".qasm2": "qasm2",
-    ".qasm3": "qasm3",
-    ".txt": "text",
-    ".svg": "svg",
-    ".png": "png",
-}
+#: The reader of a text no format claims by content or suffix: OpenQASM (which needs no
+#: header), whose error then says what is wrong with it.
+FALLBACK_READER = "qasm3"
 
 
-def format_for(path: str | Path | None, fmt: str | None = None, allowed: Sequence[str] = CIRCUIT_FORMATS) -> str:
+def format_for(path: str | Path | None, fmt: str | None = None, kind: str | None = None) -> str:
     """The format to write: ``fmt`` when given, else the one of ``path``'s suffix.
 
-    Raises :class:`ExactsynError` for a format outside ``allowed`` or an unknown suffix.
-    With neither (writing to stdout) the answer is ``text`` when allowed.
+    Only formats of ``kind`` (:data:`~exactsyn.io.registry.CIRCUIT` or
+    :data:`~exactsyn.io.registry.PICTURE`; ``None``: any) are allowed.  Raises
+    :class:`ExactsynError` for a format outside them or an unknown suffix.  With neither
+    (writing to stdout) the answer is ``text`` when allowed.
     """
+    allowed = registry.names(kind)
     if fmt is not None:
         if fmt not in allowed:
             raise ExactsynError(f"format {fmt!r} is not one of: {', '.join(allowed)}")
@@ -51,52 +44,49 @@ def format_for(path: str | Path | None, fmt: str | None = None, allowed: Sequenc
             return "text"
         raise ExactsynError(f"give a format: one of {', '.join(allowed)}")
     suffix = Path(path).suffix.lower()
-    chosen = SUFFIXES.get(suffix)
-    if chosen is None or chosen not in allowed:
-        known = ", ".join(s for s, f in SUFFIXES.items() if f in allowed)
+    claims = registry.by_suffix(suffix, kind)
+    if not claims:
+        known = ", ".join(registry.suffixes(kind))
         raise ExactsynError(f"cannot tell the format of {path} from its suffix {suffix or '(none)'!r}: use {known}")
-    return chosen
+    return claims[0].name
 
 
 def render(
     circuit: Circuit,
     fmt: str,
     *,
-    labels: list[str] | None = None,
+    labels: Sequence[str] | None = None,
     packed: bool = False,
     wrap: int | None = 40,
     header: Sequence[str] = (),
     layout: Layout | None = None,
 ) -> str | bytes:
-    """The circuit as ``fmt`` text (bytes for ``png``).
+    """The circuit as ``fmt`` text (bytes for ``png``), written by the registered format.
 
     ``header`` lines become QASM comments; ``layout`` names the registers (OpenQASM and
     JSON keep them, pictures label the lines with them unless ``labels`` are given).
     """
-    if packed and fmt not in ("svg", "png"):
-        raise ExactsynError("packed drawing is for svg and png; the terminal drawing has one gate per column")
-    named = layout is not None and not layout.is_single
-    if labels is None and named:
+    chosen = registry.get(fmt)
+    if packed and not chosen.packs:
+        packing = " and ".join(f.name for f in registry.formats() if f.packs)
+        raise ExactsynError(f"packed drawing is for {packing}; the terminal drawing has one gate per column")
+    options = RenderOptions(None if labels is None else tuple(labels), packed, wrap, tuple(header), layout)
+    if labels is None and options.named:
         assert layout is not None
-        labels = layout.labels()
-    if fmt == "json":
-        data = circuit_to_dict(circuit)
-        if named:
-            assert layout is not None
-            data["registers"] = layout.to_dict()
-        return json.dumps(data, indent=2) + "\n"
-    if fmt in ("qasm2", "qasm3"):
-        text = to_qasm2(circuit, header) if fmt == "qasm2" else to_qasm3(circuit, header)
-        return apply_layout(text, layout) if named and layout is not None else text
-    if fmt == "text":
-        return draw_text(circuit, labels)
-    if fmt == "svg":
-        return to_svg(circuit, labels, packed, wrap)
-    if fmt == "png":
-        from exactsyn.io.png import to_png  # matplotlib is slow to import; only for PNG
+        options = RenderOptions(tuple(layout.labels()), packed, wrap, tuple(header), layout)
+    return chosen.write(circuit, options)
 
-        return to_png(circuit, labels, packed, wrap)
-    raise ExactsynError(f"unknown format {fmt!r}; choose one of: {', '.join(CIRCUIT_FORMATS)}")
+
+def writer(fmt: str) -> Callable[[Circuit, str | Path], Path]:
+    """``write(circuit, path)`` in ``fmt`` whatever the suffix (the package root's ``write_<format>``)."""
+    registry.get(fmt)  # an unknown name fails here, not at the first call
+
+    def write(circuit: Circuit, path: str | Path) -> Path:
+        return write_circuit(circuit, path, fmt)
+
+    write.__name__ = write.__qualname__ = f"write_{fmt}"
+    write.__doc__ = f"Write ``circuit`` to ``path`` as {registry.get(fmt).title} whatever the suffix."
+    return write
 
 
 def path_problem(path: str | Path, error: OSError) -> str:
@@ -126,8 +116,12 @@ def check_writable(path: str | Path, what: str = "output file") -> None:
     tmp.unlink(missing_ok=True)
 
 
-def write_data(data: str | bytes, path: str | Path) -> Path:
-    """Write text or bytes atomically (a temporary file renamed into place)."""
+def write_data(data: str | bytes, path: str | Path, check: Callable[[Path], None] | None = None) -> Path:
+    """Write text or bytes atomically (a temporary file renamed into place).
+
+    ``check(temporary_path)`` runs on the written temporary file before it is renamed: when
+    it raises, the temporary file is removed and nothing is left at ``path``.
+    """
     p = Path(path)
     tmp = p.with_name(p.name + ".tmp")
     try:
@@ -135,14 +129,23 @@ def write_data(data: str | bytes, path: str | Path) -> Path:
             tmp.write_bytes(data)
         else:
             tmp.write_text(data if data.endswith("\n") else data + "\n", encoding="utf-8")
+        if check is not None:
+            check(tmp)
         tmp.replace(p)
     except OSError as e:
-        try:
-            tmp.unlink(missing_ok=True)
-        except OSError:
-            pass
+        _remove(tmp)
         raise ExactsynError(f"cannot write {p}: {path_problem(p, e)}") from None
+    except BaseException:
+        _remove(tmp)
+        raise
     return p
+
+
+def _remove(tmp: Path) -> None:
+    try:
+        tmp.unlink(missing_ok=True)
+    except OSError:
+        pass
 
 
 def write_circuit(circuit: Circuit, path: str | Path, fmt: str | None = None, **options: object) -> Path:
@@ -169,42 +172,43 @@ SPEC_KEYS = frozenset({"permutation", "cycles", "inputs", "outputs", "expression
 
 
 def kind_of_text(text: str, suffix: str = "") -> str:
-    """What a file holds, by suffix and content: ``json``, ``qasm``, ``spec`` (TOML), ``empty`` or ``unknown``.
+    """What a file holds: ``empty``, the name of a readable circuit format, ``spec`` (TOML) or ``unknown``.
 
-    ``.json``, a first character ``{`` or a JSON list is JSON; ``.qasm*`` or a first statement
-    ``OPENQASM`` is OpenQASM; a text that parses as TOML with a spec key (``permutation``,
-    ``cycles``, ``inputs``, ...) is a spec file.
+    In this order: the first registered format whose content test claims the text
+    (``.json``, a first character ``{`` or a JSON list is ``json``; a first statement
+    ``OPENQASM 2`` is ``qasm2``, any other ``OPENQASM`` is ``qasm3``); a text that parses
+    as TOML with a spec key (``permutation``, ``cycles``, ``inputs``, ...) is a spec file;
+    then the first readable format that claims the suffix (``.qasm*``).
     """
     stripped = text.lstrip("\ufeff \t\r\n")
     if not stripped:
         return "empty"
-    suffix = suffix.lower()
-    if suffix == ".json" or stripped[0] == "{":
-        return "json"
-    if stripped[0] == "[" and suffix != ".toml":  # a JSON list, or a TOML table header such as [constants]
-        try:
-            json.loads(text)
-            return "json"
-        except (json.JSONDecodeError, RecursionError):
-            pass
-    if stripped.startswith("OPENQASM"):
-        return "qasm"
+    claimed = registry.recognise(stripped, suffix)
+    if claimed is not None:
+        return claimed.name
     try:
         data = tomllib.loads(text)
     except (tomllib.TOMLDecodeError, ValueError, RecursionError):
         data = None
     if isinstance(data, dict) and SPEC_KEYS & set(data):
         return "spec"
-    return "qasm" if suffix in (".qasm", ".qasm2", ".qasm3") else "unknown"
+    by_suffix = registry.by_suffix(suffix, readable=True)
+    return by_suffix[0].name if by_suffix else "unknown"
+
+
+def is_circuit_kind(kind: str) -> bool:
+    """Is a :func:`kind_of_text` answer a readable circuit format?"""
+    return kind in registry.names(readable=True)
 
 
 def _refuse_non_circuit(kind: str, text: str, where: str) -> None:
+    readable = registry.describe(readable=True)
     if kind == "empty":
-        raise ExactsynError(f"{where} is empty: expected a circuit (OpenQASM 2/3 or exactsyn JSON)")
+        raise ExactsynError(f"{where} is empty: expected a circuit ({readable})")
     if kind == "spec":
         raise ExactsynError(
-            f"{where} is a spec file (TOML), not a circuit: this command reads circuits (OpenQASM 2/3 or "
-            "exactsyn JSON); give spec files to 'exactsyn synth'"
+            f"{where} is a spec file (TOML), not a circuit: this command reads circuits ({readable}); "
+            "give spec files to 'exactsyn synth'"
         )
     if kind == "json":
         try:
@@ -223,49 +227,30 @@ def _refuse_non_circuit(kind: str, text: str, where: str) -> None:
 
 
 def circuit_layout_from_text(text: str, path: str | Path | None = None) -> tuple[Circuit, Layout, str]:
-    """A saved circuit, its register layout, and its format (``json``, ``qasm2`` or ``qasm3``).
+    """A saved circuit, its register layout, and the name of its format (``json``, ``qasm2``, ...).
 
-    JSON when the text starts with ``{`` or the file ends ``.json`` (registers from its
-    optional ``registers`` key), OpenQASM otherwise (registers in declaration order).  An
-    empty file, a spec file, a JSON list or a certificate is refused with what it is.
+    The reader is the registered one of :func:`kind_of_text` (JSON: registers from its
+    optional ``registers`` key; OpenQASM: registers in declaration order), and
+    :data:`FALLBACK_READER` for a text no format claims.  An empty file, a spec file, a JSON
+    list or a certificate is refused with what it is.
     """
     kind = kind_of_text(text, Path(path).suffix if path is not None else "")
     _refuse_non_circuit(kind, text, str(path) if path is not None else "the input")
-    if kind == "json":
-        circuit = load_json_circuit(text)
-        data = json.loads(text)
-        regs = data.get("registers") if isinstance(data, dict) else None
-        layout = Layout.single(circuit.lines) if regs is None else layout_from_dict(regs, circuit.lines)
-        return circuit, layout, "json"
-    circuit, layout = read_qasm_layout(text)
-    return circuit, layout, "qasm2" if text.lstrip().startswith("OPENQASM 2") else "qasm3"
+    reader = registry.get(kind if is_circuit_kind(kind) else FALLBACK_READER).read
+    assert reader is not None
+    return reader(text)
 
 
 def circuit_from_text(text: str, path: str | Path | None = None) -> Circuit:
-    """A saved circuit: JSON when it starts with ``{``, OpenQASM otherwise."""
+    """A saved circuit read by its registered format (:func:`circuit_layout_from_text`)."""
     return circuit_layout_from_text(text, path)[0]
 
 
 def read_circuit_layout(path: str | Path) -> tuple[Circuit, Layout, str]:
-    """Read a saved circuit (JSON or OpenQASM 2/3) with its register layout and format."""
+    """Read a saved circuit (any readable format: JSON, OpenQASM 2/3) with its register layout and format."""
     return circuit_layout_from_text(read_text(path, "circuit file"), path)
 
 
 def read_circuit(path: str | Path) -> Circuit:
-    """Read a saved circuit (JSON or OpenQASM 2/3)."""
+    """Read a saved circuit (any readable format: JSON, OpenQASM 2/3)."""
     return read_circuit_layout(path)[0]
-
-
-def write_qasm2(circuit: Circuit, path: str | Path) -> Path:
-    """Write OpenQASM 2.0 whatever the suffix."""
-    return write_circuit(circuit, path, "qasm2")
-
-
-def write_qasm3(circuit: Circuit, path: str | Path) -> Path:
-    """Write OpenQASM 3.0 whatever the suffix."""
-    return write_circuit(circuit, path, "qasm3")
-
-
-def write_json(circuit: Circuit, path: str | Path) -> Path:
-    """Write the circuit as our JSON (``lines`` and ``gates``)."""
-    return write_circuit(circuit, path, "json")

@@ -338,11 +338,6 @@ def modifier_count(mod: Modifier, env: Mapping[str, float] | None = None) -> int
     return count
 
 
-def control_operands(call: Call, env: Mapping[str, float] | None = None) -> int:
-    """How many operands the call's control modifiers take (they come first)."""
-    return sum(modifier_count(m, env) for m in call.modifiers if m.word in ("ctrl", "negctrl"))
-
-
 # ---------------------------------------------------------------------------- reversible meaning
 def _add_controls(gates: Sequence[Gate], pos: Sequence[int], neg: Sequence[int]) -> tuple[Gate, ...]:
     out: list[Gate] = []

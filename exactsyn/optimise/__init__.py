@@ -8,13 +8,17 @@ Modules, one job each:
 * :mod:`~exactsyn.optimise.resynthesis` — optimal circuits of window permutations (interface and tables);
 * :mod:`~exactsyn.optimise.driver` — the passes, to a fixpoint, and :func:`optimise_circuit`;
 * :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
-* :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log.
+* :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log;
+* :mod:`~exactsyn.optimise.output` — the output file, read back and re-checked before it is kept.
+
+Imports: the base modules, :mod:`exactsyn.core`, :mod:`exactsyn.io` and :mod:`exactsyn.tables`
+(the exhaustive tables of windows); :mod:`exactsyn.search` uses it to shrink fallbacks.
 """
 
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
 from exactsyn.optimise.driver import (
     MAX_LINES,
-    OBJECTIVES,
+    WINDOW_OBJECTIVES,
     EquivalenceError,
     InternalCheckError,
     OptimiseResult,
@@ -28,7 +32,7 @@ from exactsyn.optimise.resynthesis import Optimum, TableResynthesis, WindowProbl
 
 __all__ = [
     "MAX_LINES",
-    "OBJECTIVES",
+    "WINDOW_OBJECTIVES",
     "EquivalenceCheck",
     "EquivalenceError",
     "GateSet",

@@ -44,10 +44,8 @@ from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis
 from exactsyn.optimise.windows import GatePool, Window, grow
 
-OBJECTIVES = {
-    "gates": "fewest gates",
-    "gates-then-cost": "fewest gates, then the least --cost among circuits with that many",
-}
+#: The objectives of :data:`exactsyn.core.costs.OBJECTIVES` a window replacement can lower.
+WINDOW_OBJECTIVES = ("gates", "gates-then-cost")
 #: Largest line count accepted (windows and random simulation have no hard limit; this keeps
 #: a mistyped register size from becoming a huge allocation).
 MAX_LINES = 1024
@@ -102,7 +100,7 @@ class OptimiseResult:
     seconds: float
 
 
-Progress = Callable[[ProgressEvent], None]
+OptimiseProgress = Callable[[ProgressEvent], None]
 
 
 def _gate_key(circuit: Circuit, model: CostModel | None) -> tuple[int, int]:
@@ -121,7 +119,7 @@ class _Passes:
         resynthesis: WindowResynthesis,
         width: int,
         horizon: int,
-        progress: Progress | None,
+        progress: OptimiseProgress | None,
     ) -> None:
         self.n = circuit.lines
         self.gates = gates
@@ -285,7 +283,7 @@ def optimise_circuit(
     horizon: int = DEFAULT_HORIZON,
     resynthesis: WindowResynthesis | None = None,
     seed: int = 0,
-    progress: Progress | None = None,
+    progress: OptimiseProgress | None = None,
 ) -> OptimiseResult:
     """Optimise ``circuit`` by exact resynthesis of its windows (module docstring).
 
@@ -302,8 +300,10 @@ def optimise_circuit(
         raise ExactsynError(f"the circuit has {n} lines; exactsyn optimises circuits of at most {MAX_LINES} lines")
     if not circuit.gates:
         raise ExactsynError("the circuit has no gates: nothing to optimise")
-    if objective not in OBJECTIVES:
-        raise ExactsynError(f"unknown objective {objective!r}; choose one of: {', '.join(OBJECTIVES)}")
+    if objective not in WINDOW_OBJECTIVES:
+        raise ExactsynError(
+            f"unknown objective {objective!r} for the optimiser; choose one of: {', '.join(WINDOW_OBJECTIVES)}"
+        )
     if horizon < 1:
         raise ExactsynError("the horizon must be 1 or more")
     gates = gate_set(library, n, circuit.gates, max_controls, coupling)

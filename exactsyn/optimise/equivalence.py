@@ -126,7 +126,7 @@ def simulate(state: np.ndarray, program: list[Compiled]) -> None:
             state[b] ^= d
 
 
-Progress = Callable[[int, int], None]
+CheckProgress = Callable[[int, int], None]
 
 
 def check_equivalent(
@@ -136,7 +136,7 @@ def check_equivalent(
     exhaustive_limit: int = EXHAUSTIVE_LINES,
     samples: int = RANDOM_INPUTS,
     seed: int = 0,
-    progress: Progress | None = None,
+    progress: CheckProgress | None = None,
 ) -> EquivalenceCheck:
     """Compare ``a`` and ``b`` (same line count) by simulation; see the module docstring."""
     if a.lines != b.lines:

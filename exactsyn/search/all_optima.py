@@ -34,7 +34,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Library
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import CostLimit, EncodingOptions, encode
-from exactsyn.search.loop import check_circuit
+from exactsyn.search.loop import verify_circuit
 from exactsyn.specification.reversible import Spec
 
 ENUM_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "trace", "touch"))
@@ -81,7 +81,7 @@ def enumerate_optimal(
                 break
             model = solver.get_model() or []
             circ = enc.decode(model)
-            check_circuit(circ, spec, library)
+            verify_circuit(circ, spec, library)
             count += 1
             if keep:
                 found.append(circ)

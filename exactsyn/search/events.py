@@ -41,11 +41,11 @@ class SearchEvent:
     detail: str = ""
 
 
-Progress = Callable[[Query | SearchEvent], None]
+SearchProgress = Callable[[Query | SearchEvent], None]
 """What ``progress`` callbacks receive: an answered :class:`Query` or a :class:`SearchEvent`."""
 
 
-def emit(progress: Progress | None, event: SearchEvent) -> None:
+def emit(progress: SearchProgress | None, event: SearchEvent) -> None:
     """Hand ``event`` to ``progress`` when there is one."""
     if progress is not None:
         progress(event)

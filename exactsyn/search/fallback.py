@@ -59,7 +59,7 @@ from exactsyn.core.library import Edge, Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.search.affine import affine_circuit, affine_parts
 from exactsyn.search.classtable import shorten
-from exactsyn.search.events import Progress, SearchEvent, emit
+from exactsyn.search.events import SearchEvent, SearchProgress, emit
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.rewrite import CannotRewrite, rewrite_circuit, uncoupled
 from exactsyn.specification.reversible import Spec
@@ -346,7 +346,7 @@ def _table_ready(library: Library) -> bool:
 
 
 # --------------------------------------------------------------------------- the search's hooks
-def initial_upper(spec: Spec, library: Library, deadline: float | None, progress: Progress | None) -> Fallback:
+def initial_upper(spec: Spec, library: Library, deadline: float | None, progress: SearchProgress | None) -> Fallback:
     """The upper bound the gate search starts from (:func:`fallback_circuit`), announced to ``progress``.
 
     Under a deadline it may take :data:`FALLBACK_SHARE` of the time left (its first
@@ -380,7 +380,7 @@ def sub_libraries(library: Library) -> list[Library]:
 
 
 def improve_upper(
-    upper: Fallback, spec: Spec, library: Library, deadline: float | None, progress: Progress | None
+    upper: Fallback, spec: Spec, library: Library, deadline: float | None, progress: SearchProgress | None
 ) -> Fallback:
     """A better upper bound once the search has consulted its distance table (full specs).
 

@@ -50,7 +50,7 @@ from exactsyn.specification.reversible import Spec
 from exactsyn.tables.distance import FULL, MeetResult, extended_meet_by
 from exactsyn.tables.hashed import five_meet, five_next_depth, five_table_ok
 
-__all__ = ["BOUNDS", "GateResult", "TableBound", "check_circuit", "minimise_gates"]
+__all__ = ["BOUNDS", "GateResult", "TableBound", "verify_circuit", "minimise_gates"]
 
 # Number of gates from which the distance table is consulted, by line count: building
 # the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
@@ -101,7 +101,7 @@ class TableBound:
 PLAIN = EncodingOptions("onehot", ())
 
 
-def check_circuit(circuit: Circuit, spec: Spec, library: Library) -> None:
+def verify_circuit(circuit: Circuit, spec: Spec, library: Library) -> None:
     """Simulate on every input; refuse to hand out a circuit that is wrong."""
     if circuit.lines != spec.lines or not spec.accepts(circuit.permutation()):
         raise RuntimeError("internal error: decoded circuit does not meet the spec")
@@ -170,7 +170,7 @@ class _GateSearch:
             lb = max(lb, len(circuit)) if optimal else lb
             circuit, optimal, source = None, False, "none"
         if circuit is not None:
-            check_circuit(circuit, self.spec, self.library)
+            verify_circuit(circuit, self.spec, self.library)
         fb = self.fallback
         return GateResult(
             spec=self.spec,

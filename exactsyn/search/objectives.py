@@ -33,7 +33,7 @@ import time
 from dataclasses import dataclass
 
 from exactsyn.core.circuit import Circuit
-from exactsyn.core.costs import CostModel, library_costs, objective_value
+from exactsyn.core.costs import OBJECTIVES, CostModel, library_costs, objective_value
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.encode import CostLimit, Encoding, EncodingOptions, encode
 from exactsyn.sat.encode_depth import encode_depth
@@ -41,14 +41,8 @@ from exactsyn.sat.options import DEFAULT_OPTIONS, NO_HOOKS, Hooks, SearchOptions
 from exactsyn.sat.query import Query, run_query
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import nonaffine_extra
-from exactsyn.search.loop import GateResult, check_circuit
+from exactsyn.search.loop import GateResult, verify_circuit
 
-OBJECTIVES = {
-    "gates": "fewest gates (the default)",
-    "gates-then-cost": "fewest gates, then the least cost among those",
-    "cost": "least cost over circuits of any length (may need more gates; small functions)",
-    "depth": "fewest layers, gates on disjoint lines sharing a layer",
-}
 COST_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "touch", "window2", "window3", "window4"))
 
 
@@ -109,7 +103,7 @@ def optimise(
         queries.append(ans.query)
         hooks.notify(ans.query)
         if ans.circuit is not None:
-            check_circuit(ans.circuit, spec, library)
+            verify_circuit(ans.circuit, spec, library)
         return ans.query, ans.circuit
 
     def done(optimal: bool, bound: int) -> ObjectiveResult:

@@ -1,8 +1,9 @@
 """Read a function from a file of any supported kind.
 
-* ``.qasm`` (OpenQASM 2.0 or 3.0, the gate set of :mod:`exactsyn.io.qasm`): the
-  circuit's function, as a full permutation, to be resynthesised optimally;
-* ``.json``: a saved circuit (as written by ``--format json``), likewise;
+* a saved circuit in any readable format of :mod:`exactsyn.io.registry` (OpenQASM 2.0 or
+  3.0 with the gate set of :mod:`exactsyn.io.qasm`, exactsyn JSON as written by
+  ``--format json``): the circuit's function, as a full permutation, to be resynthesised
+  optimally;
 * TOML: a permutation spec (``permutation`` / ``cycles``, :mod:`exactsyn.specification.reversible`) or a
   Boolean function (``inputs`` / ``outputs``, :mod:`exactsyn.specification.boolean`), embedded into
   a reversible spec by :mod:`exactsyn.specification.embed`.
@@ -14,19 +15,20 @@ import tomllib
 from pathlib import Path
 
 from exactsyn.errors import ExactsynError
-from exactsyn.io.formats import circuit_from_text, kind_of_text, read_text
+from exactsyn.io.formats import circuit_from_text, is_circuit_kind, kind_of_text, read_text
 from exactsyn.specification.boolean import function_from_mapping, is_function_mapping
 from exactsyn.specification.embed import Embedding, embed
 from exactsyn.specification.reversible import Spec, from_permutation, spec_from_mapping
 
 
 def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
+    """The function of a spec file or saved circuit, with the embedding of a Boolean function."""
     p = Path(path)
     text = read_text(p, "spec file")
     kind = kind_of_text(text, p.suffix)
     if kind == "empty":
         raise ExactsynError(f"spec file {p} is empty: expected a TOML spec, OpenQASM or exactsyn JSON circuit")
-    if kind in ("qasm", "json"):
+    if is_circuit_kind(kind):
         circ = circuit_from_text(text, p)
         return from_permutation(list(circ.permutation()), p.stem), None
     try:

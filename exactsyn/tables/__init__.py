@@ -37,6 +37,10 @@ Modules (one job each):
 What a proof from the tables trusts: the table's levels are exact (re-checkable with
 :func:`verify_table`, whose closure test needs no trust in the builder), the content hash
 names the table, and the claim for one function is re-run by :func:`check_claim`.
+
+Imports: the base modules and :mod:`exactsyn.core` (gates become keys in
+:mod:`~exactsyn.tables.gate_keys`); :mod:`exactsyn.sat`, :mod:`exactsyn.optimise`,
+:mod:`exactsyn.search` and :mod:`exactsyn.proof` build on it.
 """
 
 from __future__ import annotations

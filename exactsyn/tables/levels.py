@@ -32,7 +32,7 @@ from exactsyn.tables import storage
 from exactsyn.tables.gate_keys import GateSet
 
 #: ``progress(description, done, total)``; ``total`` may change between levels.
-Progress = Callable[[str, int, int], None]
+BuildProgress = Callable[[str, int, int], None]
 
 LOAD = 0.72  # target fill of the open-addressing set
 PAD = 4096  # slots after each region, so probes never wrap
@@ -70,7 +70,7 @@ def _level_step(
     estimate: int,
     out_path: Path,
     memory: int,
-    progress: Progress,
+    progress: BuildProgress,
     label: str,
 ) -> int:
     """Write the sorted mixed keys of the next level to ``out_path``; return their number."""
@@ -137,7 +137,7 @@ def _finish_level(directory: Path, level: int, count: int) -> dict[str, Any]:
 
 
 def build_levels(
-    gs: GateSet, depth: int, directory: Path, progress: Progress | None = None, memory: int = DEFAULT_MEMORY
+    gs: GateSet, depth: int, directory: Path, progress: BuildProgress | None = None, memory: int = DEFAULT_MEMORY
 ) -> list[dict[str, Any]]:
     """Levels ``0..depth`` into ``directory``; one manifest entry per level."""
     from exactsyn.tables import kernels as K
@@ -170,7 +170,7 @@ def build_levels(
 
 
 def build_table(
-    gs: GateSet, depth: int, directory: Path, progress: Progress | None = None, memory: int = DEFAULT_MEMORY
+    gs: GateSet, depth: int, directory: Path, progress: BuildProgress | None = None, memory: int = DEFAULT_MEMORY
 ) -> dict[str, Any]:
     """Build every level, hash the files and write the manifest (the last file written)."""
     report = progress or _noop

@@ -19,7 +19,7 @@ from typing import Any
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import storage
 from exactsyn.tables.gate_keys import TABLE_LIBRARIES, gate_set
-from exactsyn.tables.levels import DEFAULT_MEMORY, Progress, build_table
+from exactsyn.tables.levels import DEFAULT_MEMORY, BuildProgress, build_table
 
 #: Depth of the table built for each library.  ``mct``: levels 0..8 (about 2.4e8 classes,
 #: 1.9 GB) settle every function, the largest optimum being 15 = 8 + 7.  See
@@ -93,7 +93,7 @@ def _clean_stale(library: str, cache: Path | None) -> None:
 def build(
     library: str = "mct",
     depth: int | None = None,
-    progress: Progress | None = None,
+    progress: BuildProgress | None = None,
     cache: Path | None = None,
     memory: int = DEFAULT_MEMORY,
     force: bool = False,

@@ -23,7 +23,7 @@ from pathlib import Path
 from exactsyn.tables import perm4
 
 Z95 = 1.959963984540054
-Progress = Callable[[str, int, int], None]
+SampleProgress = Callable[[str, int, int], None]
 
 
 def population(even_only: bool) -> int:
@@ -112,7 +112,7 @@ def sample_distribution(
     n: int = 1000,
     seed: int = 0,
     cache: Path | None = None,
-    progress: Progress | None = None,
+    progress: SampleProgress | None = None,
     time_limit: float | None = None,
     start: int = 0,
 ) -> Distribution:

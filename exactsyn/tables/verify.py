@@ -60,7 +60,7 @@ from exactsyn.errors import ExactsynError
 CHECKER = "exactsyn.tables.verify/1"
 STAMP = "verified.json"
 CHUNK = 1 << 15  # classes per task of the closure test
-Progress = Callable[[str, int, int], None]
+VerifyProgress = Callable[[str, int, int], None]
 
 _U = np.uint64
 _IDENTITY = sum(i << (4 * i) for i in range(16))
@@ -431,7 +431,7 @@ def _class_task(directory: str, level: int, lo: int, hi: int) -> tuple[int, list
     return hi - lo, problems, int(size.sum())
 
 
-def _run(tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]], workers: int, progress: Progress,
+def _run(tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]], workers: int, progress: VerifyProgress,
          label: str) -> list[Any]:  # fmt: skip
     total = len(tasks)
     results: list[Any] = []
@@ -457,7 +457,7 @@ def verify_table(
     library: str = "mct",
     cache: Path | None = None,
     workers: int = 2,
-    progress: Progress | None = None,
+    progress: VerifyProgress | None = None,
     stamp: bool = True,
 ) -> TableCheck:
     """Re-check a cached table from scratch (see the module docstring for what is proven)."""
@@ -591,7 +591,7 @@ def check_claim(
     cache: Path | None = None,
     content_hash: str | None = None,
     workers: int = 2,
-    progress: Progress | None = None,
+    progress: VerifyProgress | None = None,
 ) -> ClaimCheck:
     """Re-check that ``gates`` is a circuit of ``gate_count`` gates for ``perm`` and that no
     shorter circuit exists, against the cached table (see the module docstring).

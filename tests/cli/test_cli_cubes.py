@@ -45,11 +45,11 @@ def test_progress_counts_cubes_with_an_estimate_and_the_query_line_names_them() 
 
     from rich.console import Console
 
-    from exactsyn.cli.progress import SynthProgress, cube_line
+    from exactsyn.cli.synth_display import SynthDisplay, cube_line
     from exactsyn.sat.conquer import CubeEvent
 
     buf = io.StringIO()
-    with SynthProgress("plain", Console(file=buf, width=120)) as p:
+    with SynthDisplay("plain", Console(file=buf, width=120)) as p:
         p.cube(CubeEvent("start", 11, 25))
         for i in range(3):
             p.cube(CubeEvent("cube", 11, 25, i + 1, "unsat", 2.0, f"c{i}"))

@@ -206,18 +206,20 @@ def test_real_processes_print_no_traceback() -> None:
         assert r.stdout == ""
 
 
-def test_synth_spellings_removed_after_their_release_are_refused_in_one_line() -> None:
-    for old in ("--count", "--all"):
-        code, out, err = invoke("synth", "--cycles", "(5 6)", old)
-        one_line(code, err)
-        assert out == "" and old in err
-
-
-def test_old_option_spellings_work_for_one_release_with_a_note(tmp_path: Path) -> None:
+def test_spellings_of_the_previous_release_are_refused_naming_the_new_one(tmp_path: Path) -> None:
     store = tmp_path / "s.sqlite"
-    code, out, err = invoke("batch", "--all", "1", "--store", str(store), "-q")
-    assert code == 0 and "--all 1 is deprecated" in err and "--every 1" in err
-    code, out, err = invoke("batch", "--random", "2", "--count", "3", "--store", str(store), "-q")
-    assert code == 0 and "--sample 3" in err
-    code, out, err = invoke("report", str(store), "-o", str(tmp_path / "r.html"))
-    assert code == 0 and "deprecated" in err and (tmp_path / "r.html").exists()
+    cases = [
+        (["synth", "--cycles", "(5 6)", "--count"], "'--count': it is now --optima count"),
+        (["synth", "--cycles", "(5 6)", "--all"], "'--all': it is now --optima all"),
+        (["synth", "--cycles", "(5 6)", "--optima", "all", "--all-limit", "2"], "it is now --optima-limit"),
+        (["batch", "--all", "1", "--store", str(store), "-q"], "'--all': it is now --every"),
+        (["batch", "--random", "2", "--count", "3", "--store", str(store), "-q"], "it is now --sample"),
+        (["report", str(store), "-o", str(tmp_path / "r.html")], "it is now --store"),
+    ]
+    for args, needle in cases:
+        code, out, err = invoke(*args)
+        one_line(code, err, needle)
+        assert out == ""
+    assert not store.exists() and not (tmp_path / "r.html").exists()  # nothing was run
+    code, _, err = invoke("synth", "--cycles", "(5 6)", "--cont")
+    assert "did you mean '--cost'" in one_line(code, err)  # other unknown options keep the suggestion

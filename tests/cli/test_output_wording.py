@@ -16,7 +16,7 @@ from rich.console import Console
 
 import exactsyn as ex
 from exactsyn.cli import main
-from exactsyn.cli.progress import SynthProgress, event_line, query_line
+from exactsyn.cli.synth_display import SynthDisplay, event_line, query_line
 from exactsyn.sat.query import Query
 from exactsyn.sat.status import Status
 from exactsyn.search.events import SearchEvent
@@ -103,7 +103,7 @@ def test_table_counts_in_words(tmp_path: Path) -> None:
 def _progress_text(events: list[object]) -> str:
     buf = io.StringIO()
     console = Console(file=buf, force_terminal=True, width=120)
-    with SynthProgress("live", console) as p:
+    with SynthDisplay("live", console) as p:
         for e in events:
             p(e)
     return buf.getvalue()

@@ -301,7 +301,7 @@ def test_bad_input_raises() -> None:
 def test_runtime_simulation_agrees_with_the_matrix_product_and_can_fail() -> None:
     # The CLI simulates every Clifford+T decomposition before printing it; here that
     # simulation is checked against the independent Kronecker-product matrices above.
-    from exactsyn.core.cliffordt import simulate, verify
+    from exactsyn.core.cliffordt import check_clifford_t, simulate
 
     rng = random.Random(21)
     for n in (3, 4, 5):
@@ -309,9 +309,9 @@ def test_runtime_simulation_agrees_with_the_matrix_product_and_can_fail() -> Non
             c = random_circuit(rng, n, rng.randint(1, 6))
             ct = decompose(c)
             assert np.allclose(simulate(ct), unitary(ct), atol=1e-9)
-            verify(ct, c)
+            check_clifford_t(ct, c)
     tof = Circuit(3, (x_gate(2, (0, 1)),))
     ct = decompose(tof)
     broken = CliffordT(ct.lines, ct.ancillas, ct.ops[:-1])  # one operation dropped
     with pytest.raises(RuntimeError):
-        verify(broken, tof)
+        check_clifford_t(broken, tof)
