@@ -31,7 +31,7 @@ sys.path.insert(0, str(ROOT))
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.sat.encode import encode  # noqa: E402
 from exactsyn.sat.lrat_capture import solve_with_lrat  # noqa: E402
-from exactsyn.sat.solve import solve_cnf  # noqa: E402
+from exactsyn.sat.solver import solve_cnf  # noqa: E402
 from exactsyn.search.bounds import lower_bound  # noqa: E402
 from exactsyn.specification.reversible import from_permutation  # noqa: E402
 from exactsyn.specification.samples import random_library_function  # noqa: E402

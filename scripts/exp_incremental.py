@@ -24,7 +24,7 @@ from pysat.solvers import Solver  # noqa: E402
 
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.sat.encode import encode  # noqa: E402
-from exactsyn.sat.solve import solve_cnf  # noqa: E402
+from exactsyn.sat.solver import solve_cnf  # noqa: E402
 from exactsyn.search.bounds import lower_bound  # noqa: E402
 from exactsyn.specification.reversible import Spec, from_permutation  # noqa: E402
 

@@ -27,7 +27,7 @@ from exactsyn.errors import did_you_mean
 from exactsyn.sat.conquer import SPLIT_MODES
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
-from exactsyn.sat.solve import SOLVERS
+from exactsyn.sat.solver import SOLVERS
 from exactsyn.search.loop import BOUNDS
 from exactsyn.search.objectives import OBJECTIVES
 

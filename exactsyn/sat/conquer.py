@@ -34,7 +34,7 @@ from exactsyn.sat.cube_split import DEFAULT_DEPTH, DEFAULT_SCHEME, CubePlan, spl
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding, EncodingOptions, encode
 from exactsyn.sat.lrat_capture import solve_with_lrat
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import solve_cnf
 from exactsyn.sat.status import Status
 from exactsyn.specification.reversible import Spec
 

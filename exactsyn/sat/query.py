@@ -27,7 +27,7 @@ from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding
 from exactsyn.sat.lrat_capture import solve_with_lrat
 from exactsyn.sat.race import race
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import solve_cnf
 from exactsyn.sat.status import Status
 
 #: A query still open after this long on its own is raced against the second formulation.

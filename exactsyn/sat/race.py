@@ -32,7 +32,7 @@ import time
 from dataclasses import dataclass
 
 from exactsyn.sat.lrat_capture import solve_with_lrat
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import solve_cnf
 from exactsyn.sat.status import Status
 
 #: How long past the time limit the parent waits for a racer's answer before stopping them.

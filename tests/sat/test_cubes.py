@@ -15,7 +15,7 @@ from exactsyn.sat.conquer import CubeJob, CubeOptions, conquer, solve_cube, spli
 from exactsyn.sat.cube_engines import LocalCubes
 from exactsyn.sat.cube_split import split_positions, split_query
 from exactsyn.sat.encode import encode
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import solve_cnf
 from exactsyn.sat.status import Status
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.specification.samples import random_library_function
