@@ -27,7 +27,7 @@ from exactsyn.errors import did_you_mean
 from exactsyn.sat.conquer import SPLIT_MODES
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
-from exactsyn.sat.solver import SOLVERS
+from exactsyn.sat.solver import BOUNDED
 from exactsyn.search.loop import BOUNDS
 from exactsyn.search.objectives import OBJECTIVES
 
@@ -114,7 +114,7 @@ encoding_option = click.option(
 )
 solver_option = click.option(
     "--solver",
-    type=Choice(list(SOLVERS)),
+    type=Choice(list(BOUNDED)),
     default="cadical195",
     show_default=True,
     help="SAT solver for the k-queries (with certificates, CaDiCaL 1.9.5 always, for its LRAT output).",
