@@ -240,6 +240,7 @@ def synthesise(
             keep=optima == "all",
             limit=optima_limit,
             time_limit=left,
+            solver=solver,
         )
     elif optima is not None:
         notes.append("the gate count was not proven, so the optimal circuits were not listed")

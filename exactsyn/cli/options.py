@@ -117,7 +117,8 @@ solver_option = click.option(
     type=Choice(list(BOUNDED)),
     default="cadical195",
     show_default=True,
-    help="SAT solver for the k-queries (with certificates, CaDiCaL 1.9.5 always, for its LRAT output).",
+    help="SAT solver for the k-queries and the listing of optima (with certificates, CaDiCaL 1.9.5 always "
+    "for the k-queries, for its LRAT output).",
 )
 
 
