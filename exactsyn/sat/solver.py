@@ -188,7 +188,7 @@ class SatSession:
         if solver in UNBOUNDED:
             raise ExactsynError(f"solver {solver} is not incremental through python-sat")
         self._name = solver
-        self._solver: Any = Solver(name=solver, bootstrap_with=[list(c) for c in clauses])
+        self._solver: Any = Solver(name=solver, bootstrap_with=clauses)
 
     def add_clause(self, clause: Sequence[int]) -> None:
         self._solver.add_clause(list(clause))
