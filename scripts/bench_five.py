@@ -30,8 +30,7 @@ sys.path.insert(0, str(ROOT))
 
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.sat.encode import encode  # noqa: E402
-from exactsyn.sat.lrat_capture import solve_with_lrat  # noqa: E402
-from exactsyn.sat.solve import solve_cnf  # noqa: E402
+from exactsyn.sat.solver import solve  # noqa: E402
 from exactsyn.search.bounds import lower_bound  # noqa: E402
 from exactsyn.specification.reversible import from_permutation  # noqa: E402
 from exactsyn.specification.samples import random_library_function  # noqa: E402
@@ -81,10 +80,10 @@ def main() -> None:
                 for k in range(lower_bound(spec, lib).value, settle + 1):
                     enc = encode(spec, lib, k)
                     t = time.process_time()
-                    res = solve_cnf(enc.clauses)
+                    res = solve(enc.clauses)
                     sat += time.process_time() - t
                     t = time.process_time()
-                    solve_with_lrat(enc.clauses)
+                    solve(enc.clauses, proof=True)
                     lrat += time.process_time() - t
                     if str(res.status) == "sat":
                         break

@@ -16,7 +16,7 @@ import time
 from pysat.examples.genhard import PHP
 
 from exactsyn.proof.lrat import check_lrat
-from exactsyn.sat.lrat_capture import solve_with_lrat
+from exactsyn.sat.solver import solve
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -35,11 +35,11 @@ def main(argv: list[str] | None = None) -> int:
         clauses = [list(c) for c in PHP(n).clauses]
         solve_times, check_times = [], []
         for _ in range(max(1, args.repeat)):
-            run = solve_with_lrat(clauses)
+            run = solve(clauses, proof=True)
             if run.status != "unsat":
                 break
             started = time.perf_counter()
-            report = check_lrat(run.num_vars, clauses, run.proof)
+            report = check_lrat(n * (n + 1), clauses, run.proof)
             check_times.append(time.perf_counter() - started)
             solve_times.append(run.seconds)
         if run.status != "unsat":
@@ -50,7 +50,7 @@ def main(argv: list[str] | None = None) -> int:
         check_s = statistics.median(check_times)
         mb = len(run.proof) / 1e6
         print(
-            f"{n:>5} {run.num_vars:>5} {len(clauses):>7} {solve_s:>8.3f} {run.conflicts or 0:>9} "
+            f"{n:>5} {n * (n + 1):>5} {len(clauses):>7} {solve_s:>8.3f} {run.conflicts or 0:>9} "
             f"{mb:>9.2f} {report.steps:>8} {check_s:>8.3f} {report.steps / check_s:>9.0f} "
             f"{mb / check_s:>6.1f} {check_s / solve_s:>11.2f}"
             + ("" if report.ok else f"  CHECK FAILED: {report.reason}")

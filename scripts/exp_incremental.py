@@ -24,7 +24,7 @@ from pysat.solvers import Solver  # noqa: E402
 
 from exactsyn.core.library import make_library  # noqa: E402
 from exactsyn.sat.encode import encode  # noqa: E402
-from exactsyn.sat.solve import solve_cnf  # noqa: E402
+from exactsyn.sat.solver import solve  # noqa: E402
 from exactsyn.search.bounds import lower_bound  # noqa: E402
 from exactsyn.specification.reversible import Spec, from_permutation  # noqa: E402
 
@@ -33,7 +33,7 @@ def fresh(spec: Spec, lib, kmax: int) -> tuple[int | None, float]:  # type: igno
     t0 = time.perf_counter()
     for k in range(lower_bound(spec, lib).value, kmax + 1):
         enc = encode(spec, lib, k)
-        out = solve_cnf(enc.clauses)
+        out = solve(enc.clauses)
         if out.status == "sat":
             circ = enc.decode(out.model or ())
             assert spec.accepts(circ.permutation())

@@ -338,4 +338,5 @@ def _list_optima(
         keep=request.optima == "all",
         limit=request.optima_limit,
         time_limit=left,
+        solver=request.search.solver,
     )

@@ -105,6 +105,7 @@ def synthesis_to_dict(syn: Synthesis) -> dict[str, Any]:
     if syn.optima is not None:
         data["count"] = syn.optima.count
         data["count_complete"] = syn.optima.complete
+        data["count_stopped"] = syn.optima.stopped or None
         if syn.optima.circuits:
             data["circuits"] = [[gate_to_dict(g) for g in circ.gates] for circ in syn.optima.circuits]
     if syn.embedding is not None:
@@ -194,10 +195,19 @@ def synthesis_to_text(syn: Synthesis) -> str:
     return text
 
 
+def _not_complete(enum: Enumeration) -> str:
+    return f"not complete: {enum.stopped or 'stopped early'}"
+
+
 def listing_summary(enum: Enumeration) -> str:
-    more = "" if enum.complete else " (stopped early: there may be more)"
+    more = "" if enum.complete else f" ({_not_complete(enum)}; there may be more)"
     what = "optimal circuit" if enum.count == 1 else "optimal circuits"
     return f"{enum.count} {what} of {_gates(enum.k)} up to reordering adjacent commuting gates{more}"
+
+
+def count_line(enum: Enumeration) -> str:
+    """What ``--optima count`` prints on stdout: the number, or ``at least N (not complete: why)``."""
+    return str(enum.count) if enum.complete else f"at least {enum.count} ({_not_complete(enum)})"
 
 
 def listing_text(enum: Enumeration) -> str:

@@ -32,7 +32,7 @@ from exactsyn.sat.conquer import SPLIT_MODES
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, SCHEMES
 from exactsyn.sat.encode import ENCODINGS
 from exactsyn.sat.options import BOUNDS, search_options
-from exactsyn.sat.solve import SOLVERS
+from exactsyn.sat.solver import BOUNDED
 
 F = Callable[..., Any]
 
@@ -146,10 +146,11 @@ encoding_option = click.option(
 )
 solver_option = click.option(
     "--solver",
-    type=Choice(list(SOLVERS)),
+    type=Choice(list(BOUNDED)),
     default="cadical195",
     show_default=True,
-    help="SAT solver for the k-queries (with certificates, CaDiCaL 1.9.5 always, for its LRAT output).",
+    help="SAT solver for the k-queries and the listing of optima (with certificates, CaDiCaL 1.9.5 always "
+    "for the k-queries, for its LRAT output).",
 )
 
 

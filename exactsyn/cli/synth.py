@@ -19,6 +19,7 @@ import click
 
 from exactsyn.api.synthesis import OPTIMA_MODES, Synthesis, synthesise_request
 from exactsyn.api.view import (
+    count_line,
     listing_summary,
     objective_summary,
     qasm_header,
@@ -106,7 +107,7 @@ def _print_result(
         emit(json.dumps(synthesis_to_dict(syn), indent=2), output)
     elif counting:
         assert syn.optima is not None
-        emit(f"{syn.optima.count}\n", output)  # --optima count: the number only
+        emit(count_line(syn.optima) + "\n", output)  # --optima count: the number, marked when incomplete
     elif fmt == "text":
         emit(synthesis_to_text(syn), output)
     elif clifford_t:

@@ -8,7 +8,7 @@ cube's clauses *appended at the end*, solved from scratch:
   decodes to a circuit like any other (and is simulated before it is used) — and every
   other cube is cancelled;
 * an unsatisfiable cube comes back, when certifying, with its own LRAT refutation of
-  "CNF + cube clauses" captured by :func:`exactsyn.sat.lrat_capture.solve_with_lrat`
+  "CNF + cube clauses" captured by :func:`exactsyn.sat.solver.solve` (``proof=True``)
   (clause ids ``1..m`` are the CNF's, the cube's clauses ``m+1…``), stored through the
   proof sink as ``k11-c0007.lrat.gz``;
 * the query is refuted when every cube is; that the cubes cover the query is argued in
@@ -33,8 +33,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, DEFAULT_SCHEME, CubePlan, split_query
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding, EncodingOptions, encode
-from exactsyn.sat.lrat_capture import solve_with_lrat
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import solve
 from exactsyn.sat.status import Status
 from exactsyn.specification.reversible import Spec
 
@@ -199,14 +198,11 @@ def solve_cube(job: CubeJob, stop: Callable[[], bool] | None = None) -> CubeOutc
         limit = job.time_limit
         if limit is not None and limit <= 0:
             return CubeOutcome(job.index, Status.UNKNOWN, None, b"", 0.0, 0, job.solver)
-        if job.certify:
-            run = solve_with_lrat(clauses, limit, stop=stop)
-            status, model, proof, conflicts, name = run.status, run.model, run.proof, run.conflicts or 0, run.solver
-        else:
-            out = solve_cnf(clauses, job.solver, limit, stop=stop)
-            status, model, proof, conflicts, name = out.status, out.model, b"", out.conflicts, job.solver
+        out = solve(clauses, solver=job.solver, time_limit=limit, stop=stop, proof=job.certify)
         wall, cpu = time.perf_counter() - t0, time.process_time() - c0
-        return CubeOutcome(job.index, status, model, proof, wall, conflicts, name, cpu_seconds=cpu)
+        return CubeOutcome(
+            job.index, out.status, out.model, out.proof, wall, out.conflicts or 0, out.solver, cpu_seconds=cpu
+        )
     except Exception as e:  # noqa: BLE001 - reported to the caller, which stops the query
         msg = e.message if isinstance(e, ExactsynError) else f"{type(e).__name__}: {e}"
         return CubeOutcome(job.index, "error", None, b"", time.perf_counter() - t0, 0, job.solver, msg)

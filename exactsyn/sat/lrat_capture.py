@@ -1,4 +1,5 @@
-"""Solve a CNF formula with CaDiCaL 1.9.5 and capture an LRAT refutation.
+"""Capture an LRAT refutation from CaDiCaL 1.9.5 (the solver object and the search come from
+:mod:`exactsyn.sat.solver`).
 
 The solver is CaDiCaL (A. Biere, K. Fazekas, M. Fleury, M. Heisinger, "CaDiCaL,
 Kissat, Paracooba, Plingeling and Treengeling entering the SAT Competition
@@ -39,28 +40,21 @@ How capture works, and why it needs care:
 * If the formula contains the empty clause, CaDiCaL writes no step for it;
   we append the one-step derivation ``id 0 k 0`` (``k`` = the first empty
   clause), which the checker verifies like any other step.
-* CaDiCaL's ``interrupt`` is not implemented in this python-sat version
-  (``Cadical195.interrupt`` raises ``NotImplementedError``), so a time limit
-  runs the search in conflict-budget chunks (``conf_budget`` +
-  ``solve_limited``) sized to about a quarter of a second each, stopping at
-  the first chunk boundary past the limit.  An incremental re-solve keeps
-  the same proof trace, so the proof stays one valid LRAT refutation.
+* The solver object comes from the caller (:mod:`exactsyn.sat.solver`, the one module
+  that builds solvers), and so does the search (``search(solver)``), which may run in
+  conflict-budget slices: an incremental re-solve keeps the same proof trace, so the
+  proof stays one valid LRAT refutation.
 """
 
 from __future__ import annotations
 
 import itertools
-import math
 import os
 import re
 import tempfile
-import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
-
-import pysat
-from pysat.solvers import Cadical195
 
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.status import Status
@@ -74,16 +68,11 @@ SOLVER_NAME = "CaDiCaL 1.9.5"
 # exhaust memory rather than fail; this cap (far above any formula we build) turns
 # that into a clear error.
 _MAX_VAR = 50_000_000
-_FIRST_BUDGET = 2000  # conflicts in the first time-limited chunk
-_MIN_BUDGET = 200
-_MAX_BUDGET = 2_000_000
-_CHUNK_SECONDS = 0.25
-
 
 
 @dataclass(frozen=True)
-class ProofRun:
-    """Outcome of :func:`solve_with_lrat`.
+class Captured:
+    """What :func:`capture` got from the solver.
 
     ``model`` lists one literal per variable ``1..num_vars`` (positive = true)
     when ``status == "sat"``.  ``proof`` is LRAT text whose clause ids ``1..m``
@@ -94,21 +83,19 @@ class ProofRun:
     status: Status
     model: tuple[int, ...] | None
     proof: bytes
-    solver: str
-    seconds: float
     conflicts: int | None
-    num_vars: int
-    num_clauses: int
+
+
+NewSolver = Callable[[], Any]
+"""Returns a fresh, empty CaDiCaL 1.9.5 object of python-sat (the caller builds it)."""
+Search = Callable[[Any], bool | None]
+"""Runs the search on the solver: True (SAT), False (UNSAT) or None (stopped: unknown)."""
 
 
 def _pysolvers() -> Any:
     import pysolvers  # python-sat's C module; imported lazily, it has no stubs
 
     return pysolvers
-
-
-def _solver_string() -> str:
-    return f"{SOLVER_NAME} via python-sat {getattr(pysat, '__version__', '?')}"
 
 
 def _normalise(clauses: Sequence[Sequence[int]]) -> tuple[list[list[int]], int]:
@@ -241,64 +228,27 @@ def _derives_empty(text: bytes) -> bool:
     return _EMPTY_STEP.search(text) is not None
 
 
-Stop = Callable[[], bool]
-"""Asked between conflict-budget slices: true means give up now (the answer is "unknown")."""
-
-
-def _search(solver: Any, time_limit: float | None, stop: Stop | None = None) -> bool | None:
-    if time_limit is None and stop is None:
-        return bool(solver.solve())
-    deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
-    budget = _FIRST_BUDGET
-    while True:
-        now = time.perf_counter()
-        if now >= deadline or (stop is not None and stop()):
-            return None
-        before = solver.accum_stats().get("conflicts", 0)
-        solver.conf_budget(budget)
-        result = solver.solve_limited(expect_interrupt=True)
-        if result is not None:
-            return bool(result)
-        spent = max(time.perf_counter() - now, 1e-6)
-        done = max(solver.accum_stats().get("conflicts", 0) - before, 1)
-        target = min(_CHUNK_SECONDS, max(deadline - time.perf_counter(), 0.0))
-        target = max(target, 1e-3)
-        budget = min(_MAX_BUDGET, max(_MIN_BUDGET, int(done / spent * target)))
-
-
-def solve_with_lrat(
-    clauses: Sequence[Sequence[int]],
-    time_limit: float | None = None,
-    *,
-    stop: Stop | None = None,
-    fast: bool = True,
-) -> ProofRun:
-    """Solve ``clauses`` (DIMACS-style literals) and, if UNSAT, return an LRAT refutation.
+def capture(
+    clauses: Sequence[Sequence[int]], new_solver: NewSolver, search: Search, *, fast: bool = True
+) -> Captured:
+    """Add ``clauses`` (DIMACS-style literals) to ``new_solver()`` with LRAT tracing on, run
+    ``search`` on it and, if UNSAT, return an LRAT refutation.
 
     The proof numbers the input clauses ``1..len(clauses)`` in the order given.
-    ``time_limit`` (seconds, > 0) bounds the search; past it the status is
-    ``"unknown"``.  ``stop`` is asked between conflict-budget slices (a cancelled
-    cube); when it says so the status is ``"unknown"`` too.  ``fast=False`` watches
-    the trace after every clause (the fast path is in the module docstring).  Raises
-    :class:`~exactsyn.errors.ExactsynError` on bad input and whenever the captured
-    trace does not fit the numbering the certificate needs (see the module docstring).
+    ``fast=False`` watches the trace after every clause (the fast path is in the module
+    docstring; when it is surprised, a second solver from ``new_solver`` starts again clause
+    by clause).  Raises :class:`~exactsyn.errors.ExactsynError` on bad input and whenever the
+    captured trace does not fit the numbering the certificate needs (see the module docstring).
     """
-    if time_limit is not None:
-        if isinstance(time_limit, bool) or not isinstance(time_limit, int | float):
-            raise ExactsynError(f"time limit must be a number of seconds, got {time_limit!r}")
-        if math.isnan(time_limit) or time_limit <= 0:
-            raise ExactsynError(f"time limit must be positive, got {time_limit!r}")
-        if math.isinf(time_limit):
-            time_limit = None
     lits, num_vars = _normalise(clauses)
     if not tracer_hook_present():
         raise ExactsynError(f"python-sat has no {HOOK_NAME}; proof capture is unavailable")
     if fast:
         try:
-            return _capture(lits, num_vars, time_limit, stop, fast=True)
+            return _capture(new_solver(), lits, num_vars, search, fast=True)
         except _Surprise:
             pass
-    return _capture(lits, num_vars, time_limit, stop, fast=False)
+    return _capture(new_solver(), lits, num_vars, search, fast=False)
 
 
 def _add_all(solver: Any, lits: list[list[int]], fd: int, watch: _IdWatch, fast: bool) -> int:
@@ -335,20 +285,16 @@ def _add_all(solver: Any, lits: list[list[int]], fd: int, watch: _IdWatch, fast:
     return offset
 
 
-def _capture(
-    lits: list[list[int]], num_vars: int, time_limit: float | None, stop: Stop | None, fast: bool
-) -> ProofRun:
+def _capture(solver: Any, lits: list[list[int]], num_vars: int, search: Search, fast: bool) -> Captured:
     mod = _pysolvers()
-    started = time.perf_counter()
     fd, path = tempfile.mkstemp(prefix="exactsyn-", suffix=".lrat")
-    solver = Cadical195()
     model: list[int] = []
     try:
         solver.configure({"lrat": 1, "binary": 0})
         trace = getattr(mod, HOOK_NAME)(solver.cadical, fd)
         watch = _IdWatch()
         offset = _add_all(solver, lits, fd, watch, fast)
-        result = _search(solver, time_limit, stop)
+        result = search(solver)
         if result:
             model = list(solver.get_model() or [])
         conflicts = (solver.accum_stats() or {}).get("conflicts")
@@ -364,16 +310,12 @@ def _capture(
         os.close(fd)
         os.unlink(path)
 
-    def finish(status: Status, values: tuple[int, ...] | None, proof: bytes) -> ProofRun:
-        return ProofRun(
+    def finish(status: Status, values: tuple[int, ...] | None, proof: bytes) -> Captured:
+        return Captured(
             status=status,
             model=values,
             proof=proof,
-            solver=_solver_string(),
-            seconds=time.perf_counter() - started,
             conflicts=int(conflicts) if conflicts is not None else None,
-            num_vars=num_vars,
-            num_clauses=len(lits),
         )
 
     if result is None:

@@ -23,7 +23,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.sat.conquer import SPLIT_AFTER, CubeOptions, split_options
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, DEFAULT_SCHEME
 from exactsyn.sat.encode import Encoding, EncodingOptions, options_for
-from exactsyn.sat.solve import SOLVERS
+from exactsyn.sat.solver import BOUNDED
 
 #: Which lower bounds the gate search consults before SAT (``--bounds``).
 BOUNDS = {
@@ -65,8 +65,8 @@ class SearchOptions:
     fallback: bool = True
 
     def __post_init__(self) -> None:
-        if self.solver not in SOLVERS:
-            raise ExactsynError(f"unknown solver {self.solver!r}; choose one of: {', '.join(SOLVERS)}")
+        if self.solver not in BOUNDED:
+            raise ExactsynError(f"unknown solver {self.solver!r}; choose one of: {', '.join(BOUNDED)}")
         if self.bounds not in BOUNDS:
             raise ExactsynError(f"unknown bounds mode {self.bounds!r}; choose one of: {', '.join(BOUNDS)}")
         if self.time_limit is not None and not self.time_limit > 0:

@@ -4,7 +4,7 @@ A query is one CNF of :mod:`exactsyn.sat.encode` (or :mod:`exactsyn.sat.encode_d
 asking "is there a circuit of exactly ``k`` gates" (objective ``gates``), "… of ``k``
 gates and cost ≤ ``limit``" (``cost``), or "of depth ≤ ``k``" (``depth``).  The runner
 picks the solver, stores an LRAT refutation through a *proof sink* when certifying
-(CaDiCaL 1.9.5, :mod:`exactsyn.sat.lrat_capture`), hashes the CNF for the certificate, and
+(CaDiCaL 1.9.5 with proof capture, :mod:`exactsyn.sat.solver`), hashes the CNF for the certificate, and
 decodes a model into a circuit.  A query still open after ``QUICK_SECONDS`` may be
 raced against a second formulation on another process (:mod:`exactsyn.sat.race`), or
 split into cubes solved on a process pool or a Dask cluster (:mod:`exactsyn.sat.conquer`).
@@ -25,10 +25,9 @@ from exactsyn.sat.conquer import CubeOptions, SplitRecord, conquer
 from exactsyn.sat.cube_engines import make_engine
 from exactsyn.sat.dimacs import cnf_sha256
 from exactsyn.sat.encode import Encoding
-from exactsyn.sat.lrat_capture import solve_with_lrat
 from exactsyn.sat.options import NO_HOOKS, Hooks, ProofSink, SearchOptions
 from exactsyn.sat.race import race
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import Outcome, solve
 from exactsyn.sat.status import Status
 
 #: A query still open after this long on its own is raced against the second formulation.
@@ -132,11 +131,11 @@ class _Solved:
 
 
 def _solve(clauses: list[list[int]], solver: str, limit: float | None, certify: bool) -> _Solved:
-    if certify:
-        run = solve_with_lrat(clauses, limit)
-        return _Solved(Status(run.status), run.model, run.conflicts or 0, run.solver, run.proof)
-    out = solve_cnf(clauses, solver, limit)
-    return _Solved(Status(out.status), out.model, out.conflicts, solver, b"")
+    return _solved(solve(clauses, solver=solver, time_limit=limit, proof=certify))
+
+
+def _solved(out: Outcome, encoding: Encoding | None = None) -> _Solved:
+    return _Solved(out.status, out.model, out.conflicts, out.solver, out.proof, encoding=encoding)
 
 
 def run_query(
@@ -246,13 +245,6 @@ def _race(enc: Encoding, rival: Rival, solver: str, certify: bool, rest: float |
         certify=certify,
         solver=solver,
         time_limit=rest,
-        solvers=[solver if not certify else "cadical195", RACE_SOLVER],
+        solvers=[solver, RACE_SOLVER],  # with certify the first is CaDiCaL 1.9.5 (sat/solver.py)
     )
-    return _Solved(
-        Status(outcome.status),
-        outcome.model,
-        outcome.conflicts,
-        outcome.solver,
-        outcome.proof,
-        encoding=other if outcome.winner == 1 else None,
-    )
+    return _solved(outcome.outcome, other if outcome.winner == 1 else None)

@@ -29,10 +29,9 @@ import os
 import queue
 import tempfile
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
-from exactsyn.sat.lrat_capture import solve_with_lrat
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import UNBOUNDED, Outcome, solve
 from exactsyn.sat.status import Status
 
 #: How long past the time limit the parent waits for a racer's answer before stopping them.
@@ -41,43 +40,28 @@ GRACE_SECONDS = 0.25
 
 @dataclass(frozen=True)
 class RaceOutcome:
-    winner: int | None  # index of the formulation that answered, or None
-    status: Status
-    model: tuple[int, ...] | None
-    proof: bytes
-    seconds: float
-    conflicts: int | None  # None: the winner does not report it (Kissat)
-    solver: str
+    """The answer that won, and the index of its formulation (``None``: no racer answered)."""
+
+    winner: int | None
+    outcome: Outcome
 
 
 def _racer(
     index: int, clauses: list[list[int]], certify: bool, solver: str, limit: float | None, out: mp.Queue
 ) -> None:  # type: ignore[type-arg]
     try:
-        if solver == "kissat404":
-            # No budgets or statistics through python-sat: run to the end; the parent
-            # terminates this process when another racer answers or time runs out.
-            from pysat.solvers import Solver
-
-            t0 = time.perf_counter()
-            with Solver(name="kissat404", bootstrap_with=clauses) as s:
-                ok = s.solve()
-                model = tuple(s.get_model() or ()) if ok else None
-            status = Status.SAT if ok else Status.UNSAT
-            out.put((index, status, model, None, time.perf_counter() - t0, None, "Kissat 4.0.4"))
-        elif certify:
-            run = solve_with_lrat(clauses, limit)
-            path = None
-            if run.status == Status.UNSAT:
-                fd, path = tempfile.mkstemp(prefix="exactsyn-race-", suffix=".lrat")
-                with os.fdopen(fd, "wb") as fh:
-                    fh.write(run.proof)
-            out.put((index, run.status, run.model, path, run.seconds, run.conflicts or 0, run.solver))
-        else:
-            res = solve_cnf(clauses, solver, limit)
-            out.put((index, res.status, res.model, None, res.seconds, res.conflicts, solver))
+        # Kissat takes no budget (sat/solver.py): it runs to the end, and the parent terminates
+        # this process when another racer answers or time runs out.  It writes no proof.
+        unbounded = solver in UNBOUNDED
+        run = solve(clauses, solver=solver, time_limit=None if unbounded else limit, proof=certify and not unbounded)
+        path = None
+        if run.proof:
+            fd, path = tempfile.mkstemp(prefix="exactsyn-race-", suffix=".lrat")
+            with os.fdopen(fd, "wb") as fh:
+                fh.write(run.proof)
+        out.put((index, "ok", replace(run, proof=b""), path))
     except Exception as e:  # report, never hang the parent
-        out.put((index, "error", None, None, 0.0, 0, repr(e)))
+        out.put((index, "error", repr(e), None))
 
 
 def race(
@@ -96,6 +80,9 @@ def race(
     whose refutation comes with a proof.
     """
     names = solvers or [solver] * len(formulas)
+    nobody = RaceOutcome(None, Outcome(Status.UNKNOWN, None, b"", 0.0, None, solver))
+    if time_limit is not None and time_limit <= 0:
+        return nobody
     ctx = mp.get_context("fork")
     out: mp.Queue = ctx.Queue()  # type: ignore[type-arg]
     start = time.perf_counter()
@@ -106,28 +93,28 @@ def race(
     for p in procs:
         p.start()
     pending = len(procs)
-    result = RaceOutcome(None, Status.UNKNOWN, None, b"", 0.0, None, solver)
+    result = nobody
     errors: list[str] = []
     try:
         while pending:
             wait = None if time_limit is None else max(0.05, time_limit - (time.perf_counter() - start) + GRACE_SECONDS)
             try:
-                index, status, model, path, seconds, conflicts, name = out.get(timeout=wait)
+                index, kind, answer, path = out.get(timeout=wait)
             except queue.Empty:
                 break
             pending -= 1
-            if status == "error":
-                errors.append(name)
+            if kind == "error":
+                errors.append(answer)
                 continue
             proof = b""
             if path:
                 with open(path, "rb") as fh:
                     proof = fh.read()
                 os.unlink(path)
-            if status == Status.UNSAT and certify and not path:
+            if answer.status == Status.UNSAT and certify and not path:
                 continue  # a refutation without a proof does not count for a certificate
-            if status in (Status.SAT, Status.UNSAT):
-                result = RaceOutcome(index, Status(status), model, proof, time.perf_counter() - start, conflicts, name)
+            if answer.status in (Status.SAT, Status.UNSAT):
+                result = RaceOutcome(index, replace(answer, proof=proof, seconds=time.perf_counter() - start))
                 break
     finally:
         for p in procs:

@@ -1,4 +1,5 @@
-"""LRAT capture (exactsyn.sat.lrat_capture) and the independent checker (exactsyn.proof.lrat).
+"""LRAT capture (exactsyn.sat.lrat_capture, run by exactsyn.sat.solver.solve with proof=True) and the
+independent checker (exactsyn.proof.lrat).
 
 Outside references used here:
 * Pigeonhole formulas PHP(n) (n+1 pigeons, n holes) are unsatisfiable, and
@@ -25,9 +26,15 @@ from pysat.solvers import Minisat22
 
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.lrat import check_lrat
-from exactsyn.sat.lrat_capture import HOOK_NAME, ProofRun, solve_with_lrat
+from exactsyn.sat.lrat_capture import HOOK_NAME
+from exactsyn.sat.solver import Outcome, solve
 
 # ---------------------------------------------------------------- helpers
+
+
+def solve_with_lrat(clauses: Any, time_limit: Any = None) -> Outcome:
+    """Certified solving through the one solver entry: CaDiCaL 1.9.5 with LRAT capture."""
+    return solve(clauses, time_limit=time_limit, proof=True)
 
 
 def num_vars_of(clauses: list[list[int]]) -> int:
@@ -110,7 +117,7 @@ def hints_entail(hint_clauses: list[tuple[int, ...]], clause: tuple[int, ...]) -
     return minisat([list(c) for c in hint_clauses] + [[-lit] for lit in clause]) is None
 
 
-def _timed(clauses: list[list[int]]) -> tuple[ProofRun, float]:
+def _timed(clauses: list[list[int]]) -> tuple[Outcome, float]:
     """The run and the wall-clock time around it, measured here."""
     started = time.perf_counter()
     run = solve_with_lrat(clauses)
@@ -118,7 +125,7 @@ def _timed(clauses: list[list[int]]) -> tuple[ProofRun, float]:
 
 
 @pytest.fixture(scope="module")
-def php_runs() -> dict[int, tuple[list[list[int]], ProofRun, float]]:
+def php_runs() -> dict[int, tuple[list[list[int]], Outcome, float]]:
     return {n: (php(n), *_timed(php(n))) for n in (2, 3, 4, 5, 6, 7)}
 
 
@@ -130,13 +137,12 @@ def test_pigeonhole_refutations_check(php_runs, n):
     clauses, run, wall = php_runs[n]
     assert run.status == "unsat"  # PHP(n) is UNSAT (Haken 1985; common practice)
     assert run.model is None
-    assert run.num_clauses == len(clauses) and run.num_vars == n * (n + 1)
     assert run.solver.startswith("CaDiCaL 1.9.5")
     # a CDCL solver concludes UNSAT only from a conflict (common practice), so at least one
     assert isinstance(run.conflicts, int) and run.conflicts >= 1
     # the run's own time lies within the wall-clock time measured around the call
     assert 0 < run.seconds <= wall
-    report = check_lrat(run.num_vars, clauses, run.proof)
+    report = check_lrat(n * (n + 1), clauses, run.proof)  # PHP(n): a variable per pigeon and hole
     assert report.ok, report.reason
     assert report.failed_step is None
     assert report.steps == len(run.proof.splitlines())
@@ -163,7 +169,7 @@ def test_satisfiable_formula_gives_a_model():
     run = solve_with_lrat(clauses)
     assert run.status == "sat"
     assert run.proof == b""
-    assert run.model is not None and len(run.model) == run.num_vars == 30
+    assert run.model is not None and len(run.model) == 30
     assert [abs(v) for v in run.model] == list(range(1, 31))
     assert satisfies(run.model, clauses)
 
@@ -240,7 +246,7 @@ def test_time_limit_large_enough_still_proves():
     run = solve_with_lrat(clauses, time_limit=60)
     assert run.status == "unsat"
     assert run.conflicts is not None and run.conflicts > 2000
-    assert check_lrat(run.num_vars, clauses, run.proof).ok
+    assert check_lrat(num_vars_of(clauses), clauses, run.proof).ok
 
 
 @pytest.mark.parametrize(

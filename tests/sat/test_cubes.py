@@ -15,7 +15,7 @@ from exactsyn.sat.conquer import CubeJob, CubeOptions, conquer, solve_cube, spli
 from exactsyn.sat.cube_engines import LocalCubes
 from exactsyn.sat.cube_split import split_positions, split_query
 from exactsyn.sat.encode import encode
-from exactsyn.sat.solve import solve_cnf
+from exactsyn.sat.solver import solve
 from exactsyn.sat.status import Status
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.specification.samples import random_library_function
@@ -71,7 +71,7 @@ def test_cubes_agree_with_the_unsplit_query_and_their_refutations_check(scheme: 
         if scheme == "gates" and library is MCT4:
             continue  # 32 cubes per 4-line query: the 3-line ones show the scheme
         enc = encode(from_permutation(perm), library, k)  # type: ignore[arg-type]
-        whole = solve_cnf(enc.clauses).status
+        whole = solve(enc.clauses).status
         proofs.clear()
         depth = 2 if scheme == "targets" else 1
         options = CubeOptions(1, scheme=scheme, depth=depth)
@@ -110,7 +110,7 @@ def test_local_worker_processes_give_the_same_answers() -> None:
         enc = encode(from_permutation(perm), MCT4, k)
         one = conquer(enc, CubeOptions(1), engine=LocalCubes(1), certify=False)
         two = conquer(enc, CubeOptions(2), engine=LocalCubes(2), certify=False)
-        assert one.status == two.status == solve_cnf(enc.clauses).status
+        assert one.status == two.status == solve(enc.clauses).status
 
 
 def test_split_modes() -> None:

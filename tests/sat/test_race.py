@@ -14,9 +14,10 @@ from exactsyn.specification.reversible import from_permutation
 def test_race_on_unsat_pigeonhole_returns_a_checked_proof() -> None:
     # Pigeonhole formulas are UNSAT (pysat.examples.genhard; common practice).
     a, b = PHP(5).clauses, PHP(6).clauses
-    out = race([a, b], certify=True)
-    assert out.status == "unsat" and out.winner in (0, 1)
-    formula = [a, b][out.winner]
+    won = race([a, b], certify=True)
+    out = won.outcome
+    assert out.status == "unsat" and won.winner in (0, 1)
+    formula = [a, b][won.winner]
     nv = max(abs(x) for cl in formula for x in cl)
     assert check_lrat(nv, formula, out.proof).ok
 
@@ -25,7 +26,8 @@ def test_race_on_a_k_query_finds_a_circuit_from_either_formulation() -> None:
     lib = make_library("nct", 3)
     spec = from_permutation([1, 0, 3, 2, 5, 7, 4, 6])
     encs = [encode(spec, lib, 4), encode(spec, lib, 4, EncodingOptions("onehot", ()))]
-    out = race([e.clauses for e in encs], certify=False)
-    assert out.status == "sat" and out.winner is not None and out.model is not None
-    circ = encs[out.winner].decode(out.model)
+    won = race([e.clauses for e in encs], certify=False)
+    out = won.outcome
+    assert out.status == "sat" and won.winner is not None and out.model is not None
+    circ = encs[won.winner].decode(out.model)
     assert list(circ.permutation()) == [1, 0, 3, 2, 5, 7, 4, 6]

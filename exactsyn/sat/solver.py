@@ -1,0 +1,216 @@
+"""The one place exactsyn builds a SAT solver: one call to solve a CNF, one incremental session.
+
+Solvers come from python-sat (A. Ignatiev, A. Morgado, J. Marques-Silva, "PySAT: A Python
+Toolkit for Prototyping with SAT Oracles", SAT 2018) and are named as there
+(:data:`SOLVERS`).  :func:`solve` answers one CNF; with ``proof=True`` it runs CaDiCaL 1.9.5
+with LRAT capture (the id watching and renumbering are :mod:`exactsyn.sat.lrat_capture`;
+this module hands it the solver object and the search).  :class:`SatSession` keeps one
+solver across calls, adding clauses between them (the enumeration of all optima).  Every
+answer is an :class:`Outcome`.
+
+Time limits.  python-sat's CaDiCaL bindings cannot be interrupted from another thread, so a
+limit (or a ``stop`` callable) is kept by solving in slices of a conflict budget (the
+solver keeps its learnt clauses between calls, so slicing costs little) and checking the
+clock in between.  Each slice is sized from the conflict rate measured so far to last
+about :data:`SLICE_SECONDS` (never past the limit), so a hard query stops within a fraction
+of a second of its limit.  An incremental re-solve keeps the proof trace, so a sliced
+certified search still yields one LRAT refutation.  Kissat 4.0.4 (the racer of
+:mod:`exactsyn.sat.race`) is not incremental through python-sat and takes no budget: it
+runs to the end, so it is given no limit (its caller stops its process instead).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass
+from types import TracebackType
+from typing import Any
+
+import pysat
+from pysat.solvers import Cadical195, Solver
+
+from exactsyn.errors import ExactsynError
+from exactsyn.sat.lrat_capture import SOLVER_NAME, capture
+from exactsyn.sat.status import Status
+
+SOLVERS = {
+    "cadical195": "CaDiCaL 1.9.5 (default; writes LRAT proofs)",
+    "cadical153": "CaDiCaL 1.5.3",
+    "glucose4": "Glucose 4.1",
+    "minisat22": "MiniSat 2.2",
+    "kissat404": "Kissat 4.0.4 (no proof, no budget: runs to the end)",
+}
+#: Solvers that take no conflict budget through python-sat (and are not incremental).
+UNBOUNDED = frozenset({"kissat404"})
+#: The names a user may pick for the k-queries: every solver that keeps a time limit.
+BOUNDED = tuple(name for name in SOLVERS if name not in UNBOUNDED)
+#: The solver that writes proofs; ``proof=True`` always runs it.
+PROOF_SOLVER = "cadical195"
+
+_SLICE0 = 2_000  # conflicts in the first slice
+_SLICE_MIN = 200
+_SLICE_MAX = 2_000_000
+#: Target length of one conflict-budget slice.
+SLICE_SECONDS = 0.25
+
+Stop = Callable[[], bool]
+"""Asked between conflict-budget slices: true means give up now (the answer is "unknown")."""
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """The answer of one solver call.
+
+    ``model`` lists the solver's literals (positive = true) when ``status`` is SAT.
+    ``proof`` is LRAT text whose clause ids ``1..m`` are the input clauses in order, empty
+    unless the call was certified and the answer is UNSAT.  ``conflicts`` is the solver's
+    count for this call (``None`` when it does not say: Kissat).  ``solver`` names what
+    answered (with a proof: CaDiCaL 1.9.5 and the python-sat version).
+    """
+
+    status: Status
+    model: tuple[int, ...] | None
+    proof: bytes
+    seconds: float
+    conflicts: int | None
+    solver: str
+
+
+def check_solver(name: str) -> None:
+    """Raise :class:`ExactsynError` unless ``name`` is one of :data:`SOLVERS`."""
+    if name not in SOLVERS:
+        raise ExactsynError(f"unknown solver {name!r}; choose one of: {', '.join(SOLVERS)}")
+
+
+def check_time_limit(time_limit: float | None) -> float | None:
+    """A valid limit in seconds (> 0), ``None`` for none (infinity too); else :class:`ExactsynError`."""
+    if time_limit is None:
+        return None
+    if isinstance(time_limit, bool) or not isinstance(time_limit, int | float):
+        raise ExactsynError(f"time limit must be a number of seconds, got {time_limit!r}")
+    if math.isnan(time_limit) or time_limit <= 0:
+        raise ExactsynError(f"time limit must be positive, got {time_limit!r}")
+    return None if math.isinf(time_limit) else float(time_limit)
+
+
+def _status(result: bool | None) -> Status:
+    return Status.UNKNOWN if result is None else (Status.SAT if result else Status.UNSAT)
+
+
+def _conflicts(solver: Any) -> int | None:
+    value = (solver.accum_stats() or {}).get("conflicts")
+    return None if value is None else int(value)
+
+
+def _search(solver: Any, time_limit: float | None, stop: Stop | None) -> bool | None:
+    """Solve, in conflict-budget slices when there is a limit or a stop (see the module docstring)."""
+    if time_limit is None and stop is None:
+        return bool(solver.solve())
+    deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
+    budget = _SLICE0
+    while True:
+        now = time.perf_counter()
+        if now >= deadline or (stop is not None and stop()):
+            return None
+        before = _conflicts(solver)
+        solver.conf_budget(budget)
+        result = solver.solve_limited()
+        if result is not None:
+            return bool(result)
+        spent = max(time.perf_counter() - now, 1e-6)
+        after = _conflicts(solver)
+        done = budget if before is None or after is None else max(after - before, 1)
+        target = max(min(SLICE_SECONDS, deadline - time.perf_counter()), 1e-3)
+        budget = min(_SLICE_MAX, max(_SLICE_MIN, int(done / spent * target)))
+
+
+def _bounded(name: str, time_limit: float | None, stop: Stop | None) -> None:
+    if name in UNBOUNDED and (time_limit is not None or stop is not None):
+        raise ExactsynError(f"solver {name} takes no time limit (it runs to the end)")
+
+
+def proof_solver_name() -> str:
+    """What a certified answer records as its solver: CaDiCaL 1.9.5 and the python-sat version."""
+    return f"{SOLVER_NAME} via python-sat {getattr(pysat, '__version__', '?')}"
+
+
+def _description(name: str) -> str:
+    # The names recorded in queries before this module existed: the racer's long name, else the key.
+    return "Kissat 4.0.4" if name == "kissat404" else name
+
+
+def solve(
+    clauses: Sequence[Sequence[int]],
+    *,
+    solver: str = PROOF_SOLVER,
+    time_limit: float | None = None,
+    stop: Stop | None = None,
+    proof: bool = False,
+) -> Outcome:
+    """Solve ``clauses`` (DIMACS-style literals) with the solver named ``solver``.
+
+    ``status`` is ``unknown`` when ``time_limit`` seconds (> 0) ran out or ``stop()`` (asked
+    between budget slices) said so.  With ``proof=True`` the solver is CaDiCaL 1.9.5 whatever
+    ``solver`` names (the only one whose proof python-sat gives out), and an UNSAT answer
+    comes with its LRAT refutation; the limit then counts from the end of clause loading,
+    as proof capture always has.  Raises :class:`ExactsynError` for an unknown solver, a bad
+    limit, a limit for a solver that takes none (:data:`UNBOUNDED`) or a proof from one.
+    """
+    check_solver(solver)
+    limit = check_time_limit(time_limit)
+    started = time.perf_counter()
+    if proof:
+        if solver in UNBOUNDED:
+            raise ExactsynError(f"solver {solver} writes no proof")
+        run = capture(clauses, Cadical195, lambda s: _search(s, limit, stop))
+        seconds = time.perf_counter() - started
+        return Outcome(run.status, run.model, run.proof, seconds, run.conflicts, proof_solver_name())
+    _bounded(solver, limit, stop)
+    with Solver(name=solver, bootstrap_with=clauses) as s:
+        left = None if limit is None else limit - (time.perf_counter() - started)
+        result = None if left is not None and left <= 0 else _search(s, left, stop)
+        conflicts = None if solver in UNBOUNDED else _conflicts(s)
+        model = tuple(s.get_model() or ()) if result else None
+    return Outcome(_status(result), model, b"", time.perf_counter() - started, conflicts, _description(solver))
+
+
+class SatSession:
+    """One incremental solver: add clauses, solve again; learnt clauses are kept between calls.
+
+    Use it as a context manager (or call :meth:`close`).  Every :class:`Outcome` it returns
+    counts the seconds and conflicts of its own call.  It writes no proofs.
+    """
+
+    def __init__(self, clauses: Iterable[Sequence[int]] = (), *, solver: str = PROOF_SOLVER) -> None:
+        check_solver(solver)
+        if solver in UNBOUNDED:
+            raise ExactsynError(f"solver {solver} is not incremental through python-sat")
+        self._name = solver
+        self._solver: Any = Solver(name=solver, bootstrap_with=clauses)
+
+    def add_clause(self, clause: Sequence[int]) -> None:
+        self._solver.add_clause(list(clause))
+
+    def solve(self, *, time_limit: float | None = None, stop: Stop | None = None) -> Outcome:
+        """As :func:`solve` without a proof, on every clause added so far."""
+        limit = check_time_limit(time_limit)
+        started = time.perf_counter()
+        before = _conflicts(self._solver)
+        result = _search(self._solver, limit, stop)
+        after = _conflicts(self._solver)
+        model = tuple(self._solver.get_model() or ()) if result else None
+        conflicts = None if after is None else after - (before or 0)
+        return Outcome(_status(result), model, b"", time.perf_counter() - started, conflicts, self._name)
+
+    def close(self) -> None:
+        self._solver.delete()
+
+    def __enter__(self) -> SatSession:
+        return self
+
+    def __exit__(
+        self, kind: type[BaseException] | None, error: BaseException | None, trace: TracebackType | None
+    ) -> None:
+        self.close()
