@@ -120,16 +120,6 @@ def _exchange(w: np.ndarray, t: np.ndarray, mask: np.uint64, shift: np.uint64) -
     np.bitwise_xor(w, t, out=w)
 
 
-def _swap_lines(w: np.ndarray, a: int, b: int) -> np.ndarray:
-    """A new array: every key conjugated by the transposition of lines ``a < b``."""
-    out = w.copy()
-    t = np.empty_like(w)
-    pm, ps, vm, vs = _swap_masks(a, b)
-    _exchange(out, t, pm, ps)
-    _exchange(out, t, vm, vs)
-    return out
-
-
 def _walk() -> list[tuple[int, int]]:
     """23 transpositions of adjacent lines whose running products are all 24 relabellings
     (Steinhaus–Johnson–Trotter); checked below, at import."""
