@@ -14,7 +14,7 @@ API (importing this package is cheap; numba loads on first use)::
     tables.build("mct", progress=cb)      # idempotent; cb(description, done, total); returns a TableInfo
     tables.info()                         # [TableInfo] per library: present, depth, bytes, level counts, hash
     t = tables.load("mct")                # Tables (memory-mapped); ExactsynError naming the fix if absent
-    ans = t.synthesise(perm)              # Answer: optimal, gate_count, gates (application order),
+    ans = t.synthesise(perm)              # TableAnswer: optimal, gate_count, gates (application order),
                                           #   lower_bound, method, table_hash, seconds, detail
     t.distribution()                      # exact number of functions needing 0..R gates
     tables.verify_table("mct")            # independent re-check of the levels (numpy only)
@@ -46,13 +46,13 @@ from typing import TYPE_CHECKING, Any
 from exactsyn.tables.storage import resolve_cache_dir
 
 if TYPE_CHECKING:  # pragma: no cover
-    from exactsyn.tables.engine import Answer, Tables, load
+    from exactsyn.tables.engine import TableAnswer, Tables, load
     from exactsyn.tables.manage import TableInfo, build, info, remove
     from exactsyn.tables.sample import sample_distribution
     from exactsyn.tables.verify import check_claim, verify_table
 
 __all__ = [
-    "Answer",
+    "TableAnswer",
     "TableInfo",
     "Tables",
     "build",
@@ -66,7 +66,7 @@ __all__ = [
 ]
 
 _LAZY = {
-    "Answer": "engine",
+    "TableAnswer": "engine",
     "Tables": "engine",
     "load": "engine",
     "TableInfo": "manage",

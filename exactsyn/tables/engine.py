@@ -56,7 +56,7 @@ class Level:
 
 
 @dataclass(frozen=True)
-class Answer:
+class TableAnswer:
     """Result of :meth:`Tables.synthesise`.
 
     ``gate_count`` and ``gates`` (application order) are set when the optimum is proven
@@ -137,7 +137,9 @@ class Tables:
         return out[::-1]
 
     # ------------------------------------------------------------------ synthesis
-    def synthesise(self, perm: Sequence[int], max_extra: int | None = None, time_limit: float | None = None) -> Answer:
+    def synthesise(
+        self, perm: Sequence[int], max_extra: int | None = None, time_limit: float | None = None
+    ) -> TableAnswer:
         """Optimal circuit of a 4-line permutation, or the lower bound reached.
 
         ``max_extra`` caps the meet-in-the-middle level ``L`` (default: the table depth);
@@ -160,7 +162,7 @@ class Tables:
             raise ExactsynError(f"the permutation is not realisable over {self.library}")
         return self._meet(p, f, t0, self.depth if max_extra is None else min(max_extra, self.depth), time_limit)
 
-    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, time_limit: float | None) -> Answer:
+    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, time_limit: float | None) -> TableAnswer:
         from exactsyn.tables import kernels as K
 
         R = self.depth
@@ -203,11 +205,13 @@ class Tables:
             scanned.append({"L": L, "classes": len(reps), "seconds": round(time.perf_counter() - t_level, 3)})
         return self._bound(p, R + max_extra + 1, t0, {"depth": R, "levels": scanned, "tests": tests})
 
-    def _answer(self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]) -> Answer:
+    def _answer(
+        self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]
+    ) -> TableAnswer:
         gates = tuple(self.gates.gates[i] for i in idx)
         if circuit_key(gates) != perm4.pack(p):
             raise RuntimeError("internal error: the table circuit does not compute the function")
-        return Answer(
+        return TableAnswer(
             self.library,
             p,
             True,
@@ -220,8 +224,8 @@ class Tables:
             detail,
         )
 
-    def _bound(self, p: tuple[int, ...], lower: int, t0: float, detail: dict[str, Any]) -> Answer:
-        return Answer(
+    def _bound(self, p: tuple[int, ...], lower: int, t0: float, detail: dict[str, Any]) -> TableAnswer:
+        return TableAnswer(
             self.library,
             p,
             False,
