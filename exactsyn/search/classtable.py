@@ -156,7 +156,7 @@ def shorten(circuit: Circuit, library: Library, rounds: int = 3) -> Circuit | No
         return None
     import numpy as np
 
-    from exactsyn.tables import perm4
+    from exactsyn.tables import keys as perm4
     from exactsyn.tables.engine import load
 
     t = load(name)

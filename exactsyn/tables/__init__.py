@@ -23,7 +23,7 @@ API (importing this package is cheap; numba loads on first use)::
 
 Modules (one job each):
 
-* :mod:`~exactsyn.tables.perm4` — packed keys, composition, the 48 symmetries (plain Python);
+* :mod:`~exactsyn.tables.keys` — packed keys, composition, the 48 symmetries (plain Python);
 * :mod:`~exactsyn.tables.gate_keys` — a library's gates as keys (the only bridge to the gate model);
 * :mod:`~exactsyn.tables.kernels` — numba kernels: canonical form, lookup, BFS step, scan;
 * :mod:`~exactsyn.tables.levels` — breadth-first search over classes, level files;

@@ -35,7 +35,8 @@ import numpy as np
 
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.tables import perm4, storage
+from exactsyn.tables import keys as perm4
+from exactsyn.tables import storage
 from exactsyn.tables.gate_keys import GateSet, circuit_key, gate_set
 
 SCAN_BLOCK = 1 << 15  # class representatives per parallel call of the scan

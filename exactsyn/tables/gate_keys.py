@@ -1,13 +1,13 @@
 """The gates of a library as packed 4-line permutations (the one bridge to the gate model).
 
-The tables work on packed keys (:mod:`exactsyn.tables.perm4`); circuits leave this
+The tables work on packed keys (:mod:`exactsyn.tables.keys`); circuits leave this
 subpackage as :class:`exactsyn.gates.Gate` objects.  This module is the only place that
 imports the project's gate and library definitions, so moving those modules changes
 one import block here.
 
 A library qualifies for class tables when every gate is its own inverse and relabelling
 the lines of a gate gives a gate of the library (then the optimum is constant on the
-48-function classes of :mod:`exactsyn.tables.perm4`); :func:`gate_set` checks both.
+48-function classes of :mod:`exactsyn.tables.keys`); :func:`gate_set` checks both.
 """
 
 from __future__ import annotations
@@ -21,7 +21,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.tables import perm4
+from exactsyn.tables import keys as perm4
 
 #: Libraries the 4-line class tables are made for.
 TABLE_LIBRARIES = ("mct", "nct", "mixed")

@@ -20,7 +20,7 @@ from collections.abc import Iterator, Sequence
 
 import numpy as np
 
-from exactsyn.tables import perm4
+from exactsyn.tables import keys as perm4
 from exactsyn.tables.engine import Tables
 
 

@@ -1,6 +1,6 @@
 """Compiled kernels (numba) for packed 4-line permutations: canonical form, composition, lookup.
 
-Keys follow :mod:`exactsyn.tables.perm4` (nibble ``i`` = ``p[i]``).
+Keys follow :mod:`exactsyn.tables.keys` (nibble ``i`` = ``p[i]``).
 
 Canonical form.  Conjugating by the transposition of lines ``a`` and ``a+1`` moves the
 nibble at position ``x`` to position ``τ(x)`` and swaps bits ``a``, ``a+1`` inside every
@@ -9,7 +9,7 @@ selected by a mask with the groups ``s`` places higher: ``t = ((w >> s) ^ w) & m
 w ^= t ^ (t << s)``; Knuth, TAOCP 4A, §7.1.3).  Walking through all 24 relabellings by
 adjacent transpositions (the Steinhaus–Johnson–Trotter order) visits every conjugate of
 ``f`` and of ``f⁻¹`` with two delta swaps each; the least key is the canonical form.
-The tests compare it with the plain definition in :mod:`exactsyn.tables.perm4`.
+The tests compare it with the plain definition in :mod:`exactsyn.tables.keys`.
 
 Lookup.  A stored level is a sorted array of *mixed* keys ``mix(k)`` (an invertible
 64-bit mixing function, the finaliser of Steele, Lea & Flood's SplitMix64, OOPSLA 2014),

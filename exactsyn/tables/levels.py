@@ -1,6 +1,6 @@
 """Breadth-first search over classes: the levels of the 4-line class tables.
 
-Level ``j`` is the set of classes (canonical keys, :mod:`exactsyn.tables.perm4`) whose
+Level ``j`` is the set of classes (canonical keys, :mod:`exactsyn.tables.keys`) whose
 functions need exactly ``j`` gates.  Level ``j + 1`` is every neighbour class of level
 ``j`` (the classes of ``g∘r`` and ``g∘r⁻¹`` for a representative ``r`` and a gate ``g``)
 that is not in level ``j`` or ``j − 1``: a gate changes the gate count by at most one,
@@ -141,7 +141,7 @@ def build_levels(
 ) -> list[dict[str, Any]]:
     """Levels ``0..depth`` into ``directory``; one manifest entry per level."""
     from exactsyn.tables import kernels as K
-    from exactsyn.tables import perm4
+    from exactsyn.tables import keys as perm4
 
     report = progress or _noop
     ident = K.mix_many(np.array([perm4.IDENTITY], dtype=np.uint64))

@@ -20,7 +20,7 @@ from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from pathlib import Path
 
-from exactsyn.tables import perm4
+from exactsyn.tables import keys as perm4
 
 Z95 = 1.959963984540054
 Progress = Callable[[str, int, int], None]

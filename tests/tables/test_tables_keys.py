@@ -8,7 +8,8 @@ import numpy as np
 from helpers import random_perm
 
 from exactsyn.tables import kernels as K
-from exactsyn.tables import perm4, verify
+from exactsyn.tables import keys as perm4
+from exactsyn.tables import verify
 from exactsyn.tables.gate_keys import gate_set
 
 

@@ -7,7 +7,8 @@ import math
 from helpers import hwb
 
 from exactsyn import tables
-from exactsyn.tables import hardest, perm4
+from exactsyn.tables import hardest
+from exactsyn.tables import keys as perm4
 from exactsyn.tables.sample import population, sample_function, summarise, wilson
 
 
