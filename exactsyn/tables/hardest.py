@@ -1,10 +1,11 @@
-"""Functions with large optimal gate counts on 4 lines: the families fixed by a symmetry.
+"""Functions with large optimal gate counts: the families fixed by a symmetry of the class tables.
 
 A function that commutes with a relabelling of the lines (``π_σ∘f = f∘π_σ``) is fixed by
 that symmetry, so its class is small and such functions are few: :func:`centraliser`
 lists all of them (a permutation commuting with ``P`` maps every cycle of ``P`` onto a
 cycle of the same length, turned by some offset), :func:`fixed_functions` also those
-fixed by a relabelling combined with inversion.  For a 4-cycle of the lines there are
+fixed by a relabelling combined with inversion (``σ`` relabels ``n`` lines, so the
+functions are those of ``n`` lines).  For a 4-cycle of 4 lines there are
 1536 commuting functions, for a 3-cycle 46656; every class is settled exactly by the
 tables.  ``hwb4`` is one of them (it commutes with the cyclic rotation of the lines).
 :func:`at_least` answers "is the optimum at least k?" by a scan that stops early, the
@@ -18,14 +19,12 @@ from __future__ import annotations
 import itertools
 from collections.abc import Iterator, Sequence
 
-import numpy as np
-
-from exactsyn.tables import keys as perm4
 from exactsyn.tables.engine import Tables
+from exactsyn.tables.keys import layout
 
 
 def centraliser(state_perm: Sequence[int]) -> Iterator[tuple[int, ...]]:
-    """Every permutation ``f`` of 0..15 with ``f∘P = P∘f`` for the permutation ``P``."""
+    """Every permutation ``f`` of the states with ``f∘P = P∘f`` for the permutation ``P`` of them."""
     size = len(state_perm)
     seen = [False] * size
     by_length: dict[int, list[list[int]]] = {}
@@ -62,7 +61,7 @@ def fixed_functions(sigma: Sequence[int], inverted: bool) -> Iterator[tuple[int,
 
     Backtracking over ``f(0), f(1), …``; an assignment ``f(x) = y`` forces ``f(P x) = P y``
     (commuting) or ``f(P y) = P x`` (inverted), propagated to a fixed point."""
-    P = perm4.state_map(sigma)
+    P = layout(len(sigma)).state_map(sigma)
     size = len(P)
 
     def assign(f: list[int], used: list[bool], x: int, y: int, trail: list[int]) -> bool:
@@ -106,10 +105,9 @@ def fixed_functions(sigma: Sequence[int], inverted: bool) -> Iterator[tuple[int,
 
 def symmetric_classes(sigma: Sequence[int], inverted: bool = False) -> list[int]:
     """Canonical keys of the classes of the functions fixed by the transform ``(σ, inverted)``."""
-    from exactsyn.tables import kernels as K
-
-    keys = np.array([perm4.pack(f) for f in fixed_functions(sigma, inverted)], dtype=np.uint64)
-    return sorted(set(K.canon_many(keys).tolist()))
+    lay = layout(len(sigma))
+    keys = lay.array(lay.pack(f) for f in fixed_functions(sigma, inverted))
+    return sorted(set(lay.ints(lay.kernels().canon_many(keys))))
 
 
 def at_least(tables: Tables, perm: Sequence[int], k: int) -> bool:
