@@ -13,7 +13,7 @@ classes of :mod:`exactsyn.tables.keys`, ``2·n!`` transforms); :func:`gate_set` 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cached_property, lru_cache
 
 import numpy as np
 
@@ -46,7 +46,7 @@ class GateSet:
     def key_array(self) -> np.ndarray:
         return self.layout.array(self.keys)
 
-    @property
+    @cached_property
     def all_even(self) -> bool:
         return not any(self.layout.is_odd(k) for k in self.keys)
 

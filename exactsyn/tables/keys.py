@@ -104,6 +104,11 @@ class KeyLayout:
         return sum(i << (self.lines * i) for i in range(self.size))
 
     @cached_property
+    def _shifts(self) -> tuple[int, ...]:
+        """Bit position of every entry (``n·i``)."""
+        return tuple(self.lines * i for i in range(self.size))
+
+    @cached_property
     def relabellings(self) -> tuple[tuple[int, ...], ...]:
         """The ``n!`` relabellings of the lines, identity first."""
         return tuple(itertools.permutations(range(self.lines)))
@@ -125,23 +130,29 @@ class KeyLayout:
 
     def unpack(self, key: int) -> tuple[int, ...]:
         """Permutation of a key."""
-        n, m = self.lines, self.entry_mask
-        return tuple((int(key) >> (n * i)) & m for i in range(self.size))
+        k, m = int(key), self.size - 1
+        return tuple((k >> s) & m for s in self._shifts)
 
     def _pack_values(self, values: Sequence[int]) -> int:
-        return sum(v << (self.lines * i) for i, v in enumerate(values))
+        out = 0
+        for s, v in zip(self._shifts, values, strict=True):
+            out |= v << s
+        return out
 
     def compose(self, f: int, a: int) -> int:
-        """Key of ``f∘a`` (``a`` first)."""
-        pf, pa = self.unpack(f), self.unpack(a)
-        return self._pack_values([pf[pa[i]] for i in range(self.size)])
+        """Key of ``f∘a`` (``a`` first): entry ``i`` is ``f[a[i]]``."""
+        f, a, n, m = int(f), int(a), self.lines, self.size - 1
+        out = 0
+        for s in self._shifts:
+            out |= ((f >> (((a >> s) & m) * n)) & m) << s
+        return out
 
     def inverse(self, key: int) -> int:
-        p = self.unpack(key)
-        out = [0] * self.size
-        for i, v in enumerate(p):
-            out[v] = i
-        return self._pack_values(out)
+        k, n, m = int(key), self.lines, self.size - 1
+        out = 0
+        for i, s in enumerate(self._shifts):
+            out |= i << (((k >> s) & m) * n)
+        return out
 
     def state_map(self, sigma: Sequence[int]) -> tuple[int, ...]:
         """``π_σ`` as a permutation of the states (bit ``l`` moves to bit ``σ[l]``)."""
