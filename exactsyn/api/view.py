@@ -132,7 +132,7 @@ def status_line(res: GateResult) -> str:
         ct = res.class_table
         if ct is not None:
             what = "optimum" if ct.exact else f"at least {_gates(ct.value)}"
-            how += f"; 4-line class table of {ct.library} (depth {ct.depth}, {ct.method}): {what}"
+            how += f"; {ct.lines}-line class table of {ct.library} (depth {ct.depth}, {ct.method}): {what}"
         refuted = [s.k for s in res.steps if s.status == Status.UNSAT]
         if refuted:
             span = str(refuted[0]) if len(refuted) == 1 else f"{refuted[0]}..{refuted[-1]}"

@@ -1,4 +1,4 @@
-"""The ``exactsyn tables`` commands: build, inspect, count and verify the 4-line class tables.
+"""The ``exactsyn tables`` commands: build, inspect, count and verify the class tables (``--lines``, default 4).
 
 Only parsing and printing; the work is :mod:`exactsyn.tables` (build, info, verify).
 """
@@ -28,7 +28,7 @@ def _libraries(names: tuple[str, ...], default: tuple[str, ...]) -> tuple[str, .
             elif name in LIBRARIES:
                 out.append(name)
             else:
-                fail(f"no 4-line class table for library {name!r}{did_you_mean(name, LIBRARIES)}; "
+                fail(f"no class table for library {name!r}{did_you_mean(name, LIBRARIES)}; "
                      f"choose from: {', '.join(LIBRARIES)}, all")
     return tuple(dict.fromkeys(out))
 
@@ -41,20 +41,53 @@ def _size(n: int) -> str:
     return f"{n} B"  # pragma: no cover
 
 
+#: ``--lines`` of every tables command.
+LINES_OPTION = click.option(
+    "--lines",
+    type=click.IntRange(1, None),
+    default=4,
+    show_default=True,
+    help="Line count of the tables (the engine has 2, 3 and 4).",
+)
+
+
+def _build_command(name: str, lines: int, rebuild: bool = False) -> str:
+    """The command that builds the ``lines``-line table of ``name``."""
+    return f"exactsyn tables build{' --rebuild' if rebuild else ''} --library {name}" + (
+        "" if lines == 4 else f" --lines {lines}"
+    )
+
+
+def _missing(name: str, lines: int) -> str:
+    return f"no {lines}-line {name} table cached; build it with `{_build_command(name, lines)}`"
+
+
+def _check_lines(lines: int) -> None:
+    from exactsyn.tables.keys import check_lines
+
+    try:
+        check_lines(lines)
+    except ExactsynError as e:
+        fail(e.message)
+
+
 @click.group()
 def tables() -> None:
-    """The 4-line class tables: every 4-line permutation proven optimal in seconds.
+    """The class tables: every 4-line permutation proven optimal in seconds.
 
-    One table per library (nct, mct, mixed) holds one representative per class of
-    functions (line relabellings and inversion) for every gate count up to its depth;
-    `synth` answers full 4-line permutations from it by lookup and meet in the middle
-    once it is cached.  Tables live in $EXACTSYN_CACHE, else $XDG_CACHE_HOME/exactsyn,
-    else ~/.cache/exactsyn; nothing is downloaded.
+    One table per library (nct, mct, mixed) and line count holds one representative per
+    class of functions (line relabellings and inversion) for every gate count up to its
+    depth; `synth` answers full permutations of that many lines from it by lookup and meet
+    in the middle once it is cached.  The 4-line tables are the default (--lines 4);
+    3-line tables hold every function and build in seconds.  Tables live in
+    $EXACTSYN_CACHE, else $XDG_CACHE_HOME/exactsyn, else ~/.cache/exactsyn; nothing is
+    downloaded.
 
     \b
     Examples:
       exactsyn tables build                  # nct and mct, a few minutes, about 2.7 GB
       exactsyn tables build --library mixed  # depth 6 (functions up to 12 gates)
+      exactsyn tables build --lines 3        # every 3-line function, seconds
       exactsyn tables info
       exactsyn tables counts --library mct
       exactsyn tables verify --library nct   # independent re-check (tens of minutes)
@@ -64,13 +97,16 @@ def tables() -> None:
 @tables.command()
 @click.option("--library", "libraries", multiple=True, metavar="NAME",
               help="nct, mct, mixed or all (repeatable or comma-separated; default: nct and mct).")
-@click.option("--depth", type=click.IntRange(0, 9), default=None,
-              help="Levels to store (default: mct 8, nct 8, mixed 6). Memory and disk grow about 12x per level.")
+@click.option("--depth", type=click.IntRange(0, None), default=None,
+              help="Levels to store (4 lines: mct 8, nct 8, mixed 6, at most 9; memory and disk grow about 12x "
+              "per level. Other line counts: until a level comes out empty, i.e. every function).")
 @click.option("--rebuild", is_flag=True, help="Build again even when a table is cached (e.g. after info --hashes "
               "found it damaged).")
+@LINES_OPTION
 @progress_option
 @click.option("-q", "--quiet", is_flag=True, help="No progress bar.")
-def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, show_progress: bool, quiet: bool) -> None:
+def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, lines: int, show_progress: bool,
+          quiet: bool) -> None:
     """Build the class tables into the cache; returns at once when they are there.
 
     A table already cached at the depth asked (or deeper) is only checked for its files
@@ -80,14 +116,15 @@ def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, show_pro
     """
     from exactsyn import tables as t
 
+    _check_lines(lines)
     names = _libraries(libraries, DEFAULT_BUILD)
     try:
         for name in names:
             with Display(choose_mode(quiet, show_progress)) as display:
-                got = t.build(name, depth=depth, progress=step_bar(display, name), force=rebuild)
+                got = t.build(name, depth=depth, progress=step_bar(display, name), force=rebuild, lines=lines)
             click.echo(
-                f"{name}: depth {got.depth}, {count(sum(got.classes), 'class')}, {_size(got.bytes)} in {got.directory}"
-                f" (content hash {str(got.content_hash)[:16]})"
+                f"{name}: {lines} lines, depth {got.depth}, {count(sum(got.classes), 'class')}, {_size(got.bytes)} "
+                f"in {got.directory} (content hash {str(got.content_hash)[:16]})"
             )
     except ExactsynError as e:
         fail(e.message)
@@ -96,21 +133,23 @@ def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, show_pro
 @tables.command()
 @click.option("--library", "libraries", multiple=True, metavar="NAME", help="nct, mct, mixed or all (default: all).")
 @click.option("--hashes", is_flag=True, help="Re-hash every file against the manifest (reads the whole table).")
-def info(libraries: tuple[str, ...], hashes: bool) -> None:
+@LINES_OPTION
+def info(libraries: tuple[str, ...], hashes: bool, lines: int) -> None:
     """What is cached, where, how large, and the content hashes."""
     from exactsyn import tables as t
 
+    _check_lines(lines)
     names = _libraries(libraries, LIBRARIES)
-    click.echo(f"cache: {t.resolve_cache_dir()}  (set EXACTSYN_CACHE to move it)")
+    click.echo(f"cache: {t.resolve_cache_dir()}  (set EXACTSYN_CACHE to move it); {lines}-line tables")
     for name in names:
-        i = t.info(name, hashes=hashes)[0]
+        i = t.info(name, hashes=hashes, lines=lines)[0]
         if i.manifest is None:
-            click.echo(f"{name:<6} not built   ({i.directory}; build it with `exactsyn tables build --library {name}`)")
+            click.echo(f"{name:<6} not built   ({i.directory}; build it with `{_build_command(name, lines)}`)")
             continue
-        state = "ok" if i.present else f"DAMAGED ({i.problem}; `exactsyn tables build --rebuild --library {name}`)"
-        reach = 2 * int(i.depth or 0)
+        state = "ok" if i.present else f"DAMAGED ({i.problem}; `{_build_command(name, lines, rebuild=True)}`)"
+        reach = "every function" if i.manifest.get("complete") else f"exact answers up to {2 * int(i.depth or 0)} gates"
         click.echo(
-            f"{name:<6} {state}  depth {i.depth} (exact answers up to {reach} gates), "
+            f"{name:<6} {state}  depth {i.depth} ({reach}), "
             f"{count(sum(i.classes), 'class')}, {count(sum(i.functions), 'function')}, {_size(i.bytes)}"
         )
         click.echo(f"       {i.directory}")
@@ -120,40 +159,44 @@ def info(libraries: tuple[str, ...], hashes: bool) -> None:
 @tables.command()
 @click.option("--library", "libraries", multiple=True, metavar="NAME",
               help="nct, mct, mixed or all (default: all cached).")
-def counts(libraries: tuple[str, ...]) -> None:
-    """Exact number of 4-line functions needing exactly k gates, for every k a table reaches.
+@LINES_OPTION
+def counts(libraries: tuple[str, ...], lines: int) -> None:
+    """Exact number of functions needing exactly k gates, for every k a table reaches.
 
     Counted from the class sizes stored with the table (each class counts its members:
-    48 divided by the number of relabellings and inversion that fix it).
+    2·n! (48 on 4 lines) divided by the number of relabellings and inversion that fix it).
     """
     from exactsyn import tables as t
 
+    _check_lines(lines)
     names = _libraries(libraries, LIBRARIES)
     shown = 0
     for name in names:
-        i = t.info(name)[0]
+        i = t.info(name, lines=lines)[0]
         if i.manifest is None:
             if libraries:
-                fail(f"no {name} table cached; build it with `exactsyn tables build --library {name}`")
+                fail(_missing(name, lines))
             continue
         shown += 1
-        click.echo(f"{name} (4 lines, depth {i.depth})")
+        click.echo(f"{name} ({lines} lines, depth {i.depth})")
         click.echo(f"  {'k':>3} {'classes':>13} {'functions':>16} {'functions <= k':>16}")
         total = 0
         for k, (c, f) in enumerate(zip(i.classes, i.functions, strict=True)):
             total += f
             click.echo(f"  {k:>3} {c:>13,} {f:>16,} {total:>16,}")
     if not shown:
-        fail("no class table cached; build them with `exactsyn tables build`")
+        fail(f"no {lines}-line class table cached; build them with `exactsyn tables build"
+             + ("`" if lines == 4 else f" --lines {lines}`"))
 
 
 @tables.command("verify")
 @click.option("--library", "libraries", multiple=True, metavar="NAME",
               help="nct, mct, mixed or all (default: all cached).")
 @click.option("-j", "--jobs", type=click.IntRange(1, 64), default=2, show_default=True, help="Worker processes.")
+@LINES_OPTION
 @progress_option
 @click.option("-q", "--quiet", is_flag=True, help="No progress bar.")
-def verify_tables(libraries: tuple[str, ...], jobs: int, show_progress: bool, quiet: bool) -> None:
+def verify_tables(libraries: tuple[str, ...], jobs: int, lines: int, show_progress: bool, quiet: bool) -> None:
     """Re-check cached tables from their files alone, with a separate numpy implementation.
 
     Proves every level exact (closure under every gate, descent, canonical keys, class
@@ -162,16 +205,18 @@ def verify_tables(libraries: tuple[str, ...], jobs: int, show_progress: bool, qu
     """
     from exactsyn import tables as t
 
+    _check_lines(lines)
     names = _libraries(libraries, LIBRARIES)
     bad = 0
     for name in names:
-        if t.info(name)[0].manifest is None:
+        if t.info(name, lines=lines)[0].manifest is None:
             if libraries:
-                fail(f"no {name} table cached; build it with `exactsyn tables build --library {name}`")
+                fail(_missing(name, lines))
             continue
         try:
             with Display(choose_mode(quiet, show_progress)) as display:
-                res = t.verify_table(name, workers=jobs, progress=step_bar(display, name))
+                res = t.verify_table(name, workers=jobs, progress=step_bar(display, name), lines=lines)
+
         except ExactsynError as e:
             fail(e.message)
         if res.ok:

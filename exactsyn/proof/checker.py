@@ -123,7 +123,7 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
     first = _check_initial_bound(data, spec, library, note)
     table_value = _check_table_bound(data.get("table_bound"), spec, library, note)
     cv = _check_class_table(data.get("class_table"), spec, library, circuit, note)
-    table_name = "4-line class table" if cv > table_value else "distance table"
+    table_name = f"{spec.lines}-line class table" if cv > table_value else "distance table"
     table_value = max(table_value, cv)
     refuted = _check_gate_queries(directory, data.get("queries") or [], spec, library, options, note)
 
@@ -446,6 +446,20 @@ def _objective_cost_claim(
         note("objective optimal", True, f"cost {value} is optimal: every k in {ks[:1] + ks[-1:]} refuted below it")
 
 
+def _claim_lines(raw: dict[str, Any]) -> int:
+    """The line count of a class-table claim: ``lines``, else from ``format``
+    (``exactsyn-tables<n>/1``; certificates written before the n-line tables carry only
+    ``exactsyn-tables4/1``), else 4.  Both given must agree."""
+    fmt = raw.get("format", "exactsyn-tables4/1")
+    if not isinstance(fmt, str) or not fmt.startswith("exactsyn-tables") or not fmt.endswith("/1"):
+        raise ValueError(fmt)
+    from_format = int(fmt[len("exactsyn-tables") : -len("/1")])
+    lines = json_int(raw["lines"]) if "lines" in raw else from_format
+    if lines != from_format:
+        raise ValueError(fmt)
+    return lines
+
+
 def _check_class_table(
     raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Note
 ) -> int:
@@ -463,14 +477,16 @@ def _check_class_table(
     try:
         name, depth = str(raw["library"]), json_int(raw["depth"])
         value, exact, content_hash = json_int(raw["value"]), bool(raw["exact"]), str(raw["content_hash"])
+        lines = _claim_lines(raw)
     except (KeyError, TypeError, ValueError):
         raise ExactsynError("certificate: malformed 'class_table'") from None
     from exactsyn.tables import verify
 
-    if name not in ("nct", "mct", "mixed") or spec.lines != 4 or not spec.is_permutation:
-        note("class table", False, "a class-table claim needs a full 4-line permutation and a table library")
+    if name not in ("nct", "mct", "mixed") or spec.lines != lines or not spec.is_permutation:
+        note("class table", False, f"a class-table claim needs a full {lines}-line permutation and a table library")
         return 0
-    table_gates = make_library(name, 4).gates
+    table_gates = make_library(name, lines).gates
+    option = "" if lines == 4 else f" --lines {lines}"  # how the table commands name these tables
     if not set(library.gates) <= set(table_gates) or (exact and set(library.gates) != set(table_gates)):
         note("class table", False, f"the {name} table does not apply to library {library.name}")
         return 0
@@ -481,10 +497,11 @@ def _check_class_table(
             return 0
         gates = circuit.gates
     try:
-        res = verify.check_claim(name, spec.permutation, value, gates, content_hash=content_hash)
+        res = verify.check_claim(name, spec.permutation, value, gates, content_hash=content_hash, lines=lines)
     except (ExactsynError, OSError) as e:
         msg = e.message if isinstance(e, ExactsynError) else str(e)
-        note("class table", False, f"{msg}; rebuild it with `exactsyn tables build --library {name} --depth {depth}`")
+        rebuild = f"exactsyn tables build --library {name}{option} --depth {depth}"
+        note("class table", False, f"{msg}; rebuild it with `{rebuild}`")
         return 0
     if not res.ok:
         note("class table", False, "; ".join(res.problems))
@@ -492,13 +509,13 @@ def _check_class_table(
     trust = (
         "table verified by `exactsyn tables verify`"
         if res.table_verified
-        else f"trusted, not yet verified here: `exactsyn tables verify --library {name}`"
+        else f"trusted, not yet verified here: `exactsyn tables verify --library {name}{option}`"
     )
     what = f"k = {value} is the optimum" if exact else f"k >= {value}"
     note(
         "class table",
         True,
-        f"{what}: no shorter split over the {name} depth-{depth} table {content_hash[:12]} "
+        f"{what}: no shorter split over the {lines}-line {name} depth-{depth} table {content_hash[:12]} "
         f"({res.tests} classes looked up, files re-hashed, {res.seconds:.1f} s; {trust})",
     )
     return value

@@ -1,10 +1,11 @@
-"""4-line class tables: every 4-line permutation synthesised with a proven minimal gate count.
+"""Class tables: every permutation of a few lines synthesised with a proven minimal gate count.
 
-Method: breadth-first search over classes of functions (24 line relabellings and
-inversion), one canonical 64-bit key per class, stored level by level up to a depth
-``R``; a function deeper than ``R`` is settled by meet in the middle against level ``R``
+Method: breadth-first search over classes of functions (the ``n!`` line relabellings and
+inversion), one canonical key per class, stored level by level up to a depth ``R``; a
+function deeper than ``R`` is settled by meet in the middle against level ``R``
 (Golubitsky, Falconer & Maslov, "Synthesis of the optimal 4-bit reversible circuits",
-DAC 2010).  Libraries: ``mct``, ``nct`` and ``mixed`` on 4 lines.
+DAC 2010).  Libraries: ``mct``, ``nct`` and ``mixed``; line counts: those with compiled
+kernels (:func:`~exactsyn.tables.keys.engine_lines`: 2, 3 and 4), 4 by default.
 
 API (importing this package is cheap; numba loads on first use)::
 
@@ -12,27 +13,34 @@ API (importing this package is cheap; numba loads on first use)::
 
     tables.resolve_cache_dir()            # $EXACTSYN_CACHE, else $XDG_CACHE_HOME/exactsyn, else ~/.cache/exactsyn
     tables.build("mct", progress=cb)      # idempotent; cb(description, done, total); returns a TableInfo
+    tables.build("nct", lines=3)          # every 3-line function (depth: until a level is empty)
     tables.info()                         # [TableInfo] per library: present, depth, bytes, level counts, hash
     t = tables.load("mct")                # Tables (memory-mapped); ExactsynError naming the fix if absent
-    ans = t.synthesise(perm)              # Answer: optimal, gate_count, gates (application order),
+    ans = t.synthesise(perm)              # TableAnswer: optimal, gate_count, gates (application order),
                                           #   lower_bound, method, table_hash, seconds, detail
     t.distribution()                      # exact number of functions needing 0..R gates
     tables.verify_table("mct")            # independent re-check of the levels (numpy only)
     tables.check_claim("mct", perm, gate_count, gates)   # independent re-check of one answer
     tables.sample_distribution("mct", n, seed)           # sampled distribution of optima with intervals
 
+Every function takes ``lines=`` (default 4).
+
 Modules (one job each):
 
-* :mod:`~exactsyn.tables.perm4` — packed keys, composition, the 48 symmetries (plain Python);
+* :mod:`~exactsyn.tables.keys` — :class:`KeyLayout`: packed keys, composition, the ``2·n!``
+  symmetries (plain Python, the reference), key arrays, and the registration of kernels;
+* :mod:`~exactsyn.tables.kernel_api` — :class:`TableKernels`, what the drivers ask of a layout's kernels;
+* :mod:`~exactsyn.tables.kernels` — numba kernels of single-word layouts (``n ≤ 4``):
+  canonical form, lookup, BFS step, scan;
 * :mod:`~exactsyn.tables.gate_keys` — a library's gates as keys (the only bridge to the gate model);
-* :mod:`~exactsyn.tables.kernels` — numba kernels: canonical form, lookup, BFS step, scan;
 * :mod:`~exactsyn.tables.levels` — breadth-first search over classes, level files;
 * :mod:`~exactsyn.tables.storage` — cache directory, layout, manifest, hashes, atomic install;
 * :mod:`~exactsyn.tables.manage` — :func:`build`, :func:`info`, :func:`remove`;
 * :mod:`~exactsyn.tables.engine` — :func:`load`, lookup and meet in the middle;
-* :mod:`~exactsyn.tables.verify` — the independent checker (imports no kernel code);
+* :mod:`~exactsyn.tables.verify` with :mod:`~exactsyn.tables.verify_keys` — the independent
+  checker (imports no kernel or key code of the builder);
 * :mod:`~exactsyn.tables.sample` — sampled distribution of optima;
-* :mod:`~exactsyn.tables.hardest` — search for functions with large optima.
+* :mod:`~exactsyn.tables.hardest` — families of functions fixed by a symmetry, where large optima are.
 
 What a proof from the tables trusts: the table's levels are exact (re-checkable with
 :func:`verify_table`, whose closure test needs no trust in the builder), the content hash
@@ -50,13 +58,13 @@ from typing import TYPE_CHECKING, Any
 from exactsyn.tables.storage import resolve_cache_dir
 
 if TYPE_CHECKING:  # pragma: no cover
-    from exactsyn.tables.engine import Answer, Tables, load
+    from exactsyn.tables.engine import TableAnswer, Tables, load
     from exactsyn.tables.manage import TableInfo, build, info, remove
     from exactsyn.tables.sample import sample_distribution
     from exactsyn.tables.verify import check_claim, verify_table
 
 __all__ = [
-    "Answer",
+    "TableAnswer",
     "TableInfo",
     "Tables",
     "build",
@@ -70,7 +78,7 @@ __all__ = [
 ]
 
 _LAZY = {
-    "Answer": "engine",
+    "TableAnswer": "engine",
     "Tables": "engine",
     "load": "engine",
     "TableInfo": "manage",

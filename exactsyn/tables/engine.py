@@ -1,4 +1,4 @@
-"""Exact 4-line synthesis from the class tables: lookup, then meet in the middle.
+"""Exact synthesis from the class tables (any line count): lookup, then meet in the middle.
 
 Let ``T_j`` be level ``j`` of a table of depth ``R`` (the classes needing exactly ``j``
 gates) and ``d`` the optimum of ``f``.
@@ -20,7 +20,8 @@ The scan does not expand classes: for a representative ``a`` and the conjugates
 ``f_σ = π_σ∘f∘π_σ⁻¹`` it looks up ``canon(f_σ∘a)`` and ``canon(f_σ∘a⁻¹)``, which are the
 classes of ``f∘A⁻¹`` for ``A = π_σ⁻¹∘a^{∓1}∘π_σ``, i.e. for every member ``A`` of the
 class of ``a``.  Equal conjugates are tested once.  Every circuit is simulated against
-``f`` before it is returned.
+``f`` before it is returned.  Keys and their kernels come from the table's layout
+(:mod:`exactsyn.tables.keys`, :class:`~exactsyn.tables.kernel_api.TableKernels`).
 """
 
 from __future__ import annotations
@@ -35,8 +36,9 @@ import numpy as np
 
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
-from exactsyn.tables import perm4, storage
-from exactsyn.tables.gate_keys import GateSet, circuit_key, gate_set
+from exactsyn.tables import storage
+from exactsyn.tables.gate_keys import GateSet, gate_set
+from exactsyn.tables.keys import check_lines
 
 SCAN_BLOCK = 1 << 15  # class representatives per parallel call of the scan
 
@@ -56,7 +58,7 @@ class Level:
 
 
 @dataclass(frozen=True)
-class Answer:
+class TableAnswer:
     """Result of :meth:`Tables.synthesise`.
 
     ``gate_count`` and ``gates`` (application order) are set when the optimum is proven
@@ -83,23 +85,24 @@ class Tables:
         self.directory = directory
         self.manifest = manifest
         self.gates = gs
+        self.layout = gs.layout
+        self.lines = gs.lines
         self.library = gs.library
         self.depth = int(manifest["depth"])
         self.complete = bool(manifest.get("complete"))
         self.content_hash = str(manifest["content_hash"])
+        words = self.layout.words
         levels = []
         for lv in manifest["levels"]:
-            vals = storage.read_array(directory / lv["file"], np.uint64, int(lv["classes"]))
+            vals = storage.read_array(directory / lv["file"], np.uint64, int(lv["classes"]), words)
             idx_dtype = np.uint32 if lv["index_file"].endswith(".u32") else np.uint64
             index = storage.read_array(directory / lv["index_file"], idx_dtype, (1 << int(lv["index_bits"])) + 1)
             levels.append(Level(int(lv["level"]), vals, index, 64 - int(lv["index_bits"]), int(lv["functions"])))
         self.levels = tuple(levels)
-        self._gate_keys = gs.key_array()
 
     # ------------------------------------------------------------------ lookups
     def _level_of_canonical(self, mixed: np.ndarray, candidates: Sequence[int]) -> np.ndarray:
-        from exactsyn.tables import kernels as K
-
+        K = self.layout.kernels()
         out = np.full(len(mixed), -1, dtype=np.int64)
         for j in candidates:
             lv = self.levels[j]
@@ -108,48 +111,50 @@ class Tables:
         return out
 
     def levels_of(self, keys: np.ndarray, candidates: Sequence[int] | None = None) -> np.ndarray:
-        """Level of each key's class (−1 when the class is deeper than the table)."""
-        from exactsyn.tables import kernels as K
-
-        mixed = K.mix_many(K.canon_many(np.ascontiguousarray(keys, dtype=np.uint64)))
+        """Level of each key's class (−1 when the class is deeper than the table); ``keys`` a key array."""
+        K = self.layout.kernels()
+        mixed = K.mix_many(K.canon_many(keys))
         return self._level_of_canonical(mixed, range(len(self.levels)) if candidates is None else candidates)
 
     def level_of(self, perm: Sequence[int]) -> int | None:
         """Exact gate count of ``perm`` if it is at most the table depth, else None."""
-        j = int(self.levels_of(np.array([perm4.pack(perm)], dtype=np.uint64))[0])
+        j = int(self.levels_of(self.layout.array([self.layout.pack(perm)]))[0])
         return None if j < 0 else j
 
     def _walk(self, key: int, level: int) -> list[int]:
         """Library indices of an optimal circuit (application order) of a function at ``level``."""
+        lay = self.layout
         out: list[int] = []
         x = key
         for j in range(level, 0, -1):
-            cands = np.array([perm4.compose(int(g), x) for g in self._gate_keys], dtype=np.uint64)
-            lv = self.levels_of(cands, [j - 1])
+            cands = [lay.compose(g, x) for g in self.gates.keys]
+            lv = self.levels_of(lay.array(cands), [j - 1])
             hit = np.flatnonzero(lv == j - 1)
             if len(hit) == 0:
                 raise RuntimeError(f"internal error: no way down from level {j} (corrupt table?)")
             g = int(hit[0])
             out.append(g)
-            x = int(cands[g])
-        if x != perm4.IDENTITY:
+            x = cands[g]
+        if x != lay.identity:
             raise RuntimeError("internal error: the walk down did not end at the identity")
         return out[::-1]
 
     # ------------------------------------------------------------------ synthesis
-    def synthesise(self, perm: Sequence[int], max_extra: int | None = None, time_limit: float | None = None) -> Answer:
-        """Optimal circuit of a 4-line permutation, or the lower bound reached.
+    def synthesise(
+        self, perm: Sequence[int], max_extra: int | None = None, time_limit: float | None = None
+    ) -> TableAnswer:
+        """Optimal circuit of a permutation of the table's lines, or the lower bound reached.
 
         ``max_extra`` caps the meet-in-the-middle level ``L`` (default: the table depth);
         ``time_limit`` (seconds) stops the scan between blocks.  Raises
         :class:`ExactsynError` when the permutation is not realisable over the library.
         """
         t0 = time.perf_counter()
-        p = perm4.check_perm(perm)
-        f = perm4.pack(p)
-        if self.gates.all_even and perm4.is_odd(f):
+        p = self.layout.check_perm(perm)
+        f = self.layout.pack(p)
+        if self.gates.all_even and self.layout.is_odd(f):
             raise ExactsynError(
-                f"an odd permutation is not realisable with {self.library} gates on 4 lines "
+                f"an odd permutation is not realisable with {self.library} gates on {self.lines} lines "
                 "(every gate is an even permutation; Shende, Prasad, Markov & Hayes 2003)"
             )
         j = self.level_of(p)
@@ -160,15 +165,15 @@ class Tables:
             raise ExactsynError(f"the permutation is not realisable over {self.library}")
         return self._meet(p, f, t0, self.depth if max_extra is None else min(max_extra, self.depth), time_limit)
 
-    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, time_limit: float | None) -> Answer:
-        from exactsyn.tables import kernels as K
-
+    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, time_limit: float | None) -> TableAnswer:
+        lay = self.layout
+        K = lay.kernels()
         R = self.depth
         top = self.levels[R]
         conj: dict[int, tuple[int, ...]] = {}
-        for sigma in perm4.RELABELLINGS:
-            conj.setdefault(perm4.conjugate(f, sigma), sigma)
-        fkeys = np.array(list(conj), dtype=np.uint64)
+        for sigma in lay.relabellings:
+            conj.setdefault(lay.conjugate(f, sigma), sigma)
+        fkeys = lay.array(conj)
         sigmas = list(conj.values())
         scanned: list[dict[str, Any]] = []
         tests = 0
@@ -186,13 +191,13 @@ class Tables:
                     i = int(hit[0])
                     tests += (i + 1) * 2 * len(fkeys)
                     scanned.append({"L": L, "classes": i + 1, "seconds": round(time.perf_counter() - t_level, 3)})
-                    a = int(K.unmix_many(np.array([reps[start + i]], dtype=np.uint64))[0])
+                    a = lay.ints(K.unmix_many(reps[start + i : start + i + 1]))[0]
                     lane = int(o[i])
                     sigma = sigmas[lane // 2]
-                    x = a if lane % 2 == 0 else perm4.inverse(a)
-                    back = perm4.inverse_relabelling(sigma)
-                    a_key = perm4.conjugate(perm4.inverse(x), back)  # A = π_σ⁻¹ ∘ x⁻¹ ∘ π_σ
-                    b_key = perm4.compose(f, perm4.inverse(a_key))  # B = f ∘ A⁻¹
+                    x = a if lane % 2 == 0 else lay.inverse(a)
+                    back = lay.inverse_relabelling(sigma)
+                    a_key = lay.conjugate(lay.inverse(x), back)  # A = π_σ⁻¹ ∘ x⁻¹ ∘ π_σ
+                    b_key = lay.compose(f, lay.inverse(a_key))  # B = f ∘ A⁻¹
                     gates = self._walk(a_key, L) + self._walk(b_key, R)
                     detail = {"depth": R, "extra": L, "levels": scanned, "tests": tests}
                     return self._answer(p, gates, t0, "meet in the middle", detail)
@@ -203,11 +208,13 @@ class Tables:
             scanned.append({"L": L, "classes": len(reps), "seconds": round(time.perf_counter() - t_level, 3)})
         return self._bound(p, R + max_extra + 1, t0, {"depth": R, "levels": scanned, "tests": tests})
 
-    def _answer(self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]) -> Answer:
+    def _answer(
+        self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]
+    ) -> TableAnswer:
         gates = tuple(self.gates.gates[i] for i in idx)
-        if circuit_key(gates) != perm4.pack(p):
+        if self.gates.circuit_key(gates) != self.layout.pack(p):
             raise RuntimeError("internal error: the table circuit does not compute the function")
-        return Answer(
+        return TableAnswer(
             self.library,
             p,
             True,
@@ -220,8 +227,8 @@ class Tables:
             detail,
         )
 
-    def _bound(self, p: tuple[int, ...], lower: int, t0: float, detail: dict[str, Any]) -> Answer:
-        return Answer(
+    def _bound(self, p: tuple[int, ...], lower: int, t0: float, detail: dict[str, Any]) -> TableAnswer:
+        return TableAnswer(
             self.library,
             p,
             False,
@@ -239,17 +246,18 @@ class Tables:
         return [lv.functions for lv in self.levels]
 
 
-def load(library: str = "mct", cache: Path | None = None, verify_hashes: bool = False) -> Tables:
-    """Open the cached table of ``library``; :class:`ExactsynError` (with the fix) if absent."""
-    gs = gate_set(library)
-    directory = storage.table_dir(gs.library, cache)
-    manifest = storage.read_manifest(directory)
-    hint = f"build it with `exactsyn tables build --library {gs.library}`"
+def load(library: str = "mct", cache: Path | None = None, verify_hashes: bool = False, lines: int = 4) -> Tables:
+    """Open the cached ``lines``-line table of ``library``; :class:`ExactsynError` (with the fix) if absent."""
+    gs = gate_set(library, check_lines(lines))
+    directory = storage.table_dir(gs.library, cache, lines)
+    manifest = storage.read_manifest(directory, lines)
+    option = "" if lines == 4 else f" --lines {lines}"
+    hint = f"build it with `exactsyn tables build --library {gs.library}{option}`"
     if manifest is None:
-        raise ExactsynError(f"no 4-line table for {gs.library} in {directory.parent}; {hint}")
-    problem = storage.check_directory(directory, verify_hashes)
+        raise ExactsynError(f"no {lines}-line table for {gs.library} in {directory.parent}; {hint}")
+    problem = storage.check_directory(directory, verify_hashes, lines)
     if not problem.ok:
         raise ExactsynError(f"the cached {gs.library} table is damaged ({problem.reasons[0]}); {hint}")
-    if manifest["gate_keys"] != [f"{k:016x}" for k in gs.keys]:
+    if manifest["gate_keys"] != [gs.layout.hex(k) for k in gs.keys]:
         raise ExactsynError(f"the cached {gs.library} table was built for other gates; {hint}")
     return Tables(directory, manifest, gs)

@@ -1,18 +1,15 @@
-"""Search for 4-line functions with large optimal gate counts, using the tables as a distance oracle.
+"""Functions with large optimal gate counts: the families fixed by a symmetry of the class tables.
 
-Two searches, both ours:
-
-* **Symmetric functions.**  A function that commutes with a relabelling of the lines
-  (``π_σ∘f = f∘π_σ``) is fixed by that symmetry, so its class is small and such functions
-  are few: :func:`centraliser` lists all of them (a permutation commuting with ``P`` maps
-  every cycle of ``P`` onto a cycle of the same length, turned by some offset).  For a
-  4-cycle of the lines there are 1536 such functions, for a 3-cycle 46656; every class is
-  settled exactly.  ``hwb4`` is one of them (it commutes with the cyclic rotation of the
-  lines).
-* **Greedy ascent.**  A gate changes the optimum by at most one, so from ``f`` with optimum
-  ``d`` a neighbour ``g∘f`` or ``f∘g`` with optimum ``d + 1`` is tested by the cheaper
-  question "is the optimum ≥ d + 1?" (the meet in the middle scanned to ``d − R`` without a
-  hit).  The walk climbs while a neighbour climbs, then takes a few sideways steps.
+A function that commutes with a relabelling of the lines (``π_σ∘f = f∘π_σ``) is fixed by
+that symmetry, so its class is small and such functions are few: :func:`centraliser`
+lists all of them (a permutation commuting with ``P`` maps every cycle of ``P`` onto a
+cycle of the same length, turned by some offset), :func:`fixed_functions` also those
+fixed by a relabelling combined with inversion (``σ`` relabels ``n`` lines, so the
+functions are those of ``n`` lines).  For a 4-cycle of 4 lines there are
+1536 commuting functions, for a 3-cycle 46656; every class is settled exactly by the
+tables.  ``hwb4`` is one of them (it commutes with the cyclic rotation of the lines).
+:func:`at_least` answers "is the optimum at least k?" by a scan that stops early, the
+cheap screen before a class is settled.
 
 Only the final optima are claims; they come from :meth:`Tables.synthesise` with circuits.
 """
@@ -20,19 +17,14 @@ Only the final optima are claims; they come from :meth:`Tables.synthesise` with 
 from __future__ import annotations
 
 import itertools
-import random
-import time
 from collections.abc import Iterator, Sequence
-from dataclasses import dataclass
 
-import numpy as np
-
-from exactsyn.tables import perm4
 from exactsyn.tables.engine import Tables
+from exactsyn.tables.keys import layout
 
 
 def centraliser(state_perm: Sequence[int]) -> Iterator[tuple[int, ...]]:
-    """Every permutation ``f`` of 0..15 with ``f∘P = P∘f`` for the permutation ``P``."""
+    """Every permutation ``f`` of the states with ``f∘P = P∘f`` for the permutation ``P`` of them."""
     size = len(state_perm)
     seen = [False] * size
     by_length: dict[int, list[list[int]]] = {}
@@ -63,27 +55,14 @@ def centraliser(state_perm: Sequence[int]) -> Iterator[tuple[int, ...]]:
         yield tuple(f)
 
 
-def fixed_functions(
-    sigma: Sequence[int], inverted: bool, rng: random.Random | None = None
-) -> Iterator[tuple[int, ...]]:
-    """Every ``f`` fixed by the transform ``(σ, inverted)`` (see :func:`fixed_by_all`)."""
-    return fixed_by_all([(sigma, inverted)], rng)
-
-
-def fixed_by_all(
-    transforms: Sequence[tuple[Sequence[int], bool]], rng: random.Random | None = None
-) -> Iterator[tuple[int, ...]]:
-    """Every ``f`` fixed by each transform ``(σ, inverted)``: ``π_σ∘f∘π_σ⁻¹ = f`` (commuting
+def fixed_functions(sigma: Sequence[int], inverted: bool) -> Iterator[tuple[int, ...]]:
+    """Every ``f`` fixed by the transform ``(σ, inverted)``: ``π_σ∘f∘π_σ⁻¹ = f`` (commuting
     with ``P = π_σ``), or ``π_σ∘f⁻¹∘π_σ⁻¹ = f`` when ``inverted`` (that is ``f∘P∘f = P``).
 
     Backtracking over ``f(0), f(1), …``; an assignment ``f(x) = y`` forces ``f(P x) = P y``
-    (commuting) or ``f(P y) = P x`` (inverted) for every transform, propagated to a fixed
-    point.  With ``rng`` the values are tried in random order (a random member comes first)."""
-    rules = [(perm4.state_map(sigma), inverted) for sigma, inverted in transforms]
-    size = 16
-
-    def implied(x: int, y: int) -> list[tuple[int, int]]:
-        return [(P[y], P[x]) if inv else (P[x], P[y]) for P, inv in rules]
+    (commuting) or ``f(P y) = P x`` (inverted), propagated to a fixed point."""
+    P = layout(len(sigma)).state_map(sigma)
+    size = len(P)
 
     def assign(f: list[int], used: list[bool], x: int, y: int, trail: list[int]) -> bool:
         todo = [(x, y)]
@@ -97,7 +76,7 @@ def fixed_by_all(
                 return False
             f[a], used[b] = b, True
             trail.append(a)
-            todo.extend(implied(a, b))
+            todo.append((P[b], P[a]) if inverted else (P[a], P[b]))
         return True
 
     def undo(f: list[int], used: list[bool], trail: list[int]) -> None:
@@ -113,10 +92,7 @@ def fixed_by_all(
         if x == size:
             yield tuple(f)
             return
-        order = list(range(size))
-        if rng is not None:
-            rng.shuffle(order)
-        for y in order:
+        for y in range(size):
             if used[y]:
                 continue
             trail: list[int] = []
@@ -129,10 +105,9 @@ def fixed_by_all(
 
 def symmetric_classes(sigma: Sequence[int], inverted: bool = False) -> list[int]:
     """Canonical keys of the classes of the functions fixed by the transform ``(σ, inverted)``."""
-    from exactsyn.tables import kernels as K
-
-    keys = np.array([perm4.pack(f) for f in fixed_functions(sigma, inverted)], dtype=np.uint64)
-    return sorted(set(K.canon_many(keys).tolist()))
+    lay = layout(len(sigma))
+    keys = lay.array(lay.pack(f) for f in fixed_functions(sigma, inverted))
+    return sorted(set(lay.ints(lay.kernels().canon_many(keys))))
 
 
 def at_least(tables: Tables, perm: Sequence[int], k: int) -> bool:
@@ -143,104 +118,3 @@ def at_least(tables: Tables, perm: Sequence[int], k: int) -> bool:
         return j is None or j >= k
     ans = tables.synthesise(perm, max_extra=k - 1 - R)
     return not ans.optimal
-
-
-@dataclass(frozen=True)
-class Found:
-    perm: tuple[int, ...]
-    gates: int
-    how: str
-
-
-def neighbours(tables: Tables, perm: Sequence[int]) -> list[tuple[int, ...]]:
-    """``g∘f`` and ``f∘g`` for every gate ``g`` of the table's library."""
-    f = perm4.pack(perm)
-    out = []
-    for g in tables.gates.keys:
-        out.append(perm4.unpack(perm4.compose(g, f)))
-        out.append(perm4.unpack(perm4.compose(f, g)))
-    return out
-
-
-def ascend(
-    tables: Tables, start: Sequence[int], rng: random.Random, sideways: int = 8, deadline: float | None = None
-) -> Found:
-    """Climb from ``start`` through neighbours with a larger optimum; return the top reached."""
-    ans = tables.synthesise(start)
-    if not ans.optimal or ans.gate_count is None:
-        raise RuntimeError("the start function is not settled by the table")
-    f, d = tuple(start), ans.gate_count
-    flat = 0
-    while deadline is None or time.perf_counter() < deadline:
-        nb = neighbours(tables, f)
-        rng.shuffle(nb)
-        up = next((h for h in nb if at_least(tables, h, d + 1)), None)
-        if up is not None:
-            f, d, flat = up, d + 1, 0
-            continue
-        if flat >= sideways:
-            break
-        side = [h for h in nb[:16] if at_least(tables, h, d)]
-        if not side:
-            break
-        f, flat = rng.choice(side), flat + 1
-    return Found(f, d, "greedy ascent")
-
-
-def family_moves(perm: Sequence[int], sigma: Sequence[int], gate_keys: Sequence[int]) -> list[tuple[int, ...]]:
-    """Moves that stay in the family ``π_σ∘f⁻¹∘π_σ⁻¹ = f`` for an involution ``σ``:
-    ``f ↦ h∘f∘h'`` with ``h' = π_σ∘h∘π_σ⁻¹`` (then ``f'∘P∘f' = h∘(f∘P∘f)∘P∘h∘P⁻¹ = P`` as
-    ``P² = 1`` and ``h² = 1``); the optimum changes by at most two."""
-    f = perm4.pack(perm)
-    out = []
-    for h in gate_keys:
-        out.append(perm4.unpack(perm4.compose(perm4.compose(h, f), perm4.conjugate(h, sigma))))
-    return out
-
-
-def ascend_in_family(
-    tables: Tables,
-    start: Sequence[int],
-    sigma: Sequence[int],
-    rng: random.Random,
-    sideways: int = 6,
-    deadline: float | None = None,
-) -> Found:
-    """Greedy ascent inside the family of functions fixed by ``(σ, inverted)`` (``σ`` an
-    involution): try a move two up, then one up, then a few sideways moves."""
-    ans = tables.synthesise(start)
-    if not ans.optimal or ans.gate_count is None:
-        raise RuntimeError("the start function is not settled by the table")
-    f, d, flat = tuple(start), ans.gate_count, 0
-    keys = list(tables.gates.keys)
-    while deadline is None or time.perf_counter() < deadline:
-        moves = family_moves(f, sigma, keys)
-        rng.shuffle(moves)
-        ups = [h for h in moves if at_least(tables, h, d + 1)]
-        if ups:
-            two = next((h for h in ups if at_least(tables, h, d + 2)), None)
-            f, d, flat = (two, d + 2, 0) if two is not None else (ups[0], d + 1, 0)
-            continue
-        if flat >= sideways:
-            break
-        side = [h for h in moves[:8] if at_least(tables, h, d)]
-        if not side:
-            break
-        f, flat = rng.choice(side), flat + 1
-    return Found(f, d, f"ascent among functions fixed by relabelling {tuple(sigma)} with inversion")
-
-
-def hardest_symmetric(tables: Tables, transforms: Sequence[tuple[Sequence[int], bool]], floor: int) -> list[Found]:
-    """Settle every class of functions fixed by one of ``transforms`` (``(σ, inverted)``)
-    whose optimum is at least ``floor`` (screened first by :func:`at_least`)."""
-    out = []
-    for sigma, inverted in transforms:
-        how = f"fixed by relabelling {tuple(sigma)}" + (" with inversion" if inverted else "")
-        for key in symmetric_classes(sigma, inverted):
-            p = perm4.unpack(key)
-            if not at_least(tables, p, floor):
-                continue
-            ans = tables.synthesise(p)
-            if ans.optimal and ans.gate_count is not None:
-                out.append(Found(p, ans.gate_count, how))
-    return sorted(out, key=lambda x: -x.gates)

@@ -1,15 +1,20 @@
-"""Compiled kernels (numba) for packed 4-line permutations: canonical form, composition, lookup.
+"""Compiled kernels (numba) for single-word key layouts (``n ≤ 4`` lines): canonical form, lookup, BFS.
 
-Keys follow :mod:`exactsyn.tables.perm4` (nibble ``i`` = ``p[i]``).
+Keys follow :mod:`exactsyn.tables.keys` (entry ``i`` at bits ``n·i .. n·i + n − 1`` of one
+64-bit word; for 4 lines nibble ``i`` holds ``p[i]``).  One set of kernels serves every
+such layout: the layout's constants travel as one tuple ``C = (n, seq, pos_mask, pos_shift,
+val_mask)`` (:func:`constants`), so each kernel is compiled once for all line counts.
+:func:`kernels_for` wraps them as the :class:`~exactsyn.tables.kernel_api.TableKernels` of
+a layout.
 
 Canonical form.  Conjugating by the transposition of lines ``a`` and ``a+1`` moves the
-nibble at position ``x`` to position ``τ(x)`` and swaps bits ``a``, ``a+1`` inside every
-nibble; on the 64-bit word both are single *delta swaps* (exchange of the bit groups
+entry at position ``x`` to position ``τ(x)`` and swaps bits ``a``, ``a+1`` inside every
+entry; on the 64-bit word both are single *delta swaps* (exchange of the bit groups
 selected by a mask with the groups ``s`` places higher: ``t = ((w >> s) ^ w) & m;
-w ^= t ^ (t << s)``; Knuth, TAOCP 4A, §7.1.3).  Walking through all 24 relabellings by
+w ^= t ^ (t << s)``; Knuth, TAOCP 4A, §7.1.3).  Walking through all ``n!`` relabellings by
 adjacent transpositions (the Steinhaus–Johnson–Trotter order) visits every conjugate of
 ``f`` and of ``f⁻¹`` with two delta swaps each; the least key is the canonical form.
-The tests compare it with the plain definition in :mod:`exactsyn.tables.perm4`.
+The tests compare it with the plain definition in :mod:`exactsyn.tables.keys`.
 
 Lookup.  A stored level is a sorted array of *mixed* keys ``mix(k)`` (an invertible
 64-bit mixing function, the finaliser of Steele, Lea & Flood's SplitMix64, OOPSLA 2014),
@@ -23,10 +28,13 @@ Nothing here allocates a table; :mod:`exactsyn.tables.levels` and
 
 from __future__ import annotations
 
-import itertools
+from dataclasses import dataclass
+from typing import Any
 
 import numba as nb
 import numpy as np
+
+from exactsyn.tables.keys import KeyLayout
 
 U64 = np.uint64
 _ONES = U64(0xFFFFFFFFFFFFFFFF)
@@ -57,15 +65,28 @@ def _sjt_transpositions(n: int) -> list[int]:
                 dirs[x] = -dirs[x]
 
 
-_SEQ = np.array(_sjt_transpositions(4), dtype=np.int64)
-_POS_MASK = np.zeros(3, dtype=np.uint64)
-_POS_SHIFT = np.zeros(3, dtype=np.uint64)
-_VAL_MASK = np.zeros(3, dtype=np.uint64)
-for _a in range(3):
-    _POS_MASK[_a] = sum(0xF << (4 * x) for x in range(16) if (x >> _a) & 1 and not (x >> (_a + 1)) & 1)
-    _POS_SHIFT[_a] = 4 * ((1 << (_a + 1)) - (1 << _a))
-    _VAL_MASK[_a] = 0x1111111111111111 << _a
-assert len(_SEQ) == 23 and len(set(itertools.permutations(range(4)))) == 24
+def constants(lines: int) -> tuple[int, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """``C = C`` of the ``n``-line single-word layout.
+
+    ``seq``: the ``n! − 1`` adjacent transpositions of the walk; for the transposition of
+    lines ``a``, ``a+1``: ``pos_mask[a]`` selects the entries of the states with bit ``a``
+    set and bit ``a+1`` clear (their partners sit ``pos_shift[a] = n·2^a`` bits higher), and
+    ``val_mask[a]`` bit ``a`` of every entry (its partner one bit higher).
+    """
+    n, size = lines, 1 << lines
+    if n * size > 64:
+        raise ValueError(f"{n}-line keys do not fit one 64-bit word")
+    entry = (1 << n) - 1
+    seq = np.array(_sjt_transpositions(n), dtype=np.int64)
+    pos_mask = np.zeros(n - 1, dtype=np.uint64)
+    pos_shift = np.zeros(n - 1, dtype=np.uint64)
+    val_mask = np.zeros(n - 1, dtype=np.uint64)
+    for a in range(n - 1):
+        low = [x for x in range(size) if (x >> a) & 1 and not (x >> (a + 1)) & 1]
+        pos_mask[a] = sum(entry << (n * x) for x in low)
+        pos_shift[a] = n * ((1 << (a + 1)) - (1 << a))
+        val_mask[a] = sum(1 << (n * i + a) for i in range(size))
+    return n, seq, pos_mask, pos_shift, val_mask
 
 
 # ----------------------------------------------------------------------------- scalar kernels
@@ -94,66 +115,15 @@ def unmix(m: np.uint64) -> np.uint64:
 
 
 @nb.njit(inline="always", cache=True)
-def inverse(k: np.uint64) -> np.uint64:
+def inverse(k: np.uint64, n: int) -> np.uint64:
+    """Inverse of the ``n``-line key ``k``: ``q[p[i]] = i``."""
+    un = U64(n)
+    entry = (U64(1) << un) - U64(1)
     q = U64(0)
-    for i in range(16):
-        v = (k >> U64(4 * i)) & U64(15)
-        q |= U64(i) << (v * U64(4))
+    for i in range(1 << n):
+        v = (k >> (U64(i) * un)) & entry
+        q |= U64(i) << (v * un)
     return q
-
-
-@nb.njit(inline="always", cache=True)
-def compose(f: np.uint64, a: np.uint64) -> np.uint64:
-    """``f∘a`` (``a`` first)."""
-    out = U64(0)
-    for i in range(16):
-        v = (a >> U64(4 * i)) & U64(15)
-        out |= ((f >> (v * U64(4))) & U64(15)) << U64(4 * i)
-    return out
-
-
-@nb.njit(inline="always", cache=True)
-def _swap_adjacent(w: np.uint64, a: int) -> np.uint64:
-    """Conjugate by the transposition of lines ``a`` and ``a+1``: two delta swaps."""
-    s = _POS_SHIFT[a]
-    t = ((w >> s) ^ w) & _POS_MASK[a]
-    w = w ^ t ^ (t << s)
-    t = ((w >> U64(1)) ^ w) & _VAL_MASK[a]
-    return w ^ t ^ (t << U64(1))
-
-
-@nb.njit(inline="always", cache=True)
-def canon(k: np.uint64) -> np.uint64:
-    """Least key over the 24 relabellings of ``k`` and of ``k⁻¹``."""
-    best = k
-    w = k
-    for j in range(23):
-        w = _swap_adjacent(w, _SEQ[j])
-        if w < best:
-            best = w
-    w = inverse(k)
-    if w < best:
-        best = w
-    for j in range(23):
-        w = _swap_adjacent(w, _SEQ[j])
-        if w < best:
-            best = w
-    return best
-
-
-@nb.njit(inline="always", cache=True)
-def stabiliser(k: np.uint64) -> int:
-    """How many of the 48 transforms map ``k`` to itself (class size = 48 / this)."""
-    count = 0
-    for side in range(2):
-        w = k if side == 0 else inverse(k)
-        if w == k:
-            count += 1
-        for j in range(23):
-            w = _swap_adjacent(w, _SEQ[j])
-            if w == k:
-                count += 1
-    return count
 
 
 @nb.njit(inline="always", cache=True)
@@ -175,25 +145,34 @@ def contains(vals: np.ndarray, index: np.ndarray, shift: int, m: np.uint64) -> b
 
 
 # ----------------------------------------------------------------------------- block kernels
-# The same walk over the 24 relabellings, run on a block of keys in lock step: every step
+# The walk over the n! relabellings, run on a block of keys in lock step: every step
 # applies one uniform shift and mask to all lanes, which the compiler turns into SIMD
-# code (about ten times faster per key than the scalar loop on AVX-512 hardware).
+# code (about ten times faster per key than a scalar loop on AVX-512 hardware).
 @nb.njit(inline="always", cache=True)
-def canon_block(w: np.ndarray, best: np.ndarray, n: int) -> None:
+def canon_block(
+    w: np.ndarray,
+    best: np.ndarray,
+    n: int,
+    lines: int,
+    seq: np.ndarray,
+    pos_mask: np.ndarray,
+    pos_shift: np.ndarray,
+    val_mask: np.ndarray,
+) -> None:
     """``best[l] = canon(w[l])`` for ``l < n``; ``w`` is overwritten."""
     for lane in range(n):
         best[lane] = w[lane]
     for side in range(2):
         if side == 1:
             for lane in range(n):
-                x = inverse(w[lane])  # the inverse of a conjugate is a conjugate of the inverse
+                x = inverse(w[lane], lines)  # the inverse of a conjugate is a conjugate of the inverse
                 w[lane] = x
                 best[lane] = min(best[lane], x)
-        for j in range(23):
-            a = _SEQ[j]
-            s = _POS_SHIFT[a]
-            m = _POS_MASK[a]
-            m2 = _VAL_MASK[a]
+        for j in range(len(seq)):
+            a = seq[j]
+            s = pos_shift[a]
+            m = pos_mask[a]
+            m2 = val_mask[a]
             for lane in range(n):
                 x = w[lane]
                 t = ((x >> s) ^ x) & m
@@ -205,22 +184,31 @@ def canon_block(w: np.ndarray, best: np.ndarray, n: int) -> None:
 
 
 @nb.njit(inline="always", cache=True)
-def stabiliser_block(w: np.ndarray, count: np.ndarray, n: int) -> None:
-    """``count[l]`` = transforms fixing the key ``w[l]`` (among 48); ``w`` is overwritten."""
+def stabiliser_block(
+    w: np.ndarray,
+    count: np.ndarray,
+    n: int,
+    lines: int,
+    seq: np.ndarray,
+    pos_mask: np.ndarray,
+    pos_shift: np.ndarray,
+    val_mask: np.ndarray,
+) -> None:
+    """``count[l]`` = transforms fixing the key ``w[l]`` (among ``2·n!``); ``w`` is overwritten."""
     keys = w.copy()
     for lane in range(n):
         count[lane] = 1
     for side in range(2):
         if side == 1:
             for lane in range(n):
-                x = inverse(w[lane])
+                x = inverse(w[lane], lines)
                 w[lane] = x
                 count[lane] += x == keys[lane]
-        for j in range(23):
-            a = _SEQ[j]
-            s = _POS_SHIFT[a]
-            m = _POS_MASK[a]
-            m2 = _VAL_MASK[a]
+        for j in range(len(seq)):
+            a = seq[j]
+            s = pos_shift[a]
+            m = pos_mask[a]
+            m2 = val_mask[a]
             for lane in range(n):
                 x = w[lane]
                 t = ((x >> s) ^ x) & m
@@ -231,12 +219,29 @@ def stabiliser_block(w: np.ndarray, count: np.ndarray, n: int) -> None:
                 count[lane] += x == keys[lane]
 
 
+@nb.njit(inline="always", cache=True)
+def compose_block(fs: np.ndarray, a: np.uint64, out: np.ndarray, offset: int, n: int) -> None:
+    """``out[offset + l] = fs[l] ∘ a`` for every lane (one shift per entry for all lanes)."""
+    un = U64(n)
+    entry = (U64(1) << un) - U64(1)
+    lanes = len(fs)
+    for lane in range(lanes):
+        out[offset + lane] = U64(0)
+    for i in range(1 << n):
+        d = U64(i) * un
+        s = ((a >> d) & entry) * un
+        for lane in range(lanes):
+            out[offset + lane] |= ((fs[lane] >> s) & entry) << d
+
+
 # ----------------------------------------------------------------------------- array kernels
 _BLOCK = 256
 
 
-@nb.njit(parallel=True, cache=True)
-def canon_many(keys: np.ndarray) -> np.ndarray:
+@nb.njit(parallel=True, inline="always", cache=True)
+def _canon_many(
+    keys: np.ndarray, lines: int, seq: np.ndarray, pos_mask: np.ndarray, pos_shift: np.ndarray, val_mask: np.ndarray
+) -> np.ndarray:
     n = len(keys)
     out = np.empty_like(keys)
     for b in nb.prange((n + _BLOCK - 1) // _BLOCK):
@@ -244,7 +249,7 @@ def canon_many(keys: np.ndarray) -> np.ndarray:
         m = min(_BLOCK, n - lo)
         w = keys[lo : lo + m].copy()
         best = np.empty(m, dtype=np.uint64)
-        canon_block(w, best, m)
+        canon_block(w, best, m, lines, seq, pos_mask, pos_shift, val_mask)
         out[lo : lo + m] = best
     return out
 
@@ -265,16 +270,19 @@ def unmix_many(vals: np.ndarray) -> np.ndarray:
     return out
 
 
-@nb.njit(parallel=True, cache=True)
-def class_size_counts(vals: np.ndarray) -> np.ndarray:
-    """Per block of (mixed) canonical keys, how many classes have each size ``0..48``.
+@nb.njit(parallel=True, inline="always", cache=True)
+def _class_size_counts(
+    vals: np.ndarray, lines: int, seq: np.ndarray, pos_mask: np.ndarray, pos_shift: np.ndarray, val_mask: np.ndarray
+) -> np.ndarray:
+    """Per block of (mixed) canonical keys, how many classes have each size ``0..2·n!``.
 
-    Returns an ``(blocks, 49)`` array; its column sums are the histogram.  The class of
-    ``k`` has ``48 / |stabiliser|`` members.
+    Returns an ``(blocks, 2·n! + 1)`` array; its column sums are the histogram.  The class
+    of ``k`` has ``2·n! / |stabiliser|`` members.
     """
+    transforms = 2 * (len(seq) + 1)
     n = len(vals)
     nb_ = (n + _BLOCK - 1) // _BLOCK
-    parts = np.zeros((max(nb_, 1), 49), dtype=np.int64)
+    parts = np.zeros((max(nb_, 1), transforms + 1), dtype=np.int64)
     for b in nb.prange(nb_):
         lo = b * _BLOCK
         m = min(_BLOCK, n - lo)
@@ -282,9 +290,9 @@ def class_size_counts(vals: np.ndarray) -> np.ndarray:
         for lane in range(m):
             w[lane] = unmix(vals[lo + lane])
         count = np.empty(m, dtype=np.int64)
-        stabiliser_block(w, count, m)
+        stabiliser_block(w, count, m, lines, seq, pos_mask, pos_shift, val_mask)
         for lane in range(m):
-            parts[b, 48 // count[lane]] += 1
+            parts[b, transforms // count[lane]] += 1
     return parts
 
 
@@ -325,22 +333,18 @@ def make_index(vals: np.ndarray) -> tuple[np.ndarray, int]:
     return index, 64 - bits
 
 
-@nb.njit(inline="always", cache=True)
-def compose_block(fs: np.ndarray, a: np.uint64, out: np.ndarray, offset: int) -> None:
-    """``out[offset + l] = fs[l] ∘ a`` for every lane (one shift per nibble for all lanes)."""
-    n = len(fs)
-    for lane in range(n):
-        out[offset + lane] = U64(0)
-    for i in range(16):
-        s = ((a >> U64(4 * i)) & U64(15)) * U64(4)
-        d = U64(4 * i)
-        for lane in range(n):
-            out[offset + lane] |= ((fs[lane] >> s) & U64(15)) << d
-
-
 # ----------------------------------------------------------------------------- breadth-first step
-@nb.njit(parallel=True, cache=True)
-def expand(reps: np.ndarray, gates: np.ndarray, out: np.ndarray) -> None:
+@nb.njit(parallel=True, inline="always", cache=True)
+def _expand(
+    reps: np.ndarray,
+    gates: np.ndarray,
+    out: np.ndarray,
+    lines: int,
+    seq: np.ndarray,
+    pos_mask: np.ndarray,
+    pos_shift: np.ndarray,
+    val_mask: np.ndarray,
+) -> None:
     """Mixed canonical keys of the neighbours of every (mixed) class ``reps[i]``.
 
     The neighbours of the class of ``r`` are the classes of ``g∘r`` and ``r∘g`` for every
@@ -358,9 +362,9 @@ def expand(reps: np.ndarray, gates: np.ndarray, out: np.ndarray) -> None:
         best = np.empty(lanes, dtype=np.uint64)
         for i in range(t * step, min(n, (t + 1) * step)):
             r = unmix(reps[i])
-            compose_block(gates, r, w, 0)
-            compose_block(gates, inverse(r), w, ng)
-            canon_block(w, best, lanes)
+            compose_block(gates, r, w, 0, lines)
+            compose_block(gates, inverse(r, lines), w, ng, lines)
+            canon_block(w, best, lanes, lines, seq, pos_mask, pos_shift, val_mask)
             base = i * lanes
             for lane in range(lanes):
                 out[base + lane] = mix(best[lane])
@@ -537,8 +541,8 @@ def finish_regions(slots: np.ndarray, skip: int, region_bits: int, cur: np.ndarr
 
 
 # ----------------------------------------------------------------------------- meet in the middle
-@nb.njit(parallel=True, cache=True)
-def scan(
+@nb.njit(parallel=True, inline="always", cache=True)
+def _scan(
     reps: np.ndarray,
     start: int,
     stop: int,
@@ -547,6 +551,11 @@ def scan(
     index: np.ndarray,
     shift: int,
     out: np.ndarray,
+    lines: int,
+    seq: np.ndarray,
+    pos_mask: np.ndarray,
+    pos_shift: np.ndarray,
+    val_mask: np.ndarray,
 ) -> None:
     """For each class ``a = reps[i]`` (``start ≤ i < stop``), the first ``(c, e)`` with
     ``canon(fconj[c] ∘ a^e)`` in the level: ``out[i − start] = 2c + (e == −1)``, or −1.
@@ -569,9 +578,9 @@ def scan(
         first = np.empty(lanes, dtype=np.uint64)
         for i in range(start + t * step, min(stop, start + (t + 1) * step)):
             a = unmix(reps[i])
-            compose_block(fconj, a, w, 0)
-            compose_block(fconj, inverse(a), w, nf)
-            canon_block(w, best, lanes)
+            compose_block(fconj, a, w, 0, lines)
+            compose_block(fconj, inverse(a, lines), w, nf, lines)
+            canon_block(w, best, lanes, lines, seq, pos_mask, pos_shift, val_mask)
             for lane in range(lanes):
                 m = mix(best[lane])
                 best[lane] = m
@@ -595,3 +604,122 @@ def scan(
                 # lane order: conjugate c with a at lane c, with a^-1 at lane nf + c
                 res = 2 * res if res < nf else 2 * (res - nf) + 1
             out[i - start] = res
+
+
+# ----------------------------------------------------------------------------- one compiled set per layout
+@dataclass(frozen=True)
+class _Compiled:
+    canon_many: Any
+    class_size_counts: Any
+    expand: Any
+    scan: Any
+
+
+def _compile(lines: int) -> _Compiled:
+    """The kernels that depend on the layout, specialised to ``lines`` lines.
+
+    Each is a thin closure over the layout's constants (plain integers and arrays, which
+    numba freezes into the code and includes in its cache key, so each line count gets
+    its own cached machine code) around a body above that is inlined into it: the walk
+    over the relabellings and the loops over the entries then have constant trip counts
+    and masks, as fast as kernels written for one line count (``scripts/bench_canon.py``;
+    passing the constants as arguments instead costs about a third more per key).
+    """
+    n, seq, pos_mask, pos_shift, val_mask = constants(lines)
+
+    @nb.njit(parallel=True, cache=True)
+    def canon_many(keys: np.ndarray) -> np.ndarray:
+        return _canon_many(keys, n, seq, pos_mask, pos_shift, val_mask)  # type: ignore[no-any-return]
+
+    @nb.njit(parallel=True, cache=True)
+    def class_size_counts(vals: np.ndarray) -> np.ndarray:
+        return _class_size_counts(vals, n, seq, pos_mask, pos_shift, val_mask)  # type: ignore[no-any-return]
+
+    @nb.njit(parallel=True, cache=True)
+    def expand(reps: np.ndarray, gates: np.ndarray, out: np.ndarray) -> None:
+        _expand(reps, gates, out, n, seq, pos_mask, pos_shift, val_mask)
+
+    @nb.njit(parallel=True, cache=True)
+    def scan(
+        reps: np.ndarray,
+        start: int,
+        stop: int,
+        fconj: np.ndarray,
+        vals: np.ndarray,
+        index: np.ndarray,
+        shift: int,
+        out: np.ndarray,
+    ) -> None:
+        _scan(reps, start, stop, fconj, vals, index, shift, out, n, seq, pos_mask, pos_shift, val_mask)
+
+    return _Compiled(canon_many, class_size_counts, expand, scan)
+
+
+# ----------------------------------------------------------------------------- the layout's kernel object
+@dataclass(frozen=True, eq=False)
+class WordKernels:
+    """:class:`~exactsyn.tables.kernel_api.TableKernels` of a single-word layout."""
+
+    layout: KeyLayout
+    compiled: _Compiled
+    mix_name: str = "splitmix64-finaliser"
+
+    def canon_many(self, keys: np.ndarray) -> np.ndarray:
+        return self.compiled.canon_many(np.ascontiguousarray(keys, dtype=np.uint64))  # type: ignore[no-any-return]
+
+    def mix_many(self, keys: np.ndarray) -> np.ndarray:
+        return mix_many(np.ascontiguousarray(keys, dtype=np.uint64))  # type: ignore[no-any-return]
+
+    def unmix_many(self, mixed: np.ndarray) -> np.ndarray:
+        return unmix_many(np.ascontiguousarray(mixed, dtype=np.uint64))  # type: ignore[no-any-return]
+
+    def class_size_histogram(self, mixed: np.ndarray) -> np.ndarray:
+        if len(mixed) == 0:
+            return np.zeros(self.layout.symmetries + 1, dtype=np.int64)
+        return self.compiled.class_size_counts(mixed).sum(axis=0)  # type: ignore[no-any-return]
+
+    def make_index(self, mixed: np.ndarray) -> tuple[np.ndarray, int]:
+        return make_index(mixed)
+
+    def contains_many(self, vals: np.ndarray, index: np.ndarray, shift: int, mixed: np.ndarray) -> np.ndarray:
+        return contains_many(vals, index, shift, mixed)  # type: ignore[no-any-return]
+
+    def expand(self, reps: np.ndarray, gates: np.ndarray, out: np.ndarray) -> None:
+        self.compiled.expand(reps, gates, out)
+
+    def new_set(self, regions: int, slots: int) -> np.ndarray:
+        return np.zeros((regions, slots), dtype=np.uint64)
+
+    def partition(self, cand: np.ndarray, lo: int, hi: int, skip: int, region_bits: int, out: np.ndarray) -> np.ndarray:
+        return partition(cand, U64(lo), U64(hi), skip, region_bits, out)  # type: ignore[no-any-return]
+
+    def insert(
+        self, slots: np.ndarray, skip: int, region_bits: int, width: int, part: np.ndarray, offsets: np.ndarray
+    ) -> int:
+        return int(insert(slots, skip, region_bits, width, part, offsets))
+
+    def reinsert(self, old: np.ndarray, new: np.ndarray, skip: int, region_bits: int, width: int) -> bool:
+        return bool(reinsert(old, new, skip, region_bits, width))
+
+    def finish_regions(
+        self, slots: np.ndarray, skip: int, region_bits: int, cur: np.ndarray, prev: np.ndarray
+    ) -> np.ndarray:
+        return finish_regions(slots, skip, region_bits, cur, prev)  # type: ignore[no-any-return]
+
+    def scan(
+        self,
+        reps: np.ndarray,
+        start: int,
+        stop: int,
+        fconj: np.ndarray,
+        vals: np.ndarray,
+        index: np.ndarray,
+        shift: int,
+        out: np.ndarray,
+    ) -> None:
+        self.compiled.scan(reps, start, stop, fconj, vals, index, shift, out)
+
+
+def kernels_for(layout: KeyLayout) -> WordKernels:
+    """The kernels of a single-word layout (``n·2^n ≤ 64``: 2, 3 or 4 lines)."""
+    return WordKernels(layout, _compile(layout.lines))

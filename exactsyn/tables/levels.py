@@ -1,6 +1,6 @@
-"""Breadth-first search over classes: the levels of the 4-line class tables.
+"""Breadth-first search over classes: the levels of the class tables, for any key layout.
 
-Level ``j`` is the set of classes (canonical keys, :mod:`exactsyn.tables.perm4`) whose
+Level ``j`` is the set of classes (canonical keys, :mod:`exactsyn.tables.keys`) whose
 functions need exactly ``j`` gates.  Level ``j + 1`` is every neighbour class of level
 ``j`` (the classes of ``g∘r`` and ``g∘r⁻¹`` for a representative ``r`` and a gate ``g``)
 that is not in level ``j`` or ``j − 1``: a gate changes the gate count by at most one,
@@ -8,9 +8,11 @@ so a neighbour of level ``j`` lies in level ``j − 1``, ``j`` or ``j + 1``.  Th
 breadth-first search over symmetry classes of Golubitsky, Falconer & Maslov ("Synthesis
 of the optimal 4-bit reversible circuits", DAC 2010), who keep every function up to 9
 gates; here one representative per class is kept, and the number of functions per level
-comes from the class sizes (``48 / |stabiliser|``).
+comes from the class sizes (``2·n! / |stabiliser|``).  Everything that touches a key's bits
+is a kernel of the layout (:class:`~exactsyn.tables.kernel_api.TableKernels`); this module
+only holds key arrays, so it serves every line count the engine has.
 
-Memory: the keys found in one step go into an open-addressing set (:func:`kernels.insert`)
+Memory: the keys found in one step go into an open-addressing set (``TableKernels.insert``)
 sized from the growth of the previous levels and enlarged when it fills.  When the set
 would exceed ``memory`` bytes the step runs in ``2^p`` passes, each keeping the keys of
 one range of top bits (the expansion is recomputed per pass; it is the cheap part).
@@ -74,25 +76,26 @@ def _level_step(
     label: str,
 ) -> int:
     """Write the sorted mixed keys of the next level to ``out_path``; return their number."""
-    from exactsyn.tables import kernels as K
-
+    K = gs.layout.kernels()
+    key_bytes = 8 * gs.layout.words
     gates = gs.key_array()
     lanes = 2 * len(gates)
-    chunk = max(1, CANDIDATE_BYTES // 8 // lanes)
+    chunk = max(1, CANDIDATE_BYTES // key_bytes // lanes)
     passes_bits = 0
-    while estimate / LOAD * 8 / (1 << passes_bits) > memory and passes_bits < 6:
+    while estimate / LOAD * key_bytes / (1 << passes_bits) > memory and passes_bits < 6:
         passes_bits += 1
     passes = 1 << passes_bits
-    cand = np.empty(chunk * lanes, dtype=np.uint64)
+    cand = gs.layout.empty(chunk * lanes)
     part = np.empty_like(cand)
     total_work = passes * len(cur)
     written = 0
     with open(out_path, "wb") as fh:
         for p in range(passes):
-            lo = np.uint64(p << (64 - passes_bits)) if passes_bits else np.uint64(0)
-            hi = np.uint64(((p + 1) << (64 - passes_bits)) - 1) if passes_bits else np.uint64((1 << 64) - 1)
+            # this pass keeps the keys whose leading word has the top bits p
+            lo = p << (64 - passes_bits) if passes_bits else 0
+            hi = ((p + 1) << (64 - passes_bits)) - 1 if passes_bits else (1 << 64) - 1
             region_bits, width = _geometry(max(1024, estimate // passes), passes_bits)
-            slots = np.zeros((1 << region_bits, width + PAD), dtype=np.uint64)
+            slots = K.new_set(1 << region_bits, width + PAD)
             for start in range(0, len(cur), chunk):
                 reps = np.ascontiguousarray(cur[start : start + chunk])
                 block = cand[: len(reps) * lanes]
@@ -100,7 +103,7 @@ def _level_step(
                 offsets = K.partition(block, lo, hi, passes_bits, region_bits, part)
                 while K.insert(slots, passes_bits, region_bits, width, part, offsets) < 0:
                     width = int(width * 1.5) + 1
-                    bigger = np.zeros((1 << region_bits, width + PAD), dtype=np.uint64)
+                    bigger = K.new_set(1 << region_bits, width + PAD)
                     if not K.reinsert(slots, bigger, passes_bits, region_bits, width):
                         raise RuntimeError("internal error: the enlarged key set overflowed")
                     slots = bigger
@@ -115,65 +118,74 @@ def _level_step(
     return written
 
 
-def _finish_level(directory: Path, level: int, count: int) -> dict[str, Any]:
+def _finish_level(gs: GateSet, directory: Path, level: int, count: int) -> dict[str, Any]:
     """Index and class-size counts of a written level; its manifest entry."""
-    from exactsyn.tables import kernels as K
-
-    vals = storage.read_array(directory / storage.level_file(level), np.uint64, count)
+    K = gs.layout.kernels()
+    words = gs.layout.words
+    vals = storage.read_array(directory / storage.level_file(level, words), np.uint64, count, words)
     index, shift = K.make_index(vals)
     name = storage.index_file(level, index.dtype)
     index.astype(index.dtype.newbyteorder("<")).tofile(directory / name)
-    hist = K.class_size_counts(vals).sum(axis=0) if count else np.zeros(49, dtype=np.int64)
+    hist = K.class_size_histogram(vals)
     entry = {
         "level": level,
         "classes": count,
-        "file": storage.level_file(level),
+        "file": storage.level_file(level, words),
         "index_file": name,
         "index_bits": 64 - shift,
-        "functions": int((hist * np.arange(49)).sum()),
+        "functions": int((hist * np.arange(len(hist))).sum()),
         "class_sizes": {str(s): int(c) for s, c in enumerate(hist) if c},
     }
     return entry
 
 
 def build_levels(
-    gs: GateSet, depth: int, directory: Path, progress: BuildProgress | None = None, memory: int = DEFAULT_MEMORY
+    gs: GateSet,
+    depth: int | None,
+    directory: Path,
+    progress: BuildProgress | None = None,
+    memory: int = DEFAULT_MEMORY,
 ) -> list[dict[str, Any]]:
-    """Levels ``0..depth`` into ``directory``; one manifest entry per level."""
-    from exactsyn.tables import kernels as K
-    from exactsyn.tables import perm4
-
+    """Levels ``0..depth`` into ``directory`` (``depth=None``: until a level comes out empty,
+    i.e. every function the library generates); one manifest entry per level."""
+    lay = gs.layout
+    K = lay.kernels()
+    words = lay.words
     report = progress or _noop
-    ident = K.mix_many(np.array([perm4.IDENTITY], dtype=np.uint64))
-    path0 = directory / storage.level_file(0)
-    ident.tofile(path0)
+    K.mix_many(lay.array([lay.identity])).tofile(directory / storage.level_file(0, words))
     sizes = [1]
     entries: list[dict[str, Any]] = []
-    for level in range(depth + 1):
-        path = directory / storage.level_file(level)
+    level = 0
+    while depth is None or level <= depth:
+        path = directory / storage.level_file(level, words)
         if level > 0:
-            cur = storage.read_array(directory / storage.level_file(level - 1), np.uint64, sizes[level - 1])
+            cur = storage.read_array(directory / storage.level_file(level - 1, words), np.uint64, sizes[-1], words)
             prev = (
-                storage.read_array(directory / storage.level_file(level - 2), np.uint64, sizes[level - 2])
+                storage.read_array(directory / storage.level_file(level - 2, words), np.uint64, sizes[-2], words)
                 if level > 1
-                else np.zeros(0, dtype=np.uint64)
+                else lay.empty(0)
             )
             n = _level_step(gs, cur, prev, _estimate(sizes, len(gs)), path, memory, report, f"level {level}")
-            sizes.append(n)
             if n == 0:
                 path.unlink()
                 break
+            sizes.append(n)
         report(f"index {level}", 0, 1)
-        entry = _finish_level(directory, level, sizes[level])
-        entries.append(entry)
+        entries.append(_finish_level(gs, directory, level, sizes[level]))
+        level += 1
     return entries
 
 
 def build_table(
-    gs: GateSet, depth: int, directory: Path, progress: BuildProgress | None = None, memory: int = DEFAULT_MEMORY
+    gs: GateSet,
+    depth: int | None,
+    directory: Path,
+    progress: BuildProgress | None = None,
+    memory: int = DEFAULT_MEMORY,
 ) -> dict[str, Any]:
     """Build every level, hash the files and write the manifest (the last file written)."""
     report = progress or _noop
+    lay = gs.layout
     t0 = time.perf_counter()
     levels = build_levels(gs, depth, directory, report, memory)
     for lv in levels:
@@ -182,19 +194,22 @@ def build_table(
             path = directory / lv[name_key]
             lv[size_key] = path.stat().st_size
             lv[hash_key] = storage.sha256_file(path)
-    complete = len(levels) <= depth  # an empty level: every realisable function is in the table
+    # an empty level came before the depth asked for: every realisable function is in the table
+    complete = depth is None or len(levels) <= depth
+    relabellings = lay.symmetries // 2
     manifest: dict[str, Any] = {
-        "format": storage.FORMAT,
+        "format": storage.format_name(lay.lines),
         "format_version": storage.FORMAT_VERSION,
         "library": gs.library,
-        "lines": 4,
+        "lines": lay.lines,
         "gates": gs.describe(),
-        "gate_keys": [f"{k:016x}" for k in gs.keys],
+        "gate_keys": [lay.hex(k) for k in gs.keys],
         "depth": len(levels) - 1,
         "complete": complete,
-        "symmetry": "24 line relabellings and inversion (48 transforms)",
-        "key": "nibble i holds p[i]; canonical form = least key of the class",
-        "mix": "splitmix64-finaliser",
+        "symmetry": f"{relabellings} line relabellings and inversion ({lay.symmetries} transforms)",
+        "key": _KEY_TEXT.get(lay.lines, f"bits {lay.lines}i..{lay.lines}i+{lay.lines - 1} hold p[i]")
+        + "; canonical form = least key of the class",
+        "mix": lay.kernels().mix_name,
         "levels": levels,
         "built": {
             "seconds": round(time.perf_counter() - t0, 1),
@@ -205,6 +220,10 @@ def build_table(
     }
     storage.write_manifest(directory, manifest)
     return manifest
+
+
+#: How a manifest describes the packing (the 4-line wording is the one manifests always had).
+_KEY_TEXT = {4: "nibble i holds p[i]"}
 
 
 def passes_needed(keys: int, memory: int) -> int:

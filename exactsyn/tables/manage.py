@@ -1,11 +1,12 @@
-"""Build, inspect and remove the cached 4-line class tables.
+"""Build, inspect and remove the cached class tables (any line count the engine has).
 
 :func:`build` is idempotent: when a table of at least the requested depth is cached and
 its files are there with the manifest's sizes, it returns at once without reading
 them (``exactsyn tables info --hashes`` re-hashes them, and every certificate check
-re-hashes the table it uses).  Otherwise it builds into a temporary directory and renames it into place (see
-:mod:`exactsyn.tables.storage`), so a crash or Ctrl-C never leaves a table that looks
-complete; a stale temporary directory of a dead build is removed by the next build.
+re-hashes the table it uses).  Otherwise it builds into a temporary directory and renames
+it into place (see :mod:`exactsyn.tables.storage`), so a crash or Ctrl-C never leaves a
+table that looks complete; a stale temporary directory of a dead build is removed by the
+next build.
 """
 
 from __future__ import annotations
@@ -19,12 +20,16 @@ from typing import Any
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import storage
 from exactsyn.tables.gate_keys import TABLE_LIBRARIES, gate_set
+from exactsyn.tables.keys import check_lines
 from exactsyn.tables.levels import DEFAULT_MEMORY, BuildProgress, build_table
 
-#: Depth of the table built for each library.  ``mct``: levels 0..8 (about 2.4e8 classes,
-#: 1.9 GB) settle every function, the largest optimum being 15 = 8 + 7.  See
-#: ``docs/tables4.md`` for the measurements behind these choices.
+#: Depth of the 4-line table built for each library.  ``mct``: levels 0..8 (about 2.4e8
+#: classes, 1.9 GB) settle every function, the largest optimum being 15 = 8 + 7.  See
+#: ``docs/tables4.md`` for the measurements behind these choices.  Other line counts build
+#: until a level comes out empty (the whole group: 40320 functions on 3 lines).
 DEFAULT_DEPTH = {"mct": 8, "nct": 8, "mixed": 6}
+#: The deepest 4-line table a build accepts (each level is about 12 times the last).
+MAX_DEPTH_4 = 9
 
 
 @dataclass(frozen=True)
@@ -41,19 +46,22 @@ class TableInfo:
     content_hash: str | None = None
     problem: str | None = None
     manifest: dict[str, Any] | None = None
+    lines: int = 4
 
 
-def info(library: str | None = None, cache: Path | None = None, hashes: bool = False) -> list[TableInfo]:
+def info(
+    library: str | None = None, cache: Path | None = None, hashes: bool = False, lines: int = 4
+) -> list[TableInfo]:
     """One entry per library (or for ``library`` only): present or not, depth, size, counts."""
     names = [library] if library else list(TABLE_LIBRARIES)
     out = []
     for name in names:
-        directory = storage.table_dir(name, cache)
-        manifest = storage.read_manifest(directory)
+        directory = storage.table_dir(name, cache, lines)
+        manifest = storage.read_manifest(directory, lines)
         if manifest is None:
-            out.append(TableInfo(name, directory, False))
+            out.append(TableInfo(name, directory, False, lines=lines))
             continue
-        problem = storage.check_directory(directory, hashes)
+        problem = storage.check_directory(directory, hashes, lines)
         levels = manifest["levels"]
         out.append(
             TableInfo(
@@ -67,14 +75,15 @@ def info(library: str | None = None, cache: Path | None = None, hashes: bool = F
                 content_hash=manifest.get("content_hash"),
                 problem="; ".join(problem.reasons) or None,
                 manifest=manifest,
+                lines=lines,
             )
         )
     return out
 
 
-def _clean_stale(library: str, cache: Path | None) -> None:
+def _clean_stale(library: str, cache: Path | None, lines: int) -> None:
     """Remove temporary build directories whose process is gone."""
-    root = storage.tables_root(cache)
+    root = storage.tables_root(cache, lines)
     if not root.is_dir():
         return
     for entry in root.glob(f".{library}.build-*"):
@@ -90,6 +99,19 @@ def _clean_stale(library: str, cache: Path | None) -> None:
             pass
 
 
+def _wanted_depth(library: str, depth: int | None, lines: int) -> int | None:
+    """The depth to build (None: until a level comes out empty)."""
+    if depth is None:
+        return DEFAULT_DEPTH[library] if lines == 4 else None
+    if depth < 0:
+        raise ExactsynError("table depth must be 0 or more")
+    if lines == 4 and depth > MAX_DEPTH_4:
+        raise ExactsynError(
+            f"a 4-line table deeper than {MAX_DEPTH_4} does not fit memory or disk (about 12x per level)"
+        )
+    return depth
+
+
 def build(
     library: str = "mct",
     depth: int | None = None,
@@ -97,34 +119,35 @@ def build(
     cache: Path | None = None,
     memory: int = DEFAULT_MEMORY,
     force: bool = False,
+    lines: int = 4,
 ) -> TableInfo:
-    """Build the class table of ``library`` into the cache (or return the valid cached one)."""
-    gs = gate_set(library)
-    want = DEFAULT_DEPTH[gs.library] if depth is None else depth
-    if want < 0:
-        raise ExactsynError("table depth must be 0 or more")
-    directory = storage.table_dir(gs.library, cache)
+    """Build the class table of ``library`` on ``lines`` lines into the cache (or return the valid cached one).
+
+    ``depth=None`` builds the default depth (4 lines) or every level (other line counts)."""
+    gs = gate_set(library, check_lines(lines))
+    want = _wanted_depth(gs.library, depth, lines)
+    directory = storage.table_dir(gs.library, cache, lines)
     if not force:
-        manifest = storage.read_manifest(directory)
-        if manifest is not None and (int(manifest["depth"]) >= want or manifest.get("complete")):
+        manifest = storage.read_manifest(directory, lines)
+        if manifest is not None and (manifest.get("complete") or (want is not None and int(manifest["depth"]) >= want)):
             if progress:
                 progress("checking the cached table", 0, 1)
-            if storage.check_directory(directory, hashes=False).ok:
-                return info(gs.library, cache)[0]
-    _clean_stale(gs.library, cache)
-    work = storage.new_work_dir(gs.library, cache)
+            if storage.check_directory(directory, False, lines).ok:
+                return info(gs.library, cache, lines=lines)[0]
+    _clean_stale(gs.library, cache, lines)
+    work = storage.new_work_dir(gs.library, cache, lines)
     try:
         build_table(gs, want, work, progress, memory)
         storage.install(work, directory)
     except BaseException:
         shutil.rmtree(work, ignore_errors=True)
         raise
-    return info(gs.library, cache)[0]
+    return info(gs.library, cache, lines=lines)[0]
 
 
-def remove(library: str, cache: Path | None = None) -> bool:
+def remove(library: str, cache: Path | None = None, lines: int = 4) -> bool:
     """Delete the cached table of ``library``; True if there was one."""
-    directory = storage.table_dir(gate_set(library).library, cache)
+    directory = storage.table_dir(gate_set(library, check_lines(lines)).library, cache, lines)
     if not directory.exists():
         return False
     shutil.rmtree(directory)

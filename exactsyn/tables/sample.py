@@ -1,7 +1,7 @@
-"""The distribution of optimal gate counts over all 4-line functions, estimated by a seeded sample.
+"""The distribution of optimal gate counts over all ``n``-line functions, estimated by a seeded sample.
 
 The tables give exact counts up to their depth ``R`` (from class sizes); the full
-distribution (up to 15 gates for ``mct``) is estimated from a uniform sample of functions,
+distribution (up to 15 gates for ``mct`` on 4 lines) is estimated from a uniform sample of functions,
 each settled exactly by :meth:`exactsyn.tables.engine.Tables.synthesise`.  Sample item ``i``
 of seed ``s`` is a fixed function (:func:`sample_function`), so a batch runner can split,
 resume and merge samples by index.  Intervals: Wilson score intervals for the share of each
@@ -20,23 +20,24 @@ from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from pathlib import Path
 
-from exactsyn.tables import perm4
+from exactsyn.tables.keys import layout
 
 Z95 = 1.959963984540054
 SampleProgress = Callable[[str, int, int], None]
 
 
-def population(even_only: bool) -> int:
-    """Number of 4-line permutations (even ones only when ``even_only``)."""
-    return math.factorial(16) // (2 if even_only else 1)
+def population(even_only: bool, lines: int = 4) -> int:
+    """Number of ``lines``-line permutations (even ones only when ``even_only``)."""
+    return math.factorial(1 << lines) // (2 if even_only else 1)
 
 
-def sample_function(seed: int, index: int, even_only: bool = False) -> tuple[int, ...]:
-    """Item ``index`` of the sample with ``seed``: a uniform random permutation of 0..15."""
+def sample_function(seed: int, index: int, even_only: bool = False, lines: int = 4) -> tuple[int, ...]:
+    """Item ``index`` of the sample with ``seed``: a uniform random permutation of ``0..2^n − 1``."""
     rng = random.Random(f"exactsyn-tables-sample:{seed}:{index}")
-    p = list(range(16))
+    p = list(range(1 << lines))
     rng.shuffle(p)
-    if even_only and perm4.is_odd(perm4.pack(p)):
+    lay = layout(lines)
+    if even_only and lay.is_odd(lay.pack(p)):
         p[0], p[1] = p[1], p[0]
     return tuple(p)
 
@@ -76,7 +77,13 @@ class Distribution:
 
 
 def summarise(
-    library: str, seed: int, optima: Iterable[int | None], even_only: bool, exact: tuple[int, ...], seconds: float
+    library: str,
+    seed: int,
+    optima: Iterable[int | None],
+    even_only: bool,
+    exact: tuple[int, ...],
+    seconds: float,
+    lines: int = 4,
 ) -> Distribution:
     """Counts, shares and intervals of a list of sampled optima (None = not settled)."""
     values = list(optima)
@@ -96,7 +103,7 @@ def summarise(
         library=library,
         seed=seed,
         n=n,
-        population=population(even_only),
+        population=population(even_only, lines),
         counts=tuple(sorted(hist.items())),
         mean=mean,
         mean_interval=mean_iv,
@@ -115,17 +122,18 @@ def sample_distribution(
     progress: SampleProgress | None = None,
     time_limit: float | None = None,
     start: int = 0,
+    lines: int = 4,
 ) -> Distribution:
     """Settle sample items ``start .. start + n − 1`` of ``seed`` and summarise them."""
     from exactsyn.tables.engine import load
 
     t0 = time.perf_counter()
-    t = load(library, cache=cache)
+    t = load(library, cache=cache, lines=lines)
     even = t.gates.all_even
     optima: list[int | None] = []
     for k, i in enumerate(range(start, start + n)):
-        ans = t.synthesise(sample_function(seed, i, even), time_limit=time_limit)
+        ans = t.synthesise(sample_function(seed, i, even, lines), time_limit=time_limit)
         optima.append(ans.gate_count if ans.optimal else None)
         if progress:
             progress(f"sample of {library}", k + 1, n)
-    return summarise(t.library, seed, optima, even, tuple(t.distribution()), time.perf_counter() - t0)
+    return summarise(t.library, seed, optima, even, tuple(t.distribution()), time.perf_counter() - t0, lines)

@@ -1,13 +1,15 @@
-"""Where the 4-line class tables live on disk: cache directory, file layout, manifest, hashes.
+"""Where the class tables live on disk: cache directory, file layout, manifest, hashes.
 
-Layout (format version :data:`FORMAT_VERSION`)::
+Layout (format version :data:`FORMAT_VERSION`) for tables of ``n`` lines::
 
-    <cache>/tables4-v1/<library>/manifest.json
-    <cache>/tables4-v1/<library>/level-00.u64   sorted mixed canonical keys of level 0
-    <cache>/tables4-v1/<library>/index-00.u32   bucket index of level 0 (u32 or u64)
+    <cache>/tables<n>-v1/<library>/manifest.json
+    <cache>/tables<n>-v1/<library>/level-00.u64   sorted mixed canonical keys of level 0
+    <cache>/tables<n>-v1/<library>/index-00.u32   bucket index of level 0 (u32 or u64)
     ...
 
-``<cache>`` is ``$EXACTSYN_CACHE`` if set, else ``$XDG_CACHE_HOME/exactsyn``, else
+so the 4-line tables stay in ``tables4-v1`` with format ``exactsyn-tables4``.  A layout of
+several 64-bit words per key stores ``words`` little-endian words per key in
+``level-00.u64x<words>``.  ``<cache>`` is ``$EXACTSYN_CACHE`` if set, else ``$XDG_CACHE_HOME/exactsyn``, else
 ``~/.cache/exactsyn``.  Level and index files are raw little-endian arrays (memory-mapped
 on load).  The manifest is written last, inside a temporary directory that is renamed
 into place in one step, so an interrupted build never leaves a directory that looks
@@ -30,7 +32,6 @@ import numpy as np
 
 from exactsyn.errors import ExactsynError
 
-FORMAT = "exactsyn-tables4"
 FORMAT_VERSION = 1
 CACHE_ENV = "EXACTSYN_CACHE"
 MANIFEST = "manifest.json"
@@ -46,16 +47,21 @@ def resolve_cache_dir() -> Path:
     return base / "exactsyn"
 
 
-def tables_root(cache: Path | None = None) -> Path:
-    return (cache or resolve_cache_dir()) / f"tables4-v{FORMAT_VERSION}"
+def format_name(lines: int) -> str:
+    """The ``format`` of an ``n``-line table's manifest (``exactsyn-tables4`` for 4 lines)."""
+    return f"exactsyn-tables{lines}"
 
 
-def table_dir(library: str, cache: Path | None = None) -> Path:
-    return tables_root(cache) / library
+def tables_root(cache: Path | None = None, lines: int = 4) -> Path:
+    return (cache or resolve_cache_dir()) / f"tables{lines}-v{FORMAT_VERSION}"
 
 
-def level_file(level: int) -> str:
-    return f"level-{level:02d}.u64"
+def table_dir(library: str, cache: Path | None = None, lines: int = 4) -> Path:
+    return tables_root(cache, lines) / library
+
+
+def level_file(level: int, words: int = 1) -> str:
+    return f"level-{level:02d}.u64" + (f"x{words}" if words > 1 else "")
 
 
 def index_file(level: int, dtype: np.dtype) -> str:
@@ -97,13 +103,15 @@ def content_hash(manifest: dict[str, Any]) -> str:
     return hashlib.sha256(json.dumps(core, sort_keys=True).encode()).hexdigest()
 
 
-def read_manifest(directory: Path) -> dict[str, Any] | None:
-    """The manifest of a table directory, or None if absent or unreadable."""
+def read_manifest(directory: Path, lines: int = 4) -> dict[str, Any] | None:
+    """The manifest of an ``n``-line table directory, or None if absent, unreadable or of another format."""
     try:
         data = json.loads((directory / MANIFEST).read_text())
     except (OSError, ValueError):
         return None
-    if not isinstance(data, dict) or data.get("format") != FORMAT or data.get("format_version") != FORMAT_VERSION:
+    if not isinstance(data, dict) or data.get("format") != format_name(lines):
+        return None
+    if data.get("format_version") != FORMAT_VERSION:
         return None
     return data
 
@@ -119,9 +127,9 @@ class Problem:
         return not self.reasons
 
 
-def check_directory(directory: Path, hashes: bool) -> Problem:
+def check_directory(directory: Path, hashes: bool, lines: int = 4) -> Problem:
     """Sizes always; SHA-256 of every file and the content hash when ``hashes``."""
-    manifest = read_manifest(directory)
+    manifest = read_manifest(directory, lines)
     if manifest is None:
         return Problem(("no readable manifest",))
     reasons: list[str] = []
@@ -163,8 +171,8 @@ def install(tmp_dir: Path, final_dir: Path) -> None:
     os.replace(tmp_dir, final_dir)
 
 
-def new_work_dir(library: str, cache: Path | None = None) -> Path:
-    root = tables_root(cache)
+def new_work_dir(library: str, cache: Path | None = None, lines: int = 4) -> Path:
+    root = tables_root(cache, lines)
     try:
         root.mkdir(parents=True, exist_ok=True)
     except OSError as e:
@@ -176,9 +184,13 @@ def new_work_dir(library: str, cache: Path | None = None) -> Path:
     return work
 
 
-def read_array(path: Path, dtype: type, count: int) -> np.ndarray:
-    """Memory-map a raw little-endian array of ``count`` values (read-only)."""
+def read_array(path: Path, dtype: type, count: int, words: int = 1) -> np.ndarray:
+    """Memory-map a raw little-endian array of ``count`` items of ``words`` values (read-only).
+
+    One value per item gives shape ``(count,)``, else ``(count, words)`` (key arrays of
+    :mod:`exactsyn.tables.keys`)."""
+    shape: tuple[int, ...] = (count,) if words == 1 else (count, words)
     if count == 0:
-        return np.zeros(0, dtype=dtype)
-    mapped = np.memmap(path, dtype=np.dtype(dtype).newbyteorder("<"), mode="r", shape=(count,))
+        return np.zeros(shape, dtype=dtype)
+    mapped = np.memmap(path, dtype=np.dtype(dtype).newbyteorder("<"), mode="r", shape=shape)
     return np.asarray(mapped)

@@ -1,13 +1,16 @@
-"""Independent re-check of the 4-line class tables and of answers made from them.
+"""Independent re-check of the class tables and of answers made from them.
 
-This module is the checker.  It uses numpy, hashlib and the project's definition of the
-gates (:func:`exactsyn.library.make_library`, simulation by :class:`exactsyn.circuit.Circuit`);
-it imports nothing of the table builder or engine (no kernels, no shared key helpers), and
-every operation is written out here in plain vectorised numpy.
+This module and :mod:`exactsyn.tables.verify_keys` are the checker.  They use numpy,
+hashlib and the project's definition of the gates (:func:`exactsyn.core.library.make_library`,
+simulation by :class:`exactsyn.core.circuit.Circuit`); they import nothing of the table
+builder or engine (no kernels, no shared key helpers), and every operation is written out
+in plain vectorised numpy.
 
-Keys: a permutation ``p`` of ``0..15`` is ``Σ p[i]·16^i``; a class is the set of
-``π_σ∘p^{±1}∘π_σ⁻¹`` over the 24 relabellings ``σ`` of the lines; its canonical key is the
-least key of the class.  A level file holds ``mix(canonical key)``, sorted.
+Keys (:mod:`~exactsyn.tables.verify_keys`): a permutation ``p`` of ``0..2^n − 1`` is
+``Σ p[i]·2^(n·i)``; a class is the set of ``π_σ∘p^{±1}∘π_σ⁻¹`` over the ``n!``
+relabellings ``σ`` of the lines; its canonical key is the least key of the class.  A level
+file holds ``mix(canonical key)``, sorted.  The checker handles tables of 2, 3 and 4 lines
+(one 64-bit word per key); the line count is part of the table's directory and format.
 
 **verify_table** proves that the levels are exact, from the files alone:
 
@@ -27,13 +30,14 @@ level ``j`` has a circuit of ``j`` gates.  With disjointness, level = optimum ex
 **check_claim** re-runs one answer: the circuit uses library gates and simulates to the
 function; for a claimed optimum ``d ≤ R`` the class of ``f`` is in no level ``< d``; for
 ``d = R + L`` the class of ``f∘A⁻¹`` is in no level for every function ``A`` of every class
-in levels ``0..L−1`` (all 48 members of each class).  Closure alone makes this a proof:
-a circuit of ``d' < d`` gates would split into ``A`` (its first ``max(0, d'−R)`` gates,
-in a level ``≤ L − 1``) and ``f∘A⁻¹`` (at most ``R`` gates, in some level).
+in levels ``0..L−1`` (all ``2·n!`` members of each class).  Closure alone makes this a
+proof: a circuit of ``d' < d`` gates would split into ``A`` (its first ``max(0, d'−R)``
+gates, in a level ``≤ L − 1``) and ``f∘A⁻¹`` (at most ``R`` gates, in some level).
 
 Trusted: numpy, hashlib, the Python interpreter, the project's gate definitions, and
-this file; the claim check also trusts that the table passed :func:`verify_table` (it
-says whether this table's content hash has a verification stamp).
+this file with :mod:`~exactsyn.tables.verify_keys`; the claim check also trusts that the
+table passed :func:`verify_table` (it says whether this table's content hash has a
+verification stamp).
 """
 
 from __future__ import annotations
@@ -43,7 +47,7 @@ import json
 import multiprocessing
 import os
 import time
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Sequence
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from multiprocessing import shared_memory
@@ -56,174 +60,15 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
+from exactsyn.tables.verify_keys import CheckKeys, arr, check_keys, mix, unmix
 
 CHECKER = "exactsyn.tables.verify/1"
 STAMP = "verified.json"
 CHUNK = 1 << 15  # classes per task of the closure test
 VerifyProgress = Callable[[str, int, int], None]
+Tasks = list[tuple[Callable[..., Any], tuple[Any, ...]]]
 
 _U = np.uint64
-_IDENTITY = sum(i << (4 * i) for i in range(16))
-_M1, _M2 = 0xBF58476D1CE4E5B9, 0x94D049BB133111EB
-_M1_INV, _M2_INV = pow(_M1, -1, 1 << 64), pow(_M2, -1, 1 << 64)
-
-
-# ----------------------------------------------------------------------------- keys (numpy)
-def _pack(perm: Sequence[int]) -> int:
-    return sum(int(v) << (4 * i) for i, v in enumerate(perm))
-
-
-def _arr(values: Sequence[int] | np.ndarray) -> np.ndarray:
-    return np.asarray(values, dtype=np.uint64)
-
-
-def _nibble(keys: np.ndarray, i: int) -> np.ndarray:
-    return (keys >> _U(4 * i)) & _U(15)
-
-
-def _compose(f: np.ndarray, a: np.ndarray) -> np.ndarray:
-    """``f∘a`` elementwise (``a`` first): nibble ``i`` is ``f[a[i]]``."""
-    out = np.zeros(np.broadcast(f, a).shape, dtype=np.uint64)
-    for i in range(16):
-        out |= ((f >> (_nibble(a, i) * _U(4))) & _U(15)) << _U(4 * i)
-    return out
-
-
-def _inverse(keys: np.ndarray) -> np.ndarray:
-    """``q[p[i]] = i`` elementwise."""
-    out = np.zeros_like(keys)
-    for i in range(16):
-        out |= _U(i) << (_nibble(keys, i) * _U(4))
-    return out
-
-
-def _swap_masks(a: int, b: int) -> tuple[np.uint64, np.uint64, np.uint64, np.uint64]:
-    """Conjugating by the transposition of lines ``a < b`` moves the nibble of state ``x`` to
-    the state with bits ``a``, ``b`` exchanged, and swaps bits ``a``, ``b`` inside every
-    nibble: two exchanges of bit groups, ``(mask, shift)`` each (the group under ``mask``
-    trades places with the group ``shift`` bits higher)."""
-    low_states = [x for x in range(16) if (x >> a) & 1 and not (x >> b) & 1]  # partner: x + 2^b − 2^a
-    position_mask = _U(sum(0xF << (4 * x) for x in low_states))
-    position_shift = _U(4 * ((1 << b) - (1 << a)))
-    value_mask = _U(0x1111111111111111 << a)
-    value_shift = _U(b - a)
-    return position_mask, position_shift, value_mask, value_shift
-
-
-def _exchange(w: np.ndarray, t: np.ndarray, mask: np.uint64, shift: np.uint64) -> None:
-    """In place: ``t = ((w >> shift) ^ w) & mask; w ^= t ^ (t << shift)``."""
-    np.right_shift(w, shift, out=t)
-    np.bitwise_xor(t, w, out=t)
-    np.bitwise_and(t, mask, out=t)
-    np.bitwise_xor(w, t, out=w)
-    np.left_shift(t, shift, out=t)
-    np.bitwise_xor(w, t, out=w)
-
-
-def _swap_lines(w: np.ndarray, a: int, b: int) -> np.ndarray:
-    """A new array: every key conjugated by the transposition of lines ``a < b``."""
-    out = w.copy()
-    t = np.empty_like(w)
-    pm, ps, vm, vs = _swap_masks(a, b)
-    _exchange(out, t, pm, ps)
-    _exchange(out, t, vm, vs)
-    return out
-
-
-def _walk() -> list[tuple[int, int]]:
-    """23 transpositions of adjacent lines whose running products are all 24 relabellings
-    (Steinhaus–Johnson–Trotter); checked below, at import."""
-    perm, dirs, out = [0, 1, 2, 3], [-1] * 4, []
-    while True:
-        mobile = max((v for i, v in enumerate(perm) if 0 <= i + dirs[v] < 4 and perm[i + dirs[v]] < v), default=-1)
-        if mobile < 0:
-            break
-        i = perm.index(mobile)
-        j = i + dirs[mobile]
-        out.append((min(i, j), max(i, j)))
-        perm[i], perm[j] = perm[j], perm[i]
-        for v in range(mobile + 1, 4):
-            dirs[v] = -dirs[v]
-    return out
-
-
-_WALK = _walk()
-_seen: set[tuple[int, ...]] = {(0, 1, 2, 3)}
-_cur = [0, 1, 2, 3]
-for _a, _b in _WALK:
-    _cur[_a], _cur[_b] = _cur[_b], _cur[_a]
-    _seen.add(tuple(_cur))
-assert len(_WALK) == 23 and len(_seen) == 24, "the relabelling walk must visit all 24 relabellings"
-_MASKS = {pair: _swap_masks(*pair) for pair in set(_WALK)}
-
-
-_BLOCK = 1 << 14  # keys per pass: the working arrays stay in the CPU cache
-
-
-def _each_transform(keys: np.ndarray) -> Iterator[np.ndarray]:
-    """All 48 transforms of a block of keys: 24 conjugates of ``k``, then 24 of ``k⁻¹``.
-
-    The same buffer is yielded each time, overwritten by the next transform."""
-    t = np.empty_like(keys)
-    for start in (keys, _inverse(keys)):
-        w = start.copy()
-        yield w
-        for a, b in _WALK:
-            pm, ps, vm, vs = _MASKS[(a, b)]
-            _exchange(w, t, pm, ps)
-            _exchange(w, t, vm, vs)
-            yield w
-
-
-def _transforms(keys: np.ndarray) -> list[np.ndarray]:
-    """All 48 transforms of every key, as 48 arrays."""
-    return [w.copy() for w in _each_transform(keys)]
-
-
-def canonical(keys: np.ndarray) -> np.ndarray:
-    """Least key of the class of each key."""
-    keys = np.ascontiguousarray(keys, dtype=np.uint64)
-    best = keys.copy()
-    for s in range(0, len(keys), _BLOCK):
-        part = best[s : s + _BLOCK]
-        for w in _each_transform(keys[s : s + _BLOCK]):
-            np.minimum(part, w, out=part)
-    return best
-
-
-def _canonical_and_size(keys: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Canonical keys and class sizes (48 / number of transforms fixing the key)."""
-    keys = np.ascontiguousarray(keys, dtype=np.uint64)
-    best = keys.copy()
-    fixed = np.zeros(len(keys), dtype=np.int64)
-    for s in range(0, len(keys), _BLOCK):
-        part, count, orig = best[s : s + _BLOCK], fixed[s : s + _BLOCK], keys[s : s + _BLOCK]
-        for w in _each_transform(orig):
-            np.minimum(part, w, out=part)
-            count += w == orig
-    return best, 48 // fixed
-
-
-def _xorshift_inverse(y: np.ndarray, s: int) -> np.ndarray:
-    x = y.copy()
-    for _ in range(64 // s + 1):
-        x = y ^ (x >> _U(s))
-    return x
-
-
-def mix(keys: np.ndarray) -> np.ndarray:
-    """The SplitMix64 finaliser (Steele, Lea & Flood 2014); invertible."""
-    x = keys ^ (keys >> _U(30))
-    x = x * _U(_M1)
-    x = x ^ (x >> _U(27))
-    x = x * _U(_M2)
-    return x ^ (x >> _U(31))
-
-
-def unmix(vals: np.ndarray) -> np.ndarray:
-    x = _xorshift_inverse(vals, 31) * _U(_M2_INV)
-    x = _xorshift_inverse(x, 27) * _U(_M1_INV)
-    return _xorshift_inverse(x, 30)
 
 
 # ----------------------------------------------------------------------------- the table on disk
@@ -258,7 +103,7 @@ def _content_hash(manifest: dict[str, Any]) -> str:
     return hashlib.sha256(json.dumps(core, sort_keys=True).encode()).hexdigest()
 
 
-def _directory(library: str, cache: Path | None) -> Path:
+def _directory(library: str, cache: Path | None, lines: int) -> Path:
     if cache is None:
         env = os.environ.get("EXACTSYN_CACHE")
         if env:
@@ -266,16 +111,17 @@ def _directory(library: str, cache: Path | None) -> Path:
         else:
             xdg = os.environ.get("XDG_CACHE_HOME")
             cache = (Path(xdg).expanduser() if xdg else Path.home() / ".cache") / "exactsyn"
-    return cache / "tables4-v1" / library
+    return cache / f"tables{lines}-v1" / library
 
 
-def _manifest(directory: Path) -> dict[str, Any]:
+def _manifest(directory: Path, lines: int) -> dict[str, Any]:
     try:
         data = json.loads((directory / "manifest.json").read_text())
     except (OSError, ValueError):
         raise ExactsynError(f"no readable table manifest in {directory}") from None
-    if data.get("format") != "exactsyn-tables4" or data.get("format_version") != 1:
-        raise ExactsynError(f"{directory}: not a table of format exactsyn-tables4 version 1")
+    fmt = f"exactsyn-tables{lines}"
+    if data.get("format") != fmt or data.get("format_version") != 1 or data.get("lines") != lines:
+        raise ExactsynError(f"{directory}: not a {lines}-line table of format {fmt} version 1")
     return dict(data)
 
 
@@ -342,21 +188,21 @@ def _index_problem(j: int, level: _Level) -> str | None:
     return None
 
 
-def _library_keys(library: str) -> tuple[tuple[Gate, ...], list[int]]:
-    lib = make_library(library, 4)
-    return tuple(lib.gates), [_pack(g.permutation(4)) for g in lib.gates]
+def _library_keys(library: str, K: CheckKeys) -> tuple[tuple[Gate, ...], list[int]]:
+    lib = make_library(library, K.lines)
+    return tuple(lib.gates), [K.pack(g.permutation(K.lines)) for g in lib.gates]
 
 
-def _check_gates(manifest: dict[str, Any]) -> list[str]:
+def _check_gates(manifest: dict[str, Any], K: CheckKeys) -> list[str]:
     problems = []
-    _, keys = _library_keys(str(manifest["library"]))
-    if manifest["gate_keys"] != [f"{k:016x}" for k in keys]:
+    _, keys = _library_keys(str(manifest["library"]), K)
+    if manifest["gate_keys"] != [K.hex(k) for k in keys]:
         problems.append("the table's gate list is not the library's")
-    arr = _arr(keys)
-    if not np.all(_compose(arr, arr) == _U(_IDENTITY)):
+    gates = arr(keys)
+    if not np.all(K.compose(gates, gates) == _U(K.identity)):
         problems.append("a gate is not its own inverse: classes under inversion are unsound")
     members = set(keys)
-    for w in _transforms(arr)[:24]:
+    for w in K.transforms(gates)[: K.relabellings]:
         if not set(int(v) for v in w) <= members:
             problems.append("relabelling a gate leaves the library: classes under relabelling are unsound")
             break
@@ -377,26 +223,34 @@ class TableCheck:
     functions: tuple[int, ...]
     problems: tuple[str, ...]
     seconds: dict[str, float] = field(default_factory=dict)
+    lines: int = 4
 
 
-def _neighbour_keys(reps: np.ndarray, gates: np.ndarray) -> np.ndarray:
+def _neighbour_keys(K: CheckKeys, reps: np.ndarray, gates: np.ndarray) -> np.ndarray:
     """Mixed canonical keys of ``g∘r`` and ``g∘r⁻¹`` for all gates and representatives."""
     r = unmix(reps)
-    ri = _inverse(r)
+    ri = K.inverse(r)
     parts = []
     for g in gates:
-        parts.append(_compose(_arr([g]), r))
-        parts.append(_compose(_arr([g]), ri))
-    return mix(canonical(np.concatenate(parts)))
+        parts.append(K.compose(arr([g]), r))
+        parts.append(K.compose(arr([g]), ri))
+    return mix(K.canonical(np.concatenate(parts)))
 
 
-def _closure_task(directory: str, level: int, lo: int, hi: int, marks_name: str | None) -> tuple[int, list[str]]:
-    """Closure test for classes ``lo..hi`` of ``level``; marks the next level's classes reached."""
+def _open(directory: str, lines: int) -> tuple[CheckKeys, dict[str, Any], list[_Level]]:
+    """Keys, manifest and levels of a table (in a worker process too)."""
     d = Path(directory)
-    manifest = _manifest(d)
-    levels = _levels(d, manifest)
-    _, keys = _library_keys(str(manifest["library"]))
-    q = np.sort(_neighbour_keys(levels[level].vals[lo:hi], _arr(keys)))
+    manifest = _manifest(d, lines)
+    return check_keys(lines), manifest, _levels(d, manifest)
+
+
+def _closure_task(
+    directory: str, lines: int, level: int, lo: int, hi: int, marks_name: str | None
+) -> tuple[int, list[str]]:
+    """Closure test for classes ``lo..hi`` of ``level``; marks the next level's classes reached."""
+    K, manifest, levels = _open(directory, lines)
+    _, keys = _library_keys(str(manifest["library"]), K)
+    q = np.sort(_neighbour_keys(K, levels[level].vals[lo:hi], arr(keys)))
     problems: list[str] = []
     nxt = levels[level + 1]
     found, pos = nxt.find(q)
@@ -419,20 +273,18 @@ def _closure_task(directory: str, level: int, lo: int, hi: int, marks_name: str 
     return hi - lo, problems
 
 
-def _class_task(directory: str, level: int, lo: int, hi: int) -> tuple[int, list[str], int]:
+def _class_task(directory: str, lines: int, level: int, lo: int, hi: int) -> tuple[int, list[str], int]:
     """Canonical-key test and function count for classes ``lo..hi`` of ``level``."""
-    d = Path(directory)
-    levels = _levels(d, _manifest(d))
+    K, _, levels = _open(directory, lines)
     keys = unmix(levels[level].vals[lo:hi])
-    canon, size = _canonical_and_size(keys)
+    canon, size = K.canonical_and_size(keys)
     problems = []
     if not np.array_equal(canon, keys):
         problems.append(f"level {level} stores {int(np.sum(canon != keys))} keys that are not canonical")
     return hi - lo, problems, int(size.sum())
 
 
-def _run(tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]], workers: int, progress: VerifyProgress,
-         label: str) -> list[Any]:  # fmt: skip
+def _run(tasks: Tasks, workers: int, progress: VerifyProgress, label: str) -> list[Any]:
     total = len(tasks)
     results: list[Any] = []
     if workers <= 1 or total <= 1:
@@ -453,37 +305,25 @@ def _noop(description: str, done: int, total: int) -> None:
     return None
 
 
-def verify_table(
-    library: str = "mct",
-    cache: Path | None = None,
-    workers: int = 2,
-    progress: VerifyProgress | None = None,
-    stamp: bool = True,
-) -> TableCheck:
-    """Re-check a cached table from scratch (see the module docstring for what is proven)."""
-    report = progress or _noop
-    directory = _directory(library, cache)
-    manifest = _manifest(directory)
-    seconds: dict[str, float] = {}
-    problems: list[str] = []
-    t = time.perf_counter()
+def _file_problems(directory: Path, manifest: dict[str, Any], progress: VerifyProgress | None) -> list[str]:
+    """Every file against the manifest's size and SHA-256, and the content hash."""
+    problems = []
     for lv in manifest["levels"]:
         for name, size, digest in _FILE_KEYS:
             path = directory / lv[name]
-            report(f"hashing {lv[name]}", 0, 1)
+            if progress:
+                progress(f"hashing {lv[name]}", 0, 1)
             if not path.is_file() or path.stat().st_size != lv[size] or _sha256(path) != lv[digest]:
                 problems.append(f"{lv[name]} does not match the manifest")
     if _content_hash(manifest) != manifest.get("content_hash"):
         problems.append("the content hash does not match the manifest")
-    problems += _check_gates(manifest)
-    seconds["hashes and gates"] = time.perf_counter() - t
-    levels = _levels(directory, manifest)
-    depth = len(levels) - 1
-    if depth != int(manifest["depth"]):
-        problems.append("the manifest's depth does not match its levels")
+    return problems
 
-    t = time.perf_counter()
-    if len(levels[0]) != 1 or int(levels[0].vals[0]) != int(mix(_arr([_IDENTITY]))[0]):
+
+def _order_problems(K: CheckKeys, levels: list[_Level]) -> list[str]:
+    """Level 0 is the identity; every level strictly increasing with a right index; levels disjoint."""
+    problems = []
+    if len(levels[0]) != 1 or int(levels[0].vals[0]) != int(mix(arr([K.identity]))[0]):
         problems.append("level 0 is not the identity alone")
     for j, lv in enumerate(levels):
         for s in range(0, len(lv), 1 << 24):
@@ -498,13 +338,19 @@ def verify_table(
         for i in range(j):
             if np.any(levels[j].find(levels[i].vals)[0]):
                 problems.append(f"levels {i} and {j} share a class")
-    seconds["order and disjointness"] = time.perf_counter() - t
+    return problems
 
-    t = time.perf_counter()
+
+def _class_problems(
+    directory: Path, manifest: dict[str, Any], levels: list[_Level], workers: int, report: VerifyProgress
+) -> tuple[list[str], list[int]]:
+    """Every stored key canonical; the class sizes per level against the manifest's function counts."""
+    lines, step = int(manifest["lines"]), 4 * CHUNK
+    problems: list[str] = []
     functions = []
     for j, lv in enumerate(levels):
-        tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]] = [
-            (_class_task, (str(directory), j, s, min(len(lv), s + 4 * CHUNK))) for s in range(0, len(lv), 4 * CHUNK)
+        tasks: Tasks = [
+            (_class_task, (str(directory), lines, j, s, min(len(lv), s + step))) for s in range(0, len(lv), step)
         ]
         res = _run(tasks, workers, report, f"canonical keys and class sizes, level {j}")
         problems += [p for _, ps, _ in res for p in ps]
@@ -512,21 +358,26 @@ def verify_table(
         if functions[-1] != int(manifest["levels"][j]["functions"]):
             problems.append(f"level {j}: class sizes give {functions[-1]} functions, the manifest says "
                             f"{manifest['levels'][j]['functions']}")  # fmt: skip
-    seconds["canonical keys and class sizes"] = time.perf_counter() - t
+    return problems, functions
 
-    t = time.perf_counter()
-    for j in range(depth):
+
+def _closure_problems(
+    directory: Path, lines: int, levels: list[_Level], workers: int, report: VerifyProgress
+) -> list[str]:
+    """Closure of every level below the depth and descent of every level above 0."""
+    problems: list[str] = []
+    for j in range(len(levels) - 1):
         nxt = len(levels[j + 1])
         shm = shared_memory.SharedMemory(create=True, size=max(1, nxt))
         try:
             marks = np.ndarray((nxt,), dtype=np.uint8, buffer=shm.buf)
             marks[:] = 0
             lv = levels[j]
-            closure_tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]] = [
-                (_closure_task, (str(directory), j, s, min(len(lv), s + CHUNK), shm.name))
+            tasks: Tasks = [
+                (_closure_task, (str(directory), lines, j, s, min(len(lv), s + CHUNK), shm.name))
                 for s in range(0, len(lv), CHUNK)
             ]
-            res = _run(closure_tasks, workers, report, f"closure of level {j}, descent of level {j + 1}")
+            res = _run(tasks, workers, report, f"closure of level {j}, descent of level {j + 1}")
             problems += [p for _, ps in res for p in ps]
             unreached = int(nxt - np.count_nonzero(marks))
             if unreached:
@@ -535,8 +386,48 @@ def verify_table(
         finally:
             shm.close()
             shm.unlink()
-    seconds["closure and descent"] = time.perf_counter() - t
+    return problems
 
+
+def _write_stamp(directory: Path, result: TableCheck) -> None:
+    data = {"checker": CHECKER, "content_hash": result.content_hash, "seconds": result.seconds,
+            "functions": list(result.functions), "checked_at": time.strftime("%Y-%m-%dT%H:%M:%S")}  # fmt: skip
+    tmp = directory / (STAMP + ".tmp")
+    tmp.write_text(json.dumps(data, indent=2) + "\n")
+    os.replace(tmp, directory / STAMP)
+
+
+def verify_table(
+    library: str = "mct",
+    cache: Path | None = None,
+    workers: int = 2,
+    progress: VerifyProgress | None = None,
+    stamp: bool = True,
+    lines: int = 4,
+) -> TableCheck:
+    """Re-check a cached ``lines``-line table from scratch (see the module docstring for what is proven)."""
+    report = progress or _noop
+    K = check_keys(lines)
+    directory = _directory(library, cache, lines)
+    manifest = _manifest(directory, lines)
+    seconds: dict[str, float] = {}
+    t = time.perf_counter()
+    problems = _file_problems(directory, manifest, report) + _check_gates(manifest, K)
+    seconds["hashes and gates"] = time.perf_counter() - t
+    levels = _levels(directory, manifest)
+    depth = len(levels) - 1
+    if depth != int(manifest["depth"]):
+        problems.append("the manifest's depth does not match its levels")
+    t = time.perf_counter()
+    problems += _order_problems(K, levels)
+    seconds["order and disjointness"] = time.perf_counter() - t
+    t = time.perf_counter()
+    more, functions = _class_problems(directory, manifest, levels, workers, report)
+    problems += more
+    seconds["canonical keys and class sizes"] = time.perf_counter() - t
+    t = time.perf_counter()
+    problems += _closure_problems(directory, lines, levels, workers, report)
+    seconds["closure and descent"] = time.perf_counter() - t
     result = TableCheck(
         library=str(manifest["library"]),
         directory=directory,
@@ -547,13 +438,10 @@ def verify_table(
         functions=tuple(functions),
         problems=tuple(problems),
         seconds={k: round(v, 1) for k, v in seconds.items()},
+        lines=lines,
     )
     if stamp and result.ok:
-        data = {"checker": CHECKER, "content_hash": result.content_hash, "seconds": result.seconds,
-                "functions": list(result.functions), "checked_at": time.strftime("%Y-%m-%dT%H:%M:%S")}  # fmt: skip
-        tmp = directory / (STAMP + ".tmp")
-        tmp.write_text(json.dumps(data, indent=2) + "\n")
-        os.replace(tmp, directory / STAMP)
+        _write_stamp(directory, result)
     return result
 
 
@@ -572,15 +460,56 @@ class ClaimCheck:
     problems: tuple[str, ...]
 
 
-def _split_keys(directory: str, f: int, level: int, lo: int, hi: int) -> np.ndarray:
-    """Mixed canonical keys of ``f∘A⁻¹`` for all 48 members ``A`` of the classes ``lo..hi`` of
-    ``level``, sorted and without repeats."""
-    d = Path(directory)
-    levels = _levels(d, _manifest(d))
+def _split_keys(directory: str, lines: int, f: int, level: int, lo: int, hi: int) -> np.ndarray:
+    """Mixed canonical keys of ``f∘A⁻¹`` for all ``2·n!`` members ``A`` of the classes ``lo..hi``
+    of ``level``, sorted and without repeats."""
+    K, _, levels = _open(directory, lines)
     reps = unmix(levels[level].vals[lo:hi])
-    fa = _arr([f])
-    members = np.concatenate(_transforms(reps))
-    return _sorted_unique(mix(canonical(_compose(fa, _inverse(members)))))
+    members = np.concatenate(K.transforms(reps))
+    return _sorted_unique(mix(K.canonical(K.compose(arr([f]), K.inverse(members)))))
+
+
+def _circuit_problems(
+    library: str, K: CheckKeys, perm: tuple[int, ...], gate_count: int, gates: Sequence[Gate]
+) -> list[str]:
+    """The circuit uses library gates, has ``gate_count`` of them and computes ``perm``."""
+    problems = []
+    lib_gates, _ = _library_keys(library, K)
+    if any(g not in lib_gates for g in gates):
+        problems.append(f"the circuit uses a gate outside {library}")
+    if len(gates) != gate_count:
+        problems.append(f"the circuit has {len(gates)} gates, not {gate_count}")
+    if Circuit(K.lines, tuple(gates)).permutation() != perm:
+        problems.append("the circuit does not compute the function")
+    return problems
+
+
+def _no_shorter_split(
+    directory: Path, K: CheckKeys, levels: list[_Level], f: int, gate_count: int, workers: int, report: VerifyProgress
+) -> tuple[list[str], int]:
+    """No ``f∘A⁻¹`` is in any level, for every member ``A`` of levels ``0 .. gate_count − depth − 1``."""
+    depth = len(levels) - 1
+    extra = gate_count - depth
+    hits = tests = 0  # distinct classes f∘A⁻¹ found in some level; distinct classes looked up
+    for j in range(extra):  # level by level, so a false claim stops at its first hit
+        tasks: Tasks = [
+            (_split_keys, (str(directory), K.lines, f, j, s, min(len(levels[j]), s + CHUNK)))
+            for s in range(0, len(levels[j]), CHUNK)
+        ]
+        res = _run(tasks, workers, report, f"no circuit below {gate_count} gates: classes of level {j}")
+        # One sorted pass per table level (plain searchsorted; queries sorted, so the
+        # accesses sweep each level in order).
+        q = _sorted_unique(np.concatenate(res)) if res else np.zeros(0, dtype=np.uint64)
+        del res
+        tests += len(q)
+        for level in levels:
+            if len(level) and len(q):
+                pos = np.minimum(np.searchsorted(level.vals, q), len(level) - 1)
+                hits += int(np.count_nonzero(level.vals[pos] == q))
+        del q
+        if hits:
+            return [f"{hits} splits after level {j} give a circuit of fewer than {gate_count} gates"], tests
+    return [], tests
 
 
 def check_claim(
@@ -592,72 +521,44 @@ def check_claim(
     content_hash: str | None = None,
     workers: int = 2,
     progress: VerifyProgress | None = None,
+    lines: int = 4,
 ) -> ClaimCheck:
-    """Re-check that ``gates`` is a circuit of ``gate_count`` gates for ``perm`` and that no
-    shorter circuit exists, against the cached table (see the module docstring).
+    """Re-check that ``gates`` is a circuit of ``gate_count`` gates for the ``lines``-line
+    permutation ``perm`` and that no shorter circuit exists, against the cached table (see
+    the module docstring).
 
     With ``gates=None`` only the lower bound is checked: no circuit of fewer than
     ``gate_count`` gates computes ``perm``."""
     report = progress or _noop
     t0 = time.perf_counter()
-    directory = _directory(library, cache)
-    manifest = _manifest(directory)
+    K = check_keys(lines)
+    directory = _directory(library, cache, lines)
+    manifest = _manifest(directory, lines)
     problems: list[str] = []
     if content_hash is not None and manifest.get("content_hash") != content_hash:
         problems.append("the cached table is not the one the claim names (content hash differs)")
-    for lv in manifest["levels"]:
-        for name, size, digest in _FILE_KEYS:
-            path = directory / lv[name]
-            if not path.is_file() or path.stat().st_size != lv[size] or _sha256(path) != lv[digest]:
-                problems.append(f"{lv[name]} does not match the manifest")
-    if _content_hash(manifest) != manifest.get("content_hash"):
-        problems.append("the content hash does not match the manifest")
+    problems += _file_problems(directory, manifest, None)
     perm_t = tuple(int(v) for v in perm)
-    if sorted(perm_t) != list(range(16)):
-        raise ExactsynError("the claim's function is not a permutation of 0..15")
+    if sorted(perm_t) != list(range(K.size)):
+        raise ExactsynError(f"the claim's function is not a permutation of 0..{K.size - 1}")
     if gates is not None:
-        lib_gates, _ = _library_keys(library)
-        if any(g not in lib_gates for g in gates):
-            problems.append(f"the circuit uses a gate outside {library}")
-        if len(gates) != gate_count:
-            problems.append(f"the circuit has {len(gates)} gates, not {gate_count}")
-        if Circuit(4, tuple(gates)).permutation() != perm_t:
-            problems.append("the circuit does not compute the function")
+        problems += _circuit_problems(library, K, perm_t, gate_count, gates)
     tests = 0
     levels = _levels(directory, manifest)
     problems += [p for j, lv in enumerate(levels) if (p := _index_problem(j, lv))]
     if not problems:
         depth = len(levels) - 1
-        f = _pack(perm_t)
+        f = K.pack(perm_t)
         if gate_count <= depth:
-            q = mix(canonical(_arr([f])))
+            q = mix(K.canonical(arr([f])))
             tests = 1
             if any(levels[j].find(q)[0][0] for j in range(gate_count)):
                 problems.append(f"the function's class is in a level below {gate_count}")
         elif gate_count - depth - 1 > depth:
             problems.append(f"a claim of {gate_count} gates is beyond what a depth-{depth} table can check")
         else:
-            extra = gate_count - depth
-            hits = 0  # distinct classes f∘A⁻¹ found in some level
-            for j in range(extra):  # level by level, so a false claim stops at its first hit
-                tasks: list[tuple[Callable[..., Any], tuple[Any, ...]]] = [
-                    (_split_keys, (str(directory), f, j, s, min(len(levels[j]), s + CHUNK)))
-                    for s in range(0, len(levels[j]), CHUNK)
-                ]
-                res = _run(tasks, workers, report, f"no circuit below {gate_count} gates: classes of level {j}")
-                # One sorted pass per table level (plain searchsorted; queries sorted, so the
-                # accesses sweep each level in order).
-                q = _sorted_unique(np.concatenate(res)) if res else np.zeros(0, dtype=np.uint64)
-                del res
-                tests += len(q)
-                for level in levels:
-                    if len(level) and len(q):
-                        pos = np.minimum(np.searchsorted(level.vals, q), len(level) - 1)
-                        hits += int(np.count_nonzero(level.vals[pos] == q))
-                del q
-                if hits:
-                    problems.append(f"{hits} splits after level {j} give a circuit of fewer than {gate_count} gates")
-                    break
+            more, tests = _no_shorter_split(directory, K, levels, f, gate_count, workers, report)
+            problems += more
     stamp_ok = False
     try:
         stamp = json.loads((directory / STAMP).read_text())

@@ -27,7 +27,7 @@ def _random_circuit_perm(rng: random.Random, library: str, length: int) -> tuple
     return tuple(int(v) for v in s)
 
 
-def _simulates(ans: tables.Answer) -> bool:
+def _simulates(ans: tables.TableAnswer) -> bool:
     return ans.gates is not None and Circuit(4, ans.gates).permutation() == ans.perm
 
 

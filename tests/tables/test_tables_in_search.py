@@ -131,6 +131,13 @@ def test_table_certificate_is_rechecked_and_tampering_rejected(cached: Path, tmp
         (d / "result.json").write_text(json.dumps(new))
         return d
 
+    # a claim as written before tables of other line counts: no "lines", "format" exactsyn-tables4/1
+    assert data["class_table"]["lines"] == 4 and data["class_table"]["format"] == "exactsyn-tables4/1"
+    old = tmp_path / "old"
+    shutil.copytree(cert, old)
+    del data["class_table"]["lines"]
+    (old / "result.json").write_text(json.dumps(data))
+    assert check_certificate(old).ok
     # another table named
     assert not check_certificate(tampered({"content_hash": "0" * 64}, "hash")).ok
     # an optimum claimed for a longer circuit: a shorter split exists

@@ -7,15 +7,18 @@ import math
 from helpers import hwb
 
 from exactsyn import tables
-from exactsyn.tables import hardest, perm4
+from exactsyn.tables import hardest
+from exactsyn.tables.keys import layout
 from exactsyn.tables.sample import population, sample_function, summarise, wilson
+
+L4 = layout(4)
 
 
 def test_samples_are_fixed_per_index_and_even_for_nct() -> None:
     assert sample_function(3, 17) == sample_function(3, 17)
     assert sample_function(3, 17) != sample_function(3, 18)
     for i in range(200):
-        assert not perm4.is_odd(perm4.pack(sample_function(5, i, even_only=True)))
+        assert not L4.is_odd(L4.pack(sample_function(5, i, even_only=True)))
     assert population(False) == math.factorial(16) and population(True) == math.factorial(16) // 2
 
 
@@ -30,13 +33,13 @@ def test_wilson_interval_and_summary() -> None:
 
 def test_fixed_functions_satisfy_their_symmetry() -> None:
     for sigma, inverted in [((1, 2, 3, 0), False), ((1, 2, 3, 0), True), ((1, 2, 0, 3), True)]:
-        P = perm4.state_map(sigma)
+        P = L4.state_map(sigma)
         found = list(hardest.fixed_functions(sigma, inverted))
         assert len(set(found)) == len(found)
         for f in found:
-            k = perm4.pack(f)
-            other = perm4.inverse(k) if inverted else k
-            assert perm4.conjugate(other, sigma) == k
+            k = L4.pack(f)
+            other = L4.inverse(k) if inverted else k
+            assert L4.conjugate(other, sigma) == k
         if not inverted:
             assert set(found) == set(hardest.centraliser(P))
     # counts from the cycle structure: 3!·4^3 · 2 · 2! for a 4-cycle of the lines
@@ -55,7 +58,7 @@ def test_family_sizes_follow_from_the_cycle_structure() -> None:
 
 def test_hwb4_is_symmetric_and_the_oracle_agrees(mct6: tables.Tables) -> None:
     classes = hardest.symmetric_classes((1, 2, 3, 0))
-    assert perm4.canonical(perm4.pack(hwb(4))) in classes
+    assert L4.canonical(L4.pack(hwb(4))) in classes
     assert hardest.at_least(mct6, hwb(4), 11) and not hardest.at_least(mct6, hwb(4), 12)
     assert hardest.at_least(mct6, hwb(4), 3)
 

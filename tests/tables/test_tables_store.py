@@ -14,8 +14,10 @@ from exactsyn import tables
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import x_gate
 from exactsyn.errors import ExactsynError
-from exactsyn.tables import kernels as K
-from exactsyn.tables import storage, verify
+from exactsyn.tables import kernels, storage, verify
+from exactsyn.tables.keys import layout
+
+K = layout(4).kernels()
 
 
 def _copy_table(src_cache: Path, dst_cache: Path, library: str) -> Path:
@@ -95,7 +97,7 @@ def _rewrite(d: Path, levels: list[np.ndarray]) -> None:
         index.tofile(d / lv["index_file"])
         lv["index_bits"] = 64 - shift
         lv["classes"] = len(vals)
-        hist = K.class_size_counts(vals).sum(axis=0)
+        hist = K.class_size_histogram(vals)
         lv["functions"] = int((hist * np.arange(49)).sum())
         for name, size, digest in storage.FILE_KEYS:
             lv[size] = (d / lv[name]).stat().st_size
@@ -188,12 +190,12 @@ def test_multi_pass_and_growing_builds_give_the_same_table(
     monkeypatch.setattr(levels, "_estimate", lambda sizes, gates: 1024)
     monkeypatch.setattr(levels, "PAD", 8)  # probes run off the end: the set must grow
     grows: list[int] = []
-    real_reinsert = K.reinsert
+    real_reinsert = kernels.reinsert
 
     def counting_reinsert(*args):  # type: ignore[no-untyped-def]
         grows.append(1)
         return real_reinsert(*args)
 
-    monkeypatch.setattr(K, "reinsert", counting_reinsert)
+    monkeypatch.setattr(kernels, "reinsert", counting_reinsert)
     grown = tables.build("mct", depth=4, cache=tmp_path / "grown")
     assert grown.content_hash == good and grows
