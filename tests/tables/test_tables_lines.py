@@ -23,6 +23,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.proof.checker import check_certificate
+from exactsyn.sat.options import SearchOptions
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
 from exactsyn.tables import storage, verify
@@ -88,7 +89,7 @@ def test_a_3_line_table_answers_the_search_and_its_certificate_checks(cached3: P
     claim = syn.gate_result.class_table
     assert syn.optimal and syn.gate_result.source == "class-table"
     assert claim is not None and claim.exact and claim.lines == 3
-    ref = minimise_gates(from_permutation(p), lib, bounds="cheap")  # SAT with cheap bounds only
+    ref = minimise_gates(from_permutation(p), lib, SearchOptions(bounds="cheap"))  # SAT with cheap bounds only
     assert ref.optimal and ref.circuit is not None and syn.gate_count == len(ref.circuit)
     data = json.loads((cert / "result.json").read_text())
     assert data["class_table"]["lines"] == 3 and data["class_table"]["format"] == "exactsyn-tables3/1"
