@@ -13,7 +13,7 @@ cost under every built-in cost model (and a user table when one was given), and
 ``clifford_t`` the counts of its Clifford+T decomposition (``Synthesis.clifford_t``, which
 simulates it; this module only formats); ``circuits`` lists every optimal circuit after
 ``--optima all``, ``count`` their number.
-``class_table`` is what the class tables established (:mod:`exactsyn.search.classtable`),
+``class_table`` is what the class tables established (:mod:`exactsyn.tables.oracle`),
 or null.
 """
 

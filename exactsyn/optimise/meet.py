@@ -1,20 +1,12 @@
 """4-line windows: proven minimum gate counts from a distance table and a bounded meet in the middle.
 
-A breadth-first distance table of depth ``D`` (:func:`exactsyn.tables.distance.distance_table`:
-every function of at most ``D`` gates with its distance; ``D = 5`` for NCT and MCT on 4
-lines, whose layer sizes the tests compare with Golubitsky, Falconer, Maslov, "Synthesis
-of the optimal 4-bit reversible circuits", DAC 2010) answers a window in one of two ways:
-
-* its permutation ``f`` is in the table: the optimum is its distance, with a circuit;
-* otherwise every circuit has more than ``D`` gates, and for ``d = D+1, D+2, …`` (up to
-  ``D + extra``, ``2D`` and one less than the window's gate count) the question "does a
-  circuit of ``d`` gates exist?" is settled exactly: cut such a circuit after its first
-  ``d − D`` gates, a function ``P`` with ``dist(P) ≤ d − D``; the rest ``f∘P⁻¹`` has at
-  most ``D`` gates.  Every gate is self-inverse, so ``R = P⁻¹`` is in the table with the
-  same distance, and it suffices to look ``f∘R`` up for every ``R`` of distance at most
-  ``d − D`` and keep the least ``dist(R) + dist(f∘R)``.  The first ``d`` that succeeds is
-  the optimum (the method of the distance module, bounded so that only the few thousand
-  shortest entries are composed).
+The window's library asks its breadth-first distance table through the tables' one
+interface (:class:`exactsyn.tables.oracle.DistanceOracle`: every function of at most ``D``
+gates with its distance; ``D = 5`` for NCT and MCT on 4 lines, whose layer sizes the tests
+compare with Golubitsky, Falconer, Maslov, "Synthesis of the optimal 4-bit reversible
+circuits", DAC 2010).  Its :meth:`~exactsyn.tables.oracle.DistanceOracle.circuit` answers a
+window by lookup, or by a meet in the middle bounded to a few layers past ``D`` (and below
+the window's own gate count), whose argument is in its docstring.
 
 Only the gate count is minimised, so this answers the ``gates`` objective only, for
 libraries of self-inverse gates.  The table is built once per library and process (3 s
@@ -23,51 +15,31 @@ and about 60 MB for NCT on 4 lines).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
-import numpy as np
-
-from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import Edge, Library
 from exactsyn.optimise.allowed_gates import GateSet
 from exactsyn.optimise.resynthesis import Optimum, WindowProblem, WindowResynthesis
-from exactsyn.tables.distance import FULL, DistanceTable, distance_table
-
-#: Extra layers beyond the table depth that the bounded meet in the middle tries.
-DEFAULT_EXTRA = 3
-
-
-@dataclass(frozen=True, eq=False)
-class _Layers:
-    table: DistanceTable
-    by_distance: np.ndarray  # table indices sorted by distance
-    ends: np.ndarray  # ends[d]: entries of distance <= d come first in by_distance
+from exactsyn.tables.oracle import WINDOW_EXTRA, DistanceOracle
 
 
 class MeetResynthesis:
     """:class:`~exactsyn.optimise.resynthesis.WindowResynthesis` for 4-line windows (gates objective)."""
 
-    def __init__(self, gates: GateSet, extra: int = DEFAULT_EXTRA) -> None:
+    def __init__(self, gates: GateSet) -> None:
         self.gates = gates
-        self.extra = extra
-        self._layers: dict[tuple[Edge, ...], _Layers | None] = {}
+        self._tables: dict[tuple[Edge, ...], DistanceOracle | None] = {}
         self._memo: dict[tuple[tuple[Edge, ...], tuple[int, ...]], Optimum | None] = {}
 
     @property
     def max_lines(self) -> int:
         return 4
 
-    def layers(self, coupling: tuple[Edge, ...]) -> _Layers | None:
-        if coupling not in self._layers:
+    def table(self, coupling: tuple[Edge, ...]) -> DistanceOracle | None:
+        """The distance table of the window library on these coupled lines (None: not self-inverse)."""
+        if coupling not in self._tables:
             library = self.gates.window_library(4, coupling)
-            if library is None or not library.involutive:
-                self._layers[coupling] = None
-            else:
-                table = distance_table(library, None)
-                order = np.argsort(table.dist, kind="stable")
-                ends = np.searchsorted(table.dist[order], np.arange(int(table.dist.max()) + 1), side="right")
-                self._layers[coupling] = _Layers(table, order, ends)
-        return self._layers[coupling]
+            ok = library is not None and library.involutive
+            self._tables[coupling] = DistanceOracle(library) if ok and library is not None else None
+        return self._tables[coupling]
 
     def method(self, library: Library, depth: int) -> str:
         return f"distance table of depth {depth} and bounded meet in the middle, library {library.name} (gates)"
@@ -78,43 +50,19 @@ class MeetResynthesis:
         key = (problem.coupling, problem.perm)
         if key in self._memo:
             return self._memo[key]
-        result = self._solve(problem)
+        table = self.table(problem.coupling)
+        result = None
+        if table is not None:
+            below = None if problem.below is None else problem.below - 1
+            gates = table.circuit(problem.perm, below)
+            if gates is not None:
+                result = Optimum(gates, len(gates), len(gates), self.method(table.library, table.reach))
         if result is not None or problem.below is None:
             self._memo[key] = result
         return result
 
-    def _solve(self, problem: WindowProblem) -> Optimum | None:
-        layers = self.layers(problem.coupling)
-        if layers is None:
-            return None
-        table = layers.table
-        f = np.asarray(problem.perm, dtype=np.uint8)
-        hit = int(table.lookup(f[None, :])[0])
-        if hit >= 0:
-            gates = tuple(table.circuit_of(hit))
-            return Optimum(gates, len(gates), len(gates), self.method(table.library, table.depth))
-        if table.depth == FULL:  # pragma: no cover - a full table holds every reachable function
-            return None
-        top = min(2 * table.depth, table.depth + self.extra)
-        if problem.below is not None:
-            top = min(top, problem.below - 1)
-        for d in range(table.depth + 1, top + 1):
-            r_index = layers.by_distance[: layers.ends[d - table.depth]]
-            q_index = table.lookup(f[table.rows[r_index]])  # Q = f∘R
-            found = np.nonzero(q_index >= 0)[0]
-            if len(found) == 0:
-                continue
-            totals = table.dist[r_index[found]].astype(np.int64) + table.dist[q_index[found]]
-            k = int(np.argmin(totals))
-            if int(totals[k]) > d:  # pragma: no cover - the cut argument bounds every match by d
-                continue
-            r_gates = table.circuit_of(int(r_index[found[k]]))
-            q_gates = table.circuit_of(int(q_index[found[k]]))
-            circ = Circuit(4, tuple(reversed(r_gates)) + tuple(q_gates))
-            if circ.permutation() != problem.perm:
-                raise RuntimeError("internal error: meet-in-the-middle circuit does not compute the window")
-            return Optimum(circ.gates, len(circ), len(circ), self.method(table.library, table.depth))
-        return None
+
+__all__ = ["WINDOW_EXTRA", "CombinedResynthesis", "MeetResynthesis"]
 
 
 class CombinedResynthesis:

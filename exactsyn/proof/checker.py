@@ -61,9 +61,8 @@ from exactsyn.sat.encode_depth import encode_depth
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import lower_bound, nonaffine_extra
 from exactsyn.specification.reversible import Spec
-from exactsyn.tables.distance import FULL, extended_meet, meet_in_the_middle
-from exactsyn.tables.hashed import MAX_DEPTH as FIVE_MAX_DEPTH
-from exactsyn.tables.hashed import five_meet, five_table_ok
+from exactsyn.tables.distance import FULL
+from exactsyn.tables.oracle import TableBound, recorded_distance_oracle
 
 
 @dataclass(frozen=True)
@@ -196,26 +195,23 @@ def _check_table_bound(tb: Any, spec: Spec, library: Library, note: Note) -> int
         return 0
     try:
         raw_depth = FULL if tb["depth"] == "full" else tb["depth"]
-        depth, value = json_int(raw_depth), json_int(tb["value"])
-        extended, exact = bool(tb["extended"]), bool(tb["exact"])
+        claimed = TableBound(json_int(tb["value"]), bool(tb["exact"]), json_int(raw_depth), bool(tb["extended"]))
     except (KeyError, TypeError, ValueError):
         raise ExactsynError("certificate: malformed 'table_bound'") from None
-    five = spec.lines == 5 and five_table_ok(library) and 1 <= depth <= FIVE_MAX_DEPTH and not extended
-    if not spec.is_permutation or not library.involutive or (spec.lines > 4 and not five) or not 0 <= depth <= FULL:
+    table = recorded_distance_oracle(library, claimed) if spec.is_permutation else None
+    if table is None:
         note("table", False, "a table bound needs a full permutation on at most 4 lines (5 with hashed tables)")
         return 0
     t0 = time.perf_counter()
     try:
-        if five:  # the hashed 5-line table of tables/hashed.py, rebuilt at the recorded depth
-            mr = five_meet(spec.permutation, library, depth)
-        else:
-            mr = (extended_meet if extended else meet_in_the_middle)(spec.permutation, library, depth)
+        verdict = table.optimum(spec.permutation)
     except NoCircuitError as e:
         note("table", False, e.message)
         return 0
     dt = time.perf_counter() - t0
-    got = mr.exact if mr.exact is not None else mr.lower
-    if value > got or (exact and mr.exact != value):
+    value, depth = claimed.value, claimed.depth
+    if verdict is None or value > verdict.lower or (claimed.exact and (not verdict.exact or verdict.lower != value)):
+        got = "nothing" if verdict is None else verdict.lower
         note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
         return 0
     which = "full" if depth >= FULL else f"depth-{depth}"

@@ -3,7 +3,7 @@
 Modules, one job each:
 
 * :mod:`~exactsyn.search.loop` — raise k from a proven lower bound until a k-gate circuit exists;
-* :mod:`~exactsyn.search.bounds` and :mod:`~exactsyn.search.classtable` — lower bounds and exact
+* :mod:`~exactsyn.search.bounds` and :mod:`~exactsyn.tables.oracle` — lower bounds and exact
   answers without SAT (cheap facts, distance and class tables);
 * :mod:`~exactsyn.search.objectives` — cost and depth, each proven by refutations;
 * :mod:`~exactsyn.search.all_optima` — every optimal circuit, up to commuting neighbours;

@@ -24,8 +24,8 @@ time-out returns, marked *not proven optimal*.  The circuit is made in four step
 4. **Shrunk.**  The window optimiser (:func:`exactsyn.optimise.optimise_circuit`, which
    keeps the library, control cap and coupling) replaces windows of up to 3 lines — 4
    lines on 4-line functions once the library's distance table exists — by optimal ones.
-   On 4 lines, when the class table of a library inside this one is cached
-   (:func:`exactsyn.search.classtable.shorten`), every run of consecutive gates whose
+   When the class table of a library inside this one is cached (:func:`shorten`, asking
+   :func:`exactsyn.tables.oracle.table_roles`), every run of consecutive gates whose
    function the table holds may be replaced by an optimal circuit of it (the cheapest set
    of runs by dynamic programming over the cut points).
 
@@ -58,12 +58,11 @@ from exactsyn.core.gates import Gate, invert_permutation, permutation_is_odd, x_
 from exactsyn.core.library import Edge, Library, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.search.affine import affine_circuit, affine_parts
-from exactsyn.search.classtable import shorten
 from exactsyn.search.events import SearchEvent, SearchProgress, emit
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.rewrite import CannotRewrite, rewrite_circuit, uncoupled
 from exactsyn.specification.reversible import Spec
-from exactsyn.tables.distance import distance_table_by, extended_meet_by
+from exactsyn.tables.oracle import DistanceOracle, GateOracle, distance_oracle, table_roles
 
 #: Smaller presets whose circuits are circuits of a library too, largest first.
 SUB_PRESETS = ("mct", "nct")
@@ -321,11 +320,11 @@ def _finish(spec: Spec, library: Library, candidates: list[Circuit], deadline: f
         shrunk = shrink(circuit, library, deadline, window)
         if len(shrunk) < len(circuit):
             said += f", shrunk from {len(circuit)} gates by {window}-line window resynthesis"
-        if spec.lines == 4:
-            table_made = shorten(shrunk, library)
-            if table_made is not None:
-                said += f", then runs of gates replaced from the 4-line class table ({len(shrunk)} gates before)"
-                shrunk = table_made
+        inner = table_roles(library).inner
+        table_made = None if inner is None else shorten(shrunk, library, inner)
+        if table_made is not None and inner is not None:
+            said += f", then runs of gates replaced from the {inner.describe()} ({len(shrunk)} gates before)"
+            shrunk = table_made
         if best is None or best.circuit is None or len(shrunk) < len(best.circuit):
             best = Fallback(shrunk, said)
     assert best is not None and best.circuit is not None
@@ -334,15 +333,90 @@ def _finish(spec: Spec, library: Library, candidates: list[Circuit], deadline: f
     return best
 
 
+def shorten(circuit: Circuit, library: Library, table: GateOracle, rounds: int = 3) -> Circuit | None:
+    """A shorter circuit of the same function from ``table`` (a class table of a library inside
+    ``library``, whose circuits are ``library``'s), or None.
+
+    Every run of consecutive gates whose function the table holds directly may be replaced
+    by an optimal circuit of it; dynamic programming over the cut points picks the
+    replacement of least total size (each run ``i..j`` costs its optimum, a single gate
+    outside the table costs 1).  Repeated while it helps, since new cut points appear.
+    """
+    if circuit.lines != table.library.lines or len(circuit) < 2:
+        return None
+    best = circuit
+    for _ in range(rounds):
+        shorter = _shorten_once(best, table)
+        if shorter is None:
+            break
+        if shorter.permutation() != circuit.permutation() or not all(library.contains(g) for g in shorter.gates):
+            raise RuntimeError("internal error: table resynthesis changed the function")
+        best = shorter
+    return best if len(best) < len(circuit) else None
+
+
+def _shorten_once(circuit: Circuit, table: GateOracle) -> Circuit | None:
+    """One round of :func:`shorten`: the cheapest cut into table-optimal runs, if shorter."""
+    gates, n = circuit.gates, len(circuit)
+    perms = [tuple(range(1 << circuit.lines))]
+    for g in gates:
+        step = g.permutation(circuit.lines)
+        perms.append(tuple(step[v] for v in perms[-1]))
+    pairs = [(i, j) for j in range(1, n + 1) for i in range(j)]
+    runs = {(i, j): _run_function(perms[i], perms[j]) for i, j in pairs}
+    level = dict(zip(pairs, table.sizes([runs[p] for p in pairs]), strict=True))
+    cost = [0] + [n + 1] * n
+    back = [0] * (n + 1)
+    for j in range(1, n + 1):
+        for i in range(j):
+            c = level[(i, j)]
+            if c < 0:
+                if j - i > 1:
+                    continue
+                c = 1  # the gate itself
+            if cost[i] + c < cost[j]:
+                cost[j], back[j] = cost[i] + c, i
+    if cost[n] >= n:
+        return None
+    cuts, j = [], n
+    while j > 0:
+        cuts.append((back[j], j))
+        j = back[j]
+    out: list[Gate] = []
+    for i, j in reversed(cuts):
+        made = table.circuit(runs[(i, j)]) if level[(i, j)] >= 0 else None
+        out.extend(gates[i:j] if made is None else made)
+    return Circuit(circuit.lines, tuple(out))
+
+
+def _run_function(before: tuple[int, ...], after: tuple[int, ...]) -> tuple[int, ...]:
+    """The function of the gates between two prefixes: ``after ∘ before⁻¹``."""
+    run = [0] * len(before)
+    for x, y in enumerate(before):
+        run[y] = after[x]
+    return tuple(run)
+
+
 def _meets(circuit: Circuit, spec: Spec, library: Library) -> bool:
     return all(library.contains(g) for g in circuit.gates) and spec.accepts(circuit.permutation())
 
 
 def _table_ready(library: Library) -> bool:
     """Is the library's 4-line distance table already built in this process (no time spent here)?"""
-    if not library.involutive or library.lines != 4:
-        return False
-    return distance_table_by(library, None, deadline=0.0) is not None
+    oracle = distance_oracle(library) if library.lines == 4 else None
+    return isinstance(oracle, DistanceOracle) and oracle.ready()
+
+
+def improve_pays(library: Library, k: int, after_table: bool) -> bool:
+    """Should the gate search ask :func:`improve_upper` now?
+
+    Up to 4 lines: right after it consulted its distance table (the window tables are built
+    then).  From 5 lines on: once it asks for :data:`FIVE_SHRINK_FROM` gates, when the queries
+    take minutes (building the 4-line window tables takes seconds).
+    """
+    if library.lines <= 4:
+        return after_table
+    return not after_table and library.lines == 5 and k >= FIVE_SHRINK_FROM
 
 
 # --------------------------------------------------------------------------- the search's hooks
@@ -411,8 +485,9 @@ def improve_upper(
             continue
         t0 = time.perf_counter()
         emit(progress, SearchEvent("table-start", detail=f"distance table of {sub.name} (a smaller library)"))
-        mr = extended_meet_by(spec.permutation, sub, deadline)
-        found = None if mr is None or mr.circuit is None else mr.circuit
+        sub_table = distance_oracle(sub)
+        verdict = None if sub_table is None else sub_table.optimum(spec.permutation, deadline)
+        found = None if verdict is None else verdict.circuit
         emit(
             progress,
             SearchEvent(

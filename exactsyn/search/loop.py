@@ -9,12 +9,14 @@ window resynthesis) gives an upper bound first: when every k below its size is r
 it is itself optimal and the last SAT call is skipped; when time runs out, it is returned
 with the proven lower bound and clearly marked as not proven optimal.
 
-A full 4-line permutation is first put to the cached 4-line class tables
-(:mod:`exactsyn.search.classtable`; Golubitsky, Falconer & Maslov, DAC 2010): over a
-table's own library they give the optimum and its circuit with no SAT call, otherwise
-(a library inside a table's, a function beyond the table's reach, a scan cut by the
-deadline) a proven lower bound the loop starts from.  Without a cached table the
-search runs as before and :attr:`GateResult.hint` says how to build one.
+The tables are asked first, through their one interface (:mod:`exactsyn.tables.oracle`,
+which says which tables serve the library on its lines and when each pays): a cached class
+table (Golubitsky, Falconer & Maslov, DAC 2010) over the table's own library gives the
+optimum and its circuit with no SAT call, otherwise (a library inside a table's, a
+function beyond the table's reach, a scan cut by the deadline) a proven lower bound the
+loop starts from; a distance table, once k reaches the gate count where it pays, gives
+the optimum up to twice its depth (one more when extended) or a bound.  Without a cached
+class table the search runs as before and :attr:`GateResult.hint` says how to build one.
 
 The time limit covers everything here: the fallback, the distance tables (built layer by
 layer, stopped at the deadline) and every query (solved in short conflict-budget slices).
@@ -43,22 +45,12 @@ from exactsyn.search.bounds import (
     lower_bound,
     parity_obstruction,
 )
-from exactsyn.search.classtable import HINT, ClassTableClaim, Settled, applies, settle, table_for
 from exactsyn.search.events import SearchEvent
-from exactsyn.search.fallback import FIVE_SHRINK_FROM, Fallback, improve_upper, initial_upper
+from exactsyn.search.fallback import Fallback, improve_pays, improve_upper, initial_upper
 from exactsyn.specification.reversible import Spec
-from exactsyn.tables.distance import FULL, MeetResult, extended_meet_by
-from exactsyn.tables.hashed import five_meet, five_next_depth, five_table_ok
+from exactsyn.tables.oracle import HINT, ClassTableClaim, GateOracle, TableBound, TableRoles, Verdict, table_roles
 
 __all__ = ["BOUNDS", "GateResult", "TableBound", "verify_circuit", "minimise_gates"]
-
-# Number of gates from which the distance table is consulted, by line count: building
-# the 4-line table takes seconds, while SAT refutes k ≤ 7 on 4 lines in well under one.
-TABLE_FROM = {1: 0, 2: 0, 3: 0, 4: 8}
-# The table is not started when less time than this is left (its build stops at the
-# deadline anyway; this leaves short time limits to SAT).
-TABLE_MIN_SECONDS = {1: 0.0, 2: 0.0, 3: 0.0, 4: 5.0}
-
 
 @dataclass(frozen=True)
 class GateResult:
@@ -78,23 +70,8 @@ class GateResult:
     seconds: float
     source: str  # "sat" | "heuristic" | "table" | "class-table" | "bound" (circuit met the lower bound) | "none"
     how: str = ""  # how a "heuristic" circuit was made, or why there is none (exactsyn.search.fallback)
-    class_table: ClassTableClaim | None = None  # what the class tables established (exactsyn.search.classtable)
+    class_table: ClassTableClaim | None = None  # what the class tables established (exactsyn.tables.oracle)
     hint: str = ""  # one line for the user, e.g. how to get the class tables
-
-
-@dataclass(frozen=True)
-class TableBound:
-    """A bound from the distance tables (:mod:`exactsyn.tables.distance`), re-derivable from its depth."""
-
-    value: int  # every circuit has at least this many gates
-    exact: bool  # value is the optimum (a circuit of that size was found)
-    depth: int
-    extended: bool
-
-    def to_dict(self) -> dict[str, object]:
-        """The JSON form (results and certificates): ``depth`` is ``"full"`` for a table of every function."""
-        return {"value": self.value, "exact": self.exact, "depth": "full" if self.depth >= FULL else self.depth,
-                "extended": self.extended}
 
 
 #: Without symmetry breaking: the second formulation a hard query is raced against.
@@ -143,10 +120,10 @@ class _GateSearch:
         self.hint = ""
         self.fallback = Fallback(None, "")
         self.per_k = 0.0  # seconds the last encoding took per gate position
-        self._five: int | None = None  # 5 lines: the hashed table depth to consult next
-        self.want_table = options.bounds == "table" and spec.is_permutation and (
-            (library.involutive and spec.lines <= 4 and len(library) <= 256) or five_table_ok(library)
-        )
+        asks = options.bounds == "table" and spec.is_permutation and spec.lines == library.lines
+        self.roles = table_roles(library) if asks else TableRoles()
+        self.distance = self.roles.distance  # None once it cannot help any more
+        self.improved_at: int | None = None  # k at which the fallback was last improved
 
     # ------------------------------------------------------------------ helpers
     def elapsed(self) -> float:
@@ -199,13 +176,13 @@ class _GateSearch:
     def run(self) -> GateResult:
         max_gates = self.options.max_gates
         hopeless = max_gates is not None and self.bound.value > max_gates  # no circuit within the limit
-        settled = self.class_table()
-        if self.options.fallback and not hopeless and (settled is None or settled.circuit is None):
+        verdict = self.class_table()
+        if self.options.fallback and not hopeless and (verdict is None or verdict.circuit is None):
             self.fallback = initial_upper(self.spec, self.library, self.deadline, self.hooks.observer)
         k = self.bound.value
-        if settled is not None and self.claim is not None:
-            if settled.circuit is not None:
-                return self.result(settled.circuit, True, self.claim.value, "class-table")
+        if verdict is not None and self.claim is not None:
+            if verdict.circuit is not None:
+                return self.result(verdict.circuit, True, self.claim.value, "class-table")
             if self.claim.value > k:
                 what = f"{self.spec.lines}-line class table"
                 self.emit(SearchEvent("table-bound", low=k, high=self.claim.value - 1, detail=what))
@@ -214,39 +191,36 @@ class _GateSearch:
             return self.result(Circuit(self.spec.lines), True, 0, "bound")
         return self.raise_k(k)
 
-    def class_table(self) -> Settled | None:
-        """The cached class tables: the optimum itself, or a lower bound (search.classtable)."""
-        if self.options.bounds != "table" or self.bound.value <= 0 or not applies(self.spec, self.library):
+    def class_table(self) -> Verdict | None:
+        """The cached class tables: the optimum itself, or a lower bound (tables/oracle.py)."""
+        oracle = self.roles.class_table
+        if self.bound.value <= 0:
             return None
-        what = f"{self.spec.lines}-line class table"
+        if oracle is None:
+            self.hint = HINT if self.roles.missing else ""
+            return None
+        what = oracle.describe()
         self.emit(SearchEvent("table-start", k=self.bound.value, detail=what))
-        settled = settle(self.spec, self.library, self.deadline)
-        if settled is None:
-            self.hint = HINT if table_for(self.library) is not None else ""
-            return None
-        claim = self.claim = settled.claim
-        self.emit(SearchEvent("table-done", k=self.bound.value, value=claim.value, seconds=claim.seconds,
-                              detail=f"{what} of {claim.library}"))
-        if claim.depth >= 6 and table_for(self.library) is not None:
-            self.want_table = False  # the library's own table reaches further than its distance table (12 at most)
-        return settled
+        verdict = oracle.optimum(self.spec.permutation, self.deadline)
+        claim = verdict.claim
+        assert isinstance(claim, ClassTableClaim)
+        self.claim = claim
+        self.emit(SearchEvent("table-done", k=self.bound.value, value=claim.value, seconds=claim.seconds, detail=what))
+        return verdict
 
     def raise_k(self, k: int) -> GateResult:
         """The loop over k: tables when they pay, then one SAT query per k."""
-        shrunk_five = False  # 5 lines: the fallback shrunk by 4-line windows once (search/fallback.py)
-        lines = self.spec.lines
         while True:
-            if self.want_table and self.consult_table(k):
-                got = self.distance_table(k)
+            distance = self.distance
+            if distance is not None and self.table is None and distance.pays_at(k, self.left()):
+                got = self.distance_table(distance, k)
                 if isinstance(got, GateResult):
                     return got
                 k = got
                 continue
-            if lines == 5 and k >= FIVE_SHRINK_FROM and not shrunk_five:
+            if self.improved_at is None and improve_pays(self.library, k, after_table=False):
                 # the search has reached the queries that take minutes: a better fallback pays now
-                shrunk_five = True
-                self.fallback = improve_upper(self.fallback, self.spec, self.library, self.deadline,
-                                              self.hooks.observer)
+                self.improve(k)
             max_gates = self.options.max_gates
             if max_gates is not None and k > max_gates:
                 # Every circuit needs at least k > max_gates gates: none within the limit.
@@ -258,41 +232,30 @@ class _GateSearch:
                 return answer
             k += 1
 
-    def consult_table(self, k: int) -> bool:
-        """Is the distance table worth consulting before asking SAT for ``k`` gates (now)?"""
-        lines = self.spec.lines
-        left = self.left()
-        room = left is None or left >= TABLE_MIN_SECONDS.get(lines, 0.0)
-        if lines == 5:
-            self._five = five_next_depth(k, None if self.table is None else self.table.depth, left)
-            return self._five is not None and room
-        return self.table is None and k >= TABLE_FROM.get(lines, 99) and room
+    def improve(self, k: int) -> None:
+        self.improved_at = k
+        self.fallback = improve_upper(self.fallback, self.spec, self.library, self.deadline, self.hooks.observer)
 
-    def distance_table(self, k: int) -> GateResult | int:
+    def distance_table(self, oracle: GateOracle, k: int) -> GateResult | int:
         """Meet in the middle over the distance table: the answer, or the k to go on from."""
-        five = self._five if self.spec.lines == 5 else None
-        what = f"distance table of {self.library.name}" + ("" if five is None else f", depth {five}")
+        what = oracle.describe()
         self.emit(SearchEvent("table-start", k=k, detail=what))
         t0 = self.elapsed()
-        mr: MeetResult | None
-        if five is not None:  # hashed 5-line tables (tables/hashed.py)
-            mr = five_meet(self.spec.permutation, self.library, five)
-        else:
-            mr = extended_meet_by(self.spec.permutation, self.library, self.deadline)
-        self.emit(SearchEvent("table-done", k=k, value=None if mr is None else mr.exact or mr.lower,
+        verdict = oracle.optimum(self.spec.permutation, self.deadline)
+        self.emit(SearchEvent("table-done", k=k, value=None if verdict is None else verdict.lower,
                               seconds=self.elapsed() - t0, detail=what))
-        if mr is None:  # not built by the deadline
-            self.want_table = False
+        if verdict is None:  # not built by the deadline
+            self.distance = None
             return k
-        if mr.exact is not None and mr.circuit is not None:
-            self.table = TableBound(mr.exact, True, mr.depth, mr.extended)
-            return self.result(mr.circuit, True, mr.exact, "table")
-        self.table = TableBound(mr.lower, False, mr.depth, mr.extended)
-        if mr.lower > k:
-            self.emit(SearchEvent("table-bound", low=k, high=mr.lower - 1, detail=what))
-        if self.spec.lines != 5:
-            self.fallback = improve_upper(self.fallback, self.spec, self.library, self.deadline, self.hooks.observer)
-        return max(k, mr.lower)
+        assert isinstance(verdict.claim, TableBound)
+        self.table = verdict.claim
+        if verdict.circuit is not None:
+            return self.result(verdict.circuit, True, verdict.lower, "table")
+        if verdict.lower > k:
+            self.emit(SearchEvent("table-bound", low=k, high=verdict.lower - 1, detail=what))
+        if improve_pays(self.library, k, after_table=True):
+            self.improve(k)
+        return max(k, verdict.lower)
 
     def query(self, k: int) -> GateResult | None:
         """Ask SAT for ``k`` gates: the answer, or None when refuted (go on with ``k + 1``)."""

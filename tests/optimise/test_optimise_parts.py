@@ -125,11 +125,11 @@ def test_gates_then_cost_tables_against_every_optimal_circuit(library: str, cost
 
 
 def test_four_line_meet_in_the_middle_matches_the_full_search() -> None:
-    res = MeetResynthesis(gate_set("nct", 4), extra=3)
-    layers = res.layers(())
-    assert layers is not None and layers.table.depth == 5
+    res = MeetResynthesis(gate_set("nct", 4))  # lookup, then at most WINDOW_EXTRA = 3 layers more
+    table = res.table(())
+    assert table is not None and table.reach == 5
     rng = random.Random(2)
-    lib = layers.table.library
+    lib = table.library
     for length in (4, 7, 8):
         gates = tuple(rng.choice(lib.gates) for _ in range(length))
         perm = Circuit(4, gates).permutation()

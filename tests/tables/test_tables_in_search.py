@@ -22,11 +22,11 @@ from exactsyn.cli.main import main
 from exactsyn.core.library import make_library
 from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.options import SearchOptions
-from exactsyn.search import classtable
+from exactsyn.search.fallback import shorten
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
-from exactsyn.tables import storage
+from exactsyn.tables import oracle, storage
 
 
 @pytest.fixture
@@ -105,7 +105,7 @@ def test_without_tables_synth_says_once_how_to_get_them(empty_cache: Path) -> No
     p = _circuit_perm(random.Random(1), "mct", 4)
     syn = synthesise(p, library="mct")
     assert syn.optimal and syn.gate_result.source != "class-table"
-    assert [n for n in syn.notes if "exactsyn tables build" in n] == [classtable.HINT]
+    assert [n for n in syn.notes if "exactsyn tables build" in n] == [oracle.HINT]
     out = CliRunner().invoke(main, ["synth", "--perm", ",".join(map(str, p)), "--library", "mct"])
     assert out.exit_code == 0
     assert out.output.count("exactsyn tables build") == 1  # stdout header or stderr summary, once
@@ -196,7 +196,9 @@ def test_the_fallback_replaces_runs_of_gates_from_the_table(cached: Path) -> Non
     for _ in range(5):
         p = _circuit_perm(rng, "mct", 30)
         raw = transformation_based(tuple(p), 4)
-        got = classtable.shorten(raw, lib)
+        inner = oracle.table_roles(lib).inner
+        assert inner is not None and inner.describe() == "4-line class table of mct"
+        got = shorten(raw, lib, inner)
         if got is not None:
             shorter += 1
             assert len(got) < len(raw) and got.permutation() == tuple(p)
