@@ -38,8 +38,8 @@ from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
 from exactsyn.optimise.commute import relabel
+from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthesis
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
-from exactsyn.optimise.meet import CombinedResynthesis, MeetResynthesis
 from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis
 from exactsyn.optimise.windows import GatePool, Window, grow

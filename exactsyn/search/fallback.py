@@ -242,7 +242,7 @@ class _OutOfTime(Exception):
 def _window_answers(preset: str, lines: int, cap: int | None, coupling: tuple[Edge, ...], window: int) -> Any:
     """The window resynthesis of a library, kept per process (its 3-line tables take 0.1 s to build)."""
     from exactsyn.optimise.allowed_gates import gate_set
-    from exactsyn.optimise.meet import CombinedResynthesis, MeetResynthesis
+    from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthesis
     from exactsyn.optimise.resynthesis import TableResynthesis
 
     gates = gate_set(preset, lines, (), cap, coupling)

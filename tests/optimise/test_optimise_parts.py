@@ -17,8 +17,8 @@ from exactsyn.core.library import PRESET_KINDS, make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.optimise.allowed_gates import gate_set
 from exactsyn.optimise.commute import commute, simulate_commute
+from exactsyn.optimise.distance_windows import MeetResynthesis
 from exactsyn.optimise.equivalence import check_equivalent
-from exactsyn.optimise.meet import MeetResynthesis
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem
 from exactsyn.optimise.windows import GatePool, grow
 from exactsyn.tables.bfs import optimal_sizes
