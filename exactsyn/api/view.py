@@ -30,7 +30,7 @@ from exactsyn.sat.status import Status
 from exactsyn.search.all_optima import EQUIVALENCE, Enumeration
 from exactsyn.search.loop import GateResult
 from exactsyn.search.objectives import ObjectiveResult
-from exactsyn.tables.distance import FULL
+from exactsyn.tables.distance import WHOLE_GROUP_DEPTH
 from exactsyn.version import __version__
 
 if TYPE_CHECKING:  # types only (the API module imports the whole pipeline)
@@ -127,7 +127,7 @@ def status_line(res: GateResult) -> str:
         how = ""
         if res.table_bound is not None:
             tb = res.table_bound
-            depth = "full" if tb.depth >= FULL else f"depth {tb.depth}"
+            depth = "full" if tb.depth >= WHOLE_GROUP_DEPTH else f"depth {tb.depth}"
             how = f"; distance table ({depth}): at least {_gates(tb.value)}"
         ct = res.class_table
         if ct is not None:

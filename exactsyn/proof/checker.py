@@ -61,7 +61,7 @@ from exactsyn.sat.encode_depth import encode_depth
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import lower_bound, nonaffine_extra
 from exactsyn.specification.reversible import Spec
-from exactsyn.tables.distance import FULL
+from exactsyn.tables.distance import WHOLE_GROUP_DEPTH
 from exactsyn.tables.oracle import TableBound, recorded_distance_oracle
 
 
@@ -194,7 +194,7 @@ def _check_table_bound(tb: Any, spec: Spec, library: Library, note: Note) -> int
     if tb is None:
         return 0
     try:
-        raw_depth = FULL if tb["depth"] == "full" else tb["depth"]
+        raw_depth = WHOLE_GROUP_DEPTH if tb["depth"] == "full" else tb["depth"]
         claimed = TableBound(json_int(tb["value"]), bool(tb["exact"]), json_int(raw_depth), bool(tb["extended"]))
     except (KeyError, TypeError, ValueError):
         raise ExactsynError("certificate: malformed 'table_bound'") from None
@@ -214,7 +214,7 @@ def _check_table_bound(tb: Any, spec: Spec, library: Library, note: Note) -> int
         got = "nothing" if verdict is None else verdict.lower
         note("table", False, f"table bound {value} not re-derived (depth {depth} gives {got})")
         return 0
-    which = "full" if depth >= FULL else f"depth-{depth}"
+    which = "full" if depth >= WHOLE_GROUP_DEPTH else f"depth-{depth}"
     note("table", True, f"k >= {value}: meet in the middle over the {which} table ({dt:.2f} s)")
     return value
 

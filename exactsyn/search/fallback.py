@@ -24,7 +24,7 @@ time-out returns, marked *not proven optimal*.  The circuit is made in four step
 4. **Shrunk.**  The window optimiser (:func:`exactsyn.optimise.optimise_circuit`, which
    keeps the library, control cap and coupling) replaces windows of up to 3 lines — 4
    lines on 4-line functions once the library's distance table exists — by optimal ones.
-   When the class table of a library inside this one is cached (:func:`shorten`, asking
+   When the class table of a library inside this one is cached (:func:`replace_runs_from_table`, asking
    :func:`exactsyn.tables.oracle.table_roles`), every run of consecutive gates whose
    function the table holds may be replaced by an optimal circuit of it (the cheapest set
    of runs by dynamic programming over the cut points).
@@ -91,7 +91,7 @@ class Fallback:
 
 
 # --------------------------------------------------------------------------- step 1
-def _match(constraints: list[tuple[int, int]], lines: int) -> list[int] | None:
+def _perfect_matching(constraints: list[tuple[int, int]], lines: int) -> list[int] | None:
     """A permutation ``p`` with ``p[x] & mask == value`` for ``constraints[x] = (mask, value)``."""
     size = 1 << lines
     owner = [-1] * size  # owner[y] = x with p[x] = y
@@ -166,7 +166,7 @@ def complete_permutation(spec: Spec, even: bool = False) -> tuple[int, ...] | No
             cons[x] = (old_mask | mask, old_value | value)
         if not ok:
             continue
-        perm = _match(cons, spec.lines)
+        perm = _perfect_matching(cons, spec.lines)
         if perm is not None and even and permutation_is_odd(tuple(perm)) and not _make_even(perm, cons):
             continue
         if perm is not None and spec.meets(perm, constants, placement):
@@ -321,7 +321,7 @@ def _finish(spec: Spec, library: Library, candidates: list[Circuit], deadline: f
         if len(shrunk) < len(circuit):
             said += f", shrunk from {len(circuit)} gates by {window}-line window resynthesis"
         inner = table_roles(library).inner
-        table_made = None if inner is None else shorten(shrunk, library, inner)
+        table_made = None if inner is None else replace_runs_from_table(shrunk, library, inner)
         if table_made is not None and inner is not None:
             said += f", then runs of gates replaced from the {inner.describe()} ({len(shrunk)} gates before)"
             shrunk = table_made
@@ -333,7 +333,7 @@ def _finish(spec: Spec, library: Library, candidates: list[Circuit], deadline: f
     return best
 
 
-def shorten(circuit: Circuit, library: Library, table: GateOracle, rounds: int = 3) -> Circuit | None:
+def replace_runs_from_table(circuit: Circuit, library: Library, table: GateOracle, rounds: int = 3) -> Circuit | None:
     """A shorter circuit of the same function from ``table`` (a class table of a library inside
     ``library``, whose circuits are ``library``'s), or None.
 
@@ -356,7 +356,7 @@ def shorten(circuit: Circuit, library: Library, table: GateOracle, rounds: int =
 
 
 def _shorten_once(circuit: Circuit, table: GateOracle) -> Circuit | None:
-    """One round of :func:`shorten`: the cheapest cut into table-optimal runs, if shorter."""
+    """One round of :func:`replace_runs_from_table`: the cheapest cut into table-optimal runs, if shorter."""
     gates, n = circuit.gates, len(circuit)
     perms = [tuple(range(1 << circuit.lines))]
     for g in gates:

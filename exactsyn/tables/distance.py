@@ -211,7 +211,7 @@ class _Builder:
         self.frontier = self.seen = np.empty(0, dtype=np.uint8)  # free the working arrays
         return DistanceTable(
             library,
-            FULL if full else self.built,
+            WHOLE_GROUP_DEPTH if full else self.built,
             all_rows[order],
             keys[order],
             all_dist[order],
@@ -244,7 +244,8 @@ def distance_table_by(library: Library, depth: int | None, deadline: float | Non
     return _builder(library, depth).build(deadline)
 
 
-FULL = 10**6  # depth of a table that holds every reachable function
+#: The depth recorded for a table that holds every function the library generates (the whole group).
+WHOLE_GROUP_DEPTH = 10**6
 
 
 def _saturated(layers: list[np.ndarray], library: Library) -> bool:
@@ -342,7 +343,7 @@ def meet_in_the_middle(perm: tuple[int, ...], library: Library, depth: int | Non
         if best is None or int(totals[k]) < best:
             best, best_r, best_q = int(totals[k]), start + int(hit[k]), int(q_idx[hit[k]])
     if best is None:
-        if table.depth == FULL:
+        if table.depth == WHOLE_GROUP_DEPTH:
             raise NoCircuitError(
                 f"no circuit of library {library.name} computes the function: the table holds every "
                 f"function its gates generate ({len(table.rows)} of them)"

@@ -39,7 +39,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library
 from exactsyn.tables.distance import (
-    FULL,
+    WHOLE_GROUP_DEPTH,
     DistanceTable,
     MeetResult,
     distance_table,
@@ -108,8 +108,8 @@ class TableBound:
 
     def to_dict(self) -> dict[str, object]:
         """The JSON form (results and certificates): ``depth`` is ``"full"`` for a table of every function."""
-        return {"value": self.value, "exact": self.exact, "depth": "full" if self.depth >= FULL else self.depth,
-                "extended": self.extended}
+        depth: int | str = "full" if self.depth >= WHOLE_GROUP_DEPTH else self.depth
+        return {"value": self.value, "exact": self.exact, "depth": depth, "extended": self.extended}
 
 
 @dataclass(frozen=True)
@@ -311,7 +311,7 @@ class DistanceOracle:
         if hit >= 0:
             gates = tuple(t.circuit_of(hit))
             return gates if max_gates is None or len(gates) <= max_gates else None
-        if t.depth == FULL:  # pragma: no cover - a full table holds every reachable function
+        if t.depth == WHOLE_GROUP_DEPTH:  # pragma: no cover - a full table holds every reachable function
             return None
         order, ends = self._by_distance
         top = min(2 * t.depth, t.depth + WINDOW_EXTRA)
@@ -379,7 +379,7 @@ def recorded_distance_oracle(library: Library, bound: TableBound) -> DistanceOra
     """The table a recorded :class:`TableBound` came from (the checker re-runs it), or None if none can."""
     if 1 <= bound.depth <= 4 and not bound.extended and five_table_ok(library):
         return HashedOracle(library, bound.depth)
-    if library.lines <= 4 and library.involutive and 0 <= bound.depth <= FULL:
+    if library.lines <= 4 and library.involutive and 0 <= bound.depth <= WHOLE_GROUP_DEPTH:
         return DistanceOracle(library, bound.depth, bound.extended)
     return None
 

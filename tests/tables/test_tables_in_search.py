@@ -22,7 +22,7 @@ from exactsyn.cli.main import main
 from exactsyn.core.library import make_library
 from exactsyn.proof.checker import check_certificate
 from exactsyn.sat.options import SearchOptions
-from exactsyn.search.fallback import shorten
+from exactsyn.search.fallback import replace_runs_from_table
 from exactsyn.search.heuristic import transformation_based
 from exactsyn.search.loop import minimise_gates
 from exactsyn.specification.reversible import from_permutation
@@ -198,7 +198,7 @@ def test_the_fallback_replaces_runs_of_gates_from_the_table(cached: Path) -> Non
         raw = transformation_based(tuple(p), 4)
         inner = oracle.table_roles(lib).inner
         assert inner is not None and inner.describe() == "4-line class table of mct"
-        got = shorten(raw, lib, inner)
+        got = replace_runs_from_table(raw, lib, inner)
         if got is not None:
             shorter += 1
             assert len(got) < len(raw) and got.permutation() == tuple(p)
