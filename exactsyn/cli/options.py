@@ -24,7 +24,7 @@ from typing import Any
 import click
 
 from exactsyn.api.synthesis import Request
-from exactsyn.core.costs import OBJECTIVES
+from exactsyn.core.costs import COST_MODELS, OBJECTIVES
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError, did_you_mean
 from exactsyn.io import formats as _formats  # registers the built-in formats
@@ -178,9 +178,10 @@ cost_option = click.option(
     default="ncv",
     show_default=True,
     metavar="MODEL|FILE",
-    help="Cost model: ncv (quantum cost: NOT 1, CNOT 1, Toffoli 5, Peres 4, C3X 13; Barenco et al. 1995), "
-    "t-count and cnot-count (of the Clifford+T decomposition written by --clifford-t), gates, or a TOML/JSON "
-    "table of gate names to integer costs (NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..., negative_control).",
+    help="Cost model: "
+    + "; ".join(f"{name} = {model.description}" for name, model in COST_MODELS.items())
+    + "; or a TOML/JSON table of gate names to integer costs (NOT, CNOT, Toffoli, C3X, SWAP, Fredkin, Peres, ..., "
+    "negative_control).",
 )
 
 split_option = click.option(

@@ -23,7 +23,8 @@ function is the least key of its class; its class size is ``2·n! / |stabiliser|
 This module is plain Python and numpy (the reference semantics, for any ``n``).  The
 compiled kernels of a layout (:meth:`KeyLayout.kernels`, the interface
 :class:`exactsyn.tables.kernel_api.TableKernels`) compute the same things fast and are
-tested against it; :data:`KERNEL_MODULES` registers which line counts have kernels.
+tested against it; :data:`KERNEL_MODULES` registers which line counts have kernels (and
+:data:`DEFAULT_DEPTHS`, :data:`MAX_DEPTHS` how deep their tables are built).
 """
 
 from __future__ import annotations
@@ -52,6 +53,13 @@ KERNEL_MODULES: dict[int, str] = {
     3: "exactsyn.tables.kernels",
     4: "exactsyn.tables.kernels",
 }
+#: Registration, continued: the depth a build makes by default per library, and the deepest
+#: it accepts, for the line counts where the whole group does not fit (elsewhere a build goes
+#: on until a level comes out empty: 40320 functions on 3 lines).  4 lines: ``mct`` levels
+#: 0..8 (about 2.4e8 classes, 1.9 GB) settle every function, the largest optimum being
+#: 15 = 8 + 7; each level is about 12 times the last (docs/tables4.md has the measurements).
+DEFAULT_DEPTHS: dict[int, dict[str, int]] = {4: {"mct": 8, "nct": 8, "mixed": 6}}
+MAX_DEPTHS: dict[int, int] = {4: 9}
 
 _WORD = (1 << 64) - 1
 

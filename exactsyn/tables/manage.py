@@ -20,16 +20,8 @@ from typing import Any
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import storage
 from exactsyn.tables.gate_keys import TABLE_LIBRARIES, gate_set
-from exactsyn.tables.keys import check_lines
+from exactsyn.tables.keys import DEFAULT_DEPTHS, MAX_DEPTHS, check_lines
 from exactsyn.tables.levels import DEFAULT_MEMORY, BuildProgress, build_table
-
-#: Depth of the 4-line table built for each library.  ``mct``: levels 0..8 (about 2.4e8
-#: classes, 1.9 GB) settle every function, the largest optimum being 15 = 8 + 7.  See
-#: ``docs/tables4.md`` for the measurements behind these choices.  Other line counts build
-#: until a level comes out empty (the whole group: 40320 functions on 3 lines).
-DEFAULT_DEPTH = {"mct": 8, "nct": 8, "mixed": 6}
-#: The deepest 4-line table a build accepts (each level is about 12 times the last).
-MAX_DEPTH_4 = 9
 
 
 @dataclass(frozen=True)
@@ -102,13 +94,12 @@ def _clean_stale(library: str, cache: Path | None, lines: int) -> None:
 def _wanted_depth(library: str, depth: int | None, lines: int) -> int | None:
     """The depth to build (None: until a level comes out empty)."""
     if depth is None:
-        return DEFAULT_DEPTH[library] if lines == 4 else None
+        return DEFAULT_DEPTHS.get(lines, {}).get(library)
     if depth < 0:
         raise ExactsynError("table depth must be 0 or more")
-    if lines == 4 and depth > MAX_DEPTH_4:
-        raise ExactsynError(
-            f"a 4-line table deeper than {MAX_DEPTH_4} does not fit memory or disk (about 12x per level)"
-        )
+    top = MAX_DEPTHS.get(lines)
+    if top is not None and depth > top:
+        raise ExactsynError(f"a {lines}-line table deeper than {top} does not fit memory or disk")
     return depth
 
 
