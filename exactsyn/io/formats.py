@@ -10,7 +10,7 @@ then by its suffix.
 
 from __future__ import annotations
 
-import json
+import os
 import tomllib
 from collections.abc import Callable, Sequence
 from pathlib import Path
@@ -19,6 +19,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io import registry
 from exactsyn.io.layout import Layout
+from exactsyn.io.limits import MAX_FILE_BYTES, check_file_size, load_json
 from exactsyn.io.registry import RenderOptions
 
 #: The reader of a text no format claims by content or suffix: OpenQASM (which needs no
@@ -154,15 +155,20 @@ def write_circuit(circuit: Circuit, path: str | Path, fmt: str | None = None, **
 
 
 def read_text(path: str | Path, what: str) -> str:
+    """The UTF-8 text of a file (a byte-order mark at the start is dropped), refused before it is
+    read when larger than :data:`~exactsyn.io.limits.MAX_FILE_BYTES`."""
     p = Path(path)
     try:
-        raw = p.read_bytes()
+        with open(p, "rb") as fh:
+            check_file_size(os.fstat(fh.fileno()).st_size, f"{what} {p}")
+            raw = fh.read(MAX_FILE_BYTES + 1)
     except IsADirectoryError:
         raise ExactsynError(f"{what} {p} is a directory") from None
     except OSError as e:
         raise ExactsynError(f"cannot read {what} {p}: {e.strerror}") from None
+    check_file_size(len(raw), f"{what} {p}")  # a pipe or a device has no size to stat
     try:
-        return raw.decode("utf-8")
+        return raw.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise ExactsynError(f"{what} {p} is not UTF-8 text") from None
 
@@ -212,9 +218,9 @@ def _refuse_non_circuit(kind: str, text: str, where: str) -> None:
         )
     if kind == "json":
         try:
-            data = json.loads(text)
-        except (json.JSONDecodeError, RecursionError):
-            return  # the JSON reader names the position
+            data = load_json(text, where)
+        except ExactsynError:
+            return  # the JSON reader says what is wrong
         if isinstance(data, dict) and data.get("format") == "exactsyn-certificate":
             raise ExactsynError(
                 f"{where} is a certificate's result.json, not a circuit: check it with 'exactsyn check'"
