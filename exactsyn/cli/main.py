@@ -66,6 +66,16 @@ def click_message(e: click.ClickException) -> str:
     return text
 
 
+#: What an out-of-memory failure advises, by command (nothing where no option would help).
+OUT_OF_MEMORY_ADVICE = {
+    "synth": "try fewer lines, a smaller --library or --bounds cheap",
+    "batch": "try fewer --jobs, a smaller --library or --bounds cheap",
+    "apply": "give --inputs for fewer rows",
+    "optimise": "try a smaller --window",
+    "tables": "'exactsyn tables build --help' says how much memory a build needs",
+}
+
+
 class _Stopped(Exception):
     """A :class:`KeyboardInterrupt` carried past click, which would print a blank line for it."""
 
@@ -76,6 +86,15 @@ class _Stopped(Exception):
 
 class OneLineGroup(click.Group):
     """A click group whose every error is one line on stderr (module docstring)."""
+
+    running = ""  # the command being run, for advice that depends on it
+
+    def resolve_command(
+        self, ctx: click.Context, args: list[str]
+    ) -> tuple[str | None, click.Command | None, list[str]]:
+        name, command, rest = super().resolve_command(ctx, args)
+        OneLineGroup.running = name or ""
+        return name, command, rest
 
     def invoke(self, ctx: click.Context) -> Any:
         try:
@@ -123,7 +142,8 @@ class OneLineGroup(click.Group):
             where = f" {e.filename}" if e.filename else ""
             _say(f"cannot use{where}: {e.strerror or e}", 2)
         except MemoryError:
-            _say("out of memory; try fewer lines, a smaller --library or --bounds cheap", 1)
+            advice = OUT_OF_MEMORY_ADVICE.get(OneLineGroup.running, "")
+            _say("out of memory" + (f"; {advice}" if advice else ""), 1)
         except Exception as e:  # a bug: one line, not a traceback, unless asked
             if isinstance(e, _Stopped):
                 raise
