@@ -10,6 +10,7 @@ import errno
 import json
 import os
 import random
+import re
 import signal
 import sqlite3
 import subprocess
@@ -84,6 +85,18 @@ def test_two_processes_run_the_same_batch_on_one_store(tmp_path: Path) -> None:
         assert p.returncode == 0, err
     assert_store_exact(store, 80)
     assert list(members(store).values()) == [80]  # one batch, each member once
+    # the two processes claimed items from the store: together they solved each item once
+    ran = [int(re.search(r"this run: (\d+) item", out).group(1)) for out, _ in outs]  # type: ignore[union-attr]
+    assert sum(ran) == 80, [out for out, _ in outs]
+    assert_no_claims(store)
+
+
+def assert_no_claims(store: Path) -> None:
+    con = sqlite3.connect(store, timeout=60)
+    try:
+        assert con.execute("SELECT count(*) FROM claims").fetchone()[0] == 0  # every claim given back
+    finally:
+        con.close()
 
 
 def test_two_processes_run_overlapping_batches_on_one_store(tmp_path: Path) -> None:
@@ -123,6 +136,7 @@ def test_kill_9_at_random_moments_then_resume_gives_the_exact_table(tmp_path: Pa
     resumed = subprocess.run([*args, "--verify"], capture_output=True, text=True, timeout=300)
     assert resumed.returncode == 0, resumed.stderr + resumed.stdout
     assert_store_exact(store, n)
+    assert_no_claims(store)  # the claims of the killed processes were taken over and given back
     # A kill between placing a certificate and committing its row leaves a directory no row
     # points to (the rename is inside the row's transaction, so never the other way round);
     # the next run sweeps such strays when it starts: none may be left now.
@@ -136,6 +150,31 @@ def test_kill_9_at_random_moments_then_resume_gives_the_exact_table(tmp_path: Pa
     want = Counter(bfs.size(json.loads(str(r["outputs"]))) for r in rows(store))
     for size, count in want.items():
         assert f"{size:>5}  {count:>10}" in table.stdout, table.stdout
+
+
+def test_a_claim_is_held_while_its_lease_runs_and_its_process_lives(tmp_path: Path) -> None:
+    store = tmp_path / "c.sqlite"
+    needs = lambda key, state: state[0] != "done"  # noqa: E731
+    with Store(store) as a, Store(store) as b:
+        assert a.claim(["k1", "k2"], needs) == {"k1": "claimed", "k2": "claimed"}
+        assert b.claim(["k1", "k3"], needs) == {"k1": "held", "k3": "claimed"}
+        assert a.claim(["k1"], needs) == {"k1": "claimed"}  # its own claim: renewed
+        with a.transaction():  # a process on another host whose lease ran out
+            a._db.execute("UPDATE claims SET owner = 'elsewhere:1:x', expires = ? WHERE key = 'k2'", (time.time() - 1,))
+        assert b.claim(["k2"], needs) == {"k2": "claimed"}
+        with a.transaction():  # a process on this host that is gone (no such process id)
+            a._db.execute(
+                "UPDATE claims SET owner = ?, expires = ? WHERE key = 'k1'",
+                (f"{a.owner.split(':')[0]}:{2**22 + 12345}:x", time.time() + 60),
+            )
+        assert b.claim(["k1"], needs) == {"k1": "claimed"}
+        with a.transaction():  # a live process on another host: held until its lease ends
+            a._db.execute(
+                "UPDATE claims SET owner = 'elsewhere:1:x', expires = ? WHERE key = 'k3'", (time.time() + 60,)
+            )
+        assert a.claim(["k3"], needs) == {"k3": "held"}
+        b.release_claims()
+        assert a.claim(["k1", "k2"], lambda key, state: False) == {"k1": "finished", "k2": "finished"}
 
 
 def test_a_full_disk_while_writing_certificates_loses_no_stored_result(

@@ -143,6 +143,8 @@ def test_batch_stops_in_one_line_with_what_it_kept_and_its_workers(tmp_path: Pat
     con = sqlite3.connect(tmp_path / "s.sqlite")
     try:
         statuses = {s for (s,) in con.execute("SELECT status FROM results")}
+        claims = con.execute("SELECT count(*) FROM claims").fetchone()[0]
     finally:
         con.close()
     assert statuses <= {"done", "timeout"}  # an interrupted item is never recorded as failed
+    assert claims == 0  # the claims of the items in flight are given back
