@@ -60,6 +60,7 @@ from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Literal
+from urllib.parse import quote
 
 from exactsyn.batch.task import Outcome
 from exactsyn.errors import ExactsynError
@@ -197,21 +198,29 @@ class StatusCounts:
 
 
 class Store:
-    """An open results store.  Use as a context manager, or call :meth:`close`."""
+    """An open results store.  Use as a context manager, or call :meth:`close`.
 
-    def __init__(self, path: str | Path, *, create: bool = True) -> None:
+    ``create=False`` needs an existing store; ``readonly=True`` (the commands that only read:
+    ``table``, ``report``) opens it read-only, so it is never created or changed.
+    """
+
+    def __init__(self, path: str | Path, *, create: bool = True, readonly: bool = False) -> None:
         self.path = Path(path)
+        self.readonly = readonly
         self.owner = f"{_host()}:{os.getpid()}:{secrets.token_hex(4)}"  # whose claims are whose
-        if not create and not self.path.is_file():
-            raise ExactsynError(f"no results store at {self.path}")
         if self.path.exists() and not self.path.is_file():
             raise ExactsynError(f"results store {self.path} is not a file")
+        if (readonly or not create) and not self.path.is_file():
+            raise ExactsynError(f"no results store at {self.path}")
+        if readonly and self.path.stat().st_size == 0:
+            raise ExactsynError(f"{self.path} is an empty file, not a results store ('exactsyn batch' makes one)")
+        if not readonly:
+            self._check_folder()
         try:
-            self.path.parent.mkdir(parents=True, exist_ok=True)
-            self._db = sqlite3.connect(self.path, timeout=60, isolation_level=None)
+            self._db = self._connect()
             self._db.row_factory = sqlite3.Row
             self._db.execute("PRAGMA busy_timeout = 60000")
-            mode = self._db.execute("PRAGMA journal_mode = WAL").fetchone()[0]
+            mode = "wal" if readonly else self._db.execute("PRAGMA journal_mode = WAL").fetchone()[0]
             self._db.execute("PRAGMA synchronous = NORMAL")
             self._init()
         except sqlite3.DatabaseError as e:
@@ -221,18 +230,46 @@ class Store:
         if str(mode).lower() != "wal":
             raise ExactsynError(f"results store {self.path}: the file system does not allow WAL mode")
 
+    def _check_folder(self) -> None:
+        """The store's folder must exist and be writable (SQLite keeps its log files beside the store)."""
+        folder = self.path.parent
+        if not folder.is_dir():
+            raise ExactsynError(
+                f"cannot use results store {self.path}: the folder {folder} does not exist (create it first)"
+            )
+        probe = folder / f".{self.path.name}.probe-{os.getpid()}-{secrets.token_hex(4)}"
+        try:  # a real write: permission bits do not tell (an administrator, a read-only mount)
+            probe.touch(exist_ok=False)
+            probe.unlink()
+        except OSError as e:
+            raise ExactsynError(
+                f"cannot use results store {self.path}: its folder {folder} is not writable "
+                f"({path_problem(folder, e)}; SQLite writes its log files beside the store, and certificates "
+                "go there too); choose a store in a writable folder"
+            ) from None
+
+    def _connect(self) -> sqlite3.Connection:
+        if not self.readonly:
+            return sqlite3.connect(self.path, timeout=60, isolation_level=None)
+        uri = f"file:{quote(str(self.path.resolve()))}?mode=ro"
+        if not os.access(self.path.parent, os.W_OK):
+            uri += "&immutable=1"  # no log files can be made there, so no writer can be at work either
+        return sqlite3.connect(uri, uri=True, timeout=60, isolation_level=None)
+
     # ------------------------------------------------------------ life cycle
     def _init(self) -> None:
         tables = {r[0] for r in self._db.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
         if tables and "meta" not in tables:
             raise ExactsynError(f"{self.path} is an SQLite file but not an exactsyn results store")
+        if not tables and self.readonly:
+            raise ExactsynError(f"{self.path} holds no results store ('exactsyn batch' makes one)")
         if "meta" in tables:
             meta = dict(self._db.execute("SELECT name, value FROM meta").fetchall())
             if meta.get("format") != FORMAT:
                 raise ExactsynError(f"{self.path} is an SQLite file but not an exactsyn results store")
             if meta.get("schema_version") != str(SCHEMA_VERSION):
                 raise ExactsynError(f"results store schema {meta.get('schema_version')} is not supported")
-            if "claims" not in tables:
+            if not self.readonly and "claims" not in tables:
                 self._db.execute(_CLAIMS)
             return
         with self.transaction():

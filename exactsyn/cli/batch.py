@@ -265,7 +265,7 @@ def table(
     """
 
     try:
-        with Store(store_path, create=False) as store:
+        with Store(store_path, readonly=True) as store:
             if list_batches:
                 for b in store.batches():
                     label = b.description.get("label", "")

@@ -8,13 +8,73 @@ empty, a missing store is not created.  A store whose folder cannot be written s
 
 from __future__ import annotations
 
+import os
+import sqlite3
 from pathlib import Path
 
 import pytest
+from click.testing import CliRunner
 
 from exactsyn.cli import main
 
 PERM = "1,0,3,2"
+
+
+def invoke(*args: str) -> tuple[int, str, str]:
+    r = CliRunner().invoke(main, list(args))
+    return r.exit_code, r.stdout, r.stderr
+
+
+def one_line(code: int, err: str) -> str:
+    assert code == 2, err
+    assert err.count("\n") == 1 and err.startswith("exactsyn: error: "), err
+    return err
+
+
+@pytest.mark.parametrize("command", [["table"], ["table", "--list"], ["report", "-o", "r.html"]])
+def test_read_only_commands_never_create_or_change_a_store(tmp_path: Path, command: list[str]) -> None:
+    empty = tmp_path / "empty.sqlite"
+    empty.write_bytes(b"")
+    err = one_line(*invoke(*command, "--store", str(empty))[::2])
+    assert "empty" in err and empty.stat().st_size == 0
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["empty.sqlite"]  # no -wal, -shm or .certs
+    missing = tmp_path / "none.sqlite"
+    one_line(*invoke(*command, "--store", str(missing))[::2])
+    assert not missing.exists()
+
+
+def test_reading_a_store_leaves_its_bytes_alone(tmp_path: Path) -> None:
+    store = tmp_path / "s.sqlite"
+    assert invoke("batch", "--every", "1", "--store", str(store), "-q")[0] == 0
+    con = sqlite3.connect(store)
+    con.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    con.close()
+    before = store.read_bytes()
+    for command in (["table"], ["table", "--list"]):
+        code, out, err = invoke(*command, "--store", str(store))
+        assert code == 0, err
+    assert store.read_bytes() == before  # (SQLite may add its shared-memory file beside a WAL store)
+
+
+def _unwritable_folder(tmp_path: Path) -> Path:
+    """A folder this process cannot write in, tested by writing (permission bits do not tell an administrator)."""
+    candidates = [tmp_path / "ro"]
+    candidates[0].mkdir()
+    os.chmod(candidates[0], 0o555)
+    candidates += [Path("/sys"), Path("/proc")]
+    for folder in candidates:
+        try:
+            (folder / ".exactsyn-probe").touch()
+        except OSError:
+            return folder
+        (folder / ".exactsyn-probe").unlink()
+    pytest.skip("no folder here refuses writes")
+
+
+def test_a_store_in_an_unwritable_folder_names_the_cause(tmp_path: Path) -> None:
+    folder = _unwritable_folder(tmp_path)
+    err = one_line(*invoke("batch", "--every", "1", "--store", str(folder / "s.sqlite"), "-q")[::2])
+    assert f"folder {folder} is not writable" in err and "unable to open database file" not in err
 
 
 def test_out_of_memory_advice_fits_the_command(
