@@ -101,9 +101,21 @@ def path_problem(path: str | Path, error: OSError) -> str:
     return error.strerror or str(error)
 
 
+def output_path(path: str | Path) -> Path:
+    """Where writing ``path`` puts the data: the file a symbolic link names, else ``path`` itself.
+
+    The rule of every output (``-o``, ``--certificate``, ``--dimacs``, ``--csv``, ``--json``,
+    ``--chart``, ``--store``): a command creates the file or directory it is asked to write,
+    never the folders above it; it writes through a symbolic link, never replacing the link;
+    and it writes under a temporary name first, renamed into place when complete.
+    """
+    p = Path(path)
+    return p.resolve() if p.is_symlink() else p
+
+
 def check_writable(path: str | Path, what: str = "output file") -> None:
     """Fail now, before any work, when ``path`` cannot be written (by creating and removing its temporary file)."""
-    p = Path(path)
+    p = output_path(path)
     if p.is_dir():
         raise ExactsynError(f"{what} {p} is a directory")
     tmp = p.with_name(p.name + ".tmp")
@@ -121,9 +133,10 @@ def write_data(data: str | bytes, path: str | Path, check: Callable[[Path], None
     """Write text or bytes atomically (a temporary file renamed into place).
 
     ``check(temporary_path)`` runs on the written temporary file before it is renamed: when
-    it raises, the temporary file is removed and nothing is left at ``path``.
+    it raises, the temporary file is removed and nothing is left at ``path``.  A symbolic link
+    is written through (:func:`output_path`).
     """
-    p = Path(path)
+    p = output_path(path)
     tmp = p.with_name(p.name + ".tmp")
     try:
         if isinstance(data, bytes):

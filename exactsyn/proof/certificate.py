@@ -234,7 +234,7 @@ def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | 
     ``objective`` is given when the run optimised more than the gate count.
     """
     try:
-        directory.mkdir(parents=True, exist_ok=True)
+        directory.mkdir(exist_ok=True)
     except OSError as e:
         raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
     circuit = res.circuit
@@ -274,7 +274,7 @@ def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | 
 def proof_writer(directory: Path) -> ProofSink:
     """A proof sink that stores each refutation as ``<stem>.lrat.gz`` in ``directory``."""
     try:
-        directory.mkdir(parents=True, exist_ok=True)
+        directory.mkdir(exist_ok=True)
     except OSError as e:
         raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
 
@@ -345,4 +345,3 @@ def open_proof(directory: Path, name: str, clauses: int) -> ProofStream:
     if Path(name).name != name:
         raise ExactsynError(f"certificate: proof name {name!r} must be a plain file name")
     return ProofStream(directory / name, proof_limit(clauses))
-

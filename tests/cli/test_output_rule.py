@@ -31,6 +31,42 @@ def one_line(code: int, err: str) -> str:
     return err
 
 
+def test_output_through_a_symbolic_link_keeps_the_link(tmp_path: Path) -> None:
+    real = tmp_path / "real.qasm"
+    real.write_text("")
+    link = tmp_path / "link.qasm"
+    link.symlink_to(real.name)
+    code, _, err = invoke("synth", "--perm", PERM, "-q", "-o", str(link))
+    assert code == 0, err
+    assert link.is_symlink() and link.resolve() == real.resolve()
+    assert real.read_text().startswith("OPENQASM")
+
+
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["synth", "--perm", PERM, "-q", "-o", "{d}/c.qasm"],
+        ["synth", "--perm", PERM, "-q", "--certificate", "{d}/cert"],
+        ["synth", "--perm", PERM, "-q", "--dimacs", "{d}/cnf"],
+    ],
+)
+def test_no_output_creates_the_folders_above_it(tmp_path: Path, args: list[str]) -> None:
+    missing = tmp_path / "missing"
+    one_line(*invoke(*[a.format(d=missing) for a in args])[::2])
+    assert not missing.exists()
+
+
+def test_table_chart_and_files_follow_the_same_rule(tmp_path: Path) -> None:
+    store = tmp_path / "s.sqlite"
+    assert invoke("batch", "--every", "1", "--store", str(store), "-q")[0] == 0
+    missing = tmp_path / "missing"
+    for opt, name in (("--chart", "c"), ("--csv", "t.csv"), ("--json", "t.json")):
+        one_line(*invoke("table", "--store", str(store), opt, str(missing / name))[::2])
+    assert not missing.exists()
+    code, _, err = invoke("table", "--store", str(store), "--chart", str(tmp_path / "c"))
+    assert code == 0 and (tmp_path / "c.png").stat().st_size > 0 and (tmp_path / "c.svg").stat().st_size > 0, err
+
+
 @pytest.mark.parametrize("command", [["table"], ["table", "--list"], ["report", "-o", "r.html"]])
 def test_read_only_commands_never_create_or_change_a_store(tmp_path: Path, command: list[str]) -> None:
     empty = tmp_path / "empty.sqlite"
