@@ -43,6 +43,7 @@ from exactsyn.sat.encode import CostLimit, EncodingOptions
 from exactsyn.sat.options import DEFAULT_OPTIONS, Hooks, Observer, SearchOptions, search_options
 from exactsyn.sat.query import Query
 from exactsyn.search.all_optima import Enumeration, enumerate_optimal
+from exactsyn.search.events import SearchEvent
 from exactsyn.search.fallback import Suggestion, next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import ObjectiveResult, optimise
@@ -306,11 +307,14 @@ def _run(
         if not gates.optimal:
             notes.append("the gate count was not proven, so the objective was not optimised")
         else:
+            _announce(hooks, "objective-start", request.objective)
             obj = optimise(request.objective, gates, model, options, hooks, time_limit=left(0.1))
     written = None
     if work is not None and request.certificate is not None:
         write_result(work, gates, obj)
         written = staging.publish(work, request.certificate)
+    if request.optima is not None and gates.optimal:
+        _announce(hooks, "optima-start", request.optima)
     listing = _list_optima(request, gates, obj, left(0.0), notes)
     circuit = gates.circuit if obj is None else obj.circuit
     optimal = gates.optimal if obj is None else obj.optimal
@@ -330,6 +334,12 @@ def _run(
         seconds=time.perf_counter() - start,
         suggestions=suggestions,
     )
+
+
+def _announce(hooks: Hooks, phase: str, detail: str) -> None:
+    """Tell the observer a step after the gate search begins (:mod:`exactsyn.search.events`)."""
+    if hooks.observer is not None:
+        hooks.observer(SearchEvent(phase, detail=detail))
 
 
 def _gate_notes(gates: GateResult) -> list[str]:

@@ -59,7 +59,10 @@ TABLE_ORDER = ("nct", "mct", "mixed")
 #: The line count whose missing tables the search suggests building (:data:`HINT`).
 HINT_LINES = 4
 #: The one line the search adds when a class table would have answered but none is cached.
-HINT = "4-line functions are settled in seconds once the class tables exist: run `exactsyn tables build` once"
+HINT = (
+    "4-line functions are settled in seconds once the class tables exist: "
+    "run `exactsyn tables build --library {library}` once"
+)
 #: A cached class table at least this deep reaches further than any distance table (12 gates at most).
 DEEP_CLASS_TABLE = 6
 
