@@ -339,4 +339,5 @@ def _list_optima(
         limit=request.optima_limit,
         time_limit=left,
         solver=request.search.solver,
+        tables=request.search.bounds == "table",
     )

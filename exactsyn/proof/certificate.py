@@ -34,7 +34,10 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     ``nonaffine_extra``, and ``queries``: ``kind`` (``cost`` or ``depth``), ``k`` (gates,
     or layers for depth), ``limit`` (cost limit or null), ``status``, ``proof``,
     ``proof_format`` (``lrat``), ``cnf_sha256``, ``num_vars``, ``num_clauses``,
-    ``seconds``, ``conflicts``, ``proof_bytes``.
+    ``seconds``, ``conflicts``, ``proof_bytes``; or, for a least cost among minimum-gate
+    circuits found by the descent over a class table (:mod:`exactsyn.tables.descent`), no
+    queries and ``class_table`` (as the gate part's, ``value`` being the cost), re-derived by
+    :func:`exactsyn.tables.verify.check_cost_claim`.
 ``k<k>.lrat.gz``, ``cost-k<k>-c<limit>.lrat.gz``, ``depth-k<d>.lrat.gz``, ``k<k>-c<i>.lrat.gz``
     the gzip-compressed LRAT refutation (text) of a query or of one cube, clause ids
     ``1..m`` being the clauses of the re-derived CNF in order (a cube's clauses follow)
@@ -224,6 +227,7 @@ def objective_to_dict(res: ObjectiveResult) -> dict[str, Any]:
         "bound": res.bound,
         "nonaffine_extra": res.nonaffine_extra,
         "queries": [objective_query_to_dict(q) for q in res.queries],
+        "class_table": None if res.class_table is None else res.class_table.to_dict(),
     }
 
 

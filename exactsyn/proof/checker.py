@@ -332,7 +332,57 @@ def _check_objective(
         )
         return
     assert costs is not None
+    if d.get("class_table") is not None:
+        _objective_table_claim(d["class_table"], name, costs, circuit, value, k_star, spec, library, note)
+        return
     _objective_cost_claim(d, name, costs, circuit, value, k_star, refuted, spec, library, note)
+
+
+def _objective_table_claim(
+    raw: Any,
+    name: str,
+    costs: tuple[int, ...],
+    circuit: Circuit,
+    value: int,
+    k_star: int | None,
+    spec: Spec,
+    library: Library,
+    note: Note,
+) -> None:
+    """A least cost among minimum-gate circuits proven by the descent over a class table,
+    re-run by the separate checker (:func:`exactsyn.tables.verify.check_cost_claim`)."""
+    try:
+        table, content_hash, lines = str(raw["library"]), str(raw["content_hash"]), _claim_lines(raw)
+        claimed = json_int(raw["value"])
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'class_table' of the objective") from None
+    if name != "gates-then-cost" or claimed != value or not spec.is_permutation or lines != spec.lines:
+        note("objective optimal", False, "a class-table descent proves gates-then-cost of a full permutation only")
+        return
+    if set(library.gates) != set(make_library(table, lines).gates):
+        note("objective optimal", False, f"the {table} table does not answer for library {library.name}")
+        return
+    if k_star is None or len(circuit) != k_star:
+        note("objective optimal", False, "the gate part does not prove the circuit's gate count minimal")
+        return
+    from exactsyn.tables import verify
+
+    order = [library.gates.index(g) for g in make_library(table, lines).gates]
+    table_costs = [costs[i] for i in order]  # the table's gates in its own library order
+    try:
+        rep = verify.check_cost_claim(table, spec.permutation, k_star, table_costs, value,
+                                      content_hash=content_hash, lines=lines)  # fmt: skip
+    except ExactsynError as e:
+        note("objective optimal", False, e.message)
+        return
+    if rep.ok:
+        option = "" if lines == 4 else f" --lines {lines}"
+        verify_it = f"exactsyn tables verify --library {table}{option}"
+        trust = "table verified" if rep.table_verified else f"table trusted: `{verify_it}`"
+        note("objective optimal", True, f"cost {value} is the least among {k_star}-gate circuits: the descent over "
+             f"the {lines}-line {table} table re-run ({rep.seconds:.2f} s; {trust})")  # fmt: skip
+    else:
+        note("objective optimal", False, "; ".join(rep.problems))
 
 
 def _objective_circuit(

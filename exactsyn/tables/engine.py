@@ -261,3 +261,48 @@ def load(library: str = "mct", cache: Path | None = None, verify_hashes: bool = 
     if manifest["gate_keys"] != [gs.layout.hex(k) for k in gs.keys]:
         raise ExactsynError(f"the cached {gs.library} table was built for other gates; {hint}")
     return Tables(directory, manifest, gs)
+
+
+class TableLookup:
+    """The :class:`exactsyn.tables.descent.Lookup` of a loaded table, with the compiled kernels."""
+
+    def __init__(self, table: Tables) -> None:
+        self.table = table
+        self.layout = table.layout
+        self.depth = table.depth
+        self.identity = table.layout.identity
+        self.gate_keys = tuple(int(k) for k in table.gates.keys)
+
+    def compose(self, f: int, a: int) -> int:
+        return self.layout.compose(f, a)
+
+    def inverse(self, key: int) -> int:
+        return self.layout.inverse(key)
+
+    def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
+        if not keys:
+            return []
+        if not 0 <= level <= self.depth:
+            return [False] * len(keys)
+        got = self.table.levels_of(self.layout.array(keys), [level])
+        return [bool(v == level) for v in got]
+
+    def split(self, f: int, level: int) -> frozenset[int]:
+        """Scan every class of ``level``; each class with a hit contributes its members ``A``."""
+        lay, t = self.layout, self.table
+        K = lay.kernels()
+        conj = lay.array(sorted({lay.conjugate(f, s) for s in lay.relabellings}))
+        top = t.levels[self.depth]
+        reps = t.levels[level].vals
+        hits: list[int] = []
+        out = np.empty(min(SCAN_BLOCK, max(1, len(reps))), dtype=np.int64)
+        for start in range(0, len(reps), SCAN_BLOCK):
+            stop = min(len(reps), start + SCAN_BLOCK)
+            o = out[: stop - start]
+            K.scan(reps, start, stop, conj, top.vals, top.index, top.shift, o)
+            found = np.flatnonzero(o >= 0)
+            if len(found):
+                hits += lay.ints(K.unmix_many(reps[start + found]))
+        members = sorted({m for a in hits for m in lay.class_members(a)})
+        rests = [lay.compose(f, lay.inverse(a)) for a in members]
+        return frozenset(a for a, ok in zip(members, self.at_level(rests, self.depth), strict=True) if ok)

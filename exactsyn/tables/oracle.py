@@ -38,6 +38,7 @@ import numpy as np
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library
+from exactsyn.tables.descent import Descent, commutation
 from exactsyn.tables.distance import (
     WHOLE_GROUP_DEPTH,
     DistanceTable,
@@ -216,6 +217,21 @@ class ClassOracle:
             return None
         ans = self.table.synthesise(perm)
         return None if ans.gates is None else tuple(ans.gates)
+
+    def descent(self, perm: tuple[int, ...], gates: int, deadline: float | None = None) -> Descent | None:
+        """Every optimal circuit of ``perm`` (which needs ``gates`` gates) as a DAG of descents
+        (:mod:`exactsyn.tables.descent`); None for a table that only bounds the library."""
+        if self._library is None:
+            return None
+        from exactsyn.tables.engine import TableLookup  # numba loads with the first table
+
+        lookup = TableLookup(self.table)
+        return Descent(lookup, self.table.layout.pack(perm), gates, commutation(lookup), deadline)
+
+    def claim(self, value: int, method: str, seconds: float = 0.0) -> ClassTableClaim:
+        """The claim a certificate records for ``value`` proven exactly from this table."""
+        t = self.table
+        return ClassTableClaim(self.name, t.depth, t.content_hash, value, True, method, seconds, self.lines)
 
 
 # ----------------------------------------------------------------------------- distance tables

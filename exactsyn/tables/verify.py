@@ -34,10 +34,15 @@ in levels ``0..L−1`` (all ``2·n!`` members of each class).  Closure alone mak
 proof: a circuit of ``d' < d`` gates would split into ``A`` (its first ``max(0, d'−R)``
 gates, in a level ``≤ L − 1``) and ``f∘A⁻¹`` (at most ``R`` gates, in some level).
 
+**check_cost_claim** re-runs the descent over every optimal circuit
+(:mod:`exactsyn.tables.descent`) for a least cost among them, asking this module's lookups
+(:class:`CheckLookup`) for every distance.
+
 Trusted: numpy, hashlib, the Python interpreter, the project's gate definitions, and
-this file with :mod:`~exactsyn.tables.verify_keys`; the claim check also trusts that the
-table passed :func:`verify_table` (it says whether this table's content hash has a
-verification stamp).
+this file with :mod:`~exactsyn.tables.verify_keys`; the cost check also trusts the descent's
+recursion (plain Python, shared with the search: it asks its lookup for every table fact);
+the claim checks trust that the table passed :func:`verify_table` (they say whether this
+table's content hash has a verification stamp).
 """
 
 from __future__ import annotations
@@ -575,3 +580,100 @@ def check_claim(
         seconds=time.perf_counter() - t0,
         problems=tuple(problems),
     )
+
+
+# ----------------------------------------------------------------------------- descent claims
+class CheckLookup:
+    """The :class:`exactsyn.tables.descent.Lookup` of a table's files, with this module's numpy
+    keys: the descent re-run by the checker asks nothing of the engine or its kernels."""
+
+    def __init__(self, directory: Path, lines: int) -> None:
+        self.directory, self.lines = directory, lines
+        self.K, self.manifest, self.levels = _open(str(directory), lines)
+        self.depth = len(self.levels) - 1
+        self.identity = self.K.identity
+        self.gate_keys = tuple(_library_keys(str(self.manifest["library"]), self.K)[1])
+
+    def compose(self, f: int, a: int) -> int:
+        n, mask = self.lines, (1 << self.lines) - 1
+        return sum(((f >> (n * ((a >> (n * i)) & mask))) & mask) << (n * i) for i in range(1 << n))
+
+    def inverse(self, key: int) -> int:
+        n, mask = self.lines, (1 << self.lines) - 1
+        return sum(i << (n * ((key >> (n * i)) & mask)) for i in range(1 << n))
+
+    def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
+        if not keys:
+            return []
+        if not 0 <= level <= self.depth:
+            return [False] * len(keys)
+        found, _ = self.levels[level].find(mix(self.K.canonical(arr(keys))))
+        return [bool(v) for v in found]
+
+    def split(self, f: int, level: int) -> frozenset[int]:
+        """Every member ``A`` of every class of ``level`` with ``f∘A⁻¹`` in the top level."""
+        K, top = self.K, self.levels[self.depth]
+        out: set[int] = set()
+        vals = self.levels[level].vals
+        for s in range(0, len(vals), CHUNK):
+            for members in K.transforms(unmix(vals[s : s + CHUNK])):
+                rest = K.compose(arr([f]), K.inverse(members))
+                found, _ = top.find(mix(K.canonical(rest)))
+                out.update(int(v) for v in members[found])
+        return frozenset(out)
+
+
+def check_cost_claim(
+    library: str,
+    perm: Sequence[int],
+    gate_count: int,
+    costs: Sequence[int],
+    value: int,
+    cache: Path | None = None,
+    content_hash: str | None = None,
+    lines: int = 4,
+) -> ClaimCheck:
+    """Re-check that ``value`` is the least cost (``costs[j]`` per library gate) among the
+    circuits of ``gate_count`` gates of ``perm``, by re-running the descent
+    (:mod:`exactsyn.tables.descent`) over the table's files with this module's keys.
+    That ``gate_count`` is the optimum is a separate claim (:func:`check_claim`)."""
+    from exactsyn.tables.descent import Descent, commutation
+
+    t0 = time.perf_counter()
+    directory = _directory(library, cache, lines)
+    lookup = CheckLookup(directory, lines)
+    manifest = lookup.manifest
+    problems: list[str] = []
+    if content_hash is not None and manifest.get("content_hash") != content_hash:
+        problems.append("the cached table is not the one the claim names (content hash differs)")
+    problems += _file_problems(directory, manifest, None)
+    problems += [p for j, lv in enumerate(lookup.levels) if (p := _index_problem(j, lv))]
+    if len(costs) != len(lookup.gate_keys):
+        problems.append("one cost per library gate is needed")
+    if not problems:
+        f = lookup.K.pack(tuple(int(v) for v in perm))
+        try:
+            got = Descent(lookup, f, gate_count, commutation(lookup)).cheapest(costs)
+        except ExactsynError as e:
+            problems.append(e.message)
+        else:
+            if got != value:
+                problems.append(f"the least cost among {gate_count}-gate circuits is {got}, not {value}")
+    return ClaimCheck(
+        ok=not problems,
+        library=library,
+        gate_count=gate_count,
+        content_hash=str(manifest.get("content_hash")),
+        table_verified=_stamped(directory, manifest),
+        tests=0,
+        seconds=time.perf_counter() - t0,
+        problems=tuple(problems),
+    )
+
+
+def _stamped(directory: Path, manifest: dict[str, Any]) -> bool:
+    try:
+        stamp = json.loads((directory / STAMP).read_text())
+    except (OSError, ValueError):
+        return False
+    return bool(stamp.get("content_hash") == manifest.get("content_hash"))
