@@ -95,17 +95,16 @@ def test_cost_count_and_listing_equal_breadth_first_search(mct6, bfs4) -> None: 
         assert {trace_normal_form(w, MCT4) for w in descent.circuits(ncv)} == cheapest
 
 
-def test_beyond_the_table_depth_the_split_gives_the_same_counts(mct6) -> None:  # type: ignore[no-untyped-def]
-    # Depth-6 table, functions of 7-9 gates (split at level 1-3) against the same descent
-    # on the dictionary BFS of the distance-table module's rows (exactsyn.tables.distance,
-    # depth 5, and meet in the middle for the distances) is not independent; instead compare
-    # with the SAT path, which knows nothing of tables.
+@pytest.mark.parametrize("count", [pytest.param(1), pytest.param(4, marks=pytest.mark.slow)])
+def test_beyond_the_table_depth_the_split_gives_the_same_counts(mct6, count: int) -> None:  # type: ignore[no-untyped-def]
+    # Depth-6 table, functions of 7-8 gates (split at level 1-2), against the SAT path,
+    # which knows nothing of tables: the same number of classes, the same least NCV cost.
     lookup = TableLookup(mct6)
     commute = commutation(lookup)
     rng = random.Random(5)
     tried = 0
-    while tried < 3:
-        f = _random_function(rng, 8)
+    while tried < count:
+        f = _random_function(rng, 7 + tried % 2)
         ans = mct6.synthesise(f)
         if ans.gate_count is None or ans.gate_count <= mct6.depth:
             continue
@@ -134,13 +133,17 @@ def test_the_checker_re_derives_the_least_cost_with_its_own_lookups(mct6, table_
     assert not check_cost_claim("mct", f, d, ncv, value - 1, cache=table_cache).ok
 
 
+@pytest.mark.parametrize(
+    ("gates", "models"),
+    [pytest.param(5, ("t-count",)), pytest.param(8, ("ncv", "t-count", "cnot-count"), marks=pytest.mark.slow)],
+)
 def test_gates_then_cost_from_the_table_through_the_api_with_a_certificate(
-    table_cache: Path, monkeypatch: pytest.MonkeyPatch, tmp_path: Path
+    table_cache: Path, monkeypatch: pytest.MonkeyPatch, tmp_path: Path, gates: int, models: tuple[str, ...]
 ) -> None:
     monkeypatch.setenv("EXACTSYN_CACHE", str(table_cache))
-    f = _random_function(random.Random(9), 7)
+    f = _random_function(random.Random(9), gates)
     cert = tmp_path / "cert"
-    for model in ("ncv", "t-count", "cnot-count"):
+    for model in models:
         syn = synthesise(list(f), library="mct", objective="gates-then-cost", cost=model, certificate=cert)
         obj = syn.objective_result
         assert obj is not None and obj.optimal and obj.class_table is not None and not obj.queries
