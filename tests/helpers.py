@@ -91,6 +91,24 @@ def naive_bfs(library_gates: list[tuple[int, ...]], size: int) -> dict[tuple[int
     return dist
 
 
+def bfs_upto(library, depth: int) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Every function of at most ``depth`` gates of ``library`` with its gate count (plain dictionary BFS)."""
+    gates = [g.permutation(library.lines) for g in library.gates]
+    start = tuple(range(1 << library.lines))
+    dist = {start: 0}
+    frontier = [start]
+    for _ in range(depth):
+        nxt = []
+        for p in frontier:
+            for g in gates:
+                q = tuple(g[v] for v in p)
+                if q not in dist:
+                    dist[q] = dist[p] + 1
+                    nxt.append(q)
+        frontier = nxt
+    return dist
+
+
 def permutation_matrix(c):  # type: ignore[no-untyped-def]
     """Column i has its 1 in row p[i]: the unitary that maps basis state |i> to |p[i]>."""
     import numpy as np

@@ -14,7 +14,7 @@ import random
 from pathlib import Path
 
 import pytest
-from helpers import edit, naive_bfs, optimal_words, rejected, trace_normal_form
+from helpers import bfs_upto, edit, naive_bfs, optimal_words, rejected, trace_normal_form
 
 from exactsyn.api.synthesis import synthesise
 from exactsyn.core.circuit import Circuit
@@ -36,19 +36,7 @@ NCV = cost_model("ncv")
 @pytest.fixture(scope="module")
 def bfs4() -> dict[tuple[int, ...], int]:
     """Every 4-line MCT function of at most 4 gates with its gate count (about 311,000)."""
-    gates = [g.permutation(4) for g in MCT4.gates]
-    dist = {tuple(range(16)): 0}
-    frontier = [tuple(range(16))]
-    for _ in range(4):
-        nxt = []
-        for p in frontier:
-            for g in gates:
-                q = tuple(g[v] for v in p)
-                if q not in dist:
-                    dist[q] = dist[p] + 1
-                    nxt.append(q)
-        frontier = nxt
-    return dist
+    return bfs_upto(MCT4, 4)
 
 
 def _random_function(rng: random.Random, gates: int) -> tuple[int, ...]:
