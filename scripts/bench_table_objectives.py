@@ -37,6 +37,10 @@ from exactsyn.specification.samples import random_permutation
 
 COST_TABLE = 'NOT = 1\nCNOT = 2\nToffoli = 6\nC3X = 14\n'
 ASKS = ("ncv", "t-count", "cnot-count", "table", "count")
+#: Gate counts in restricted libraries (not in the default set): the mct gates on a chain of
+#: lines (0-1-2-3), whose optimum the mct table bounds and SAT settles from there, and mct
+#: capped at 2 controls (the nct gates: its own table answers).
+REACH = ("chain", "cap2")
 
 
 def hwm() -> int:
@@ -55,6 +59,11 @@ def functions(library: str, n: int, seed: int) -> list[tuple[int, ...]]:
 def ask(perm: tuple[int, ...], library: str, what: str, cost_file: str, time_limit: float | None) -> dict[str, object]:
     """One question through the API: the answer, whether it is proven, and the time."""
     t0 = time.perf_counter()
+    if what in REACH:
+        extra = {"coupling": "chain"} if what == "chain" else {"max_controls": 2}
+        syn = synthesise(list(perm), library=library, time_limit=time_limit, **extra)  # type: ignore[arg-type]
+        return {"value": syn.gate_count, "proven": syn.optimal, "seconds": time.perf_counter() - t0,
+                "gates": syn.gate_count, "lower": syn.lower_bound}  # fmt: skip
     if what == "count":
         syn = synthesise(list(perm), library=library, optima="count", time_limit=time_limit)
         value = None if syn.optima is None else syn.optima.count
@@ -109,7 +118,7 @@ def main() -> None:
     ap.add_argument("--libraries", default="mct,nct")
     ap.add_argument("--n", type=int, default=50, help="functions per library (default 50)")
     ap.add_argument("--seed", type=int, default=2024)
-    ap.add_argument("--asks", default=",".join(ASKS), help=f"comma-separated of {', '.join(ASKS)}")
+    ap.add_argument("--asks", default=",".join(ASKS), help=f"comma-separated of {', '.join(ASKS + REACH)}")
     ap.add_argument("--time-limit", type=float, default=None, help="seconds per question with tables")
     ap.add_argument("--baseline-n", type=int, default=5, help="functions the SAT path is asked too (0: none)")
     ap.add_argument("--baseline-limit", type=float, default=30.0, help="seconds per question on the SAT path")

@@ -65,6 +65,10 @@ class Lookup(Protocol):
 
     def inverse(self, key: int) -> int: ...
 
+    def compose_grid(self, fs: Sequence[int], as_: Sequence[int]) -> list[int]:
+        """``[f∘a for f in fs for a in as_]`` (row by row), vectorised."""
+        ...
+
     def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
         """Is the class of each key in level ``level`` (needs exactly that many gates)?"""
         ...
@@ -109,6 +113,7 @@ class Descent:
         self._traces: dict[tuple[int, ...] | None, dict[int, int]] = {}
         self._cheapest: dict[tuple[int, ...], dict[int, int]] = {}
         self._sequences: dict[int, int] = {lookup.identity: 1}
+        self._inverses: dict[frozenset[int], list[int]] = {}  # the inverses of a split set's members
 
     # ------------------------------------------------------------------ the DAG
     def node(self, h: int) -> _Node:
@@ -149,13 +154,15 @@ class Descent:
         lk = self.lookup
         if t <= lk.depth or n.split is None:
             return [frozenset() if ok else None for ok in lk.at_level(xs, t)]
-        pairs = [(i, a, lk.compose(x, lk.inverse(a))) for i, x in enumerate(xs) for a in sorted(n.split)]
-        oks = lk.at_level([y for _, _, y in pairs], t - self.L)
-        found: list[set[int]] = [set() for _ in xs]
-        for (i, a, _), ok in zip(pairs, oks, strict=True):
-            if ok:
-                found[i].add(a)
-        return [frozenset(s) if s else None for s in found]
+        split = sorted(n.split)
+        inverses = self._inverses.get(n.split)
+        if inverses is None:
+            inverses = self._inverses[n.split] = [lk.inverse(a) for a in split]
+        oks = lk.at_level(lk.compose_grid(xs, inverses), t - self.L)
+        m = len(split)
+        rows = [oks[i * m : (i + 1) * m] for i in range(len(xs))]
+        found = [frozenset(a for a, ok in zip(split, row, strict=True) if ok) for row in rows]
+        return [s if s else None for s in found]
 
     # ------------------------------------------------------------------ programmes
     def sequences(self, h: int | None = None) -> int:

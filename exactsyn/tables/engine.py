@@ -279,6 +279,18 @@ class TableLookup:
     def inverse(self, key: int) -> int:
         return self.layout.inverse(key)
 
+    def compose_grid(self, fs: Sequence[int], as_: Sequence[int]) -> list[int]:
+        if self.layout.words != 1:
+            return [self.layout.compose(f, a) for f in fs for a in as_]
+        n, m = np.uint64(self.layout.lines), np.uint64(self.layout.size - 1)
+        f = np.asarray(list(fs), dtype=np.uint64)[:, None]
+        a = np.asarray(list(as_), dtype=np.uint64)[None, :]
+        out = np.zeros((f.shape[0], a.shape[1]), dtype=np.uint64)
+        for i in range(self.layout.size):
+            shift = np.uint64(self.layout.lines * i)
+            out |= ((f >> (((a >> shift) & m) * n)) & m) << shift
+        return [int(v) for v in out.ravel()]
+
     def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
         if not keys:
             return []

@@ -602,6 +602,10 @@ class CheckLookup:
         n, mask = self.lines, (1 << self.lines) - 1
         return sum(i << (n * ((key >> (n * i)) & mask)) for i in range(1 << n))
 
+    def compose_grid(self, fs: Sequence[int], as_: Sequence[int]) -> list[int]:
+        grid = self.K.compose(arr(list(fs))[:, None], arr(list(as_))[None, :])
+        return [int(v) for v in grid.ravel()]
+
     def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
         if not keys:
             return []
