@@ -93,9 +93,9 @@ class _Node:
 class Descent:
     """The DAG of the optimal circuits of ``f`` (``d = dist(f)``, known) over ``lookup``'s table.
 
-    ``commute[i][j]``: gates ``i`` and ``j`` commute as permutations.  Nodes are explored on
-    first use and memoised by function.  ``deadline`` (``time.perf_counter()``) raises
-    :class:`OutOfTime` when passed.
+    ``commute[i][j]``: gates ``i`` and ``j`` commute as permutations.  The DAG is built on
+    first use, level by level; ``deadline`` (``time.perf_counter()``) raises
+    :class:`OutOfTime` when it passes between levels.
     """
 
     def __init__(
@@ -113,56 +113,85 @@ class Descent:
         self._traces: dict[tuple[int, ...] | None, dict[int, int]] = {}
         self._cheapest: dict[tuple[int, ...], dict[int, int]] = {}
         self._sequences: dict[int, int] = {lookup.identity: 1}
-        self._inverses: dict[frozenset[int], list[int]] = {}  # the inverses of a split set's members
+        self._built = False
 
     # ------------------------------------------------------------------ the DAG
     def node(self, h: int) -> _Node:
-        """The node of ``h`` with its last gates and blocks (explored once)."""
-        n = self.nodes[h]
-        if n.dist and not n.gates:
-            self._explore(h, n)
-        return n
+        """The node of ``h`` with its last gates and blocks (the DAG is built on first use)."""
+        if not self._built:
+            self._build()
+        return self.nodes[h]
 
-    def _explore(self, h: int, n: _Node) -> None:
-        if self.deadline is not None and time.perf_counter() > self.deadline:
-            raise OutOfTime
+    def _build(self) -> None:
+        """Every node, level by level from ``f`` down, with one batch of lookups per level.
+
+        A node's children are found through its single last gates; every block ``C`` with
+        ``dist(C∘h) = dist(h) − |C|`` lands on a node found that way (removing the gates of
+        ``C`` one at a time lowers the distance by one each time), and conversely such a node
+        ``x = C∘h`` is on the DAG exactly when ``dist(x) = dist(h) − |C|`` (``h`` is ``x``'s
+        optimal circuit followed by ``C``), so blocks need no lookup: membership of the level.
+        """
         lk = self.lookup
-        singles = [(j, lk.compose(g, h)) for j, g in enumerate(lk.gate_keys)]
-        kept = self._reach([x for _, x in singles], n, n.dist - 1)
-        n.gates = [(j, x) for (j, x), ok in zip(singles, kept, strict=True) if ok is not None]
-        for (_, x), ok in zip(singles, kept, strict=True):
-            if ok is not None:
-                self.nodes.setdefault(x, _Node(n.dist - 1, ok or None))
-        last = [j for j, _ in n.gates]
-        blocks = [c for c in _cliques(last, self.commute) if len(c) > 1]
-        for size in sorted({len(c) for c in blocks}):
-            of_size = [c for c in blocks if len(c) == size]
-            xs = [self._apply(c, h) for c in of_size]
-            got = self._reach(xs, n, n.dist - size)
-            for c, x, ok in zip(of_size, xs, got, strict=True):
-                if ok is not None:
-                    n.blocks.append((size, x, c))
-                    self.nodes.setdefault(x, _Node(n.dist - size, ok or None))
+        by_dist: dict[int, set[int]] = {self.d: {self.f}}
+        for j in range(self.d, 0, -1):
+            if self.deadline is not None and time.perf_counter() > self.deadline:
+                raise OutOfTime
+            frontier = sorted(by_dist.get(j, ()))
+            grid = lk.compose_grid(lk.gate_keys, frontier)  # g∘h, row g, column h
+            xs = [grid[g * len(frontier) + r] for r in range(len(frontier)) for g in range(len(lk.gate_keys))]
+            kept = self._reach(frontier, xs, j - 1)
+            below = by_dist.setdefault(j - 1, set())
+            width = len(lk.gate_keys)
+            for r, h in enumerate(frontier):
+                n = self.nodes[h]
+                for g in range(width):
+                    ok = kept[r * width + g]
+                    if ok is not None:
+                        x = xs[r * width + g]
+                        n.gates.append((g, x))
+                        if x not in below:
+                            below.add(x)
+                            self.nodes[x] = _Node(j - 1, ok or None)
+        for j in range(self.d, 1, -1):
+            for h in by_dist.get(j, ()):
+                n = self.nodes[h]
+                for c in _cliques([g for g, _ in n.gates], self.commute):
+                    if len(c) > 1 and (x := self._apply(c, h)) in by_dist.get(j - len(c), ()):
+                        n.blocks.append((len(c), x, c))
+        self._built = True
 
     def _apply(self, block: tuple[int, ...], h: int) -> int:
         for j in block:
             h = self.lookup.compose(self.lookup.gate_keys[j], h)
         return h
 
-    def _reach(self, xs: list[int], n: _Node, t: int) -> list[frozenset[int] | None]:
-        """For each ``x``: None unless ``dist(x) = t``; else its split set (empty within the table)."""
+    def _reach(self, frontier: list[int], xs: list[int], t: int) -> list[frozenset[int] | None]:
+        """For each candidate ``xs[r·G + g] = g∘frontier[r]``: None unless ``dist = t``; else its
+        split set (empty within the table).  One lookup batch for all of them."""
         lk = self.lookup
-        if t <= lk.depth or n.split is None:
+        width = len(lk.gate_keys)
+        if t <= lk.depth:
             return [frozenset() if ok else None for ok in lk.at_level(xs, t)]
-        split = sorted(n.split)
-        inverses = self._inverses.get(n.split)
-        if inverses is None:
-            inverses = self._inverses[n.split] = [lk.inverse(a) for a in split]
-        oks = lk.at_level(lk.compose_grid(xs, inverses), t - self.L)
-        m = len(split)
-        rows = [oks[i * m : (i + 1) * m] for i in range(len(xs))]
-        found = [frozenset(a for a, ok in zip(split, row, strict=True) if ok) for row in rows]
-        return [s if s else None for s in found]
+        pieces: list[tuple[int, list[int]]] = []  # (row, members of its node's split set)
+        keys: list[int] = []
+        for r, h in enumerate(frontier):
+            split = self.nodes[h].split
+            assert split is not None  # nodes above the table keep their split set
+            members = sorted(split)
+            inverses = [lk.inverse(a) for a in members]
+            keys += lk.compose_grid(xs[r * width : (r + 1) * width], inverses)
+            pieces.append((r, members))
+        oks = lk.at_level(keys, t - self.L)
+        out: list[frozenset[int] | None] = []
+        pos = 0
+        for _, members in pieces:
+            m = len(members)
+            for _g in range(width):
+                row = oks[pos : pos + m]
+                pos += m
+                found = frozenset(a for a, ok in zip(members, row, strict=True) if ok)
+                out.append(found if found else None)
+        return out
 
     # ------------------------------------------------------------------ programmes
     def sequences(self, h: int | None = None) -> int:
