@@ -7,6 +7,8 @@ tables of the per-user cache:
 * ``gates-then-cost`` with the cost models ncv, t-count, cnot-count and a user cost table
   (NOT 1, CNOT 2, Toffoli 6, C3X 14): proven/total, median and max seconds per function;
 * ``--optima count``: the number of optimal circuits up to commuting gates, proven complete;
+* ``depth``: the minimum depth, from the layer table (``exactsyn tables build --library
+  mct-layers``; without it the SAT path);
 
 then, in the same run, the SAT path without class tables (a child process whose cache
 directory is empty, the distance tables and SAT as before) on the first ``--baseline-n``
@@ -36,7 +38,7 @@ from exactsyn import synthesise, tables
 from exactsyn.specification.samples import random_permutation
 
 COST_TABLE = 'NOT = 1\nCNOT = 2\nToffoli = 6\nC3X = 14\n'
-ASKS = ("ncv", "t-count", "cnot-count", "table", "count")
+ASKS = ("ncv", "t-count", "cnot-count", "table", "count", "depth")
 #: Gate counts in restricted libraries (not in the default set): the mct gates on a chain of
 #: lines (0-1-2-3), whose optimum the mct table bounds and SAT settles from there, and mct
 #: capped at 2 controls (the nct gates: its own table answers).
@@ -64,6 +66,12 @@ def ask(perm: tuple[int, ...], library: str, what: str, cost_file: str, time_lim
         syn = synthesise(list(perm), library=library, time_limit=time_limit, **extra)  # type: ignore[arg-type]
         return {"value": syn.gate_count, "proven": syn.optimal, "seconds": time.perf_counter() - t0,
                 "gates": syn.gate_count, "lower": syn.lower_bound}  # fmt: skip
+    if what == "depth":
+        syn = synthesise(list(perm), library=library, objective="depth", time_limit=time_limit)
+        obj = syn.objective_result
+        value = None if obj is None else obj.value
+        return {"value": value, "proven": obj is not None and obj.optimal, "seconds": time.perf_counter() - t0,
+                "gates": syn.gate_count}  # fmt: skip
     if what == "count":
         syn = synthesise(list(perm), library=library, optima="count", time_limit=time_limit)
         value = None if syn.optima is None else syn.optima.count

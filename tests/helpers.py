@@ -148,9 +148,10 @@ def dijkstra(library, costs: tuple[int, ...]) -> dict[tuple[int, ...], int]:  # 
     return dist
 
 
-def layer_depths(library) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
-    """Least depth of every reachable function: breadth-first search whose steps are whole
-    layers (every set of the library's gates on pairwise disjoint lines), no SAT."""
+def layer_depths(library, depth: int | None = None) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Least depth of every reachable function (of at most ``depth`` layers): breadth-first
+    search whose steps are whole layers (every set of the library's gates on pairwise
+    disjoint lines), no SAT."""
     import numpy as np
 
     size = 1 << library.lines
@@ -162,7 +163,20 @@ def layer_depths(library) -> dict[tuple[int, ...], int]:  # type: ignore[no-unty
                 for g in combo:
                     f = g.apply(f)
                 layers.add(tuple(int(x) for x in f))
-    return naive_bfs(sorted(layers), size)
+    if depth is None:
+        return naive_bfs(sorted(layers), size)
+    start = tuple(range(size))
+    dist, frontier = {start: 0}, [start]
+    for d in range(1, depth + 1):
+        nxt = []
+        for p in frontier:
+            for g in layers:
+                q = tuple(g[v] for v in p)
+                if q not in dist:
+                    dist[q] = d
+                    nxt.append(q)
+        frontier = nxt
+    return dist
 
 
 def trace_normal_form(word, library) -> tuple[int, ...]:  # type: ignore[no-untyped-def]

@@ -48,6 +48,7 @@ from exactsyn.search.objectives import ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
 from exactsyn.specification.loader import load_any
 from exactsyn.specification.reversible import Spec, from_permutation
+from exactsyn.tables.oracle import LAYER_HINT, table_roles
 
 OPTIMA_MODES = ("all", "count")
 SpecLike = Spec | Sequence[int] | str | os.PathLike[str]
@@ -284,6 +285,7 @@ def synthesise_request(
             notes.append("the gate count was not proven, so the objective was not optimised")
         else:
             obj = optimise(request.objective, gates, model, options, hooks, time_limit=left(0.1))
+            notes += _objective_notes(obj, lib, options)
     written = write_result(cert_dir, gates, obj).parent if cert_dir is not None else None
     listing = _list_optima(request, gates, obj, left(0.0), notes)
     circuit = gates.circuit if obj is None else obj.circuit
@@ -316,6 +318,14 @@ def _gate_notes(gates: GateResult) -> list[str]:
     if gates.circuit is None and gates.how:
         notes.append(gates.how)
     return notes
+
+
+def _objective_notes(obj: ObjectiveResult, lib: Library, options: SearchOptions) -> list[str]:
+    """How to get an unproven depth proven: the layer table that would settle it."""
+    if obj.objective != "depth" or obj.optimal or options.bounds != "table":
+        return []
+    missing = table_roles(lib).missing_layers
+    return [] if missing is None else [LAYER_HINT.format(lines=lib.lines, name=missing)]
 
 
 def _list_optima(

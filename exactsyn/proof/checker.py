@@ -324,6 +324,9 @@ def _check_objective(
     refuted = _objective_queries(directory, queries, spec, library, options, costs, order, note)
     if not optimal:
         return
+    if name == "depth" and d.get("class_table") is not None:
+        _objective_depth_claim(d["class_table"], circuit, value, spec, library, note)
+        return
     if name == "depth":
         trivial = value == 0 or (value == 1 and not spec.is_identity())
         ok = trivial or ("depth", value - 1) in refuted
@@ -336,6 +339,39 @@ def _check_objective(
         _objective_table_claim(d["class_table"], name, costs, circuit, value, k_star, spec, library, note)
         return
     _objective_cost_claim(d, name, costs, circuit, value, k_star, refuted, spec, library, note)
+
+
+def _objective_depth_claim(raw: Any, circuit: Circuit, value: int, spec: Spec, library: Library, note: Note) -> None:
+    """A minimum depth proven by a layer table (steps: layers of gates on disjoint lines),
+    re-derived by the separate checker like a gate count: no circuit of fewer layers."""
+    try:
+        table, content_hash, lines = str(raw["library"]), str(raw["content_hash"]), _claim_lines(raw)
+        claimed = json_int(raw["value"])
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'class_table' of the objective") from None
+    base = table.removesuffix("-layers")
+    if not table.endswith("-layers") or claimed != value or not spec.is_permutation or lines != spec.lines:
+        note("objective optimal", False, "a minimum depth needs a layer table of a full permutation")
+        return
+    if set(library.gates) != set(make_library(base, lines).gates):
+        note("objective optimal", False, f"the {table} table does not answer for library {library.name}")
+        return
+    from exactsyn.tables import verify
+
+    try:
+        rep = verify.check_claim(table, spec.permutation, value, circuit.gates, content_hash=content_hash,
+                                 lines=lines)  # fmt: skip
+    except ExactsynError as e:
+        note("objective optimal", False, e.message)
+        return
+    if rep.ok:
+        option = "" if lines == 4 else f" --lines {lines}"
+        verify_it = f"exactsyn tables verify --library {table}{option}"
+        trust = "table verified" if rep.table_verified else f"table trusted: `{verify_it}`"
+        note("objective optimal", True, f"depth {value} is optimal: no circuit of fewer layers over the {lines}-line "
+             f"{table} table ({rep.seconds:.2f} s; {trust})")  # fmt: skip
+    else:
+        note("objective optimal", False, "; ".join(rep.problems))
 
 
 def _objective_table_claim(

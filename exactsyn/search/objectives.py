@@ -96,6 +96,41 @@ def from_class_table(
                            class_table=claim)  # fmt: skip
 
 
+def depth_from_layers(gate_result: GateResult, time_limit: float | None) -> ObjectiveResult | int | None:
+    """The minimum depth from the cached layer table of the library (``mct-layers``, …: its steps
+    are layers of gates on disjoint lines), with a circuit of that depth; or the lower bound it
+    reached (an int); None when there is no such table."""
+    spec, library = gate_result.spec, gate_result.library
+    if not spec.is_permutation or gate_result.circuit is None:
+        return None
+    table = table_roles(library).layers
+    if table is None:
+        return None
+    start = time.perf_counter()
+    verdict = table.optimum(spec.permutation, None if time_limit is None else start + time_limit)
+    if verdict.circuit is None:
+        return verdict.lower
+    circuit = verdict.circuit
+    verify_circuit(circuit, spec, library)
+    if circuit.depth() != verdict.lower:
+        raise RuntimeError("internal error: the layer table's circuit does not have the depth it claims")
+    claim = verdict.claim
+    assert isinstance(claim, ClassTableClaim)
+    seconds = time.perf_counter() - start
+    return ObjectiveResult("depth", None, None, circuit, verdict.lower, True, verdict.lower, gate_result, (),
+                           seconds, class_table=claim)  # fmt: skip
+
+
+def _depth_floor(gate_result: GateResult, search: SearchOptions, time_limit: float | None) -> ObjectiveResult | int:
+    """The layer table's answer when it has one, else the depth below which no circuit exists
+    (the layer table's bound, or 1 for a function that is not the identity)."""
+    floor = 0 if gate_result.spec.is_identity() else 1
+    layered = depth_from_layers(gate_result, time_limit) if search.bounds == "table" else None
+    if isinstance(layered, ObjectiveResult):
+        return layered
+    return floor if layered is None else max(floor, layered)
+
+
 def optimise(
     objective: str,
     gate_result: GateResult,
@@ -157,7 +192,9 @@ def optimise(
         )
 
     if objective == "depth":
-        floor = 0 if spec.is_identity() else 1
+        floor = _depth_floor(gate_result, search, left())
+        if isinstance(floor, ObjectiveResult):
+            return floor
         while value > floor:
             d = value - 1
             q, circ = ask(encode_depth(spec, library, d), "depth", d, None)

@@ -62,7 +62,9 @@ class TableAnswer:
     """Result of :meth:`Tables.synthesise`.
 
     ``gate_count`` and ``gates`` (application order) are set when the optimum is proven
-    (``optimal``); otherwise ``lower_bound`` is the proven bound reached.  ``detail``
+    (``optimal``); otherwise ``lower_bound`` is the proven bound reached.  For a layer table
+    (``mct-layers``, …) the counts are layers: ``gate_count`` is the minimum depth and
+    ``gates`` a circuit of that depth.  ``detail``
     holds the method and its numbers (table depth, meet-in-the-middle level, timings).
     """
 
@@ -211,15 +213,15 @@ class Tables:
     def _answer(
         self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]
     ) -> TableAnswer:
-        gates = tuple(self.gates.gates[i] for i in idx)
+        gates = tuple(g for i in idx for g in self.gates.steps[i])  # a layer table's steps are layers
         if self.gates.circuit_key(gates) != self.layout.pack(p):
             raise RuntimeError("internal error: the table circuit does not compute the function")
         return TableAnswer(
             self.library,
             p,
             True,
-            len(gates),
-            len(gates),
+            len(idx),
+            len(idx),
             gates,
             method,
             self.content_hash,

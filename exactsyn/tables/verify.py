@@ -193,9 +193,28 @@ def _index_problem(j: int, level: _Level) -> str | None:
     return None
 
 
+_LAYERS = "-layers"  # a layer table: its steps are the sets of library gates on disjoint lines
+
+
 def _library_keys(library: str, K: CheckKeys) -> tuple[tuple[Gate, ...], list[int]]:
-    lib = make_library(library, K.lines)
-    return tuple(lib.gates), [K.pack(g.permutation(K.lines)) for g in lib.gates]
+    """The library's gates, and the keys of the table's steps (gates, or layers of a layer table)."""
+    base = library[: -len(_LAYERS)] if library.endswith(_LAYERS) else library
+    lib = make_library(base, K.lines)
+    if base == library:
+        return tuple(lib.gates), [K.pack(g.permutation(K.lines)) for g in lib.gates]
+    steps: list[int] = []
+
+    def grow(start: int, used: int, key: int) -> None:  # layers in the order of their first gates
+        for i in range(start, len(lib.gates)):
+            g = lib.gates[i]
+            mask = sum(1 << line for line in g.lines)
+            if not used & mask:
+                k = int(K.compose(arr([K.pack(g.permutation(K.lines))]), arr([key]))[0])
+                steps.append(k)
+                grow(i + 1, used | mask, k)
+
+    grow(0, 0, K.identity)
+    return tuple(lib.gates), steps
 
 
 def _check_gates(manifest: dict[str, Any], K: CheckKeys) -> list[str]:
@@ -477,12 +496,17 @@ def _split_keys(directory: str, lines: int, f: int, level: int, lo: int, hi: int
 def _circuit_problems(
     library: str, K: CheckKeys, perm: tuple[int, ...], gate_count: int, gates: Sequence[Gate]
 ) -> list[str]:
-    """The circuit uses library gates, has ``gate_count`` of them and computes ``perm``."""
+    """The circuit uses library gates, has ``gate_count`` of them (layers of a layer table:
+    gates on disjoint lines share one) and computes ``perm``."""
     problems = []
     lib_gates, _ = _library_keys(library, K)
     if any(g not in lib_gates for g in gates):
         problems.append(f"the circuit uses a gate outside {library}")
-    if len(gates) != gate_count:
+    if library.endswith(_LAYERS):
+        depth = Circuit(K.lines, tuple(gates)).depth()
+        if depth != gate_count:
+            problems.append(f"the circuit has depth {depth}, not {gate_count}")
+    elif len(gates) != gate_count:
         problems.append(f"the circuit has {len(gates)} gates, not {gate_count}")
     if Circuit(K.lines, tuple(gates)).permutation() != perm:
         problems.append("the circuit does not compute the function")
