@@ -271,8 +271,12 @@ def synthesise_request(
     suggestions: tuple[Suggestion, ...] = ()
     if gates.circuit is None:
         suggestions = next_steps(
-            spec, lib, lower_bound=gates.lower_bound, time_limit=options.time_limit,
-            max_gates=options.max_gates, reason=gates.how,
+            spec,
+            lib,
+            lower_bound=gates.lower_bound,
+            time_limit=options.time_limit,
+            max_gates=options.max_gates,
+            reason=gates.how,
         )
 
     def left(floor: float) -> float | None:
@@ -286,8 +290,8 @@ def synthesise_request(
         else:
             obj = optimise(request.objective, gates, model, options, hooks, time_limit=left(0.1))
             notes += _objective_notes(obj, lib, options)
-    written = write_result(cert_dir, gates, obj).parent if cert_dir is not None else None
     listing = _list_optima(request, gates, obj, left(0.0), notes)
+    written = write_result(cert_dir, gates, obj, listing).parent if cert_dir is not None else None
     circuit = gates.circuit if obj is None else obj.circuit
     optimal = gates.optimal if obj is None else obj.optimal
     return Synthesis(

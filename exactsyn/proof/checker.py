@@ -140,6 +140,8 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 note("optimal", True, _covered(first, len(circuit), refuted, table_value, table_name))
     if data.get("objective") is not None:
         _check_objective(directory, data["objective"], spec, library, proven_k, note)
+    if data.get("optima") is not None:
+        _check_optima(data["optima"], data.get("objective"), spec, library, proven_k, note)
     lb = data.get("lower_bound")
     if isinstance(lb, int) and first is not None:
         support = first
@@ -542,9 +544,7 @@ def _claim_lines(raw: dict[str, Any]) -> int:
     return lines
 
 
-def _check_class_table(
-    raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Note
-) -> int:
+def _check_class_table(raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Note) -> int:
     """Re-derive a class-table claim (the optimum or a lower bound); the bound it supports, else 0.
 
     Trusted (said in the report line): the cached table whose files hash to the recorded
@@ -601,3 +601,49 @@ def _check_class_table(
         f"({res.tests} classes looked up, files re-hashed, {res.seconds:.1f} s; {trust})",
     )
     return value
+
+
+def _check_optima(raw: Any, objective: Any, spec: Spec, library: Library, k_star: int | None, note: Note) -> None:
+    """The number of optimal circuits (classes up to commuting gates) counted by the descent
+    over a class table, re-counted by the separate checker
+    (:func:`exactsyn.tables.verify.check_count_claim`)."""
+    try:
+        k, count = json_int(raw["gate_count"]), json_int(raw["count"])
+        least = None if raw.get("least_cost") is None else json_int(raw["least_cost"])
+        claim = raw["class_table"]
+        table, content_hash, lines = str(claim["library"]), str(claim["content_hash"]), _claim_lines(claim)
+        costs = None if least is None else [json_int(c) for c in objective["costs"]]
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'optima'") from None
+    if k_star is None or k != k_star:
+        note("optima", False, "the count needs the proven minimum gate count it counts circuits of")
+        return
+    if not spec.is_permutation or lines != spec.lines or set(library.gates) != set(make_library(table, lines).gates):
+        note("optima", False, f"the {table} table does not count the circuits of this spec over {library.name}")
+        return
+    if least is not None and (costs is None or len(costs) != len(library) or least != objective.get("value")):
+        note("optima", False, "the least cost the count is restricted to is not the objective's")
+        return
+    from exactsyn.tables import verify
+
+    order = [library.gates.index(g) for g in make_library(table, lines).gates]
+    table_costs = None if costs is None else [costs[i] for i in order]
+    try:
+        rep = verify.check_count_claim(table, spec.permutation, k, count, table_costs, least,
+                                       content_hash=content_hash, lines=lines)  # fmt: skip
+    except ExactsynError as e:
+        note("optima", False, e.message)
+        return
+    if rep.ok:
+        what = f"{k}-gate circuits" if least is None else f"{k}-gate circuits of cost {least}"
+        trust = "table verified" if rep.table_verified else f"table trusted: `{_verify_command(table, lines)}`"
+        note("optima", True, f"{count} classes of {what} up to commuting gates: the descent over the {lines}-line "
+             f"{table} table re-counted ({rep.seconds:.2f} s; {trust})")  # fmt: skip
+    else:
+        note("optima", False, "; ".join(rep.problems))
+
+
+def _verify_command(table: str, lines: int) -> str:
+    """The command that stamps ``table`` as verified."""
+    option = "" if lines == 4 else f" --lines {lines}"
+    return f"exactsyn tables verify --library {table}{option}"

@@ -40,7 +40,7 @@ from exactsyn.sat.status import Status
 from exactsyn.search.loop import verify_circuit
 from exactsyn.specification.reversible import Spec
 from exactsyn.tables.descent import OutOfTime
-from exactsyn.tables.oracle import table_roles
+from exactsyn.tables.oracle import ClassTableClaim, table_roles
 
 ENUM_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "trace", "touch"))
 EQUIVALENCE = "reordering of adjacent gates that commute as permutations (one circuit per class)"
@@ -65,6 +65,10 @@ class Enumeration:
     circuits: tuple[Circuit, ...]  # empty in count-only mode
     seconds: float
     stopped: str = ""  # TIME_LIMIT or OPTIMA_LIMIT when not complete
+    #: set when the descent over a class table counted them (certificates record it; the SAT
+    #: listing has no proof that it is complete, so it is not recorded)
+    class_table: ClassTableClaim | None = None
+    counted: int = -1  # the descent's total number of classes (``count`` stops at the limit)
 
 
 def _encode_in_time(
@@ -130,7 +134,9 @@ def from_class_table(
     except OutOfTime:
         return None
     stopped = OPTIMA_LIMIT if count < total else ""
-    return Enumeration(k, count, not stopped, tuple(found), time.perf_counter() - start, stopped)
+    seconds = time.perf_counter() - start
+    claim = table.claim(total, "Moebius count over the descent (classes up to commuting gates)", seconds)
+    return Enumeration(k, count, not stopped, tuple(found), seconds, stopped, claim, total)
 
 
 def enumerate_optimal(

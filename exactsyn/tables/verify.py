@@ -665,6 +665,51 @@ def check_cost_claim(
     circuits of ``gate_count`` gates of ``perm``, by re-running the descent
     (:mod:`exactsyn.tables.descent`) over the table's files with this module's keys.
     That ``gate_count`` is the optimum is a separate claim (:func:`check_claim`)."""
+
+    def question(descent: Any) -> str | None:
+        got = descent.cheapest(costs)
+        return None if got == value else f"the least cost among {gate_count}-gate circuits is {got}, not {value}"
+
+    return _rerun_descent(library, perm, gate_count, costs, question, cache, content_hash, lines)
+
+
+def check_count_claim(
+    library: str,
+    perm: Sequence[int],
+    gate_count: int,
+    count: int,
+    costs: Sequence[int] | None = None,
+    least_cost: int | None = None,
+    cache: Path | None = None,
+    content_hash: str | None = None,
+    lines: int = 4,
+) -> ClaimCheck:
+    """Re-check that ``perm`` has exactly ``count`` classes of ``gate_count``-gate circuits up
+    to reordering adjacent commuting gates (of least cost ``least_cost`` under ``costs`` when
+    given), by re-running the descent and its Möbius count over the table's files with this
+    module's keys.  That ``gate_count`` is the optimum is a separate claim."""
+
+    def question(descent: Any) -> str | None:
+        if costs is not None and least_cost is not None and (got := descent.cheapest(costs)) != least_cost:
+            return f"the least cost among {gate_count}-gate circuits is {got}, not {least_cost}"
+        got = descent.traces(costs if least_cost is not None else None)
+        return None if got == count else f"there are {got} classes of optimal circuits, not {count}"
+
+    return _rerun_descent(library, perm, gate_count, costs, question, cache, content_hash, lines)
+
+
+def _rerun_descent(
+    library: str,
+    perm: Sequence[int],
+    gate_count: int,
+    costs: Sequence[int] | None,
+    question: Callable[[Any], str | None],
+    cache: Path | None,
+    content_hash: str | None,
+    lines: int,
+) -> ClaimCheck:
+    """Check the table's files, build the descent of ``perm`` with :class:`CheckLookup` and
+    ask ``question`` of it (a problem, or None)."""
     from exactsyn.tables.descent import Descent, commutation
 
     t0 = time.perf_counter()
@@ -676,17 +721,17 @@ def check_cost_claim(
         problems.append("the cached table is not the one the claim names (content hash differs)")
     problems += _file_problems(directory, manifest, None)
     problems += [p for j, lv in enumerate(lookup.levels) if (p := _index_problem(j, lv))]
-    if len(costs) != len(lookup.gate_keys):
+    if costs is not None and len(costs) != len(lookup.gate_keys):
         problems.append("one cost per library gate is needed")
     if not problems:
         f = lookup.K.pack(tuple(int(v) for v in perm))
         try:
-            got = Descent(lookup, f, gate_count, commutation(lookup)).cheapest(costs)
+            problem = question(Descent(lookup, f, gate_count, commutation(lookup)))
         except ExactsynError as e:
             problems.append(e.message)
         else:
-            if got != value:
-                problems.append(f"the least cost among {gate_count}-gate circuits is {got}, not {value}")
+            if problem:
+                problems.append(problem)
     return ClaimCheck(
         ok=not problems,
         library=library,

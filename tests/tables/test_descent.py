@@ -179,3 +179,45 @@ def test_the_certificate_json_names_the_table_of_the_objective(table_cache, monk
                cost="t-count", certificate=cert)  # fmt: skip
     data = json.loads((cert / "result.json").read_text())
     assert data["objective"]["class_table"]["library"] == "mct" and data["objective"]["queries"] == []
+
+
+@pytest.mark.parametrize("objective", ["gates", "gates-then-cost"])
+def test_a_count_from_the_table_is_certified_and_re_counted_by_the_checker(
+    table_cache: Path, monkeypatch: pytest.MonkeyPatch, tmp_path: Path, objective: str
+) -> None:
+    from exactsyn.proof.checker import check_certificate
+
+    monkeypatch.setenv("EXACTSYN_CACHE", str(table_cache))
+    f = _random_function(random.Random(33), 6)
+    cert = tmp_path / "cert"
+    syn = synthesise(list(f), library="mct", objective=objective, cost="ncv", optima="count", optima_limit=1,
+                     certificate=cert)  # fmt: skip
+    assert syn.optima is not None and syn.optima.count == 1 and syn.circuit is not None
+    # the SAT listing without tables: every class, to compare the full count the certificate records
+    monkeypatch.setenv("EXACTSYN_CACHE", str(table_cache / "none"))
+    sat = synthesise(list(f), library="mct", objective=objective, cost="ncv", optima="count", bounds="cheap")
+    assert sat.optima is not None and sat.optima.complete
+    data = json.loads((cert / "result.json").read_text())
+    section = data["optima"]
+    assert section["count"] == sat.optima.count and section["gate_count"] == len(syn.circuit)
+    assert (section["least_cost"] is None) == (objective == "gates")
+    monkeypatch.setenv("EXACTSYN_CACHE", str(table_cache))
+    rep = check_certificate(cert)
+    assert rep.ok, rep.lines
+    assert any(line.what == "optima" and line.ok for line in rep.lines)
+
+    def more(data: dict) -> None:  # type: ignore[type-arg]
+        data["optima"]["count"] += 1
+
+    edit(cert, more)
+    assert rejected(cert)
+
+
+def test_a_sat_listing_writes_no_count_claim(
+    table_cache: Path, monkeypatch: pytest.MonkeyPatch, tmp_path: Path
+) -> None:
+    monkeypatch.setenv("EXACTSYN_CACHE", str(table_cache / "none"))
+    cert = tmp_path / "cert"
+    synthesise(list(_random_function(random.Random(34), 4)), library="mct", optima="count", certificate=cert,
+               bounds="cheap")  # fmt: skip
+    assert "optima" not in json.loads((cert / "result.json").read_text())
