@@ -17,6 +17,11 @@ on those.  Peak RSS is read from ``/proc`` (the process's own high-water mark).
 
     .venv/bin/python scripts/bench_table_objectives.py --n 50 --seed 2024
     .venv/bin/python scripts/bench_table_objectives.py --n 10 --baseline-n 5 --baseline-limit 60
+    .venv/bin/python scripts/bench_table_objectives.py --gates 7 --n 10 --baseline-n 10   # a ratio
+
+Random permutations need 11–15 gates, beyond the SAT path's reach; ``--gates K`` asks the
+functions of seeded random K-gate circuits instead, short enough for the SAT path to finish,
+so the ratio is measured on the same functions in one run.
 
 Prints numbers; it is not a test.  Build the tables first: ``exactsyn tables build``.
 """
@@ -35,9 +40,10 @@ import time
 from pathlib import Path
 
 from exactsyn import synthesise, tables
-from exactsyn.specification.samples import random_permutation
+from exactsyn.core.library import make_library
+from exactsyn.specification.samples import random_library_function, random_permutation
 
-COST_TABLE = 'NOT = 1\nCNOT = 2\nToffoli = 6\nC3X = 14\n'
+COST_TABLE = "NOT = 1\nCNOT = 2\nToffoli = 6\nC3X = 14\n"
 ASKS = ("ncv", "t-count", "cnot-count", "table", "count", "depth")
 #: Gate counts in restricted libraries (not in the default set): the mct gates on a chain of
 #: lines (0-1-2-3), whose optimum the mct table bounds and SAT settles from there, and mct
@@ -53,8 +59,12 @@ def hwm() -> int:
     return 0
 
 
-def functions(library: str, n: int, seed: int) -> list[tuple[int, ...]]:
+def functions(library: str, n: int, seed: int, gates: int | None = None) -> list[tuple[int, ...]]:
+    """Uniform random permutations (even ones for nct), or with ``gates`` the functions of
+    seeded random circuits of that many library gates (short ones the SAT path can finish)."""
     rng = random.Random(seed)
+    if gates is not None:
+        return [random_library_function(make_library(library, 4), gates, rng) for _ in range(n)]
     return [random_permutation(4, rng, even=library == "nct") for _ in range(n)]
 
 
@@ -130,6 +140,12 @@ def main() -> None:
     ap.add_argument("--time-limit", type=float, default=None, help="seconds per question with tables")
     ap.add_argument("--baseline-n", type=int, default=5, help="functions the SAT path is asked too (0: none)")
     ap.add_argument("--baseline-limit", type=float, default=30.0, help="seconds per question on the SAT path")
+    ap.add_argument(
+        "--gates",
+        type=int,
+        default=None,
+        help="functions of seeded random circuits of this many gates instead of random permutations",
+    )
     a = ap.parse_args()
     print(" ".join(sys.argv), "|", time.strftime("%Y-%m-%d %H:%M"), "| load", os.getloadavg()[0])
     with tempfile.TemporaryDirectory() as tmp:
@@ -137,7 +153,7 @@ def main() -> None:
         Path(cost_file).write_text(COST_TABLE)
         for library in a.libraries.split(","):
             tables.load(library)  # fails with the build command when the table is missing
-            perms = functions(library, a.n, a.seed)
+            perms = functions(library, a.n, a.seed, a.gates)
             for what in a.asks.split(","):
                 rows = [ask(p, library, what, cost_file, a.time_limit) for p in perms]
                 base = []
