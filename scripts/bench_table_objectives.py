@@ -48,7 +48,9 @@ ASKS = ("ncv", "t-count", "cnot-count", "table", "count", "depth")
 #: Gate counts in restricted libraries (not in the default set): the mct gates on a chain of
 #: lines (0-1-2-3), whose optimum the mct table bounds and SAT settles from there, and mct
 #: capped at 2 controls (the nct gates: its own table answers).
-REACH = ("chain", "cap2")
+REACH = ("chain", "cap2", "cost")
+#: ``cost``: the ncv cost over circuits of any length (the SAT cost loop, started from the
+#: tables' gate count; no table answers it).
 
 
 def hwm() -> int:
@@ -82,6 +84,11 @@ def ask(perm: tuple[int, ...], library: str, what: str, cost_file: str, time_lim
         value = None if obj is None else obj.value
         return {"value": value, "proven": obj is not None and obj.optimal, "seconds": time.perf_counter() - t0,
                 "gates": syn.gate_count}  # fmt: skip
+    if what == "cost":
+        syn = synthesise(list(perm), library=library, objective="cost", cost="ncv", time_limit=time_limit)
+        obj = syn.objective_result
+        return {"value": None if obj is None else obj.value, "proven": obj is not None and obj.optimal,
+                "seconds": time.perf_counter() - t0, "gates": syn.gate_count}  # fmt: skip
     if what == "count":
         syn = synthesise(list(perm), library=library, optima="count", time_limit=time_limit)
         value = None if syn.optima is None else syn.optima.count
