@@ -50,6 +50,7 @@ from exactsyn.search.objectives import ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
 from exactsyn.specification.loader import load_any
 from exactsyn.specification.reversible import Spec, from_permutation
+from exactsyn.tables.oracle import LAYER_HINT, table_roles
 
 OPTIMA_MODES = ("all", "count")
 SpecLike = Spec | Sequence[int] | str | os.PathLike[str]
@@ -294,8 +295,12 @@ def _run(
     suggestions: tuple[Suggestion, ...] = ()
     if gates.circuit is None:
         suggestions = next_steps(
-            spec, lib, lower_bound=gates.lower_bound, time_limit=options.time_limit,
-            max_gates=options.max_gates, reason=gates.how,
+            spec,
+            lib,
+            lower_bound=gates.lower_bound,
+            time_limit=options.time_limit,
+            max_gates=options.max_gates,
+            reason=gates.how,
         )
 
     def left(floor: float) -> float | None:
@@ -309,13 +314,14 @@ def _run(
         else:
             _announce(hooks, "objective-start", request.objective)
             obj = optimise(request.objective, gates, model, options, hooks, time_limit=left(0.1))
-    written = None
-    if work is not None and request.certificate is not None:
-        write_result(work, gates, obj)
-        written = staging.publish(work, request.certificate)
+            notes += _objective_notes(obj, lib, options)
     if request.optima is not None and gates.optimal:
         _announce(hooks, "optima-start", request.optima)
     listing = _list_optima(request, gates, obj, left(0.0), notes)
+    written = None
+    if work is not None and request.certificate is not None:
+        write_result(work, gates, obj, listing)
+        written = staging.publish(work, request.certificate)
     circuit = gates.circuit if obj is None else obj.circuit
     optimal = gates.optimal if obj is None else obj.optimal
     return Synthesis(
@@ -354,6 +360,14 @@ def _gate_notes(gates: GateResult) -> list[str]:
     return notes
 
 
+def _objective_notes(obj: ObjectiveResult, lib: Library, options: SearchOptions) -> list[str]:
+    """How to get an unproven depth proven: the layer table that would settle it."""
+    if obj.objective != "depth" or obj.optimal or options.bounds != "table":
+        return []
+    missing = table_roles(lib).missing_layers
+    return [] if missing is None else [LAYER_HINT.format(lines=lib.lines, name=missing)]
+
+
 def _list_optima(
     request: Request, gates: GateResult, obj: ObjectiveResult | None, left: float | None, notes: list[str]
 ) -> Enumeration | None:
@@ -375,4 +389,5 @@ def _list_optima(
         limit=request.optima_limit,
         time_limit=left,
         solver=request.search.solver,
+        tables=request.search.bounds == "table",
     )

@@ -58,7 +58,9 @@ KERNEL_MODULES: dict[int, str] = {
 #: on until a level comes out empty: 40320 functions on 3 lines).  4 lines: ``mct`` levels
 #: 0..8 (about 2.4e8 classes, 1.9 GB) settle every function, the largest optimum being
 #: 15 = 8 + 7; each level is about 12 times the last (docs/tables4.md has the measurements).
-DEFAULT_DEPTHS: dict[int, dict[str, int]] = {4: {"mct": 8, "nct": 8, "mixed": 6}}
+DEFAULT_DEPTHS: dict[int, dict[str, int]] = {
+    4: {"mct": 8, "nct": 8, "mixed": 6, "mct-layers": 6, "nct-layers": 6, "mixed-layers": 5}
+}
 MAX_DEPTHS: dict[int, int] = {4: 9}
 
 _WORD = (1 << 64) - 1
