@@ -23,6 +23,7 @@ import pytest
 from click.testing import CliRunner
 
 from exactsyn.batch.store import Store
+from exactsyn.batch.table import size_table
 from exactsyn.cli import main
 from exactsyn.core.library import make_library
 from exactsyn.proof.checker import check_certificate
@@ -238,3 +239,47 @@ def test_read_only_places_give_one_clear_line_and_write_nothing(tmp_path: Path) 
     finally:
         os.chmod(good, 0o644)
     assert rows(good) == before
+
+
+#: Optimal NCT circuit sizes of all 8! reversible 3-line functions, 0..8 gates (Shende, Prasad,
+#: Markov & Hayes, "Synthesis of reversible logic circuits", IEEE TCAD 22(6), 2003, Table I).
+SHENDE_2003_NCT3 = [1, 12, 102, 625, 2780, 8921, 17049, 10253, 577]
+
+
+@pytest.mark.slow
+def test_soak_three_processes_killed_and_restarted_on_all_3_line_classes(tmp_path: Path) -> None:
+    # Three batch processes share one store; five times all three are killed (SIGKILL, at a
+    # random number of stored items) and restarted; the last start runs them to the end.
+    store = tmp_path / "soak.sqlite"
+    args = cli("batch", "--classes", "3", "--library", "nct", "--store", str(store), "-q", "-j", "1")
+    rng = random.Random(2003)
+    kills = 0
+    for _ in range(5):
+        procs = [subprocess.Popen(args, start_new_session=True, stdout=subprocess.DEVNULL,
+                                  stderr=subprocess.PIPE) for _ in range(3)]
+        before, more = len(rows(store)), rng.randint(20, 400)
+        deadline = time.monotonic() + 120
+        while time.monotonic() < deadline and all(p.poll() is None for p in procs) and len(rows(store)) < before + more:
+            time.sleep(rng.uniform(0.05, 0.3))
+        for p in procs:
+            if p.poll() is None:
+                os.killpg(p.pid, signal.SIGKILL)
+                kills += 1
+            p.wait()
+    assert kills >= 12, kills  # the processes were killed mid-batch, not after it
+    procs = [subprocess.Popen(args, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True) for _ in range(3)]
+    outs = [p.communicate(timeout=1800) for p in procs]
+    for p, (out, err) in zip(procs, outs, strict=True):
+        assert p.returncode == 0, err + out
+    got = rows(store)
+    keys = [r["key"] for r in got]
+    assert len(keys) == len(set(keys))  # every item stored once
+    assert {r["status"] for r in got} == {"done"} and all(r["certificate"] for r in got)
+    assert_no_claims(store)
+    verified = subprocess.run([*args, "--verify"], capture_output=True, text=True, timeout=1800)
+    assert verified.returncode == 0, verified.stderr  # every stored certificate re-checked
+    with Store(store) as s:
+        assert s.integrity() == "ok"
+        assert size_table(s, s.batch(None)).distribution() == SHENDE_2003_NCT3
+    for r in rng.sample(got, 20):  # and a sample by the checker directly
+        assert check_certificate(store.parent / str(r["certificate"])).ok
