@@ -162,10 +162,12 @@ def main() -> None:
             tables.load(library)  # fails with the build command when the table is missing
             perms = functions(library, a.n, a.seed, a.gates)
             for what in a.asks.split(","):
-                rows = [ask(p, library, what, cost_file, a.time_limit) for p in perms]
+                # mct capped at 2 controls has only even gates: ask it of even functions
+                asked = functions("nct", a.n, a.seed, a.gates) if what == "cap2" else perms
+                rows = [ask(p, library, what, cost_file, a.time_limit) for p in asked]
                 base = []
                 if a.baseline_n:
-                    base = baseline(perms[: a.baseline_n], library, what, cost_file, a.baseline_limit)
+                    base = baseline(asked[: a.baseline_n], library, what, cost_file, a.baseline_limit)
                 report(library, what, rows, base)
 
 
