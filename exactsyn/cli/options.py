@@ -22,6 +22,7 @@ from pathlib import Path
 from typing import Any
 
 import click
+from click.core import ParameterSource
 
 from exactsyn.api.synthesis import Request
 from exactsyn.core.costs import COST_MODELS, OBJECTIVES
@@ -225,11 +226,24 @@ cube_scheme_option = click.option(
 )
 
 
+def given(name: str) -> bool:
+    """Was the option of parameter ``name`` given on the command line (or in the environment), not defaulted?"""
+    ctx = click.get_current_context(silent=True)
+    source = ctx.get_parameter_source(name) if ctx is not None else None
+    return source in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT)
+
+
 def synthesis_request(asked: dict[str, Any]) -> Request:
     """The :class:`~exactsyn.api.synthesis.Request` of ``synth`` from its library, search, proof
     and objective options (the click parameters by name), built once and checked."""
     if asked["optima_limit"] is not None and asked["optima"] is None:
         raise ExactsynError("--optima-limit needs --optima all or --optima count")
+    cost_based = asked["objective"] in ("cost", "gates-then-cost")
+    if given("cost_name") and asked["cost_name"] in COST_MODELS and not cost_based:
+        raise ExactsynError(
+            f"--cost {asked['cost_name']} changes nothing without --objective cost or gates-then-cost "
+            "(every built-in cost is printed with the circuit)"
+        )
     search = search_options(
         solver=asked["solver"],
         encoding=asked["encoding"],

@@ -9,7 +9,7 @@ import click
 
 from exactsyn.cli.common import fail
 from exactsyn.cli.options import progress_option
-from exactsyn.cli.progress import Display, choose_mode, step_bar
+from exactsyn.cli.progress import Display, progress_mode, step_bar
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError, did_you_mean
 
@@ -123,7 +123,7 @@ def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, lines: i
     names = _libraries(libraries, DEFAULT_BUILD)
     try:
         for name in names:
-            with Display(choose_mode(quiet, show_progress)) as display:
+            with Display(progress_mode(quiet, show_progress)) as display:
                 got = t.build(name, depth=depth, progress=step_bar(display, name), force=rebuild, lines=lines)
             click.echo(
                 f"{name}: {lines} lines, depth {got.depth}, {count(sum(got.classes), 'class')}, {_size(got.bytes)} "
@@ -220,7 +220,7 @@ def verify_tables(libraries: tuple[str, ...], jobs: int, lines: int, show_progre
                 fail(_missing(name, lines))
             continue
         try:
-            with Display(choose_mode(quiet, show_progress)) as display:
+            with Display(progress_mode(quiet, show_progress)) as display:
                 res = t.verify_table(name, workers=jobs, progress=step_bar(display, name), lines=lines)
 
         except ExactsynError as e:

@@ -5,9 +5,12 @@ The ``progress`` callback of :func:`exactsyn.synthesise` and
 :class:`~exactsyn.sat.query.Query` (unchanged), and a :class:`SearchEvent` for the other
 phases, so a display can show what is going on while nothing is answered yet:
 
-* ``table-start`` / ``table-done``: a distance table is being built or looked up
-  (``detail`` names it; ``table-done`` carries ``seconds``, and ``value`` the bound or
+* ``table-start`` / ``table-done``: a distance table is being built and searched, or
+  (``table-lookup`` instead of ``table-start``) a cached class table is loaded and looked
+  up (``detail`` names it; ``table-done`` carries ``seconds``, and ``value`` the bound or
   optimum it gave, or ``None`` when the deadline stopped it);
+* ``objective-start`` / ``optima-start``: the gate count is settled and the search for the
+  objective (``detail``) or the listing of optimal circuits begins;
 * ``table-bound``: the table excluded every k in ``[low, high]`` (no SAT call for them);
 * ``query-start``: the SAT query for ``k`` gates starts (``seconds`` is the time left, or
   ``None`` without a limit);
@@ -25,7 +28,17 @@ from dataclasses import dataclass
 
 from exactsyn.sat.query import Query
 
-PHASES = ("table-start", "table-done", "table-bound", "query-start", "fallback", "sub-library")
+PHASES = (
+    "table-start",
+    "table-lookup",
+    "table-done",
+    "table-bound",
+    "query-start",
+    "fallback",
+    "sub-library",
+    "objective-start",
+    "optima-start",
+)
 
 
 @dataclass(frozen=True)

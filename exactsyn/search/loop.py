@@ -197,10 +197,10 @@ class _GateSearch:
         if self.bound.value <= 0:
             return None
         if oracle is None:
-            self.hint = HINT if self.roles.missing else ""
+            self.hint = HINT.format(library=self.roles.missing) if self.roles.missing else ""
             return None
         what = oracle.describe()
-        self.emit(SearchEvent("table-start", k=self.bound.value, detail=what))
+        self.emit(SearchEvent("table-lookup", k=self.bound.value, detail=what))
         verdict = oracle.optimum(self.spec.permutation, self.deadline)
         claim = verdict.claim
         assert isinstance(claim, ClassTableClaim)

@@ -61,7 +61,10 @@ TABLE_ORDER = ("nct", "mct", "mixed")
 #: The line count whose missing tables the search suggests building (:data:`HINT`).
 HINT_LINES = 4
 #: The one line the search adds when a class table would have answered but none is cached.
-HINT = "4-line functions are settled in seconds once the class tables exist: run `exactsyn tables build` once"
+HINT = (
+    "4-line functions are settled in seconds once the class tables exist: "
+    "run `exactsyn tables build --library {library}` once"
+)
 #: The note when a depth would have been settled by a layer table that is not cached.
 LAYER_HINT = (
     "the depth of {lines}-line functions is settled in seconds from a layer table: "

@@ -105,10 +105,15 @@ def test_without_tables_synth_says_once_how_to_get_them(empty_cache: Path) -> No
     p = _circuit_perm(random.Random(1), "mct", 4)
     syn = synthesise(p, library="mct")
     assert syn.optimal and syn.gate_result.source != "class-table"
-    assert [n for n in syn.notes if "exactsyn tables build" in n] == [oracle.HINT]
+    assert [n for n in syn.notes if "exactsyn tables build" in n] == [oracle.HINT.format(library="mct")]
+    assert "`exactsyn tables build --library mct`" in syn.notes[0]
     out = CliRunner().invoke(main, ["synth", "--perm", ",".join(map(str, p)), "--library", "mct"])
     assert out.exit_code == 0
     assert out.output.count("exactsyn tables build") == 1  # stdout header or stderr summary, once
+    # the note names the library, which `tables build` does not build unless asked (mixed)
+    flip = [v ^ 1 for v in range(16)]
+    assert synthesise(flip, library="mixed").notes == (oracle.HINT.format(library="mixed"),)
+    assert "`exactsyn tables build --library mixed`" in oracle.HINT.format(library="mixed")
     # no hint where no table could help (3 lines)
     assert not synthesise([1, 0, 3, 2, 5, 7, 4, 6], library="mct").notes
 
