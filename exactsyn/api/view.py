@@ -83,10 +83,10 @@ def synthesis_to_dict(syn: Synthesis) -> dict[str, Any]:
         data["costs"] = circuit_costs(c, syn.cost_model)
     if clifford_t is not None:
         data["clifford_t"] = {
-            "t_count": clifford_t.t_count,
-            "cnot_count": clifford_t.cnot_count,
-            "t_depth": clifford_t.t_depth,
-            "h_count": clifford_t.h_count,
+            "t-count": clifford_t.t_count,
+            "cnot-count": clifford_t.cnot_count,
+            "t-depth": clifford_t.t_depth,
+            "h-count": clifford_t.h_count,
             "ancillas": clifford_t.ancillas,
         }
     if objective is not None:
