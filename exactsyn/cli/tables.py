@@ -160,6 +160,10 @@ def info(libraries: tuple[str, ...], hashes: bool, lines: int) -> None:
         )
         click.echo(f"       {i.directory}")
         click.echo(f"       content hash {i.content_hash}" + ("  (files re-hashed)" if hashes and i.present else ""))
+        built = i.manifest.get("built") or {}
+        if built.get("process_peak_rss_bytes"):
+            click.echo(f"       last build: {float(built.get('seconds', 0)):.0f} s, "
+                       f"peak memory {_size(int(built['process_peak_rss_bytes']))}")  # fmt: skip
 
 
 @tables.command()

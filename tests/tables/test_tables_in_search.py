@@ -215,6 +215,7 @@ def test_tables_commands(cached: Path) -> None:
     runner = CliRunner()
     info = runner.invoke(main, ["tables", "info"])
     assert info.exit_code == 0 and "mct" in info.output and "depth 6" in info.output
+    assert "peak memory" in info.output  # the build's peak, from the manifest
     d = storage.table_dir("mct", cached)
     before = {p.name: p.stat().st_mtime_ns for p in d.iterdir()}
     again = runner.invoke(main, ["tables", "build", "--library", "mct", "--depth", "6", "-q"])
