@@ -40,6 +40,12 @@ def session_alive(sid: int) -> list[int]:
     return alive
 
 
+def no_tables(cwd: Path) -> dict[str, str]:
+    """An empty table cache beside ``cwd``: with the session's class tables (built by other
+    tests) hwb4 would be answered before any signal is sent."""
+    return dict(os.environ, EXACTSYN_CACHE=str(cwd.parent / f"{cwd.name}-no-tables"))
+
+
 def stopped(args: list[str], cwd: Path, how: str, after: float) -> tuple[int, str, str, int]:
     """Run ``exactsyn args``, send Ctrl-C (``int``) or SIGTERM (``term``) after ``after`` seconds."""
     p = subprocess.Popen(
@@ -49,6 +55,7 @@ def stopped(args: list[str], cwd: Path, how: str, after: float) -> tuple[int, st
         stderr=subprocess.PIPE,
         text=True,
         start_new_session=True,
+        env=no_tables(cwd),
     )
     time.sleep(after)
     assert p.poll() is None, p.communicate()
@@ -113,6 +120,7 @@ def test_a_partial_certificate_directory_is_refused_by_check_in_one_line(tmp_pat
     p = subprocess.Popen(
         [sys.executable, "-m", "exactsyn", "synth", "--perm", HWB4, "--library", "mct", "--certificate", "cert"],
         cwd=tmp_path,
+        env=no_tables(tmp_path),
         start_new_session=True,
         stdout=subprocess.DEVNULL,
         stderr=subprocess.DEVNULL,
