@@ -9,6 +9,8 @@ phases, so a display can show what is going on while nothing is answered yet:
   (``detail`` names it; ``table-done`` carries ``seconds``, and ``value`` the bound or
   optimum it gave, or ``None`` when the deadline stopped it);
 * ``table-bound``: the table excluded every k in ``[low, high]`` (no SAT call for them);
+* ``table-scan``: a class table's meet in the middle has scanned ``low`` of the ``high``
+  classes of one level (``detail`` names the table and the split);
 * ``query-start``: the SAT query for ``k`` gates starts (``seconds`` is the time left, or
   ``None`` without a limit);
 * ``fallback``: an upper-bound circuit of ``value`` gates was made (``detail`` says how);
@@ -25,7 +27,7 @@ from dataclasses import dataclass
 
 from exactsyn.sat.query import Query
 
-PHASES = ("table-start", "table-done", "table-bound", "query-start", "fallback", "sub-library")
+PHASES = ("table-start", "table-done", "table-bound", "table-scan", "query-start", "fallback", "sub-library")
 
 
 @dataclass(frozen=True)

@@ -38,6 +38,7 @@ import numpy as np
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library
+from exactsyn.tables.deep import ScanSettings
 from exactsyn.tables.distance import (
     WHOLE_GROUP_DEPTH,
     DistanceTable,
@@ -52,14 +53,18 @@ from exactsyn.tables.hashed import five_meet, five_next_depth, five_table_ok
 from exactsyn.tables.keys import engine_lines, layout
 
 if TYPE_CHECKING:  # pragma: no cover
-    from exactsyn.tables.engine import Tables
+    from exactsyn.tables.engine import MeetProgress, Tables
 
 #: Class-table libraries, smallest gate set first (the tightest bound for a sub-library comes first).
 TABLE_ORDER = ("nct", "mct", "mixed")
-#: The line count whose missing tables the search suggests building (:data:`HINT`).
-HINT_LINES = 4
-#: The one line the search adds when a class table would have answered but none is cached.
-HINT = "4-line functions are settled in seconds once the class tables exist: run `exactsyn tables build` once"
+#: The one line the search adds when a class table would have answered but none is cached,
+#: per line count whose tables are worth suggesting (``{library}`` is the table's library).
+HINTS = {
+    4: "4-line functions are settled in seconds once the class tables exist: run `exactsyn tables build` once",
+    5: "5-line functions of up to 12 gates are proven in minutes once the 5-line class table exists: "
+    "run `exactsyn tables build --lines 5 --library {library}` once (a few minutes, 4 GB for mct)",
+}
+HINT = HINTS[4]
 #: A cached class table at least this deep reaches further than any distance table (12 gates at most).
 DEEP_CLASS_TABLE = 6
 
@@ -164,8 +169,8 @@ class ClassOracle:
     bounds a library with fewer gates (then :meth:`optimum` gives lower bounds, no circuits).
     """
 
-    def __init__(self, name: str, lines: int, library: Library | None) -> None:
-        self.name, self.lines, self._library = name, lines, library
+    def __init__(self, name: str, lines: int, library: Library | None, scan: ScanSettings | None = None) -> None:
+        self.name, self.lines, self._library, self.scan = name, lines, library, scan
 
     @cached_property
     def table(self) -> Tables:
@@ -188,11 +193,14 @@ class ClassOracle:
     def describe(self) -> str:
         return f"{self.lines}-line class table of {self.name}"
 
-    def optimum(self, perm: tuple[int, ...], deadline: float | None = None) -> Verdict:
+    def optimum(
+        self, perm: tuple[int, ...], deadline: float | None = None, progress: MeetProgress | None = None
+    ) -> Verdict:
+        """The table's answer; ``progress(what, classes done, classes)`` hears of long scans."""
         t0 = time.perf_counter()
         t = self.table
         left = None if deadline is None else max(0.0, deadline - t0)
-        ans = t.synthesise(perm, time_limit=left)
+        ans = t.synthesise(perm, time_limit=left, scan=self.scan, progress=progress)
         seconds = time.perf_counter() - t0
         if ans.optimal and ans.gates is not None and self._library is not None:
             circuit = _checked(Circuit(self.lines, tuple(ans.gates)), perm, self._library)
@@ -405,9 +413,10 @@ class TableRoles:
 
     ``exact``: a cached class table of exactly its gates; ``bound``: a cached class table of
     the smallest larger library (lower bounds only); ``missing``: the class table that would
-    answer but is not cached (the search suggests building it); ``inner``: a cached class
-    table of the largest library inside it (its circuits are the library's); ``distance``:
-    the in-memory distance table, unless the exact class table reaches further.
+    answer but is not cached (the search suggests building it, in the words of ``hint``);
+    ``inner``: a cached class table of the largest library inside it (its circuits are the
+    library's); ``distance``: the in-memory distance table, unless the exact class table
+    reaches further.
     """
 
     exact: ClassOracle | None = None
@@ -415,6 +424,7 @@ class TableRoles:
     missing: str | None = None
     inner: ClassOracle | None = None
     distance: DistanceOracle | HashedOracle | None = None
+    hint: str = ""
 
     @property
     def class_table(self) -> ClassOracle | None:
@@ -422,8 +432,9 @@ class TableRoles:
         return self.exact or self.bound
 
 
-def table_roles(library: Library) -> TableRoles:
-    """The tables of ``library`` (see :class:`TableRoles`), as the cache holds them now."""
+def table_roles(library: Library, scan: ScanSettings | None = None) -> TableRoles:
+    """The tables of ``library`` (see :class:`TableRoles`), as the cache holds them now;
+    ``scan`` says where the long scans of its class tables run (:mod:`exactsyn.tables.deep`)."""
     distance = distance_oracle(library)
     lines = library.lines
     if lines not in engine_lines():
@@ -433,12 +444,13 @@ def table_roles(library: Library) -> TableRoles:
     same = next((n for n in TABLE_ORDER if sets[n] == gates), None)
     above = next((n for n in TABLE_ORDER if gates <= sets[n]), None)
     inside = next((n for n in reversed(TABLE_ORDER) if sets[n] <= gates and cached(n, lines)), None)
-    exact = ClassOracle(same, lines, library) if same is not None and cached(same, lines) else None
+    exact = ClassOracle(same, lines, library, scan) if same is not None and cached(same, lines) else None
     bound = None
     if exact is None and above is not None and above != same and cached(above, lines):
-        bound = ClassOracle(above, lines, None)
-    missing = same if same is not None and exact is None and lines == HINT_LINES else None
+        bound = ClassOracle(above, lines, None, scan)
+    missing = same if same is not None and exact is None and lines in HINTS else None
+    hint = HINTS[lines].format(library=missing) if missing is not None else ""
     if exact is not None and exact.depth >= DEEP_CLASS_TABLE:
         distance = None  # the class table reaches further than the distance table (12 gates at most)
     inner = ClassOracle(inside, lines, library if inside == same else None) if inside is not None else None
-    return TableRoles(exact, bound, missing, inner, distance)
+    return TableRoles(exact, bound, missing, inner, distance, hint)

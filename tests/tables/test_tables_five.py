@@ -278,3 +278,74 @@ def test_tables_commands_take_five_lines(tmp_path: Path, monkeypatch: pytest.Mon
     assert checked.exit_code == 0 and "mct: OK, depth 3" in checked.output
     deep = runner.invoke(main, ["tables", "build", "--lines", "5", "--library", "mct", "--depth", "7"])
     assert deep.exit_code == 2 and deep.stderr.count("\n") == 1 and "deeper than 6" in deep.stderr
+
+
+# ----------------------------------------------------------------------------- scans, peel, search
+def _function_of(lib_name: str, gates: int, seed: int) -> tuple[int, ...]:
+    from exactsyn.specification.samples import random_library_function
+
+    return random_library_function(make_library(lib_name, 5), gates, random.Random(seed))
+
+
+def test_optima_equal_the_sat_path(five_cache: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # A depth-3 table settles up to 6 gates by splits and 7 by peeling one gate off;
+    # the reference is the SAT search without tables (cheap bounds only).
+    from exactsyn import synthesise
+    from exactsyn.sat.options import SearchOptions
+    from exactsyn.search.loop import minimise_gates
+    from exactsyn.specification.reversible import from_permutation
+
+    monkeypatch.setenv("EXACTSYN_CACHE", str(five_cache))
+    lib = make_library("mct", 5)
+    methods = set()
+    for seed, gates in [(1, 4), (2, 5), (3, 6), (4, 6), (5, 7), (6, 7)]:
+        p = _function_of("mct", gates, seed)
+        syn = synthesise(p, library="mct")
+        ref = minimise_gates(from_permutation(p), lib, SearchOptions(bounds="cheap"))
+        assert ref.optimal and ref.circuit is not None
+        claim = syn.gate_result.class_table
+        assert claim is not None and claim.lines == 5
+        if syn.gate_result.source == "class-table":
+            assert syn.optimal and syn.gate_count == len(ref.circuit)
+            methods.add(claim.method)
+        else:  # beyond the table's reach: its bound, then SAT
+            assert claim.value <= len(ref.circuit) and syn.gate_count == len(ref.circuit)
+    assert "meet in the middle" in methods
+
+
+def test_the_peel_finds_circuits_one_gate_past_twice_the_depth(five_cache: Path, tmp_path: Path) -> None:
+    from exactsyn.tables.deep import ScanSettings
+
+    t = tables.load("mct", cache=five_cache, lines=5)
+    beyond = t.synthesise(_function_of("mct", 8, 101))  # seeds picked once: one needs 8 or more,
+    assert not beyond.optimal and beyond.lower_bound == 8  # every split and every peel failed
+    p = _function_of("mct", 8, 107)  # one needs 7, found by peeling a gate off
+    ans = t.synthesise(p)
+    assert ans.optimal and ans.gate_count == 7
+    assert ans.method == "meet in the middle, one gate peeled" and ans.gates is not None
+    assert t.gates.circuit_key(ans.gates) == L5.pack(p)
+    res = verify.check_claim("mct", p, 7, ans.gates, cache=five_cache, workers=1, lines=5)
+    assert res.ok, res.problems
+    # in chunks, on two worker processes, recorded; then resumed from the record alone
+    state = tmp_path / "state"
+    pooled = t.synthesise(p, scan=ScanSettings(jobs=2, state=state, chunk=128))
+    assert pooled.gate_count == 7 and pooled.gates is not None and t.gates.circuit_key(pooled.gates) == L5.pack(p)
+    again = t.synthesise(p, scan=ScanSettings(jobs=1, state=state, chunk=128))
+    assert again.gate_count == 7 and all(lv.get("resumed_chunks") for lv in again.detail["levels"])
+    assert again.detail["peel"]["seconds"] == 0.0
+
+
+def test_a_state_file_of_another_scan_is_refused(five_cache: Path, tmp_path: Path) -> None:
+    from exactsyn.errors import ExactsynError
+    from exactsyn.tables.deep import ScanSettings
+
+    t = tables.load("mct", cache=five_cache, lines=5)
+    p = _function_of("mct", 6, 7)
+    t.synthesise(p, scan=ScanSettings(state=tmp_path, chunk=16))
+    files = sorted(tmp_path.glob("scan-*.jsonl"))
+    assert files
+    first = json.loads(files[0].read_text().splitlines()[0])
+    first["scan"]["table"] = "0" * 64
+    files[0].write_text(json.dumps(first) + "\n")
+    with pytest.raises(ExactsynError, match="another scan"):
+        t.synthesise(p, scan=ScanSettings(state=tmp_path, chunk=16))
