@@ -349,3 +349,89 @@ def test_a_state_file_of_another_scan_is_refused(five_cache: Path, tmp_path: Pat
     files[0].write_text(json.dumps(first) + "\n")
     with pytest.raises(ExactsynError, match="another scan"):
         t.synthesise(p, scan=ScanSettings(state=tmp_path, chunk=16))
+
+
+def test_a_five_line_certificate_is_rechecked_by_check_and_tampering_rejected(
+    five_cache: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # The claim is re-derived by the checker's own three-word keys (verify_keys5), not by
+    # the kernels that built the table; the reference optimum is the peel test's (7 gates).
+    from exactsyn import synthesise
+    from exactsyn.proof.checker import check_certificate
+
+    monkeypatch.setenv("EXACTSYN_CACHE", str(five_cache))
+    p = _function_of("mct", 8, 107)
+    cert = tmp_path / "cert"
+    syn = synthesise(p, library="mct", certificate=cert)
+    assert syn.optimal and syn.gate_count == 7 and syn.gate_result.source == "class-table"
+    data = json.loads((cert / "result.json").read_text())
+    claim = data["class_table"]
+    assert (claim["lines"], claim["format"], claim["depth"], claim["value"]) == (5, "exactsyn-tables5/1", 3, 7)
+    out = CliRunner().invoke(main, ["check", str(cert)])
+    assert out.exit_code == 0, out.output
+    assert "5-line mct depth-3 table" in out.output
+
+    def tampered(name: str, change: dict[str, object], extra: list[dict[str, object]] | None = None) -> Path:
+        d = tmp_path / name
+        shutil.copytree(cert, d)
+        new = json.loads((d / "result.json").read_text())
+        new["class_table"].update(change)
+        if extra:
+            new["circuit"] += extra
+            new["gate_count"] = new["lower_bound"] = len(new["circuit"])
+        (d / "result.json").write_text(json.dumps(new))
+        return d
+
+    assert not check_certificate(tampered("hash", {"content_hash": "0" * 64})).ok
+    assert not check_certificate(tampered("bound", {"exact": False, "value": 8})).ok  # a 7-gate split exists
+    # an optimum claimed for a longer circuit (two more gates that cancel): the split test finds
+    # the shorter one (a function of at most 5 gates, so the claim stays within what depth 3 checks)
+    short = tmp_path / "short"
+    five = synthesise(_function_of("mct", 5, 2), library="mct", certificate=short)
+    assert five.optimal and five.gate_count <= 5
+    cert = short
+    x0 = {"type": "x", "target": 0, "controls": [], "negative_controls": []}
+    longer = check_certificate(tampered("longer", {"value": five.gate_count + 2}, [x0, x0]))
+    assert not longer.ok
+    assert any(line.what == "class table" and "fewer than" in line.detail for line in longer.lines), longer.lines
+    # a damaged table file: the recorded hashes no longer match
+    cert = tmp_path / "cert"
+    copy = tmp_path / "copy"
+    shutil.copytree(storage.table_dir("mct", five_cache, 5), storage.table_dir("mct", copy, 5))
+    path = storage.table_dir("mct", copy, 5) / storage.level_file(3, L5.words)
+    raw = bytearray(path.read_bytes())
+    raw[240] ^= 0x10
+    path.write_bytes(bytes(raw))
+    monkeypatch.setenv("EXACTSYN_CACHE", str(copy))
+    rep = check_certificate(cert)
+    assert not rep.ok and any(line.what == "class table" and not line.ok for line in rep.lines)
+
+
+def _chi_row(v: int) -> int:
+    """FIPS 202, section 3.2.3 (from memory): a[x] ^= ¬a[x+1] ∧ a[x+2], x mod 5; bit x is a[x]."""
+    a = [(v >> x) & 1 for x in range(5)]
+    return sum((a[x] ^ ((1 - a[(x + 1) % 5]) & a[(x + 2) % 5])) << x for x in range(5))
+
+
+def _ascon_sbox(v: int) -> int:
+    """The bit-sliced S-box of ASCON (NIST SP 800-232; from memory), x0 the most significant bit."""
+    x = [(v >> (4 - i)) & 1 for i in range(5)]
+    x[0] ^= x[4]
+    x[4] ^= x[3]
+    x[2] ^= x[1]
+    t = [(1 - x[i]) & x[(i + 1) % 5] for i in range(5)]
+    x = [x[i] ^ t[(i + 1) % 5] for i in range(5)]
+    x[1] ^= x[0]
+    x[0] ^= x[4]
+    x[3] ^= x[2]
+    x[2] ^= 1
+    return sum(x[i] << (4 - i) for i in range(5))
+
+
+def test_the_cipher_instances_are_the_standards_maps() -> None:
+    from exactsyn.specification.loader import load_any
+
+    root = Path(__file__).resolve().parents[2] / "instances"
+    for name, reference in (("keccak-chi5.toml", _chi_row), ("ascon-sbox5.toml", _ascon_sbox)):
+        spec, _ = load_any(root / name)
+        assert spec.lines == 5 and spec.permutation == tuple(reference(v) for v in range(32)), name
