@@ -6,10 +6,11 @@ that many gates (:func:`exactsyn.specification.samples.random_library_function`,
 ``random.Random(seed·100 + length)`` per length), proves each through the public API
 (``exactsyn.synthesise``, the path of ``synth``: the cached 5-line class table, then SAT
 from its bound if the table does not settle the function in time) under ``--time-limit``
-seconds per function, and prints per function: the optimum or the proven interval, the
-seconds, how the table answered, the load average; then per length: proven/total, median
-and max seconds, the distribution of optima and the peak RSS of this process so far
-(the table is memory-mapped: pages it touches count).  ``--budget`` stops drawing new
+seconds per function, and prints per function: the optimum or the proven interval, wall
+and processor seconds (the machine may be shared), how the table answered, the load
+average; then per length: proven/total, median and max seconds, the distribution of
+optima and the peak RSS of this process so far (the table is memory-mapped: pages it
+touches count).  ``--budget`` stops drawing new
 functions of a length once that many seconds went into it, so a long length can be run
 "as far as time allows" (the summary then says how many were tried).  Every circuit is
 simulated by the search before it is returned.
@@ -53,6 +54,7 @@ class Row:
     gates: int | None
     lower: int
     seconds: float
+    cpu: float  # processor seconds of this process (all its threads): less dependent on the load
     method: str
 
 
@@ -77,16 +79,16 @@ def table_line(library: str, cache: Path | None) -> str | None:
 
 
 def prove(perm: tuple[int, ...], library: str, time_limit: float | None, length: int, index: int) -> Row:
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), time.process_time()
     syn = synthesise(list(perm), library=library, time_limit=time_limit)
-    seconds = time.perf_counter() - t0
+    seconds, cpu = time.perf_counter() - t0, time.process_time() - c0
     res = syn.gate_result
     claim = res.class_table
     method = claim.method if claim is not None else res.source
     if syn.circuit is not None:
         assert syn.circuit.permutation() == perm  # the search simulated it; say so again here
     return Row(length, index, syn.optimal, syn.gate_count if syn.circuit is not None else None,
-               res.lower_bound, seconds, method)  # fmt: skip
+               res.lower_bound, seconds, cpu, method)  # fmt: skip
 
 
 def run_length(length: int, args: argparse.Namespace) -> list[Row]:
@@ -102,20 +104,22 @@ def run_length(length: int, args: argparse.Namespace) -> list[Row]:
         row = prove(p, args.library, args.time_limit, length, i)
         rows.append(row)
         got = f"optimum {row.gates}" if row.optimal else f"in [{row.lower}, {row.gates}]"
-        print(f"  {length} gates #{i}: {got}, {row.seconds:.1f} s, {row.method}, {load()}", flush=True)
+        print(f"  {length} gates #{i}: {got}, {row.seconds:.1f} s ({row.cpu:.1f} s CPU), {row.method}, {load()}",
+              flush=True)  # fmt: skip
     return rows
 
 
 def summary(length: int, rows: list[Row], n: int) -> str:
     proven = [r for r in rows if r.optimal]
     secs = [r.seconds for r in proven]
-    med = f"{statistics.median(secs):.1f}" if secs else "-"
-    mx = f"{max(secs):.1f}" if secs else "-"
+    cpus = [r.cpu for r in proven]
+    med = f"{statistics.median(secs):.1f} s ({statistics.median(cpus):.1f} s CPU)" if secs else "-"
+    mx = f"{max(secs):.1f} s ({max(cpus):.1f} s CPU)" if secs else "-"
     optima = Counter(r.gates for r in proven)
     dist = ", ".join(f"{k}: {optima[k]}" for k in sorted(optima)) or "-"
     open_ = [f"[{r.lower}, {r.gates}]" for r in rows if not r.optimal]
     tried = f" ({len(rows)} of {n} tried)" if len(rows) < n else ""
-    return (f"{length:>3} gates: proven {len(proven)}/{len(rows)}{tried}, median {med} s, max {mx} s, "
+    return (f"{length:>3} gates: proven {len(proven)}/{len(rows)}{tried}, median {med}, max {mx}, "
             f"optima {{{dist}}}" + (f", open {' '.join(open_)}" if open_ else "")
             + f", peak RSS {peak_rss_mib():.0f} MiB")  # fmt: skip
 
