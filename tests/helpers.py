@@ -91,6 +91,24 @@ def naive_bfs(library_gates: list[tuple[int, ...]], size: int) -> dict[tuple[int
     return dist
 
 
+def bfs_upto(library, depth: int) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Every function of at most ``depth`` gates of ``library`` with its gate count (plain dictionary BFS)."""
+    gates = [g.permutation(library.lines) for g in library.gates]
+    start = tuple(range(1 << library.lines))
+    dist = {start: 0}
+    frontier = [start]
+    for _ in range(depth):
+        nxt = []
+        for p in frontier:
+            for g in gates:
+                q = tuple(g[v] for v in p)
+                if q not in dist:
+                    dist[q] = dist[p] + 1
+                    nxt.append(q)
+        frontier = nxt
+    return dist
+
+
 def permutation_matrix(c):  # type: ignore[no-untyped-def]
     """Column i has its 1 in row p[i]: the unitary that maps basis state |i> to |p[i]>."""
     import numpy as np
@@ -130,9 +148,10 @@ def dijkstra(library, costs: tuple[int, ...]) -> dict[tuple[int, ...], int]:  # 
     return dist
 
 
-def layer_depths(library) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
-    """Least depth of every reachable function: breadth-first search whose steps are whole
-    layers (every set of the library's gates on pairwise disjoint lines), no SAT."""
+def layer_depths(library, depth: int | None = None) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
+    """Least depth of every reachable function (of at most ``depth`` layers): breadth-first
+    search whose steps are whole layers (every set of the library's gates on pairwise
+    disjoint lines), no SAT."""
     import numpy as np
 
     size = 1 << library.lines
@@ -144,7 +163,20 @@ def layer_depths(library) -> dict[tuple[int, ...], int]:  # type: ignore[no-unty
                 for g in combo:
                     f = g.apply(f)
                 layers.add(tuple(int(x) for x in f))
-    return naive_bfs(sorted(layers), size)
+    if depth is None:
+        return naive_bfs(sorted(layers), size)
+    start = tuple(range(size))
+    dist, frontier = {start: 0}, [start]
+    for d in range(1, depth + 1):
+        nxt = []
+        for p in frontier:
+            for g in layers:
+                q = tuple(g[v] for v in p)
+                if q not in dist:
+                    dist[q] = d
+                    nxt.append(q)
+        frontier = nxt
+    return dist
 
 
 def trace_normal_form(word, library) -> tuple[int, ...]:  # type: ignore[no-untyped-def]

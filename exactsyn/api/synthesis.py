@@ -48,6 +48,7 @@ from exactsyn.search.objectives import ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
 from exactsyn.specification.loader import load_any
 from exactsyn.specification.reversible import Spec, from_permutation
+from exactsyn.tables.oracle import LAYER_HINT, table_roles
 
 OPTIMA_MODES = ("all", "count")
 SpecLike = Spec | Sequence[int] | str | os.PathLike[str]
@@ -273,8 +274,12 @@ def synthesise_request(
     suggestions: tuple[Suggestion, ...] = ()
     if gates.circuit is None:
         suggestions = next_steps(
-            spec, lib, lower_bound=gates.lower_bound, time_limit=options.time_limit,
-            max_gates=options.max_gates, reason=gates.how,
+            spec,
+            lib,
+            lower_bound=gates.lower_bound,
+            time_limit=options.time_limit,
+            max_gates=options.max_gates,
+            reason=gates.how,
         )
 
     def left(floor: float) -> float | None:
@@ -287,8 +292,9 @@ def synthesise_request(
             notes.append("the gate count was not proven, so the objective was not optimised")
         else:
             obj = optimise(request.objective, gates, model, options, hooks, time_limit=left(0.1))
-    written = write_result(cert_dir, gates, obj).parent if cert_dir is not None else None
+            notes += _objective_notes(obj, lib, options)
     listing = _list_optima(request, gates, obj, left(0.0), notes)
+    written = write_result(cert_dir, gates, obj, listing).parent if cert_dir is not None else None
     circuit = gates.circuit if obj is None else obj.circuit
     optimal = gates.optimal if obj is None else obj.optimal
     return Synthesis(
@@ -321,6 +327,14 @@ def _gate_notes(gates: GateResult) -> list[str]:
     return notes
 
 
+def _objective_notes(obj: ObjectiveResult, lib: Library, options: SearchOptions) -> list[str]:
+    """How to get an unproven depth proven: the layer table that would settle it."""
+    if obj.objective != "depth" or obj.optimal or options.bounds != "table":
+        return []
+    missing = table_roles(lib).missing_layers
+    return [] if missing is None else [LAYER_HINT.format(lines=lib.lines, name=missing)]
+
+
 def _list_optima(
     request: Request, gates: GateResult, obj: ObjectiveResult | None, left: float | None, notes: list[str]
 ) -> Enumeration | None:
@@ -342,4 +356,5 @@ def _list_optima(
         limit=request.optima_limit,
         time_limit=left,
         solver=request.search.solver,
+        tables=request.search.bounds == "table",
     )

@@ -88,10 +88,11 @@ _OPTIONS: tuple[Callable[[F], F], ...] = (
     click.option(
         "--window",
         type=click.IntRange(1, 4),
-        default=3,
-        show_default=True,
-        help="Largest number of lines of a window. 3: exhaustive tables of every 3-line function. 4: a 4-line "
-        "distance table (about 3 s to build) and a bounded meet in the middle; objective gates only.",
+        default=None,
+        help="Largest number of lines of a window. 3: exhaustive tables of every 3-line function. 4: the cached "
+        "4-line class tables (gates and gates-then-cost), else a 4-line distance table (about 3 s to build) and a "
+        "bounded meet in the middle (gates only). Default: 4 when the class tables of the library are cached "
+        "(`exactsyn tables build`), else 3.",
     ),
     click.option(
         "--horizon",
@@ -139,7 +140,7 @@ def optimise(
     coupling: str,
     objective: str,
     cost_name: str,
-    window: int,
+    window: int | None,
     horizon: int,
     seed: int,
     log_path: str | None,

@@ -14,6 +14,8 @@ from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError, did_you_mean
 
 LIBRARIES = ("nct", "mct", "mixed")
+#: Layer tables (steps are layers of gates on disjoint lines): the minimum depth of every function.
+LAYER_TABLES = ("nct-layers", "mct-layers", "mixed-layers")
 #: What a bare ``exactsyn tables build`` builds: the default library of ``synth`` and ``mct``.
 DEFAULT_BUILD = ("nct", "mct")
 
@@ -25,11 +27,12 @@ def _libraries(names: tuple[str, ...], default: tuple[str, ...]) -> tuple[str, .
             name = name.strip().lower()
             if name == "all":
                 out.extend(LIBRARIES)
-            elif name in LIBRARIES:
+            elif name in LIBRARIES + LAYER_TABLES:
                 out.append(name)
             else:
-                fail(f"no class table for library {name!r}{did_you_mean(name, LIBRARIES)}; "
-                     f"choose from: {', '.join(LIBRARIES)}, all")
+                known = LIBRARIES + LAYER_TABLES
+                fail(f"no class table for library {name!r}{did_you_mean(name, known)}; "
+                     f"choose from: {', '.join(known)}, all")
     return tuple(dict.fromkeys(out))
 
 
@@ -142,7 +145,8 @@ def info(libraries: tuple[str, ...], hashes: bool, lines: int) -> None:
     from exactsyn import tables as t
 
     _check_lines(lines)
-    names = _libraries(libraries, LIBRARIES)
+    layered = tuple(i.library for i in t.info(lines=lines) if i.library in LAYER_TABLES)
+    names = _libraries(libraries, LIBRARIES + layered)
     click.echo(f"cache: {t.resolve_cache_dir()}  (set EXACTSYN_CACHE to move it); {lines}-line tables")
     for name in names:
         i = t.info(name, hashes=hashes, lines=lines)[0]
@@ -150,7 +154,9 @@ def info(libraries: tuple[str, ...], hashes: bool, lines: int) -> None:
             click.echo(f"{name:<6} not built   ({i.directory}; build it with `{_build_command(name, lines)}`)")
             continue
         state = "ok" if i.present else f"DAMAGED ({i.problem}; `{_build_command(name, lines, rebuild=True)}`)"
-        reach = "every function" if i.manifest.get("complete") else f"exact answers up to {2 * int(i.depth or 0)} gates"
+        unit = "layers" if name in LAYER_TABLES else "gates"
+        reach = f"exact answers up to {2 * int(i.depth or 0)} {unit}"
+        reach = "every function" if i.manifest.get("complete") else reach
         click.echo(
             f"{name:<6} {state}  depth {i.depth} ({reach}), "
             f"{count(sum(i.classes), 'class')}, {count(sum(i.functions), 'function')}, {_size(i.bytes)}"

@@ -37,6 +37,7 @@ from exactsyn.core.costs import CostModel, cost_model
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
+from exactsyn.optimise.class_windows import ClassTableResynthesis, class_table_lines
 from exactsyn.optimise.commute import relabel
 from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthesis
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
@@ -271,6 +272,22 @@ class _Passes:
         return Circuit(self.n, tuple(self.pool.gates[g] for g in self.seq))
 
 
+def window_answerers(gates: GateSet, n: int, model: CostModel | None, window: int) -> WindowResynthesis:
+    """The window answerers: exhaustive tables up to 3 lines; 4-line windows from the cached
+    class tables (gates and gates-then-cost), else from the distance table (gates only)."""
+    small = TableResynthesis(gates, n, model)
+    if window < 4:
+        return small
+    if class_table_lines(gates) == 4:
+        return ClassTableResynthesis(gates, n, model, small)
+    if model is not None:
+        raise ExactsynError(
+            "4-line windows under gates-then-cost need the cached class tables (`exactsyn tables build`); "
+            "use window 3"
+        )
+    return CombinedResynthesis(small, MeetResynthesis(gates))
+
+
 def optimise_circuit(
     circuit: Circuit,
     *,
@@ -279,7 +296,7 @@ def optimise_circuit(
     cost: str = "ncv",
     coupling: str | tuple[tuple[int, int], ...] = "",
     max_controls: int | None = None,
-    window: int = 3,
+    window: int | None = None,
     horizon: int = DEFAULT_HORIZON,
     resynthesis: WindowResynthesis | None = None,
     seed: int = 0,
@@ -290,7 +307,8 @@ def optimise_circuit(
     ``library`` is a preset, a kind list or ``auto`` (the smallest preset holding the
     input's gates); every input gate must be in it.  ``cost`` (a model name or a cost table
     file) is used by ``objective="gates-then-cost"``.  ``window`` is the largest number of
-    lines of a window; ``seed`` picks the random sample of the equivalence check beyond 24
+    lines of a window (default: 4 when a cached class table serves the gate set's 4-line
+    windows, else 3); ``seed`` picks the random sample of the equivalence check beyond 24
     lines.  Raises :class:`ExactsynError` for bad input and :class:`InternalCheckError`
     (:class:`EquivalenceError` when a function changed) if a check of the work fails.
     """
@@ -314,12 +332,10 @@ def optimise_circuit(
     model = cost_model(cost) if objective == "gates-then-cost" else None
     if model is not None:
         model.check(circuit.gates, n)
+    if window is None:
+        window = 4 if class_table_lines(gates) == 4 and n >= 4 else 3
     if resynthesis is None:
-        resynthesis = TableResynthesis(gates, n, model)
-        if window == 4:
-            if model is not None:
-                raise ExactsynError("window 4 minimises gates only (objective gates); use window 3 for gates-then-cost")
-            resynthesis = CombinedResynthesis(resynthesis, MeetResynthesis(gates))
+        resynthesis = window_answerers(gates, n, model, window)
     if not 1 <= window <= resynthesis.max_lines:
         raise ExactsynError(
             f"window {window}: the window resynthesis proves optima for 1 to {resynthesis.max_lines} lines"

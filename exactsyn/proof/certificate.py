@@ -34,7 +34,16 @@ Format ``exactsyn-certificate``, version 1 — a directory holding
     ``nonaffine_extra``, and ``queries``: ``kind`` (``cost`` or ``depth``), ``k`` (gates,
     or layers for depth), ``limit`` (cost limit or null), ``status``, ``proof``,
     ``proof_format`` (``lrat``), ``cnf_sha256``, ``num_vars``, ``num_clauses``,
-    ``seconds``, ``conflicts``, ``proof_bytes``.
+    ``seconds``, ``conflicts``, ``proof_bytes``; or, for a least cost among minimum-gate
+    circuits found by the descent over a class table (:mod:`exactsyn.tables.descent`), no
+    queries and ``class_table`` (as the gate part's, ``value`` being the cost), re-derived by
+    :func:`exactsyn.tables.verify.check_cost_claim`.
+``optima`` (only when the optimal circuits were counted from a class table)
+    ``counted`` (what is counted: classes of optimal circuits up to reordering adjacent
+    commuting gates), ``gate_count``, ``count`` (all of them, whatever ``--optima-limit``
+    printed), ``least_cost`` (null, or the proven least cost when only the cheapest
+    minimum-gate circuits were counted, under the objective's ``costs``) and
+    ``class_table``; re-derived by :func:`exactsyn.tables.verify.check_count_claim`.
 ``k<k>.lrat.gz``, ``cost-k<k>-c<limit>.lrat.gz``, ``depth-k<d>.lrat.gz``, ``k<k>-c<i>.lrat.gz``
     the gzip-compressed LRAT refutation (text) of a query or of one cube, clause ids
     ``1..m`` being the clauses of the re-derived CNF in order (a cube's clauses follow)
@@ -63,6 +72,7 @@ from exactsyn.version import __version__
 if TYPE_CHECKING:  # types only: writing a certificate needs no solver module
     from exactsyn.sat.conquer import SplitRecord
     from exactsyn.sat.query import ProofSink, Query
+    from exactsyn.search.all_optima import Enumeration
     from exactsyn.search.loop import GateResult
     from exactsyn.search.objectives import ObjectiveResult
 
@@ -224,13 +234,33 @@ def objective_to_dict(res: ObjectiveResult) -> dict[str, Any]:
         "bound": res.bound,
         "nonaffine_extra": res.nonaffine_extra,
         "queries": [objective_query_to_dict(q) for q in res.queries],
+        "class_table": None if res.class_table is None else res.class_table.to_dict(),
     }
 
 
-def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | None = None) -> Path:
+def optima_to_dict(optima: Enumeration, objective: ObjectiveResult | None) -> dict[str, Any] | None:
+    """The ``optima`` section: the number of optimal circuits (classes up to reordering
+    adjacent commuting gates) when the descent over a class table counted them; None for a
+    SAT listing, which carries no proof that it is complete."""
+    if optima.class_table is None:
+        return None
+    least = objective is not None and objective.costs is not None and objective.optimal
+    return {
+        "counted": "classes of optimal circuits up to reordering adjacent commuting gates",
+        "gate_count": optima.k,
+        "count": optima.counted,
+        "least_cost": objective.value if least and objective is not None else None,
+        "class_table": optima.class_table.to_dict(),
+    }
+
+
+def write_result(
+    directory: Path, res: GateResult, objective: ObjectiveResult | None = None, optima: Enumeration | None = None
+) -> Path:
     """Write ``result.json`` for a search run whose proofs went to ``directory`` (atomically).
 
-    ``objective`` is given when the run optimised more than the gate count.
+    ``objective`` is given when the run optimised more than the gate count; ``optima`` when
+    it counted the optimal circuits.
     """
     try:
         directory.mkdir(parents=True, exist_ok=True)
@@ -260,6 +290,8 @@ def write_result(directory: Path, res: GateResult, objective: ObjectiveResult | 
     }
     if objective is not None:
         data["objective"] = objective_to_dict(objective)
+    if optima is not None and (section := optima_to_dict(optima, objective)) is not None:
+        data["optima"] = section
     path = directory / RESULT_FILE
     tmp = path.with_suffix(".json.tmp")
     try:

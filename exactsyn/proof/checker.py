@@ -140,6 +140,8 @@ def check_certificate(path: str | Path, progress: Any = None) -> CheckReport:
                 note("optimal", True, _covered(first, len(circuit), refuted, table_value, table_name))
     if data.get("objective") is not None:
         _check_objective(directory, data["objective"], spec, library, proven_k, note)
+    if data.get("optima") is not None:
+        _check_optima(data["optima"], data.get("objective"), spec, library, proven_k, note)
     lb = data.get("lower_bound")
     if isinstance(lb, int) and first is not None:
         support = first
@@ -324,6 +326,9 @@ def _check_objective(
     refuted = _objective_queries(directory, queries, spec, library, options, costs, order, note)
     if not optimal:
         return
+    if name == "depth" and d.get("class_table") is not None:
+        _objective_depth_claim(d["class_table"], circuit, value, spec, library, note)
+        return
     if name == "depth":
         trivial = value == 0 or (value == 1 and not spec.is_identity())
         ok = trivial or ("depth", value - 1) in refuted
@@ -332,7 +337,90 @@ def _check_objective(
         )
         return
     assert costs is not None
+    if d.get("class_table") is not None:
+        _objective_table_claim(d["class_table"], name, costs, circuit, value, k_star, spec, library, note)
+        return
     _objective_cost_claim(d, name, costs, circuit, value, k_star, refuted, spec, library, note)
+
+
+def _objective_depth_claim(raw: Any, circuit: Circuit, value: int, spec: Spec, library: Library, note: Note) -> None:
+    """A minimum depth proven by a layer table (steps: layers of gates on disjoint lines),
+    re-derived by the separate checker like a gate count: no circuit of fewer layers."""
+    try:
+        table, content_hash, lines = str(raw["library"]), str(raw["content_hash"]), _claim_lines(raw)
+        claimed = json_int(raw["value"])
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'class_table' of the objective") from None
+    base = table.removesuffix("-layers")
+    if not table.endswith("-layers") or claimed != value or not spec.is_permutation or lines != spec.lines:
+        note("objective optimal", False, "a minimum depth needs a layer table of a full permutation")
+        return
+    if set(library.gates) != set(make_library(base, lines).gates):
+        note("objective optimal", False, f"the {table} table does not answer for library {library.name}")
+        return
+    from exactsyn.tables import verify
+
+    try:
+        rep = verify.check_claim(table, spec.permutation, value, circuit.gates, content_hash=content_hash,
+                                 lines=lines)  # fmt: skip
+    except ExactsynError as e:
+        note("objective optimal", False, e.message)
+        return
+    if rep.ok:
+        option = "" if lines == 4 else f" --lines {lines}"
+        verify_it = f"exactsyn tables verify --library {table}{option}"
+        trust = "table verified" if rep.table_verified else f"table trusted: `{verify_it}`"
+        note("objective optimal", True, f"depth {value} is optimal: no circuit of fewer layers over the {lines}-line "
+             f"{table} table ({rep.seconds:.2f} s; {trust})")  # fmt: skip
+    else:
+        note("objective optimal", False, "; ".join(rep.problems))
+
+
+def _objective_table_claim(
+    raw: Any,
+    name: str,
+    costs: tuple[int, ...],
+    circuit: Circuit,
+    value: int,
+    k_star: int | None,
+    spec: Spec,
+    library: Library,
+    note: Note,
+) -> None:
+    """A least cost among minimum-gate circuits proven by the descent over a class table,
+    re-run by the separate checker (:func:`exactsyn.tables.verify.check_cost_claim`)."""
+    try:
+        table, content_hash, lines = str(raw["library"]), str(raw["content_hash"]), _claim_lines(raw)
+        claimed = json_int(raw["value"])
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'class_table' of the objective") from None
+    if name != "gates-then-cost" or claimed != value or not spec.is_permutation or lines != spec.lines:
+        note("objective optimal", False, "a class-table descent proves gates-then-cost of a full permutation only")
+        return
+    if set(library.gates) != set(make_library(table, lines).gates):
+        note("objective optimal", False, f"the {table} table does not answer for library {library.name}")
+        return
+    if k_star is None or len(circuit) != k_star:
+        note("objective optimal", False, "the gate part does not prove the circuit's gate count minimal")
+        return
+    from exactsyn.tables import verify
+
+    order = [library.gates.index(g) for g in make_library(table, lines).gates]
+    table_costs = [costs[i] for i in order]  # the table's gates in its own library order
+    try:
+        rep = verify.check_cost_claim(table, spec.permutation, k_star, table_costs, value,
+                                      content_hash=content_hash, lines=lines)  # fmt: skip
+    except ExactsynError as e:
+        note("objective optimal", False, e.message)
+        return
+    if rep.ok:
+        option = "" if lines == 4 else f" --lines {lines}"
+        verify_it = f"exactsyn tables verify --library {table}{option}"
+        trust = "table verified" if rep.table_verified else f"table trusted: `{verify_it}`"
+        note("objective optimal", True, f"cost {value} is the least among {k_star}-gate circuits: the descent over "
+             f"the {lines}-line {table} table re-run ({rep.seconds:.2f} s; {trust})")  # fmt: skip
+    else:
+        note("objective optimal", False, "; ".join(rep.problems))
 
 
 def _objective_circuit(
@@ -456,9 +544,7 @@ def _claim_lines(raw: dict[str, Any]) -> int:
     return lines
 
 
-def _check_class_table(
-    raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Note
-) -> int:
+def _check_class_table(raw: Any, spec: Spec, library: Library, circuit: Circuit | None, note: Note) -> int:
     """Re-derive a class-table claim (the optimum or a lower bound); the bound it supports, else 0.
 
     Trusted (said in the report line): the cached table whose files hash to the recorded
@@ -515,3 +601,49 @@ def _check_class_table(
         f"({res.tests} classes looked up, files re-hashed, {res.seconds:.1f} s; {trust})",
     )
     return value
+
+
+def _check_optima(raw: Any, objective: Any, spec: Spec, library: Library, k_star: int | None, note: Note) -> None:
+    """The number of optimal circuits (classes up to commuting gates) counted by the descent
+    over a class table, re-counted by the separate checker
+    (:func:`exactsyn.tables.verify.check_count_claim`)."""
+    try:
+        k, count = json_int(raw["gate_count"]), json_int(raw["count"])
+        least = None if raw.get("least_cost") is None else json_int(raw["least_cost"])
+        claim = raw["class_table"]
+        table, content_hash, lines = str(claim["library"]), str(claim["content_hash"]), _claim_lines(claim)
+        costs = None if least is None else [json_int(c) for c in objective["costs"]]
+    except (KeyError, TypeError, ValueError):
+        raise ExactsynError("certificate: malformed 'optima'") from None
+    if k_star is None or k != k_star:
+        note("optima", False, "the count needs the proven minimum gate count it counts circuits of")
+        return
+    if not spec.is_permutation or lines != spec.lines or set(library.gates) != set(make_library(table, lines).gates):
+        note("optima", False, f"the {table} table does not count the circuits of this spec over {library.name}")
+        return
+    if least is not None and (costs is None or len(costs) != len(library) or least != objective.get("value")):
+        note("optima", False, "the least cost the count is restricted to is not the objective's")
+        return
+    from exactsyn.tables import verify
+
+    order = [library.gates.index(g) for g in make_library(table, lines).gates]
+    table_costs = None if costs is None else [costs[i] for i in order]
+    try:
+        rep = verify.check_count_claim(table, spec.permutation, k, count, table_costs, least,
+                                       content_hash=content_hash, lines=lines)  # fmt: skip
+    except ExactsynError as e:
+        note("optima", False, e.message)
+        return
+    if rep.ok:
+        what = f"{k}-gate circuits" if least is None else f"{k}-gate circuits of cost {least}"
+        trust = "table verified" if rep.table_verified else f"table trusted: `{_verify_command(table, lines)}`"
+        note("optima", True, f"{count} classes of {what} up to commuting gates: the descent over the {lines}-line "
+             f"{table} table re-counted ({rep.seconds:.2f} s; {trust})")  # fmt: skip
+    else:
+        note("optima", False, "; ".join(rep.problems))
+
+
+def _verify_command(table: str, lines: int) -> str:
+    """The command that stamps ``table`` as verified."""
+    option = "" if lines == 4 else f" --lines {lines}"
+    return f"exactsyn tables verify --library {table}{option}"

@@ -26,6 +26,7 @@ sequence, reduced to classes by computing each sequence's normal form directly
 
 from __future__ import annotations
 
+import itertools
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -38,9 +39,11 @@ from exactsyn.sat.solver import PROOF_SOLVER, SatSession
 from exactsyn.sat.status import Status
 from exactsyn.search.loop import verify_circuit
 from exactsyn.specification.reversible import Spec
+from exactsyn.tables.descent import OutOfTime
+from exactsyn.tables.oracle import ClassTableClaim, table_roles
 
 ENUM_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "trace", "touch"))
-EQUIVALENCE = "reordering of adjacent gates that commute as permutations (one circuit per class: its least reordering)"
+EQUIVALENCE = "reordering of adjacent gates that commute as permutations (one circuit per class)"
 
 #: Why an enumeration stopped before the solver said there are no more circuits.
 TIME_LIMIT = "time limit"
@@ -62,6 +65,10 @@ class Enumeration:
     circuits: tuple[Circuit, ...]  # empty in count-only mode
     seconds: float
     stopped: str = ""  # TIME_LIMIT or OPTIMA_LIMIT when not complete
+    #: set when the descent over a class table counted them (certificates record it; the SAT
+    #: listing has no proof that it is complete, so it is not recorded)
+    class_table: ClassTableClaim | None = None
+    counted: int = -1  # the descent's total number of classes (``count`` stops at the limit)
 
 
 def _encode_in_time(
@@ -83,6 +90,55 @@ def _encode_in_time(
     return encode(spec, library, k, ENUM_OPTIONS, cost_limit=cost_limit)
 
 
+def from_class_table(
+    spec: Spec,
+    library: Library,
+    k: int,
+    cost_limit: CostLimit | None,
+    keep: bool,
+    limit: int | None,
+    time_limit: float | None,
+    on_circuit: Callable[[Circuit], None] | None = None,
+) -> Enumeration | None:
+    """The optimal circuits of a full permutation from the cached class table of the library
+    (:mod:`exactsyn.tables.descent`: the classes counted by Möbius inversion over the DAG of
+    descents, listed depth first), or None when no such table serves it, the cost limit is not
+    the least cost, or the descent does not finish in ``time_limit``.  Each class is listed by
+    the circuit whose reverse is the least word of the class (the SAT listing gives the least
+    word itself): one circuit per class either way."""
+    if not spec.is_permutation:
+        return None
+    table = table_roles(library).exact
+    if table is None:
+        return None
+    start = time.perf_counter()
+    deadline = None if time_limit is None else start + time_limit
+    try:
+        descent = table.descent(spec.permutation, k, deadline)
+        if descent is None:
+            return None
+        costs = None if cost_limit is None else cost_limit.costs
+        if cost_limit is not None and descent.cheapest(cost_limit.costs) != cost_limit.limit:
+            return None  # a limit above the least cost: the SAT listing answers that question
+        total = descent.traces(costs)
+        count = total if limit is None else min(total, limit)
+        found: list[Circuit] = []
+        if keep or on_circuit is not None:
+            for indices in itertools.islice(descent.circuits(costs), count):
+                circ = Circuit(spec.lines, tuple(library.gates[j] for j in indices))
+                verify_circuit(circ, spec, library)
+                if keep:
+                    found.append(circ)
+                if on_circuit:
+                    on_circuit(circ)
+    except OutOfTime:
+        return None
+    stopped = OPTIMA_LIMIT if count < total else ""
+    seconds = time.perf_counter() - start
+    claim = table.claim(total, "Moebius count over the descent (classes up to commuting gates)", seconds)
+    return Enumeration(k, count, not stopped, tuple(found), seconds, stopped, claim, total)
+
+
 def enumerate_optimal(
     spec: Spec,
     library: Library,
@@ -94,6 +150,7 @@ def enumerate_optimal(
     time_limit: float | None = None,
     solver: str = PROOF_SOLVER,
     on_circuit: Callable[[Circuit], None] | None = None,
+    tables: bool = True,
 ) -> Enumeration:
     """All ``k``-gate circuits meeting the spec (one per class); ``k`` should be the proven optimum.
 
@@ -101,11 +158,17 @@ def enumerate_optimal(
     limit).  Within ``time_limit`` seconds (``None``: none; 0 or less: no time at all) the
     encoding and every model are found, each model in conflict-budget slices; past it, or
     after ``limit`` circuits, the circuits found so far come back with ``complete=False``
-    and ``stopped`` saying why.
+    and ``stopped`` saying why.  With ``tables`` a full permutation whose library has a
+    cached class table is answered from it (:func:`from_class_table`) before any SAT call.
     """
     if limit is not None and limit < 1:
         raise ExactsynError("the enumeration limit must be at least 1")
     start = time.perf_counter()
+    tabled = from_class_table(spec, library, k, cost_limit, keep, limit, time_limit, on_circuit) if tables else None
+    if tabled is not None:
+        return tabled
+    if time_limit is not None:
+        time_limit -= time.perf_counter() - start
     enc = _encode_in_time(spec, library, k, cost_limit, time_limit)
     if enc is None:
         return Enumeration(k, 0, False, (), time.perf_counter() - start, TIME_LIMIT)

@@ -240,14 +240,13 @@ class _OutOfTime(Exception):
 
 @memo(maxsize=16)
 def _window_answers(preset: str, lines: int, cap: int | None, coupling: tuple[Edge, ...], window: int) -> Any:
-    """The window resynthesis of a library, kept per process (its 3-line tables take 0.1 s to build)."""
+    """The window resynthesis of a library, kept per process (its 3-line tables take 0.1 s to build;
+    4-line windows come from the cached class tables when they serve the library, else from its
+    distance table)."""
     from exactsyn.optimise.allowed_gates import gate_set
-    from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthesis
-    from exactsyn.optimise.resynthesis import TableResynthesis
+    from exactsyn.optimise.driver import window_answerers
 
-    gates = gate_set(preset, lines, (), cap, coupling)
-    small = TableResynthesis(gates, lines, None)
-    return CombinedResynthesis(small, MeetResynthesis(gates)) if window == 4 else small
+    return window_answerers(gate_set(preset, lines, (), cap, coupling), lines, None, window)
 
 
 def shrink(circuit: Circuit, library: Library, deadline: float | None, window: int = 3) -> Circuit:

@@ -42,6 +42,8 @@ from exactsyn.sat.query import Query, run_query
 from exactsyn.sat.status import Status
 from exactsyn.search.bounds import nonaffine_extra
 from exactsyn.search.loop import GateResult, verify_circuit
+from exactsyn.tables.descent import OutOfTime
+from exactsyn.tables.oracle import ClassTableClaim, table_roles
 
 COST_OPTIONS = EncodingOptions("onehot", ("no-repeat", "commute", "touch", "window2", "window3", "window4"))
 
@@ -60,6 +62,73 @@ class ObjectiveResult:
     seconds: float
     nonaffine_extra: int = 0  # see nonaffine_extra(); 0 when the bound does not apply
     symmetry: tuple[str, ...] = ()  # rules of the cost queries' CNFs (certificates re-derive them)
+    class_table: ClassTableClaim | None = None  # set when the descent over a class table proved it
+
+
+def from_class_table(
+    objective: str, gate_result: GateResult, costs: tuple[int, ...], model_name: str, time_limit: float | None
+) -> ObjectiveResult | None:
+    """``gates-then-cost`` from the cached class table of the library, when there is one
+    (:mod:`exactsyn.tables.descent`: the least cost over the DAG of every optimal circuit,
+    no SAT call); None otherwise, or when the descent does not finish in ``time_limit``."""
+    spec, library, best = gate_result.spec, gate_result.library, gate_result.circuit
+    if objective != "gates-then-cost" or best is None or not gate_result.optimal or not spec.is_permutation:
+        return None
+    table = table_roles(library).exact
+    if table is None:
+        return None
+    start = time.perf_counter()
+    deadline = None if time_limit is None else start + time_limit
+    try:
+        descent = table.descent(spec.permutation, len(best), deadline)
+        if descent is None:
+            return None
+        value, indices = descent.cheapest_circuit(costs)
+    except OutOfTime:
+        return None
+    circuit = Circuit(spec.lines, tuple(library.gates[j] for j in indices))
+    verify_circuit(circuit, spec, library)
+    if len(circuit) != len(best) or objective_value(circuit, library, costs) != value:
+        raise RuntimeError("internal error: the descent's circuit does not have the value it claims")
+    seconds = time.perf_counter() - start
+    claim = table.claim(value, f"descent over the optimal circuits ({model_name})", seconds)
+    return ObjectiveResult(objective, model_name, costs, circuit, value, True, value, gate_result, (), seconds,
+                           class_table=claim)  # fmt: skip
+
+
+def depth_from_layers(gate_result: GateResult, time_limit: float | None) -> ObjectiveResult | int | None:
+    """The minimum depth from the cached layer table of the library (``mct-layers``, …: its steps
+    are layers of gates on disjoint lines), with a circuit of that depth; or the lower bound it
+    reached (an int); None when there is no such table."""
+    spec, library = gate_result.spec, gate_result.library
+    if not spec.is_permutation or gate_result.circuit is None:
+        return None
+    table = table_roles(library).layers
+    if table is None:
+        return None
+    start = time.perf_counter()
+    verdict = table.optimum(spec.permutation, None if time_limit is None else start + time_limit)
+    if verdict.circuit is None:
+        return verdict.lower
+    circuit = verdict.circuit
+    verify_circuit(circuit, spec, library)
+    if circuit.depth() != verdict.lower:
+        raise RuntimeError("internal error: the layer table's circuit does not have the depth it claims")
+    claim = verdict.claim
+    assert isinstance(claim, ClassTableClaim)
+    seconds = time.perf_counter() - start
+    return ObjectiveResult("depth", None, None, circuit, verdict.lower, True, verdict.lower, gate_result, (),
+                           seconds, class_table=claim)  # fmt: skip
+
+
+def _depth_floor(gate_result: GateResult, search: SearchOptions, time_limit: float | None) -> ObjectiveResult | int:
+    """The layer table's answer when it has one, else the depth below which no circuit exists
+    (the layer table's bound, or 1 for a function that is not the identity)."""
+    floor = 0 if gate_result.spec.is_identity() else 1
+    layered = depth_from_layers(gate_result, time_limit) if search.bounds == "table" else None
+    if isinstance(layered, ObjectiveResult):
+        return layered
+    return floor if layered is None else max(floor, layered)
 
 
 def optimise(
@@ -123,7 +192,9 @@ def optimise(
         )
 
     if objective == "depth":
-        floor = 0 if spec.is_identity() else 1
+        floor = _depth_floor(gate_result, search, left())
+        if isinstance(floor, ObjectiveResult):
+            return floor
         while value > floor:
             d = value - 1
             q, circ = ask(encode_depth(spec, library, d), "depth", d, None)
@@ -134,7 +205,12 @@ def optimise(
             best, value = circ, circ.depth()
         return done(True, value)
 
-    assert costs is not None
+    assert costs is not None and model is not None
+    tabled = None
+    if search.bounds == "table":
+        tabled = from_class_table(objective, gate_result, costs, model.name, time_limit)
+    if tabled is not None:
+        return tabled
     c_min = min(costs)
     extra = nonaffine_extra(spec, library, costs) if objective == "cost" and nonaffine_bound else 0
     fixed_k = objective == "gates-then-cost"

@@ -37,7 +37,7 @@ import numpy as np
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import storage
-from exactsyn.tables.deep import ScanResult, ScanSettings, scan_level
+from exactsyn.tables.deep import DEFAULT_CHUNK, ScanResult, ScanSettings, scan_level
 from exactsyn.tables.gate_keys import GateSet, gate_set
 from exactsyn.tables.keys import check_lines
 
@@ -64,7 +64,9 @@ class TableAnswer:
     """Result of :meth:`Tables.synthesise`.
 
     ``gate_count`` and ``gates`` (application order) are set when the optimum is proven
-    (``optimal``); otherwise ``lower_bound`` is the proven bound reached.  ``detail``
+    (``optimal``); otherwise ``lower_bound`` is the proven bound reached.  For a layer table
+    (``mct-layers``, …) the counts are layers: ``gate_count`` is the minimum depth and
+    ``gates`` a circuit of that depth.  ``detail``
     holds the method and its numbers (table depth, meet-in-the-middle level, timings).
     """
 
@@ -243,15 +245,15 @@ class Tables:
     def _answer(
         self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]
     ) -> TableAnswer:
-        gates = tuple(self.gates.gates[i] for i in idx)
+        gates = tuple(g for i in idx for g in self.gates.steps[i])  # a layer table's steps are layers
         if self.gates.circuit_key(gates) != self.layout.pack(p):
             raise RuntimeError("internal error: the table circuit does not compute the function")
         return TableAnswer(
             self.library,
             p,
             True,
-            len(gates),
-            len(gates),
+            len(idx),
+            len(idx),
             gates,
             method,
             self.content_hash,
@@ -314,3 +316,60 @@ def load(library: str = "mct", cache: Path | None = None, verify_hashes: bool = 
     if manifest["gate_keys"] != [gs.layout.hex(k) for k in gs.keys]:
         raise ExactsynError(f"the cached {gs.library} table was built for other gates; {hint}")
     return Tables(directory, manifest, gs)
+
+
+class TableLookup:
+    """The :class:`exactsyn.tables.descent.Lookup` of a loaded table, with the compiled kernels."""
+
+    def __init__(self, table: Tables) -> None:
+        self.table = table
+        self.layout = table.layout
+        self.depth = table.depth
+        self.identity = table.layout.identity
+        self.gate_keys = tuple(int(k) for k in table.gates.keys)
+
+    def compose(self, f: int, a: int) -> int:
+        return self.layout.compose(f, a)
+
+    def inverse(self, key: int) -> int:
+        return self.layout.inverse(key)
+
+    def compose_grid(self, fs: Sequence[int], as_: Sequence[int]) -> list[int]:
+        if self.layout.words != 1:
+            return [self.layout.compose(f, a) for f in fs for a in as_]
+        n, m = np.uint64(self.layout.lines), np.uint64(self.layout.size - 1)
+        f = np.asarray(list(fs), dtype=np.uint64)[:, None]
+        a = np.asarray(list(as_), dtype=np.uint64)[None, :]
+        out = np.zeros((f.shape[0], a.shape[1]), dtype=np.uint64)
+        for i in range(self.layout.size):
+            shift = np.uint64(self.layout.lines * i)
+            out |= ((f >> (((a >> shift) & m) * n)) & m) << shift
+        return [int(v) for v in out.ravel()]
+
+    def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
+        if not keys:
+            return []
+        if not 0 <= level <= self.depth:
+            return [False] * len(keys)
+        got = self.table.levels_of(self.layout.array(keys), [level])
+        return [bool(v == level) for v in got]
+
+    def split(self, f: int, level: int) -> frozenset[int]:
+        """Scan every class of ``level``; each class with a hit contributes its members ``A``."""
+        lay, t = self.layout, self.table
+        K = lay.kernels()
+        conj = lay.array(sorted({lay.conjugate(f, s) for s in lay.relabellings}))
+        top = t.levels[self.depth]
+        reps = t.levels[level].vals
+        hits: list[int] = []
+        out = np.empty(min(DEFAULT_CHUNK, max(1, len(reps))), dtype=np.int64)
+        for start in range(0, len(reps), DEFAULT_CHUNK):
+            stop = min(len(reps), start + DEFAULT_CHUNK)
+            o = out[: stop - start]
+            K.scan(reps, start, stop, conj, top.vals, top.index, top.shift, o)
+            found = np.flatnonzero(o >= 0)
+            if len(found):
+                hits += lay.ints(K.unmix_many(reps[start + found]))
+        members = sorted({m for a in hits for m in lay.class_members(a)})
+        rests = [lay.compose(f, lay.inverse(a)) for a in members]
+        return frozenset(a for a, ok in zip(members, self.at_level(rests, self.depth), strict=True) if ok)

@@ -75,7 +75,10 @@ KERNEL_MODULES: dict[int, str] = {
 #: 15 = 8 + 7; each level is about 12 times the last (docs/tables4.md has the measurements).
 #: 5 lines: levels grow about 50 times (``mct``: 3.4 M classes at 5 gates, about 1.7e8 at 6,
 #: 24 bytes each); depth 7 would need about 200 GB.
-DEFAULT_DEPTHS: dict[int, dict[str, int]] = {4: {"mct": 8, "nct": 8, "mixed": 6}, 5: {"mct": 6, "nct": 6, "mixed": 4}}
+DEFAULT_DEPTHS: dict[int, dict[str, int]] = {
+    4: {"mct": 8, "nct": 8, "mixed": 6, "mct-layers": 6, "nct-layers": 6, "mixed-layers": 5},
+    5: {"mct": 6, "nct": 6, "mixed": 4},
+}
 MAX_DEPTHS: dict[int, int] = {4: 9, 5: 6}
 #: From this line count on, classes are ordered by line profile, then key (module docstring).
 PROFILE_FROM = 5

@@ -19,7 +19,7 @@ from typing import Any
 
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import storage
-from exactsyn.tables.gate_keys import TABLE_LIBRARIES, gate_set
+from exactsyn.tables.gate_keys import LAYER_LIBRARIES, TABLE_LIBRARIES, gate_set
 from exactsyn.tables.keys import DEFAULT_DEPTHS, MAX_DEPTHS, check_lines
 from exactsyn.tables.levels import DEFAULT_MEMORY, BuildProgress, build_table
 
@@ -44,8 +44,10 @@ class TableInfo:
 def info(
     library: str | None = None, cache: Path | None = None, hashes: bool = False, lines: int = 4
 ) -> list[TableInfo]:
-    """One entry per library (or for ``library`` only): present or not, depth, size, counts."""
-    names = [library] if library else list(TABLE_LIBRARIES)
+    """One entry per library (or for ``library`` only): present or not, depth, size, counts.
+    Layer tables (``mct-layers``, …) are listed when they are there."""
+    layered = [n for n in LAYER_LIBRARIES if storage.read_manifest(storage.table_dir(n, cache, lines), lines)]
+    names = [library] if library else list(TABLE_LIBRARIES) + layered
     out = []
     for name in names:
         directory = storage.table_dir(name, cache, lines)

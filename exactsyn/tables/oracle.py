@@ -39,6 +39,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library
 from exactsyn.tables.deep import ScanSettings
+from exactsyn.tables.descent import Descent, commutation
 from exactsyn.tables.distance import (
     WHOLE_GROUP_DEPTH,
     DistanceTable,
@@ -49,6 +50,7 @@ from exactsyn.tables.distance import (
     extended_meet_by,
     meet_in_the_middle,
 )
+from exactsyn.tables.gate_keys import LAYERS
 from exactsyn.tables.hashed import five_meet, five_next_depth, five_table_ok
 from exactsyn.tables.keys import engine_lines, layout
 
@@ -65,6 +67,13 @@ HINTS = {
     "run `exactsyn tables build --lines 5 --library {library}` once (a few minutes, 4 GB for mct)",
 }
 HINT = HINTS[4]
+#: The line count whose missing layer tables the search suggests building (:data:`LAYER_HINT`).
+HINT_LINES = 4
+#: The note when a depth would have been settled by a layer table that is not cached.
+LAYER_HINT = (
+    "the depth of {lines}-line functions is settled in seconds from a layer table: "
+    "run `exactsyn tables build --library {name}` once"
+)
 #: A cached class table at least this deep reaches further than any distance table (12 gates at most).
 DEEP_CLASS_TABLE = 6
 
@@ -191,22 +200,25 @@ class ClassOracle:
         return self.table.depth
 
     def describe(self) -> str:
+        if self.name.endswith(LAYERS):
+            return f"{self.lines}-line layer table of {self.name[: -len(LAYERS)]}"
         return f"{self.lines}-line class table of {self.name}"
 
     def optimum(
         self, perm: tuple[int, ...], deadline: float | None = None, progress: MeetProgress | None = None
     ) -> Verdict:
-        """The table's answer; ``progress(what, classes done, classes)`` hears of long scans."""
+        """The optimum in the table's steps (gates; layers for a layer table) and a circuit, or a
+        bound; ``progress(what, classes done, classes)`` hears of long scans."""
         t0 = time.perf_counter()
         t = self.table
         left = None if deadline is None else max(0.0, deadline - t0)
         ans = t.synthesise(perm, time_limit=left, scan=self.scan, progress=progress)
         seconds = time.perf_counter() - t0
-        if ans.optimal and ans.gates is not None and self._library is not None:
+        if ans.optimal and ans.gates is not None and ans.gate_count is not None and self._library is not None:
             circuit = _checked(Circuit(self.lines, tuple(ans.gates)), perm, self._library)
-            claim = ClassTableClaim(self.name, t.depth, t.content_hash, len(circuit), True, ans.method, seconds,
+            claim = ClassTableClaim(self.name, t.depth, t.content_hash, ans.gate_count, True, ans.method, seconds,
                                     self.lines)  # fmt: skip
-            return Verdict(len(circuit), circuit, claim)
+            return Verdict(ans.gate_count, circuit, claim)
         bound = ans.gate_count if ans.optimal and ans.gate_count is not None else ans.lower_bound
         method = ans.method if self._library is not None else f"{ans.method} over the larger library {self.name}"
         claim = ClassTableClaim(self.name, t.depth, t.content_hash, bound, False, method, seconds, self.lines)
@@ -224,6 +236,21 @@ class ClassOracle:
             return None
         ans = self.table.synthesise(perm)
         return None if ans.gates is None else tuple(ans.gates)
+
+    def descent(self, perm: tuple[int, ...], gates: int, deadline: float | None = None) -> Descent | None:
+        """Every optimal circuit of ``perm`` (which needs ``gates`` gates) as a DAG of descents
+        (:mod:`exactsyn.tables.descent`); None for a table that only bounds the library."""
+        if self._library is None:
+            return None
+        from exactsyn.tables.engine import TableLookup  # numba loads with the first table
+
+        lookup = TableLookup(self.table)
+        return Descent(lookup, self.table.layout.pack(perm), gates, commutation(lookup), deadline)
+
+    def claim(self, value: int, method: str, seconds: float = 0.0) -> ClassTableClaim:
+        """The claim a certificate records for ``value`` proven exactly from this table."""
+        t = self.table
+        return ClassTableClaim(self.name, t.depth, t.content_hash, value, True, method, seconds, self.lines)
 
 
 # ----------------------------------------------------------------------------- distance tables
@@ -416,7 +443,8 @@ class TableRoles:
     answer but is not cached (the search suggests building it, in the words of ``hint``);
     ``inner``: a cached class table of the largest library inside it (its circuits are the
     library's); ``distance``: the in-memory distance table, unless the exact class table
-    reaches further.
+    reaches further; ``layers``: a cached layer table of exactly its gates (steps are
+    layers of gates on disjoint lines, so its optimum is the minimum depth).
     """
 
     exact: ClassOracle | None = None
@@ -424,6 +452,8 @@ class TableRoles:
     missing: str | None = None
     inner: ClassOracle | None = None
     distance: DistanceOracle | HashedOracle | None = None
+    layers: ClassOracle | None = None  # a cached layer table of exactly its gates: minimum depths
+    missing_layers: str | None = None  # the layer table that would settle depths but is not cached
     hint: str = ""
 
     @property
@@ -453,4 +483,8 @@ def table_roles(library: Library, scan: ScanSettings | None = None) -> TableRole
     if exact is not None and exact.depth >= DEEP_CLASS_TABLE:
         distance = None  # the class table reaches further than the distance table (12 gates at most)
     inner = ClassOracle(inside, lines, library if inside == same else None) if inside is not None else None
-    return TableRoles(exact, bound, missing, inner, distance, hint)
+    layered = None
+    if same is not None and cached(same + LAYERS, lines):
+        layered = ClassOracle(same + LAYERS, lines, library, scan)
+    no_layers = same + LAYERS if same is not None and layered is None and lines == HINT_LINES else None
+    return TableRoles(exact, bound, missing, inner, distance, layered, no_layers, hint)

@@ -36,10 +36,15 @@ in levels ``0..L−1`` (all ``2·n!`` members of each class).  Closure alone mak
 proof: a circuit of ``d' < d`` gates would split into ``A`` (its first ``max(0, d'−R)``
 gates, in a level ``≤ L − 1``) and ``f∘A⁻¹`` (at most ``R`` gates, in some level).
 
+**check_cost_claim** re-runs the descent over every optimal circuit
+(:mod:`exactsyn.tables.descent`) for a least cost among them, asking this module's lookups
+(:class:`CheckLookup`) for every distance.
+
 Trusted: numpy, hashlib, the Python interpreter, the project's gate definitions, and
-this file with :mod:`~exactsyn.tables.verify_keys`; the claim check also trusts that the
-table passed :func:`verify_table` (it says whether this table's content hash has a
-verification stamp).
+this file with :mod:`~exactsyn.tables.verify_keys`; the cost check also trusts the descent's
+recursion (plain Python, shared with the search: it asks its lookup for every table fact);
+the claim checks trust that the table passed :func:`verify_table` (they say whether this
+table's content hash has a verification stamp).
 """
 
 from __future__ import annotations
@@ -244,9 +249,28 @@ def _index_problem(j: int, level: _Level) -> str | None:
     return None
 
 
+_LAYERS = "-layers"  # a layer table: its steps are the sets of library gates on disjoint lines
+
+
 def _library_keys(library: str, K: Keys) -> tuple[tuple[Gate, ...], list[int]]:
-    lib = make_library(library, K.lines)
-    return tuple(lib.gates), [K.pack(g.permutation(K.lines)) for g in lib.gates]
+    """The library's gates, and the keys of the table's steps (gates, or layers of a layer table)."""
+    base = library[: -len(_LAYERS)] if library.endswith(_LAYERS) else library
+    lib = make_library(base, K.lines)
+    if base == library:
+        return tuple(lib.gates), [K.pack(g.permutation(K.lines)) for g in lib.gates]
+    steps: list[int] = []
+
+    def grow(start: int, used: int, key: int) -> None:  # layers in the order of their first gates
+        for i in range(start, len(lib.gates)):
+            g = lib.gates[i]
+            mask = sum(1 << line for line in g.lines)
+            if not used & mask:
+                k = K.ints(K.compose(K.arr([K.pack(g.permutation(K.lines))]), K.arr([key])))[0]
+                steps.append(k)
+                grow(i + 1, used | mask, k)
+
+    grow(0, 0, K.identity)
+    return tuple(lib.gates), steps
 
 
 def _check_gates(manifest: dict[str, Any], K: Keys) -> list[str]:
@@ -532,12 +556,17 @@ def _split_task(directory: str, lines: int, f: int, level: int, lo: int, hi: int
 def _circuit_problems(
     library: str, K: Keys, perm: tuple[int, ...], gate_count: int, gates: Sequence[Gate]
 ) -> list[str]:
-    """The circuit uses library gates, has ``gate_count`` of them and computes ``perm``."""
+    """The circuit uses library gates, has ``gate_count`` of them (layers of a layer table:
+    gates on disjoint lines share one) and computes ``perm``."""
     problems = []
     lib_gates, _ = _library_keys(library, K)
     if any(g not in lib_gates for g in gates):
         problems.append(f"the circuit uses a gate outside {library}")
-    if len(gates) != gate_count:
+    if library.endswith(_LAYERS):
+        depth = Circuit(K.lines, tuple(gates)).depth()
+        if depth != gate_count:
+            problems.append(f"the circuit has depth {depth}, not {gate_count}")
+    elif len(gates) != gate_count:
         problems.append(f"the circuit has {len(gates)} gates, not {gate_count}")
     if Circuit(K.lines, tuple(gates)).permutation() != perm:
         problems.append("the circuit does not compute the function")
@@ -628,3 +657,152 @@ def check_claim(
         seconds=time.perf_counter() - t0,
         problems=tuple(problems),
     )
+
+
+# ----------------------------------------------------------------------------- descent claims
+class CheckLookup:
+    """The :class:`exactsyn.tables.descent.Lookup` of a table's files, with this module's numpy
+    keys: the descent re-run by the checker asks nothing of the engine or its kernels."""
+
+    def __init__(self, directory: Path, lines: int) -> None:
+        self.directory, self.lines = directory, lines
+        self.K, self.manifest, self.levels = _open(str(directory), lines)
+        self.depth = len(self.levels) - 1
+        self.identity = self.K.identity
+        self.gate_keys = tuple(_library_keys(str(self.manifest["library"]), self.K)[1])
+
+    def compose(self, f: int, a: int) -> int:
+        n, mask = self.lines, (1 << self.lines) - 1
+        return sum(((f >> (n * ((a >> (n * i)) & mask))) & mask) << (n * i) for i in range(1 << n))
+
+    def inverse(self, key: int) -> int:
+        n, mask = self.lines, (1 << self.lines) - 1
+        return sum(i << (n * ((key >> (n * i)) & mask)) for i in range(1 << n))
+
+    def compose_grid(self, fs: Sequence[int], as_: Sequence[int]) -> list[int]:
+        if self.K.words != 1:  # 5-line keys: one pair at a time (the descent runs on 4 lines)
+            return [self.K.ints(self.K.compose(self.K.arr([f]), self.K.arr([a])))[0] for f in fs for a in as_]
+        grid = self.K.compose(self.K.arr(list(fs))[:, None], self.K.arr(list(as_))[None, :])
+        return [int(v) for v in grid.ravel()]
+
+    def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
+        if not keys:
+            return []
+        if not 0 <= level <= self.depth:
+            return [False] * len(keys)
+        found, _ = self.levels[level].find(self.K.mix(self.K.canonical(self.K.arr(keys))))
+        return [bool(v) for v in found]
+
+    def split(self, f: int, level: int) -> frozenset[int]:
+        """Every member ``A`` of every class of ``level`` with ``f∘A⁻¹`` in the top level."""
+        K, top = self.K, self.levels[self.depth]
+        out: set[int] = set()
+        vals = self.levels[level].vals
+        step = _chunk(K)
+        for s in range(0, len(vals), step):
+            for members in K.transforms(K.unmix(vals[s : s + step])):
+                rest = K.compose(K.arr([f]), K.inverse(members))
+                found, _ = top.find(K.mix(K.canonical(rest)))
+                out.update(K.ints(members[found]))
+        return frozenset(out)
+
+
+def check_cost_claim(
+    library: str,
+    perm: Sequence[int],
+    gate_count: int,
+    costs: Sequence[int],
+    value: int,
+    cache: Path | None = None,
+    content_hash: str | None = None,
+    lines: int = 4,
+) -> ClaimCheck:
+    """Re-check that ``value`` is the least cost (``costs[j]`` per library gate) among the
+    circuits of ``gate_count`` gates of ``perm``, by re-running the descent
+    (:mod:`exactsyn.tables.descent`) over the table's files with this module's keys.
+    That ``gate_count`` is the optimum is a separate claim (:func:`check_claim`)."""
+
+    def question(descent: Any) -> str | None:
+        got = descent.cheapest(costs)
+        return None if got == value else f"the least cost among {gate_count}-gate circuits is {got}, not {value}"
+
+    return _rerun_descent(library, perm, gate_count, costs, question, cache, content_hash, lines)
+
+
+def check_count_claim(
+    library: str,
+    perm: Sequence[int],
+    gate_count: int,
+    count: int,
+    costs: Sequence[int] | None = None,
+    least_cost: int | None = None,
+    cache: Path | None = None,
+    content_hash: str | None = None,
+    lines: int = 4,
+) -> ClaimCheck:
+    """Re-check that ``perm`` has exactly ``count`` classes of ``gate_count``-gate circuits up
+    to reordering adjacent commuting gates (of least cost ``least_cost`` under ``costs`` when
+    given), by re-running the descent and its Möbius count over the table's files with this
+    module's keys.  That ``gate_count`` is the optimum is a separate claim."""
+
+    def question(descent: Any) -> str | None:
+        if costs is not None and least_cost is not None and (got := descent.cheapest(costs)) != least_cost:
+            return f"the least cost among {gate_count}-gate circuits is {got}, not {least_cost}"
+        got = descent.traces(costs if least_cost is not None else None)
+        return None if got == count else f"there are {got} classes of optimal circuits, not {count}"
+
+    return _rerun_descent(library, perm, gate_count, costs, question, cache, content_hash, lines)
+
+
+def _rerun_descent(
+    library: str,
+    perm: Sequence[int],
+    gate_count: int,
+    costs: Sequence[int] | None,
+    question: Callable[[Any], str | None],
+    cache: Path | None,
+    content_hash: str | None,
+    lines: int,
+) -> ClaimCheck:
+    """Check the table's files, build the descent of ``perm`` with :class:`CheckLookup` and
+    ask ``question`` of it (a problem, or None)."""
+    from exactsyn.tables.descent import Descent, commutation
+
+    t0 = time.perf_counter()
+    directory = _directory(library, cache, lines)
+    lookup = CheckLookup(directory, lines)
+    manifest = lookup.manifest
+    problems: list[str] = []
+    if content_hash is not None and manifest.get("content_hash") != content_hash:
+        problems.append("the cached table is not the one the claim names (content hash differs)")
+    problems += _file_problems(directory, manifest, None)
+    problems += [p for j, lv in enumerate(lookup.levels) if (p := _index_problem(j, lv))]
+    if costs is not None and len(costs) != len(lookup.gate_keys):
+        problems.append("one cost per library gate is needed")
+    if not problems:
+        f = lookup.K.pack(tuple(int(v) for v in perm))
+        try:
+            problem = question(Descent(lookup, f, gate_count, commutation(lookup)))
+        except ExactsynError as e:
+            problems.append(e.message)
+        else:
+            if problem:
+                problems.append(problem)
+    return ClaimCheck(
+        ok=not problems,
+        library=library,
+        gate_count=gate_count,
+        content_hash=str(manifest.get("content_hash")),
+        table_verified=_stamped(directory, manifest),
+        tests=0,
+        seconds=time.perf_counter() - t0,
+        problems=tuple(problems),
+    )
+
+
+def _stamped(directory: Path, manifest: dict[str, Any]) -> bool:
+    try:
+        stamp = json.loads((directory / STAMP).read_text())
+    except (OSError, ValueError):
+        return False
+    return bool(stamp.get("content_hash") == manifest.get("content_hash"))

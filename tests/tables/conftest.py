@@ -11,7 +11,7 @@ from exactsyn import tables
 
 # Depths kept small so the CI suite stays fast (each builds in seconds once numba has
 # compiled the kernels); the full tables are exercised under @pytest.mark.slow.
-SMALL_DEPTH = {"mct": 6, "nct": 5, "mixed": 4}
+SMALL_DEPTH = {"mct": 6, "nct": 5, "mixed": 4, "mct-layers": 3}
 
 
 @pytest.fixture(scope="session")

@@ -1,0 +1,85 @@
+"""Windows of the class tables' line count answered from the cached class tables.
+
+A window whose lines carry exactly the gates of a class table (``mct``, ``nct`` or
+``mixed`` on 4 lines, no coupling restriction inside the window) is settled from the
+table, through the tables' one interface (:mod:`exactsyn.tables.oracle`):
+
+* ``gates``: the optimum by lookup, or by meet in the middle bounded below the window's own
+  gate count (Golubitsky, Falconer & Maslov, DAC 2010) — the window is only replaced when
+  fewer gates exist, so a window of ``w`` gates needs at most ``w − 1 − R`` extra levels;
+* ``gates-then-cost``: the least cost among the minimum-gate circuits, by the descent over
+  every optimal circuit (:mod:`exactsyn.tables.descent`), each gate costing what it costs in
+  the whole circuit.
+
+Every answer is a proof by exhaustion over a table whose content hash names it (``exactsyn
+tables verify`` re-proves the table from its files).  Windows the tables do not serve go
+to the next answerer (:class:`ClassTableResynthesis` wraps one).
+"""
+
+from __future__ import annotations
+
+from exactsyn.core.costs import CostModel
+from exactsyn.core.library import Edge
+from exactsyn.optimise.allowed_gates import GateSet
+from exactsyn.optimise.resynthesis import Optimum, WindowProblem, WindowResynthesis
+from exactsyn.tables.oracle import ClassOracle, table_roles
+
+
+def class_table_lines(gates: GateSet) -> int | None:
+    """The line count of the windows a cached class table serves for this gate set, or None."""
+    library = gates.window_library(4, ())
+    if library is None or gates.coupling:
+        return None
+    return 4 if table_roles(library).exact is not None else None
+
+
+class ClassTableResynthesis:
+    """:class:`~exactsyn.optimise.resynthesis.WindowResynthesis`: 4-line windows from the cached
+    class table of their library, every other window from ``other``."""
+
+    def __init__(self, gates: GateSet, circuit_lines: int, model: CostModel | None, other: WindowResynthesis) -> None:
+        self.gates, self.circuit_lines, self.model, self.other = gates, circuit_lines, model, other
+        self._tables: dict[tuple[Edge, ...], ClassOracle | None] = {}
+        # the optimum, or the ``below`` under which none was found (a bounded search)
+        self._memo: dict[tuple[tuple[Edge, ...], tuple[int, ...]], Optimum | int] = {}
+
+    @property
+    def max_lines(self) -> int:
+        return max(4, self.other.max_lines)
+
+    def table(self, coupling: tuple[Edge, ...]) -> ClassOracle | None:
+        if coupling not in self._tables:
+            library = self.gates.window_library(4, coupling)
+            self._tables[coupling] = None if library is None else table_roles(library).exact
+        return self._tables[coupling]
+
+    def optimum(self, problem: WindowProblem) -> Optimum | None:
+        table = self.table(problem.coupling) if problem.lines == 4 else None
+        if table is None:
+            return self.other.optimum(problem) if problem.lines <= self.other.max_lines else None
+        key = (problem.coupling, problem.perm)
+        got = self._memo.get(key)
+        if isinstance(got, Optimum):
+            return got
+        if got is not None and (got < 0 or (problem.below is not None and problem.below <= got)):
+            return None  # nothing within reach (-1), or nothing below a bound at least as low
+        found = self._solve(table, problem)
+        self._memo[key] = found if found is not None else (-1 if problem.below is None else problem.below)
+        return found
+
+    def _solve(self, table: ClassOracle, problem: WindowProblem) -> Optimum | None:
+        depth = table.depth
+        extra = depth if problem.below is None else max(0, problem.below - 1 - depth)
+        ans = table.table.synthesise(problem.perm, max_extra=min(depth, extra))
+        if not ans.optimal or ans.gates is None:
+            return None
+        method = f"{table.describe()} (depth {depth}, {ans.method})"
+        if self.model is None:
+            return Optimum(tuple(ans.gates), len(ans.gates), len(ans.gates), method)
+        library = table.library
+        costs = [self.model.cost(g, self.circuit_lines) for g in library.gates]
+        descent = table.descent(problem.perm, len(ans.gates))
+        assert descent is not None
+        value, indices = descent.cheapest_circuit(costs)
+        gates = tuple(library.gates[j] for j in indices)
+        return Optimum(gates, len(gates), value, method + f", then the least {self.model.name} by descent")
