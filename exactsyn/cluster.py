@@ -33,12 +33,19 @@ def default_jobs() -> int:
         return max(1, os.cpu_count() or 1)
 
 
+#: The exit status of a local worker that Ctrl-C reached in the middle of a job (its parent
+#: stops too; the job is not recorded as failed).
+INTERRUPTED_EXIT = 130
+
+
 def serve_pipe(conn: Connection, scratch: str, handle: Callable[[Any], Any]) -> None:
     """The body of a local worker process: answer each job from ``conn`` with ``handle(job)``.
 
-    Ctrl-C is left to the parent, which stops its workers. Every temporary file of the
-    worker goes below ``scratch``, a directory the parent removes at the end, also after it
-    had to kill the worker. ``None`` or a closed pipe ends the loop.
+    Ctrl-C is left to the parent, which stops its workers; python-sat still reports it in
+    the middle of a solve, and the worker then exits with :data:`INTERRUPTED_EXIT` without
+    an answer. Every temporary file of the worker goes below ``scratch``, a directory the
+    parent removes at the end, also after it had to kill the worker. ``None`` or a closed
+    pipe ends the loop.
     """
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     os.environ["TMPDIR"] = scratch
@@ -50,7 +57,11 @@ def serve_pipe(conn: Connection, scratch: str, handle: Callable[[Any], Any]) -> 
             return
         if job is None:
             return
-        out = handle(job)
+        try:
+            out = handle(job)
+        except KeyboardInterrupt:
+            conn.close()
+            os._exit(INTERRUPTED_EXIT)
         try:
             conn.send(out)
         except OSError:

@@ -33,3 +33,22 @@ def did_you_mean(word: object, choices: Iterable[object]) -> str:
     if not close:
         close = difflib.get_close_matches(str(word).strip(), options, n=1, cutoff=0.6)
     return f"; did you mean {close[0]!r}?" if close else ""
+
+
+class Interrupted(KeyboardInterrupt):
+    """Ctrl-C or SIGTERM, after the command cleaned up: ``kept`` says in a few words what stays on
+    disk (the command line prints it on its one line)."""
+
+    def __init__(self, kept: str) -> None:
+        super().__init__(kept)
+        self.kept = kept
+
+
+def is_interrupt(error: BaseException) -> bool:
+    """Is this the error a SAT solver of python-sat raises when SIGINT reaches it mid-solve?
+
+    python-sat installs its own SIGINT handler around every solve (also where SIGINT is
+    ignored) and turns the signal into an ordinary exception; callers turn it back into
+    :class:`KeyboardInterrupt` so that an interrupt is never taken for a failed item.
+    """
+    return type(error).__name__ == "error" and "keyboard interrupt" in str(error).lower()

@@ -17,6 +17,11 @@ on those.  Peak RSS is read from ``/proc`` (the process's own high-water mark).
 
     .venv/bin/python scripts/bench_table_objectives.py --n 50 --seed 2024
     .venv/bin/python scripts/bench_table_objectives.py --n 10 --baseline-n 5 --baseline-limit 60
+    .venv/bin/python scripts/bench_table_objectives.py --gates 7 --n 10 --baseline-n 10   # a ratio
+
+Random permutations need 11–15 gates, beyond the SAT path's reach; ``--gates K`` asks the
+functions of seeded random K-gate circuits instead, short enough for the SAT path to finish,
+so the ratio is measured on the same functions in one run.
 
 Prints numbers; it is not a test.  Build the tables first: ``exactsyn tables build``.
 """
@@ -35,14 +40,17 @@ import time
 from pathlib import Path
 
 from exactsyn import synthesise, tables
-from exactsyn.specification.samples import random_permutation
+from exactsyn.core.library import make_library
+from exactsyn.specification.samples import random_library_function, random_permutation
 
-COST_TABLE = 'NOT = 1\nCNOT = 2\nToffoli = 6\nC3X = 14\n'
+COST_TABLE = "NOT = 1\nCNOT = 2\nToffoli = 6\nC3X = 14\n"
 ASKS = ("ncv", "t-count", "cnot-count", "table", "count", "depth")
 #: Gate counts in restricted libraries (not in the default set): the mct gates on a chain of
 #: lines (0-1-2-3), whose optimum the mct table bounds and SAT settles from there, and mct
 #: capped at 2 controls (the nct gates: its own table answers).
-REACH = ("chain", "cap2")
+REACH = ("chain", "cap2", "cost")
+#: ``cost``: the ncv cost over circuits of any length (the SAT cost loop, started from the
+#: tables' gate count; no table answers it).
 
 
 def hwm() -> int:
@@ -53,15 +61,19 @@ def hwm() -> int:
     return 0
 
 
-def functions(library: str, n: int, seed: int) -> list[tuple[int, ...]]:
+def functions(library: str, n: int, seed: int, gates: int | None = None) -> list[tuple[int, ...]]:
+    """Uniform random permutations (even ones for nct), or with ``gates`` the functions of
+    seeded random circuits of that many library gates (short ones the SAT path can finish)."""
     rng = random.Random(seed)
+    if gates is not None:
+        return [random_library_function(make_library(library, 4), gates, rng) for _ in range(n)]
     return [random_permutation(4, rng, even=library == "nct") for _ in range(n)]
 
 
 def ask(perm: tuple[int, ...], library: str, what: str, cost_file: str, time_limit: float | None) -> dict[str, object]:
     """One question through the API: the answer, whether it is proven, and the time."""
     t0 = time.perf_counter()
-    if what in REACH:
+    if what in ("chain", "cap2"):
         extra = {"coupling": "chain"} if what == "chain" else {"max_controls": 2}
         syn = synthesise(list(perm), library=library, time_limit=time_limit, **extra)  # type: ignore[arg-type]
         return {"value": syn.gate_count, "proven": syn.optimal, "seconds": time.perf_counter() - t0,
@@ -72,6 +84,11 @@ def ask(perm: tuple[int, ...], library: str, what: str, cost_file: str, time_lim
         value = None if obj is None else obj.value
         return {"value": value, "proven": obj is not None and obj.optimal, "seconds": time.perf_counter() - t0,
                 "gates": syn.gate_count}  # fmt: skip
+    if what == "cost":
+        syn = synthesise(list(perm), library=library, objective="cost", cost="ncv", time_limit=time_limit)
+        obj = syn.objective_result
+        return {"value": None if obj is None else obj.value, "proven": obj is not None and obj.optimal,
+                "seconds": time.perf_counter() - t0, "gates": syn.gate_count}  # fmt: skip
     if what == "count":
         syn = synthesise(list(perm), library=library, optima="count", time_limit=time_limit)
         value = None if syn.optima is None else syn.optima.count
@@ -130,6 +147,12 @@ def main() -> None:
     ap.add_argument("--time-limit", type=float, default=None, help="seconds per question with tables")
     ap.add_argument("--baseline-n", type=int, default=5, help="functions the SAT path is asked too (0: none)")
     ap.add_argument("--baseline-limit", type=float, default=30.0, help="seconds per question on the SAT path")
+    ap.add_argument(
+        "--gates",
+        type=int,
+        default=None,
+        help="functions of seeded random circuits of this many gates instead of random permutations",
+    )
     a = ap.parse_args()
     print(" ".join(sys.argv), "|", time.strftime("%Y-%m-%d %H:%M"), "| load", os.getloadavg()[0])
     with tempfile.TemporaryDirectory() as tmp:
@@ -137,12 +160,14 @@ def main() -> None:
         Path(cost_file).write_text(COST_TABLE)
         for library in a.libraries.split(","):
             tables.load(library)  # fails with the build command when the table is missing
-            perms = functions(library, a.n, a.seed)
+            perms = functions(library, a.n, a.seed, a.gates)
             for what in a.asks.split(","):
-                rows = [ask(p, library, what, cost_file, a.time_limit) for p in perms]
+                # mct capped at 2 controls has only even gates: ask it of even functions
+                asked = functions("nct", a.n, a.seed, a.gates) if what == "cap2" else perms
+                rows = [ask(p, library, what, cost_file, a.time_limit) for p in asked]
                 base = []
                 if a.baseline_n:
-                    base = baseline(perms[: a.baseline_n], library, what, cost_file, a.baseline_limit)
+                    base = baseline(asked[: a.baseline_n], library, what, cost_file, a.baseline_limit)
                 report(library, what, rows, base)
 
 

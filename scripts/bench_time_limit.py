@@ -6,6 +6,7 @@ sees it).  Prints, per run: the limit, the wall time, the overshoot against the 
 proven, and the proven lower bound.
 
     python scripts/bench_time_limit.py                       # 4-line nct/mct/mixed, 5 and 6 lines
+    python scripts/bench_time_limit.py --set random --limits 10 --seeds 1,2,3   # 3, 5, 6 lines
     python scripts/bench_time_limit.py --limits 5,20 --set four --seeds 1,2,3
 """
 
@@ -36,6 +37,9 @@ def cases(which: str, seeds: list[int]) -> list[tuple[str, str, list[int]]]:
         for s in seeds:
             p = random_even(4, s)
             out += [(f"random4-{s}", lib, p) for lib in ("nct", "mct", "mixed")]
+    if which in ("all", "random"):  # random permutations: most need more gates than any search reaches
+        for s in seeds:
+            out += [(f"random{n}-{s}", lib, random_even(n, s)) for n in (3, 5, 6) for lib in ("nct", "mct")]
     if which in ("all", "wide"):
         for s in seeds[:2]:
             out.append((f"circuit5x22-{s}", "mct", from_circuit(5, 22, s)))
@@ -73,7 +77,7 @@ def run(perm: list[int], library: str, limit: float) -> dict[str, object]:
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--limits", default="5,20")
-    ap.add_argument("--set", default="all", choices=["all", "four", "wide"])
+    ap.add_argument("--set", default="all", choices=["all", "four", "random", "wide"])
     ap.add_argument("--seeds", default="1,2")
     args = ap.parse_args()
     limits = [float(x) for x in args.limits.split(",")]

@@ -13,23 +13,45 @@ import pytest
 from helpers import perm_from_bits
 
 import exactsyn as ex
+from exactsyn.io.formats import format_for
 
 ROOT = Path(__file__).resolve().parent.parent
 
 
-def test_the_readme_example_runs(tmp_path: Path) -> None:
-    # The Python example of the README, run as written (paths in a temporary directory).
-    cert, out = tmp_path / "cert", tmp_path / "out.qasm"
-    res = ex.synthesise(
-        ex.parse_cycles("(3 7)"), library="nct", objective="gates-then-cost", cost="t-count", certificate=cert
-    )
+def test_the_readme_example_runs(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # The Python example of the README, taken from the README and run as written (in a temporary directory).
+    readme = (ROOT / "README.md").read_text()
+    block = readme.split("```python\n", 1)[1].split("```", 1)[0]
+    assert "import exactsyn as ex" in block and "write_qasm3" in block
+    monkeypatch.chdir(tmp_path)
+    scope: dict[str, object] = {}
+    exec(compile(block, "README.md", "exec"), scope)
+    res = scope["res"]
+    assert isinstance(res, ex.Synthesis)
     # (3 7) on 3 lines is a Toffoli gate onto line 2: 1 gate, T-count 7 (Nielsen & Chuang 2000).
     assert res.circuit is not None and len(res.circuit) == 1 and res.optimal and res.lower_bound == 1
     assert res.objective_result is not None and res.objective_result.value == 7
-    ex.write_qasm3(res.circuit, out)
-    assert ex.read_circuit(out).permutation() == res.spec.outputs
-    assert ex.check_certificate(cert).ok
-    assert res.certificate == cert
+    written = [p for p in tmp_path.iterdir() if p.suffix.startswith(".qasm")]
+    assert len(written) == 1
+    # the file name the example picks makes the command line read it as the version written
+    assert format_for(str(written[0]), None) == "qasm3"
+    assert ex.read_circuit(written[0]).permutation() == res.spec.outputs
+    assert ex.check_certificate(tmp_path / "cert").ok
+
+
+def test_the_readme_says_where_the_comment_lines_of_a_qasm_file_are(tmp_path: Path) -> None:
+    from click.testing import CliRunner
+
+    from exactsyn.cli import main
+
+    readme = " ".join((ROOT / "README.md").read_text().split())
+    assert "comment lines after the version and include lines" in readme
+    for version, name in (("2.0", "c.qasm"), ("3.0", "c.qasm3")):
+        run = CliRunner().invoke(main, ["synth", "--cycles", "(3 7)", "-q", "-o", str(tmp_path / name)])
+        assert run.exit_code == 0, run.output
+        lines = (tmp_path / name).read_text().splitlines()
+        assert lines[0] == f"OPENQASM {version};" and lines[1].startswith("include ")
+        assert lines[2].startswith("// exactsyn ") and lines[3].startswith("// 1 gate, proven optimal")
 
 
 def test_synthesise_accepts_a_list_a_spec_or_a_spec_file() -> None:

@@ -34,7 +34,8 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.cliffordt import CliffordT, check_clifford_t, decompose
 from exactsyn.core.costs import OBJECTIVES, CostModel, cost_model, library_costs
 from exactsyn.core.library import Library, make_library
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, Interrupted
+from exactsyn.proof import staging
 from exactsyn.proof.certificate import proof_writer, write_result
 from exactsyn.sat.conquer import DEFAULT_DEPTH, DEFAULT_SCHEME, SPLIT_AFTER, CubeEvent
 from exactsyn.sat.dimacs import dimacs_writer
@@ -42,6 +43,7 @@ from exactsyn.sat.encode import CostLimit, EncodingOptions
 from exactsyn.sat.options import DEFAULT_OPTIONS, Hooks, Observer, SearchOptions, search_options
 from exactsyn.sat.query import Query
 from exactsyn.search.all_optima import Enumeration, enumerate_optimal
+from exactsyn.search.events import SearchEvent
 from exactsyn.search.fallback import Suggestion, next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import ObjectiveResult, optimise
@@ -262,13 +264,35 @@ def synthesise_request(
     model = request.cost_model()
     if request.objective in ("gates-then-cost", "cost"):
         library_costs(lib, model, positive=request.objective == "cost")  # a bad table fails now, not after the search
-    options = request.search
     cert_dir = request.certificate
-    hooks = Hooks(
-        proof=proof_writer(cert_dir) if cert_dir is not None else None,
-        cnf=dimacs_writer(request.dimacs) if request.dimacs is not None else None,
-        observer=observer,
-    )
+    work = staging.stage(cert_dir) if cert_dir is not None else None  # renamed to cert_dir when complete
+    try:
+        hooks = Hooks(
+            proof=proof_writer(work) if work is not None else None,
+            cnf=dimacs_writer(request.dimacs) if request.dimacs is not None else None,
+            observer=observer,
+        )
+        return _run(spec, embedding, request, lib, model, hooks, work, start)
+    except BaseException as e:
+        if work is not None and work.exists():
+            staging.discard(work)
+            if isinstance(e, KeyboardInterrupt) and not isinstance(e, Interrupted):
+                raise Interrupted(f"no certificate was written to {cert_dir}") from None
+        raise
+
+
+def _run(
+    spec: Spec,
+    embedding: Embedding | None,
+    request: Request,
+    lib: Library,
+    model: CostModel,
+    hooks: Hooks,
+    work: Path | None,
+    start: float,
+) -> Synthesis:
+    """The steps of :func:`synthesise_request` once the certificate's directory is staged (``work``)."""
+    options = request.search
     gates = minimise_gates(spec, lib, options, hooks)
     notes = _gate_notes(gates)
     suggestions: tuple[Suggestion, ...] = ()
@@ -291,10 +315,16 @@ def synthesise_request(
         if not gates.optimal:
             notes.append("the gate count was not proven, so the objective was not optimised")
         else:
+            _announce(hooks, "objective-start", request.objective)
             obj = optimise(request.objective, gates, model, options, hooks, time_limit=left(0.1))
             notes += _objective_notes(obj, lib, options)
+    if request.optima is not None and gates.optimal:
+        _announce(hooks, "optima-start", request.optima)
     listing = _list_optima(request, gates, obj, left(0.0), notes)
-    written = write_result(cert_dir, gates, obj, listing).parent if cert_dir is not None else None
+    written = None
+    if work is not None and request.certificate is not None:
+        write_result(work, gates, obj, listing)
+        written = staging.publish(work, request.certificate)
     circuit = gates.circuit if obj is None else obj.circuit
     optimal = gates.optimal if obj is None else obj.optimal
     return Synthesis(
@@ -313,6 +343,12 @@ def synthesise_request(
         seconds=time.perf_counter() - start,
         suggestions=suggestions,
     )
+
+
+def _announce(hooks: Hooks, phase: str, detail: str) -> None:
+    """Tell the observer a step after the gate search begins (:mod:`exactsyn.search.events`)."""
+    if hooks.observer is not None:
+        hooks.observer(SearchEvent(phase, detail=detail))
 
 
 def _gate_notes(gates: GateResult) -> list[str]:

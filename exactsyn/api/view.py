@@ -51,7 +51,7 @@ def objective_summary(obj: ObjectiveResult) -> str:
     k_star = len(obj.gate_result.circuit or ())
     return (
         f"objective {obj.objective}: {unit} {obj.value}, {proven}; "
-        f"{_gates(len(obj.circuit))} (fewest possible: {k_star})"
+        f"the circuit has {_gates(len(obj.circuit))} (fewest possible: {k_star})"
     )
 
 
@@ -83,10 +83,10 @@ def synthesis_to_dict(syn: Synthesis) -> dict[str, Any]:
         data["costs"] = circuit_costs(c, syn.cost_model)
     if clifford_t is not None:
         data["clifford_t"] = {
-            "t_count": clifford_t.t_count,
-            "cnot_count": clifford_t.cnot_count,
-            "t_depth": clifford_t.t_depth,
-            "h_count": clifford_t.h_count,
+            "t-count": clifford_t.t_count,
+            "cnot-count": clifford_t.cnot_count,
+            "t-depth": clifford_t.t_depth,
+            "h-count": clifford_t.h_count,
             "ancillas": clifford_t.ancillas,
         }
     if objective is not None:
@@ -144,6 +144,13 @@ def status_line(res: GateResult) -> str:
     )
 
 
+def gate_line(syn: Synthesis) -> str:
+    """The gate search's line; with an objective it is marked as the gate optimum, which the
+    circuit printed (optimised for the objective) may exceed."""
+    line = status_line(syn.gate_result)
+    return line if syn.objective_result is None else f"gate optimum: {line}"
+
+
 def qasm_header(syn: Synthesis) -> list[str]:
     """The comment lines at the top of a synthesised OpenQASM file (plain or Clifford+T, one style)."""
     res, c = syn.gate_result, syn.circuit
@@ -168,7 +175,7 @@ def synthesis_to_text(syn: Synthesis) -> str:
     labels = syn.embedding.labels() if syn.embedding is not None else None
     if res.spec.name:
         out.append(f"# {res.spec.name}")
-    out.append(f"# {status_line(res)}")
+    out.append(f"# {gate_line(syn)}")
     if objective is not None:
         out.append(f"# {objective_summary(objective)}")
     out += [f"# note: {n}" for n in syn.notes]

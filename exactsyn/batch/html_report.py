@@ -415,6 +415,6 @@ def render_html(report: BatchReport, chart_uri: str | None) -> str:
 
 def build_report(store_path: str | Path, batch_id: str | None = None, recheck: bool = False) -> str:
     """The HTML page for one batch of a store (the last one run unless ``batch_id``, a prefix, is given)."""
-    with Store(store_path, create=False) as store:
+    with Store(store_path, readonly=True) as store:
         report = collect(store, store.batch(batch_id), recheck)
     return render_html(report, chart_data_uri(report.table))

@@ -4,6 +4,9 @@ Resumption is by the store alone: an item whose row is there is finished and ski
 (``done`` always; ``timeout`` and ``failed`` too unless asked to retry them; a ``done``
 row without a certificate is redone when certificates are wanted).  Every completed
 item is committed as it arrives, so a killed run loses at most the items in flight.
+Items are claimed one at a time as workers ask for them (:meth:`~exactsyn.batch.store.Store.claim`),
+so several processes on one store share the work; an item another process holds is
+waited for, and taken over if that process dies.
 Pending items run in the order of their keys (hashes, so a well-mixed order that keeps
 the rate and the ETA honest from the start).
 """
@@ -16,7 +19,7 @@ from collections.abc import Callable, Iterator
 from dataclasses import dataclass, replace
 
 from exactsyn.batch.plan import GENERATED_SOURCE, Plan
-from exactsyn.batch.store import Member, StatusCounts, Store
+from exactsyn.batch.store import Member, State, StatusCounts, Store
 from exactsyn.batch.task import Outcome, Task
 from exactsyn.batch.workers import Engine
 from exactsyn.errors import ExactsynError
@@ -52,9 +55,18 @@ class RunOptions:
             raise ExactsynError("re-checking certificates (verify) needs certificates")
 
 
+#: How often a batch looks again at items other processes hold (their claims, exactsyn.batch.store).
+HELD_POLL_SECONDS = 2.0
+#: Items claimed in one transaction: a claim costs a write transaction, as much as a small item's
+#: solve (``scripts/bench_batch.py``), and a few claimed ahead still leave the rest to other processes.
+CLAIM_CHUNK = 8
+
+
 @dataclass(frozen=True)
 class Event:
-    """``start`` (``total`` items to run, ``skipped`` already finished) or ``item`` (one outcome)."""
+    """``start`` (``total`` items to run, ``skipped`` already finished), ``item`` (one outcome),
+    ``elsewhere`` (an item another process finished meanwhile) or ``held`` (``total`` items
+    other processes are solving now: this one waits for them)."""
 
     phase: str
     total: int = 0
@@ -100,7 +112,7 @@ def _work(state: tuple[str | None, str | None, int | None], options: RunOptions)
 def pending_tasks(store: Store, plan: Plan, options: RunOptions) -> tuple[list[Task], int]:
     """Tasks for the items of ``plan`` that still need work, and how many were skipped.
 
-    A check task carries no files yet (:func:`materialise` reads them just in time).
+    A check task carries no files yet (:func:`claimed` reads them just in time).
     """
     states = store.member_states(plan.batch_id)
     tasks = []
@@ -126,18 +138,36 @@ def pending_tasks(store: Store, plan: Plan, options: RunOptions) -> tuple[list[T
     return tasks, len(plan.items) - len(tasks)
 
 
-def materialise(store: Store, tasks: list[Task]) -> Iterator[Task]:
-    """Hand tasks out one at a time, reading a check task's certificate files only then.
+def claimed(
+    store: Store, tasks: list[Task], options: RunOptions, held: list[Task], elsewhere: list[str]
+) -> Iterator[Task]:
+    """Claim the tasks in the store, :data:`CLAIM_CHUNK` at a time, as the engine asks for more.
 
-    A certificate that is no longer on disk means the item is solved again.
+    A task another process holds goes to ``held`` (to be tried again later); one another
+    process finished meanwhile to ``elsewhere``; what is left to do is decided again from the
+    row as it is now (a solved item may need only its re-check).  A check task's certificate
+    files are read only then; a certificate no longer on disk means the item is solved again.
     """
-    for t in tasks:
-        if t.check_files is None:
-            yield t
-            continue
-        row = store.get(t.key)
-        files = store.read_certificate(row["certificate"]) if row and row.get("certificate") else None
-        yield replace(t, check_files=files)
+    work: dict[str, str | None] = {}
+
+    def needs_work(key: str, state: State) -> bool:
+        work[key] = _work(state, options)
+        return work[key] is not None
+
+    for at in range(0, len(tasks), CLAIM_CHUNK):
+        chunk = tasks[at : at + CLAIM_CHUNK]
+        answers = store.claim([t.key for t in chunk], needs_work)
+        for t in chunk:
+            if answers[t.key] == "held":
+                held.append(t)
+            elif answers[t.key] == "finished":
+                elsewhere.append(t.key)
+            elif work[t.key] == "solve":
+                yield replace(t, check_files=None)
+            else:
+                row = store.get(t.key)
+                files = store.read_certificate(row["certificate"]) if row and row.get("certificate") else None
+                yield replace(t, check_files=files)
 
 
 def register(store: Store, plan: Plan) -> None:
@@ -174,7 +204,19 @@ def run_batch(
         if on_event:
             on_event(Event("item", status=out.status, key=out.key, reason=out.row.get("reason") or "", seconds=secs))
 
-    engine.run(materialise(store, tasks), on_outcome)
+    with store.claims_kept():
+        while tasks:
+            held: list[Task] = []
+            elsewhere: list[str] = []
+            engine.run(claimed(store, tasks, options, held, elsewhere), on_outcome)
+            if on_event:
+                for key in elsewhere:
+                    on_event(Event("elsewhere", key=key))
+                if held:
+                    on_event(Event("held", total=len(held)))
+            if held:  # other processes are solving these: wait for them to finish or to give them up
+                time.sleep(HELD_POLL_SECONDS)
+            tasks = held
     summary = summarise(store, plan, engine.describe(), skipped, ran, time.perf_counter() - start, item_seconds)
     return replace(summary, checked=checked)
 

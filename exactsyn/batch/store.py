@@ -31,10 +31,19 @@ directory no row points to; :meth:`Store.sweep` (run when a batch starts, under 
 write lock) removes those, and the temporary directories of processes that no longer
 run on this host.
 
-Several processes may run batches on one store at once (the same batch or different
-ones): the write lock orders their commits, an item finished twice keeps one row (the
-later one) with its own certificate, and nothing is lost.  Each process solves what was
-missing when it started, so the same batch run twice at once does the work twice.
+Claims.  Several processes may run batches on one store at once (the same batch or
+different ones) and share the work: before an item goes to a worker, its process claims it
+in the ``claims`` table (one transaction: the item still needs work, and no live claim of
+another process is on it), so no item is computed twice.  A claim is a lease: its process
+renews it every quarter of :data:`LEASE_SECONDS` and gives it back when the item is stored
+(in the row's transaction) or the process stops; the claim of a process killed with
+SIGKILL is taken over when it expires, or at once on the same host, where a dead process
+id is seen.  Should a lease run out while its item is still being solved (a process stalled
+for a minute), the item may be solved twice; the write lock orders the commits, the later
+row and its certificate win, and nothing is lost.  This holds for processes on one machine
+with the store on a local disk: SQLite's locks and write-ahead log do not work over a
+network file system, so several machines share one batch through the Dask engine
+(``--engine dask --scheduler ADDRESS``) run by one process that owns the store.
 """
 
 from __future__ import annotations
@@ -45,11 +54,13 @@ import secrets
 import shutil
 import socket
 import sqlite3
+import threading
 import time
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Literal
+from urllib.parse import quote
 
 from exactsyn.batch.task import Outcome
 from exactsyn.errors import ExactsynError
@@ -112,6 +123,19 @@ CREATE TABLE IF NOT EXISTS members (
 ) WITHOUT ROWID;
 """
 
+# Claims of items being solved (added to stores of the first schema version as they are opened
+# for writing; a version that does not know the table ignores it).
+_CLAIMS = """
+CREATE TABLE IF NOT EXISTS claims (key TEXT PRIMARY KEY, owner TEXT NOT NULL, expires REAL NOT NULL) WITHOUT ROWID
+"""
+
+#: A claim lasts this long unless its process renews it (every LEASE_SECONDS / 4 while it runs).
+LEASE_SECONDS = 60.0
+
+
+State = tuple[str | None, str | None, int | None]
+"""An item's stored ``(status, certificate, verified)``, ``None`` where there is no row."""
+
 
 def _host() -> str:
     """This host's name as it may appear in a file name."""
@@ -129,6 +153,15 @@ def _alive(pid: int) -> bool:
     except PermissionError:
         return True
     return True
+
+
+def _live(owner: str, expires: float) -> bool:
+    """Is a claim still held: not expired, and (on this host) its process still running?"""
+    if expires <= time.time():
+        return False
+    host, _, rest = owner.partition(":")
+    pid = rest.partition(":")[0]
+    return host != _host() or not pid.isdigit() or _alive(int(pid))
 
 
 def _now() -> str:
@@ -165,20 +198,29 @@ class StatusCounts:
 
 
 class Store:
-    """An open results store.  Use as a context manager, or call :meth:`close`."""
+    """An open results store.  Use as a context manager, or call :meth:`close`.
 
-    def __init__(self, path: str | Path, *, create: bool = True) -> None:
+    ``create=False`` needs an existing store; ``readonly=True`` (the commands that only read:
+    ``table``, ``report``) opens it read-only, so it is never created or changed.
+    """
+
+    def __init__(self, path: str | Path, *, create: bool = True, readonly: bool = False) -> None:
         self.path = Path(path)
-        if not create and not self.path.is_file():
-            raise ExactsynError(f"no results store at {self.path}")
+        self.readonly = readonly
+        self.owner = f"{_host()}:{os.getpid()}:{secrets.token_hex(4)}"  # whose claims are whose
         if self.path.exists() and not self.path.is_file():
             raise ExactsynError(f"results store {self.path} is not a file")
+        if (readonly or not create) and not self.path.is_file():
+            raise ExactsynError(f"no results store at {self.path}")
+        if readonly and self.path.stat().st_size == 0:
+            raise ExactsynError(f"{self.path} is an empty file, not a results store ('exactsyn batch' makes one)")
+        if not readonly:
+            self._check_folder()
         try:
-            self.path.parent.mkdir(parents=True, exist_ok=True)
-            self._db = sqlite3.connect(self.path, timeout=60, isolation_level=None)
+            self._db = self._connect()
             self._db.row_factory = sqlite3.Row
             self._db.execute("PRAGMA busy_timeout = 60000")
-            mode = self._db.execute("PRAGMA journal_mode = WAL").fetchone()[0]
+            mode = "wal" if readonly else self._db.execute("PRAGMA journal_mode = WAL").fetchone()[0]
             self._db.execute("PRAGMA synchronous = NORMAL")
             self._init()
         except sqlite3.DatabaseError as e:
@@ -188,20 +230,50 @@ class Store:
         if str(mode).lower() != "wal":
             raise ExactsynError(f"results store {self.path}: the file system does not allow WAL mode")
 
+    def _check_folder(self) -> None:
+        """The store's folder must exist and be writable (SQLite keeps its log files beside the store)."""
+        folder = self.path.parent
+        if not folder.is_dir():
+            raise ExactsynError(
+                f"cannot use results store {self.path}: the folder {folder} does not exist (create it first)"
+            )
+        probe = folder / f".{self.path.name}.probe-{os.getpid()}-{secrets.token_hex(4)}"
+        try:  # a real write: permission bits do not tell (an administrator, a read-only mount)
+            probe.touch(exist_ok=False)
+            probe.unlink()
+        except OSError as e:
+            raise ExactsynError(
+                f"cannot use results store {self.path}: its folder {folder} is not writable "
+                f"({path_problem(folder, e)}; SQLite writes its log files beside the store, and certificates "
+                "go there too); choose a store in a writable folder"
+            ) from None
+
+    def _connect(self) -> sqlite3.Connection:
+        if not self.readonly:
+            return sqlite3.connect(self.path, timeout=60, isolation_level=None)
+        uri = f"file:{quote(str(self.path.resolve()))}?mode=ro"
+        if not os.access(self.path.parent, os.W_OK):
+            uri += "&immutable=1"  # no log files can be made there, so no writer can be at work either
+        return sqlite3.connect(uri, uri=True, timeout=60, isolation_level=None)
+
     # ------------------------------------------------------------ life cycle
     def _init(self) -> None:
         tables = {r[0] for r in self._db.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
         if tables and "meta" not in tables:
             raise ExactsynError(f"{self.path} is an SQLite file but not an exactsyn results store")
+        if not tables and self.readonly:
+            raise ExactsynError(f"{self.path} holds no results store ('exactsyn batch' makes one)")
         if "meta" in tables:
             meta = dict(self._db.execute("SELECT name, value FROM meta").fetchall())
             if meta.get("format") != FORMAT:
                 raise ExactsynError(f"{self.path} is an SQLite file but not an exactsyn results store")
             if meta.get("schema_version") != str(SCHEMA_VERSION):
                 raise ExactsynError(f"results store schema {meta.get('schema_version')} is not supported")
+            if not self.readonly and "claims" not in tables:
+                self._db.execute(_CLAIMS)
             return
         with self.transaction():
-            for statement in _SCHEMA.split(";"):
+            for statement in [*_SCHEMA.split(";"), _CLAIMS]:
                 if statement.strip():
                     self._db.execute(statement)
             self._db.executemany(
@@ -347,6 +419,7 @@ class Store:
                     f"UPDATE results SET {', '.join(f'{c} = ?' for c in cols)} WHERE key = ?",
                     [row[c] for c in cols] + [outcome.key],
                 )
+                self._db.execute("DELETE FROM claims WHERE key = ?", (outcome.key,))
             return
         staged = self._stage_certificate(outcome.key, outcome.files) if outcome.files else None
         placed: Path | None = None
@@ -361,6 +434,7 @@ class Store:
                 else:
                     row["certificate"] = None
                 self._put(row)
+                self._db.execute("DELETE FROM claims WHERE key = ?", (outcome.key,))
         except BaseException:
             for d in (staged, placed):
                 if d is not None:
@@ -397,6 +471,44 @@ class Store:
         except OSError as e:
             raise ExactsynError(f"cannot write certificate {final}: {path_problem(final, e)}") from None
         return final
+
+    # ------------------------------------------------------------ claims
+    def claim(self, keys: Sequence[str], needs_work: Callable[[str, State], bool]) -> dict[str, str]:
+        """Claim items for this process, in one transaction: per key ``claimed``, ``finished`` (its
+        row says no work is left) or ``held`` (another process has a live claim on it).
+
+        ``needs_work(key, (status, certificate, verified))`` is asked about each item's stored
+        row.  A claim is live until it expires (:data:`LEASE_SECONDS` after it was made or last
+        renewed) or, on this host, until its process ends; a dead process's claim is taken over.
+        """
+        answers: dict[str, str] = {}
+        with self.transaction():
+            expires = time.time() + LEASE_SECONDS
+            for key in keys:
+                row = self._db.execute(
+                    "SELECT status, certificate, verified FROM results WHERE key = ?", (key,)
+                ).fetchone()
+                if not needs_work(key, tuple(row) if row else (None, None, None)):
+                    answers[key] = "finished"
+                    continue
+                held = self._db.execute("SELECT owner, expires FROM claims WHERE key = ?", (key,)).fetchone()
+                if held is not None and held[0] != self.owner and _live(held[0], held[1]):
+                    answers[key] = "held"
+                    continue
+                self._db.execute(
+                    "INSERT OR REPLACE INTO claims (key, owner, expires) VALUES (?, ?, ?)", (key, self.owner, expires)
+                )
+                answers[key] = "claimed"
+        return answers
+
+    def release_claims(self) -> None:
+        """Give back every claim of this process (the items it had not finished)."""
+        with self.transaction():
+            self._db.execute("DELETE FROM claims WHERE owner = ?", (self.owner,))
+
+    def claims_kept(self) -> ClaimKeeper:
+        """A context in which this process's claims are renewed, and given back at its end."""
+        return ClaimKeeper(self)
 
     def sweep(self) -> int:
         """Remove certificate directories no row points to, and stale temporary ones; their count.
@@ -451,6 +563,38 @@ class Store:
 
     def integrity(self) -> str:
         return str(self._db.execute("PRAGMA integrity_check").fetchone()[0])
+
+
+class ClaimKeeper:
+    """Renews the claims of one store's process every ``LEASE_SECONDS / 4`` from a thread of its own
+    (with its own connection), and gives them all back when the block ends, also on Ctrl-C."""
+
+    def __init__(self, store: Store) -> None:
+        self.store = store
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._renew, name="exactsyn-claims", daemon=True)
+
+    def __enter__(self) -> ClaimKeeper:
+        self._thread.start()
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self._stop.set()
+        self._thread.join(10)
+        self.store.release_claims()
+
+    def _renew(self) -> None:
+        db = sqlite3.connect(self.store.path, timeout=60, isolation_level=None)
+        try:
+            while not self._stop.wait(LEASE_SECONDS / 4):
+                try:
+                    db.execute(
+                        "UPDATE claims SET expires = ? WHERE owner = ?", (time.time() + LEASE_SECONDS, self.store.owner)
+                    )
+                except sqlite3.Error:
+                    pass  # busy: the next round renews, well before the lease ends
+        finally:
+            db.close()
 
 
 class _Transaction:

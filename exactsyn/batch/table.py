@@ -21,6 +21,7 @@ from typing import Any
 from exactsyn.batch.store import BatchInfo, Store
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
+from exactsyn.io.formats import write_data
 from exactsyn.version import __version__
 
 
@@ -200,22 +201,18 @@ def write_chart(t: OptimumTable, prefix: str | Path) -> list[Path]:
             ax.margins(y=0.12)
             ax.spines[["top", "right"]].set_visible(False)
             fig.tight_layout()
-            try:
-                base.parent.mkdir(parents=True, exist_ok=True)
-                fig.savefig(paths[0], dpi=120)
-                fig.savefig(paths[1], metadata={"Date": None})
-            except OSError as e:
-                raise ExactsynError(f"cannot write chart {base}: {e.strerror}") from None
+            png, svg = io.BytesIO(), io.BytesIO()
+            fig.savefig(png, format="png", dpi=120)
+            fig.savefig(svg, format="svg", metadata={"Date": None})
+            for path, buf in zip(paths, (png, svg), strict=True):
+                write_data(buf.getvalue(), path)  # the one rule of outputs (exactsyn.io.formats.output_path)
         finally:
             plt.close(fig)
     return paths
 
 
 def write_text_file(path: str | Path, text: str) -> None:
-    try:
-        Path(path).write_text(text)
-    except OSError as e:
-        raise ExactsynError(f"cannot write {path}: {e.strerror}") from None
+    write_data(text, path)
 
 
 def to_json(t: OptimumTable) -> str:

@@ -32,7 +32,7 @@ from multiprocessing.connection import Connection, wait
 from typing import Any, Protocol
 
 from exactsyn.batch.task import Outcome, Task, failed, run_task, run_tasks
-from exactsyn.cluster import dask_client, default_jobs, describe, distributed, serve_pipe
+from exactsyn.cluster import INTERRUPTED_EXIT, dask_client, default_jobs, describe, distributed, serve_pipe
 from exactsyn.errors import ExactsynError
 
 __all__ = ["DaskEngine", "Engine", "LocalPool", "default_jobs", "hard_limit"]
@@ -169,6 +169,8 @@ class LocalPool:
                     if dead:
                         slot.process.join(5)
                         code = slot.process.exitcode
+                        if code == INTERRUPTED_EXIT:  # Ctrl-C reached the worker: stop, record nothing
+                            raise KeyboardInterrupt
                         running = retire(slot)
                         if running is not None:
                             on_outcome(failed(running, f"worker process died (exit code {code})"))

@@ -9,9 +9,33 @@ group.  :mod:`~exactsyn.cli.options` holds the options several commands share an
 progress display, with what ``synth`` and ``batch`` show in
 :mod:`~exactsyn.cli.synth_display` and :mod:`~exactsyn.cli.batch_display`.
 
-Imports: anything in the package; nothing imports it but ``python -m exactsyn``.
+Imports: anything in the package; nothing imports it but ``python -m exactsyn``.  Loading
+the commands takes about half a second; Ctrl-C or SIGTERM in that time ends the process
+with the same one line as later (:mod:`exactsyn.cli.stopping`), not a traceback.
 """
 
-from exactsyn.cli.main import main
+import signal as _signal
+import sys as _sys
+import threading as _threading
+
+_terminated: list[int] = []
+
+
+def _term_while_loading(signum: int, frame: object) -> None:
+    _terminated.append(signum)
+    raise KeyboardInterrupt
+
+
+_main_thread = _threading.current_thread() is _threading.main_thread()
+_previous = _signal.signal(_signal.SIGTERM, _term_while_loading) if _main_thread else None
+try:
+    from exactsyn.cli.main import main
+except KeyboardInterrupt:
+    _what = "terminated (SIGTERM)" if _terminated else "interrupted"
+    print(f"exactsyn: {_what}: nothing was written", file=_sys.stderr)
+    _sys.exit(143 if _terminated else 130)
+finally:
+    if _main_thread:
+        _signal.signal(_signal.SIGTERM, _previous)
 
 __all__ = ["main"]

@@ -2,12 +2,11 @@
 
 Exit status of ``batch``: 0 every item of the batch is done (proven optimal), 1 some
 item timed out, failed or is still missing (all summarised), 2 bad input (one line on
-stderr), 130 interrupted (re-run the same command to resume).
+stderr), 130 interrupted by Ctrl-C and 143 by SIGTERM (re-run the same command to resume).
 """
 
 from __future__ import annotations
 
-import signal
 import sys
 
 import click
@@ -36,7 +35,7 @@ from exactsyn.cli.options import (
 )
 from exactsyn.cli.progress import choose_mode
 from exactsyn.core.words import count
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, Interrupted
 from exactsyn.io.draw import draw_text
 from exactsyn.sat.encode import options_for
 from exactsyn.sat.options import SearchOptions
@@ -185,23 +184,24 @@ def batch(
         for note in plan.notes:
             click.echo(f"note: {note}", err=True)
         with Store(store_path) as store:
-            previous = signal.signal(signal.SIGTERM, _terminated)  # a scheduler's stop: like Ctrl-C
             try:
                 with BatchDisplay(choose_mode(quiet, forced=True)) as display:
                     summary = run_batch(store, plan, options, eng, None if quiet else display)
-            except KeyboardInterrupt:
-                click.echo("interrupted: finished items are stored; re-run the same command to resume", err=True)
-                sys.exit(130)
-            finally:
-                signal.signal(signal.SIGTERM, previous)
+            except KeyboardInterrupt:  # Ctrl-C or SIGTERM (exactsyn.cli.stopping): workers are stopped
+                raise Interrupted(f"{_kept(store, plan.batch_id)}; re-run the same command to resume") from None
             click.echo(_summary_text(summary, store))
     except ExactsynError as e:
         fail(e.message)
     sys.exit(0 if summary.all_done else 1)
 
 
-def _terminated(signum: int, frame: object) -> None:
-    raise KeyboardInterrupt
+def _kept(store: Store, batch_id: str) -> str:
+    """What an interrupted batch leaves: its finished items, all committed."""
+    try:
+        done = store.counts(batch_id).of("done")
+    except Exception:  # the store is busy or gone: say only where the results are
+        return f"finished items are kept in {store.path}"
+    return f"{count(done, 'item')} of this batch done and kept in {store.path}"
 
 
 def _summary_text(s: RunSummary, store: Store) -> str:
@@ -265,7 +265,7 @@ def table(
     """
 
     try:
-        with Store(store_path, create=False) as store:
+        with Store(store_path, readonly=True) as store:
             if list_batches:
                 for b in store.batches():
                     label = b.description.get("label", "")

@@ -2,8 +2,10 @@
 
 On a terminal a live bar; otherwise — a log file, a cluster job's output — one plain line
 at most every :data:`~exactsyn.cli.progress.PLAIN_SECONDS` and one at the end (the
-display of :mod:`exactsyn.cli.progress`).  It consumes the :class:`exactsyn.batch.run.Event`
-values the library reports; the library never prints.
+display of :mod:`exactsyn.cli.progress`).  Items another process on the same store
+finishes leave the bar's total; a line says when this process waits for items others
+hold.  It consumes the :class:`exactsyn.batch.run.Event` values the library reports; the
+library never prints.
 """
 
 from __future__ import annotations
@@ -63,6 +65,8 @@ class BatchDisplay(Display):
         super().__init__(mode, console, columns=columns, transient=False, plain_line=plain_line)
         self._counts = {"done": 0, "timeout": 0, "failed": 0}
         self._total = 0
+        self._elsewhere = 0  # items other processes on the store finished meanwhile
+        self._held = 0
 
     def __call__(self, event: Event) -> None:
         if event.phase == "start":
@@ -73,3 +77,10 @@ class BatchDisplay(Display):
         elif event.phase == "item" and self.task is not None:
             self._counts[event.status] = self._counts.get(event.status, 0) + 1
             self.update(LABEL, sum(self._counts.values()), self._total, **self._counts)
+        elif event.phase == "elsewhere" and self.task is not None:  # another process on the store did it
+            self._total -= 1
+            self._elsewhere += 1
+            self.update(LABEL, sum(self._counts.values()), self._total, **self._counts)
+        elif event.phase == "held" and event.total != self._held:
+            self._held = event.total
+            self.line(f"waiting for {count(event.total, 'item')} that other processes on the store are solving")

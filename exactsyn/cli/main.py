@@ -7,8 +7,9 @@ failed), 2 bad input (one line on stderr, no traceback).
 whatever escapes into one line on stderr: click's own usage errors (an unknown option,
 a value that is not a number, a directory where a file is expected) in the same
 ``exactsyn: error: ...`` form as every other bad input, an :class:`ExactsynError` or an
-``OSError`` (exit 2), an interrupt (exit 130), and a bug (exit 1, marked "internal
-error"; ``EXACTSYN_DEBUG=1`` shows its traceback instead).
+``OSError`` (exit 2), an interrupt — Ctrl-C (exit 130) or SIGTERM (exit 143,
+:mod:`exactsyn.cli.stopping`), with what the command kept — and a bug (exit 1, marked
+"internal error"; ``EXACTSYN_DEBUG=1`` shows its traceback instead).
 """
 
 from __future__ import annotations
@@ -26,9 +27,10 @@ from exactsyn.cli.check import check
 from exactsyn.cli.optimise import optimise
 from exactsyn.cli.options import REMOVED_SPELLINGS
 from exactsyn.cli.pictures import draw, report
+from exactsyn.cli.stopping import interrupts
 from exactsyn.cli.synth import synth
 from exactsyn.cli.tables import tables
-from exactsyn.errors import ExactsynError, did_you_mean
+from exactsyn.errors import ExactsynError, Interrupted, did_you_mean
 from exactsyn.version import __version__
 
 DEBUG_VARIABLE = "EXACTSYN_DEBUG"
@@ -64,8 +66,41 @@ def click_message(e: click.ClickException) -> str:
     return text
 
 
+#: What an out-of-memory failure advises, by command (nothing where no option would help).
+OUT_OF_MEMORY_ADVICE = {
+    "synth": "try fewer lines, a smaller --library or --bounds cheap",
+    "batch": "try fewer --jobs, a smaller --library or --bounds cheap",
+    "apply": "give --inputs for fewer rows",
+    "optimise": "try a smaller --window",
+    "tables": "'exactsyn tables build --help' says how much memory a build needs",
+}
+
+
+class _Stopped(Exception):
+    """A :class:`KeyboardInterrupt` carried past click, which would print a blank line for it."""
+
+    def __init__(self, interrupt: BaseException) -> None:
+        super().__init__(str(interrupt))
+        self.kept = interrupt.kept if isinstance(interrupt, Interrupted) else ""
+
+
 class OneLineGroup(click.Group):
     """A click group whose every error is one line on stderr (module docstring)."""
+
+    running = ""  # the command being run, for advice that depends on it
+
+    def resolve_command(
+        self, ctx: click.Context, args: list[str]
+    ) -> tuple[str | None, click.Command | None, list[str]]:
+        name, command, rest = super().resolve_command(ctx, args)
+        OneLineGroup.running = name or ""
+        return name, command, rest
+
+    def invoke(self, ctx: click.Context) -> Any:
+        try:
+            return super().invoke(ctx)
+        except KeyboardInterrupt as e:
+            raise _Stopped(e) from None
 
     def main(  # type: ignore[override]
         self,
@@ -77,20 +112,26 @@ class OneLineGroup(click.Group):
     ) -> Any:
         if not standalone_mode:
             return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        with interrupts() as signals:
+            try:
+                code = self._main_one_line(args, prog_name, complete_var, extra)
+            except (KeyboardInterrupt, click.Abort, _Stopped) as e:
+                kept = e.kept if isinstance(e, _Stopped | Interrupted) else ""
+                click.echo(f"exactsyn: {signals.what()}: {kept or 'nothing was written'}", err=True)
+                sys.exit(signals.exit_status())
+        sys.exit(code if isinstance(code, int) else 0)
+
+    def _main_one_line(self, args: Sequence[str] | None, prog_name: str | None, complete_var: str | None,
+                       extra: dict[str, Any]) -> Any:
+        """Run the command; every error but an interrupt becomes one line and an exit status."""
         try:
-            code = super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+            return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
         except click.exceptions.Exit as e:
             sys.exit(e.exit_code)
-        except click.Abort:
-            click.echo("exactsyn: interrupted", err=True)
-            sys.exit(130)
         except click.ClickException as e:
             _say(click_message(e), e.exit_code)
         except ExactsynError as e:
             _say(e.message, 2)
-        except KeyboardInterrupt:
-            click.echo("exactsyn: interrupted", err=True)
-            sys.exit(130)
         except BrokenPipeError:
             # the reader of stdout went away (e.g. '| head'): nothing more to say
             sys.stderr.close()
@@ -101,8 +142,11 @@ class OneLineGroup(click.Group):
             where = f" {e.filename}" if e.filename else ""
             _say(f"cannot use{where}: {e.strerror or e}", 2)
         except MemoryError:
-            _say("out of memory; try fewer lines, a smaller --library or --bounds cheap", 1)
+            advice = OUT_OF_MEMORY_ADVICE.get(OneLineGroup.running, "")
+            _say("out of memory" + (f"; {advice}" if advice else ""), 1)
         except Exception as e:  # a bug: one line, not a traceback, unless asked
+            if isinstance(e, _Stopped):
+                raise
             if os.environ.get(DEBUG_VARIABLE):
                 raise
             _say(
@@ -110,7 +154,6 @@ class OneLineGroup(click.Group):
                 f"(set {DEBUG_VARIABLE}=1 for the traceback)",
                 1,
             )
-        sys.exit(code if isinstance(code, int) else 0)
 
 
 @click.group(cls=OneLineGroup, context_settings={"help_option_names": ["-h", "--help"]})

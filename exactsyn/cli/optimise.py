@@ -23,7 +23,7 @@ from exactsyn.cli.options import (
     progress_option,
     with_formats,
 )
-from exactsyn.cli.progress import OptimiseDisplay, choose_mode
+from exactsyn.cli.progress import OptimiseDisplay, progress_mode
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import read_circuit_layout
@@ -174,7 +174,7 @@ def optimise(
         check_layout(layout, circuit.lines)
         out_format = output_format(fmt, output, input_format)
         log = None if no_log else (log_path or (log_path_for(output) if output else None))
-        with OptimiseDisplay(choose_mode(quiet, show_progress)) as display:
+        with OptimiseDisplay(progress_mode(quiet, show_progress)) as display:
             result = optimise_circuit(
                 circuit,
                 library=library_name,

@@ -17,11 +17,13 @@ error names what replaced them.
 
 from __future__ import annotations
 
+import os
 from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
 import click
+from click.core import ParameterSource
 
 from exactsyn.api.synthesis import Request
 from exactsyn.core.costs import COST_MODELS, OBJECTIVES
@@ -225,16 +227,49 @@ cube_scheme_option = click.option(
 )
 
 
+def given(name: str) -> bool:
+    """Was the option of parameter ``name`` given on the command line (or in the environment), not defaulted?"""
+    ctx = click.get_current_context(silent=True)
+    source = ctx.get_parameter_source(name) if ctx is not None else None
+    return source in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT)
+
+
+def started_seconds_ago() -> float:
+    """Seconds since this process started (Linux: ``/proc/self/stat`` against
+    ``/proc/uptime``, clock-tick resolution); 0.0 where that cannot be read."""
+    try:
+        ticks = int(Path("/proc/self/stat").read_text().rsplit(")", 1)[1].split()[19])
+        uptime = float(Path("/proc/uptime").read_text().split()[0])
+        return max(0.0, uptime - ticks / os.sysconf("SC_CLK_TCK"))
+    except (OSError, ValueError, IndexError):
+        return 0.0
+
+
+def command_time_limit(limit: float | None) -> float | None:
+    """The search's share of a command's ``--time-limit``: what is left after the start-up
+    (interpreter, imports: about a second), so that the whole command keeps the limit; at
+    least a tenth of a second (or the limit itself when smaller)."""
+    if limit is None:
+        return None
+    return max(min(limit, 0.1), limit - started_seconds_ago())
+
+
 def synthesis_request(asked: dict[str, Any]) -> Request:
     """The :class:`~exactsyn.api.synthesis.Request` of ``synth`` from its library, search, proof
     and objective options (the click parameters by name), built once and checked."""
     if asked["optima_limit"] is not None and asked["optima"] is None:
         raise ExactsynError("--optima-limit needs --optima all or --optima count")
+    cost_based = asked["objective"] in ("cost", "gates-then-cost")
+    if given("cost_name") and asked["cost_name"] in COST_MODELS and not cost_based:
+        raise ExactsynError(
+            f"--cost {asked['cost_name']} changes nothing without --objective cost or gates-then-cost "
+            "(every built-in cost is printed with the circuit)"
+        )
     search = search_options(
         solver=asked["solver"],
         encoding=asked["encoding"],
         bounds=asked["bounds"],
-        time_limit=asked["time_limit"],
+        time_limit=command_time_limit(asked["time_limit"]),
         max_gates=asked["max_gates"],
         jobs=asked["jobs"],
         split=asked["split"],

@@ -40,6 +40,7 @@ from rich.progress import (
 from rich.spinner import Spinner
 from rich.text import Text
 
+from exactsyn.errors import ExactsynError
 from exactsyn.optimise.driver import ProgressEvent
 
 MODES = ("live", "plain", "off")
@@ -54,6 +55,13 @@ def choose_mode(quiet: bool, forced: bool, console: Console | None = None) -> st
     if (console or Console(stderr=True)).is_terminal:
         return "live"
     return "plain" if forced else "off"
+
+
+def progress_mode(quiet: bool, show_progress: bool) -> str:
+    """:func:`choose_mode` for the commands with both ``-q`` and ``--progress``, which contradict each other."""
+    if quiet and show_progress:
+        raise ExactsynError("-q and --progress contradict each other: give one of them")
+    return choose_mode(quiet, show_progress)
 
 
 def clock(seconds: float) -> str:

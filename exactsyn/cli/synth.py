@@ -20,10 +20,10 @@ import click
 from exactsyn.api.synthesis import OPTIMA_MODES, Synthesis, synthesise_request
 from exactsyn.api.view import (
     count_line,
+    gate_line,
     listing_summary,
     objective_summary,
     qasm_header,
-    status_line,
     synthesis_to_dict,
     synthesis_to_text,
 )
@@ -48,7 +48,7 @@ from exactsyn.cli.options import (
     split_option,
     synthesis_request,
 )
-from exactsyn.cli.progress import choose_mode
+from exactsyn.cli.progress import progress_mode
 from exactsyn.cli.synth_display import SynthDisplay
 from exactsyn.errors import ExactsynError, NoCircuitError
 from exactsyn.io.formats import check_writable, format_for, read_circuit_layout, render
@@ -140,7 +140,7 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
     if quiet:
         return
     if not in_header:
-        click.echo(status_line(syn.gate_result), err=True)
+        click.echo(gate_line(syn), err=True)
         for note in syn.notes:
             click.echo(f"exactsyn: note: {note}", err=True)
         if syn.suggestions:
@@ -294,7 +294,7 @@ def synth(
         if asked["optima"] is not None and chosen not in ("text", "json"):
             raise ExactsynError("--optima prints text or json (one circuit per file otherwise)")
         request = synthesis_request(asked)
-        display = SynthDisplay(choose_mode(quiet, show_progress))
+        display = SynthDisplay(progress_mode(quiet, show_progress))
         try:
             with display:
                 syn = synthesise_request(function, request, observer=display)

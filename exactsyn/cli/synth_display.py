@@ -10,6 +10,9 @@ What the search reports (:mod:`exactsyn.search.events`) is shown as:
   each answered query, the fallback circuit, "k = 8..11 excluded by the table", and for
   a split query a line when it starts, every :data:`CUBE_LINE_SECONDS` while it runs and
   when it ends;
+* in plain mode, when nothing was printed for :data:`~exactsyn.cli.progress.PLAIN_SECONDS`,
+  a line with what still runs and for how long (a step of an objective or of the listing
+  of optima may take minutes);
 * nothing with ``-q``, or on a non-terminal without ``--progress``.
 
 The display only formats; it never changes what is computed.
@@ -17,6 +20,7 @@ The display only formats; it never changes what is computed.
 
 from __future__ import annotations
 
+import threading
 import time
 from typing import Any
 
@@ -81,6 +85,29 @@ class SynthDisplay(Display):
         self.now.label = "starting"
         self._cubes: dict[str, int] = {}
         self._cube_start = self._cube_said = 0.0
+        self._last_line = time.perf_counter()
+        self._closed = threading.Event()
+
+    def __enter__(self) -> SynthDisplay:
+        super().__enter__()
+        if self.mode == "plain":  # no live timer: a line now and then says the step still runs
+            threading.Thread(target=self._heartbeat, name="exactsyn-progress", daemon=True).start()
+        return self
+
+    def close(self) -> None:
+        self._closed.set()
+        super().close()
+
+    def line(self, text: str) -> None:
+        self._last_line = time.perf_counter()
+        super().line(text)
+
+    def _heartbeat(self) -> None:
+        """Plain mode: when nothing was printed for :data:`PLAIN_SECONDS`, say what still runs."""
+        while not self._closed.wait(min(self.every / 4, 0.5)):
+            now = time.perf_counter()
+            if now - self._last_line >= self.every and self.now.label:
+                self.line(f"{self.now.label} … {clock(now - self.now.since)} elapsed")
 
     def cube(self, event: CubeEvent) -> None:
         """The ``cube_progress`` callback: per-cube counts on the status line (module docstring)."""
@@ -112,10 +139,17 @@ class SynthDisplay(Display):
             return
         if not isinstance(item, SearchEvent):
             return
-        if item.phase == "table-start":
-            self.status(f"building {item.detail}")
+        starts = {
+            "table-start": f"building {item.detail}",
+            "table-lookup": f"looking the function up in the {item.detail}",
+            "objective-start": f"gate count settled; optimising the {item.detail}",
+            "optima-start": "gate count settled; " + ("counting" if item.detail == "count" else "listing")
+            + " the optimal circuits",
+        }
+        if item.phase in starts:
+            self.status(starts[item.phase])
             if self.live is None:
-                self.line(f"building {item.detail} …")
+                self.line(f"{starts[item.phase]} …")
         elif item.phase == "query-start":
             self.status(f"k = {item.k}: SAT solver running", item.seconds)
         elif item.phase == "table-scan":

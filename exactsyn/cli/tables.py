@@ -9,7 +9,7 @@ import click
 
 from exactsyn.cli.common import fail
 from exactsyn.cli.options import progress_option
-from exactsyn.cli.progress import Display, choose_mode, step_bar
+from exactsyn.cli.progress import Display, progress_mode, step_bar
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError, did_you_mean
 
@@ -126,7 +126,7 @@ def build(libraries: tuple[str, ...], depth: int | None, rebuild: bool, lines: i
     names = _libraries(libraries, DEFAULT_BUILD)
     try:
         for name in names:
-            with Display(choose_mode(quiet, show_progress)) as display:
+            with Display(progress_mode(quiet, show_progress)) as display:
                 got = t.build(name, depth=depth, progress=step_bar(display, name), force=rebuild, lines=lines)
             click.echo(
                 f"{name}: {lines} lines, depth {got.depth}, {count(sum(got.classes), 'class')}, {_size(got.bytes)} "
@@ -163,6 +163,10 @@ def info(libraries: tuple[str, ...], hashes: bool, lines: int) -> None:
         )
         click.echo(f"       {i.directory}")
         click.echo(f"       content hash {i.content_hash}" + ("  (files re-hashed)" if hashes and i.present else ""))
+        built = i.manifest.get("built") or {}
+        if built.get("process_peak_rss_bytes"):
+            click.echo(f"       last build: {float(built.get('seconds', 0)):.0f} s, "
+                       f"peak memory {_size(int(built['process_peak_rss_bytes']))}")  # fmt: skip
 
 
 @tables.command()
@@ -223,7 +227,7 @@ def verify_tables(libraries: tuple[str, ...], jobs: int, lines: int, show_progre
                 fail(_missing(name, lines))
             continue
         try:
-            with Display(choose_mode(quiet, show_progress)) as display:
+            with Display(progress_mode(quiet, show_progress)) as display:
                 res = t.verify_table(name, workers=jobs, progress=step_bar(display, name), lines=lines)
 
         except ExactsynError as e:

@@ -13,6 +13,9 @@ import numpy as np
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
 
+#: Up to this many lines a long circuit is simulated gate by gate as permutation tables (:meth:`Circuit.apply`).
+TABLE_LINES = 12
+
 
 @dataclass(frozen=True)
 class Circuit:
@@ -32,11 +35,28 @@ class Circuit:
         return len(self.gates)
 
     def apply(self, states: np.ndarray) -> np.ndarray:
-        """Run an integer array of input states through the circuit."""
+        """Run an integer array of input states through the circuit.
+
+        A long circuit on few lines (a gate definition expanded many times) repeats few
+        distinct gates: each is then applied as its permutation of the ``2**n`` states,
+        made once by :meth:`Gate.apply` and looked up for every later copy.
+        """
         out = np.asarray(states, dtype=np.int64).copy()
+        size = 1 << self.lines
+        outside = out.size > 0 and (int(out.min()) < 0 or int(out.max()) >= size)
+        if self.lines > TABLE_LINES or len(self.gates) <= size or outside:
+            for g in self.gates:
+                out = g.apply(out)
+            return out
+        everything = np.arange(size, dtype=np.int64)
+        tables: dict[Gate, np.ndarray] = {}
+        perm = everything
         for g in self.gates:
-            out = g.apply(out)
-        return out
+            table = tables.get(g)
+            if table is None:
+                table = tables[g] = g.apply(everything)
+            perm = table[perm]
+        return perm[out]
 
     def permutation(self) -> tuple[int, ...]:
         """``p[i]`` is the output for input ``i``."""

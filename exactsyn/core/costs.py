@@ -26,8 +26,10 @@ the sum over its gates (:func:`circuit_cost`).  Built-in models (:data:`COST_MOD
 
 User tables (:func:`load_cost_table`) are TOML or JSON objects whose keys are the gate
 names of :meth:`~exactsyn.core.gates.Gate.name` (``NOT``, ``CNOT``, ``Toffoli``, ``C3X``,
-``C4X``, ..., ``SWAP``, ``Fredkin``, ``C2SWAP``, ..., ``Peres``), plus an optional
-``negative_control`` surcharge per negative control (default 0)::
+``C4X``, ..., ``SWAP``, ``Fredkin``, ``C2SWAP``, ..., ``Peres``) or the OpenQASM names
+exactsyn writes (``x``, ``cx``, ``ccx``, ``xc3``, ..., ``swap``, ``cswap``, ``swapc2``, ...,
+``peres``; also ``C1X``, ``C2X``, ``C1SWAP``; letter case is ignored for these), plus an
+optional ``negative_control`` surcharge per negative control (default 0)::
 
     NOT = 1
     CNOT = 1
@@ -62,6 +64,30 @@ CostRule = Callable[[Gate, int], int]
 NEGATIVE_CONTROL_KEY = "negative_control"
 # Gate.name(): C<c>X for c >= 3 controls, C<c>SWAP for c >= 2.
 _GATE_NAME = re.compile(r"NOT|CNOT|Toffoli|SWAP|Fredkin|Peres|C([3-9]|[1-9]\d+)X|C([2-9]|[1-9]\d+)SWAP")
+
+#: Other spellings of gate names a cost table may use: the OpenQASM names exactsyn writes
+#: (x, cx, ccx, xc3, swap, cswap, swapc2, peres; io/qasm.py) and C<m>X / C<m>SWAP for every m.
+_ALIAS = re.compile(r"(?P<qx>xc)(?P<qm>\d+)|(?P<qs>swapc)(?P<sm>\d+)|c(?P<cm>\d+)(?P<cf>x|swap)")
+_FIXED = {"x": "NOT", "not": "NOT", "cx": "CNOT", "cnot": "CNOT", "ccx": "Toffoli", "toffoli": "Toffoli",
+          "swap": "SWAP", "cswap": "Fredkin", "fredkin": "Fredkin", "peres": "Peres"}
+
+
+def gate_name(key: str) -> str | None:
+    """The name :meth:`~exactsyn.core.gates.Gate.name` gives a gate spelled ``key`` in any accepted way
+    (module docstring; letter case is ignored), or ``None``."""
+    if _GATE_NAME.fullmatch(key):
+        return key
+    low = key.strip().lower()
+    if low in _FIXED:
+        return _FIXED[low]
+    m = _ALIAS.fullmatch(low)
+    if m is None:
+        return None
+    controls = int(m["qm"] or m["sm"] or m["cm"])
+    family = "x" if m["qx"] or m["cf"] == "x" else "swap"
+    if family == "x":
+        return {0: "NOT", 1: "CNOT", 2: "Toffoli"}.get(controls, f"C{controls}X")
+    return {0: "SWAP", 1: "Fredkin"}.get(controls, f"C{controls}SWAP")
 
 
 @dataclass(frozen=True)
@@ -188,14 +214,17 @@ def cost_table(table: Mapping[str, object], source: str = "table") -> CostModel:
                 raise ExactsynError(f"cost table {source}: {key} must be an integer >= 0, not {value!r}")
             surcharge = value
             continue
-        if not _GATE_NAME.fullmatch(key):
+        name = gate_name(key)
+        if name is None:
             raise ExactsynError(
                 f"cost table {source}: unknown gate name {key!r} (use NOT, CNOT, Toffoli, C3X, ..., "
-                f"SWAP, Fredkin, C2SWAP, ..., Peres, {NEGATIVE_CONTROL_KEY})"
+                f"SWAP, Fredkin, C2SWAP, ..., Peres, {NEGATIVE_CONTROL_KEY}; or OpenQASM names: x, cx, ccx, xc3, ...)"
             )
+        if name in dict(costs):
+            raise ExactsynError(f"cost table {source}: {key!r} names {name}, which is costed twice")
         if not isinstance(value, int) or isinstance(value, bool) or value < 1:
             raise ExactsynError(f"cost table {source}: cost of {key} must be an integer >= 1, not {value!r}")
-        costs.append((key, value))
+        costs.append((name, value))
     listed = ", ".join(f"{k} {v}" for k, v in costs)
     description = f"table {source}: {listed}" + (f", +{surcharge} per negative control" if surcharge else "")
     return CostModel(f"table:{source}", description, "user-supplied", TableRule(tuple(costs), surcharge, source))
@@ -209,7 +238,7 @@ def load_cost_table(path: str | Path) -> CostModel:
 
 def cost_model(name_or_path: str) -> CostModel:
     """A built-in model by name (``gates``, ``ncv``, ``t-count``, ``cnot-count``) or a table file."""
-    key = name_or_path.strip().lower()
+    key = name_or_path.strip().lower().replace("_", "-")  # t_count (the JSON spelling) = t-count
     if key in COST_MODELS:
         return COST_MODELS[key]
     path = Path(name_or_path.strip())

@@ -62,6 +62,11 @@ PERES_FONT_SIZE = 13.0
 STROKE = 2.0
 PAD = TARGET_RADIUS + 6.0  # above the first and below the last wire of a block
 
+#: The most wires (one per line and row) and gate symbols a picture may hold: at the limit an
+#: SVG file of about 40 MB, written in about 4 s on 2 shared cores (``scripts/bench_readers.py
+#: --pictures`` measures it).
+MAX_ELEMENTS = 100_000
+
 MARK_KINDS = ("ctrl-pos", "ctrl-neg", "target", "swap", "peres")
 
 
@@ -174,6 +179,17 @@ def _sub_columns(circuit: Circuit, layer: list[int]) -> list[list[int]]:
     return cols
 
 
+def check_size(lines: int, blocks: int, gates: int) -> None:
+    """Refuse, before anything is drawn, a picture of more than :data:`MAX_ELEMENTS` wires and gate symbols."""
+    elements = lines * blocks + gates
+    if elements > MAX_ELEMENTS:
+        raise ExactsynError(
+            f"the picture would hold {elements:,} wires and gate symbols ({lines} lines in {blocks} rows, "
+            f"{gates:,} gates); exactsyn draws at most {MAX_ELEMENTS:,}: draw a part of the circuit, or use a "
+            "larger --wrap (fewer rows) or --packed"
+        )
+
+
 def layout(
     circuit: Circuit,
     labels: list[str] | tuple[str, ...] | None = None,
@@ -201,6 +217,7 @@ def layout(
         blocks[-1].append(unit)
         used += len(unit)
 
+    check_size(n, len(blocks), len(circuit.gates))
     label_width = max((display_width(name) for name in names), default=0) * CHAR_WIDTH
     wire_start = MARGIN + label_width + LABEL_GAP
     block_height = 2 * PAD + (n - 1) * ROW

@@ -10,7 +10,7 @@ then by its suffix.
 
 from __future__ import annotations
 
-import json
+import os
 import tomllib
 from collections.abc import Callable, Sequence
 from pathlib import Path
@@ -19,6 +19,7 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io import registry
 from exactsyn.io.layout import Layout
+from exactsyn.io.limits import MAX_FILE_BYTES, check_file_size, load_json
 from exactsyn.io.registry import RenderOptions
 
 #: The reader of a text no format claims by content or suffix: OpenQASM (which needs no
@@ -100,9 +101,21 @@ def path_problem(path: str | Path, error: OSError) -> str:
     return error.strerror or str(error)
 
 
+def output_path(path: str | Path) -> Path:
+    """Where writing ``path`` puts the data: the file a symbolic link names, else ``path`` itself.
+
+    The rule of every output (``-o``, ``--certificate``, ``--dimacs``, ``--csv``, ``--json``,
+    ``--chart``, ``--store``): a command creates the file or directory it is asked to write,
+    never the folders above it; it writes through a symbolic link, never replacing the link;
+    and it writes under a temporary name first, renamed into place when complete.
+    """
+    p = Path(path)
+    return p.resolve() if p.is_symlink() else p
+
+
 def check_writable(path: str | Path, what: str = "output file") -> None:
     """Fail now, before any work, when ``path`` cannot be written (by creating and removing its temporary file)."""
-    p = Path(path)
+    p = output_path(path)
     if p.is_dir():
         raise ExactsynError(f"{what} {p} is a directory")
     tmp = p.with_name(p.name + ".tmp")
@@ -120,9 +133,10 @@ def write_data(data: str | bytes, path: str | Path, check: Callable[[Path], None
     """Write text or bytes atomically (a temporary file renamed into place).
 
     ``check(temporary_path)`` runs on the written temporary file before it is renamed: when
-    it raises, the temporary file is removed and nothing is left at ``path``.
+    it raises, the temporary file is removed and nothing is left at ``path``.  A symbolic link
+    is written through (:func:`output_path`).
     """
-    p = Path(path)
+    p = output_path(path)
     tmp = p.with_name(p.name + ".tmp")
     try:
         if isinstance(data, bytes):
@@ -154,15 +168,20 @@ def write_circuit(circuit: Circuit, path: str | Path, fmt: str | None = None, **
 
 
 def read_text(path: str | Path, what: str) -> str:
+    """The UTF-8 text of a file (a byte-order mark at the start is dropped), refused before it is
+    read when larger than :data:`~exactsyn.io.limits.MAX_FILE_BYTES`."""
     p = Path(path)
     try:
-        raw = p.read_bytes()
+        with open(p, "rb") as fh:
+            check_file_size(os.fstat(fh.fileno()).st_size, f"{what} {p}")
+            raw = fh.read(MAX_FILE_BYTES + 1)
     except IsADirectoryError:
         raise ExactsynError(f"{what} {p} is a directory") from None
     except OSError as e:
         raise ExactsynError(f"cannot read {what} {p}: {e.strerror}") from None
+    check_file_size(len(raw), f"{what} {p}")  # a pipe or a device has no size to stat
     try:
-        return raw.decode("utf-8")
+        return raw.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise ExactsynError(f"{what} {p} is not UTF-8 text") from None
 
@@ -212,9 +231,9 @@ def _refuse_non_circuit(kind: str, text: str, where: str) -> None:
         )
     if kind == "json":
         try:
-            data = json.loads(text)
-        except (json.JSONDecodeError, RecursionError):
-            return  # the JSON reader names the position
+            data = load_json(text, where)
+        except ExactsynError:
+            return  # the JSON reader says what is wrong
         if isinstance(data, dict) and data.get("format") == "exactsyn-certificate":
             raise ExactsynError(
                 f"{where} is a certificate's result.json, not a circuit: check it with 'exactsyn check'"

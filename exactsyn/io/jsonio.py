@@ -28,6 +28,7 @@ from typing import Any
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
+from exactsyn.io.limits import check_gates, check_lines, load_json
 
 _X_KEYS = frozenset({"type", "target", "controls", "negative_controls"})
 _SWAP_KEYS = frozenset({"type", "targets", "controls", "negative_controls"})
@@ -131,9 +132,11 @@ def circuit_from_dict(d: object) -> Circuit:
     lines = d["lines"]
     if isinstance(lines, bool) or not isinstance(lines, int) or lines < 1:
         raise ExactsynError(f"circuit: 'lines' must be a positive integer, not {_show(lines)}")
+    check_lines(lines, "circuit: 'lines' says")
     gates_in = d["gates"]
     if not isinstance(gates_in, list):
         raise ExactsynError("circuit: 'gates' must be a list")
+    check_gates(len(gates_in), "circuit: 'gates'")
     gates = []
     for i, gd in enumerate(gates_in):
         where = f"gate {i}"
@@ -147,10 +150,4 @@ def circuit_from_dict(d: object) -> Circuit:
 
 def load_json_circuit(text: str) -> Circuit:
     """Parse JSON text holding a circuit (or a result object with ``lines`` and ``gates``)."""
-    try:
-        data = json.loads(text)
-    except json.JSONDecodeError as e:
-        raise ExactsynError(f"malformed JSON at line {e.lineno} column {e.colno}: {e.msg}") from None
-    except RecursionError:
-        raise ExactsynError("malformed JSON: nested too deeply") from None
-    return circuit_from_dict(data)
+    return circuit_from_dict(load_json(text, "the circuit"))

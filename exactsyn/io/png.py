@@ -6,6 +6,7 @@ The picture is the SVG one: both are drawn from the same
 figure (no pyplot state, so it is safe in any process).  One layout pixel is one
 typographic point, so the figure is ``width / 72`` by ``height / 72`` inches and
 ``scale`` sets the output resolution (``scale=2``: two PNG pixels per layout pixel).
+A picture beyond :data:`MAX_PIXELS` or :data:`MAX_SIDE` is refused before it is drawn.
 
 Why matplotlib and not an SVG rasteriser: it installs from PyPI as wheels with its own
 fonts (DejaVu Sans Mono for the labels) and needs no system library, while an SVG
@@ -16,12 +17,18 @@ and matplotlib is already a dependency of exactsyn (the batch tables' charts).
 from __future__ import annotations
 
 import io
+import math
 import warnings
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io import diagram as d
 from exactsyn.io.svg import INK, PAPER
+
+#: The largest PNG: Agg draws into a buffer of 4 bytes a pixel (64 megapixels: 256 MiB), and
+#: refuses sides beyond 2^16 pixels.
+MAX_PIXELS = 64 * 10**6
+MAX_SIDE = 32_768
 
 # Label fonts: matplotlib's own monospace font first, then wide-script fonts where installed
 # (matplotlib falls back glyph by glyph along the list).
@@ -47,6 +54,13 @@ def layout_to_png(lay: d.Layout, scale: float = 2.0) -> bytes:
     """PNG bytes for a computed layout."""
     if not 0.25 <= scale <= 16:
         raise ExactsynError("the PNG scale must be between 0.25 and 16")
+    wide, high = math.ceil(lay.width * scale), math.ceil(lay.height * scale)
+    if max(wide, high) > MAX_SIDE or wide * high > MAX_PIXELS:
+        raise ExactsynError(
+            f"the PNG would be {wide:,} × {high:,} pixels; exactsyn writes PNGs of at most "
+            f"{MAX_PIXELS // 10**6} megapixels and {MAX_SIDE:,} pixels a side: write SVG instead (-o FILE.svg), "
+            "or draw a part of the circuit"
+        )
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D

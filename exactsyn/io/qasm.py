@@ -84,6 +84,7 @@ from exactsyn.core.cliffordt import CliffordT
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
 from exactsyn.io.layout import Layout
+from exactsyn.io.limits import MAX_GATES, MAX_LINES, WHO_HANDLES, check_lines
 from exactsyn.io.qasm_defs import (
     MAX_UNITARY_QUBITS,
     PRELUDE,
@@ -373,10 +374,16 @@ def _check_definition(ln: int, stmt: str, defined: dict[str, tuple[str, int]]) -
     return name, ("x" if family == "xc" else "swap"), m
 
 
-def _number(ln: int, digits: str) -> int:
-    """A register size or qubit index: decimal, no leading zero (OpenQASM 2.0: ``[1-9][0-9]*|0``)."""
+def _number(ln: int, digits: str, what: str) -> int:
+    """A register size or qubit index: decimal, no leading zero (OpenQASM 2.0: ``[1-9][0-9]*|0``),
+    at most :data:`~exactsyn.io.limits.MAX_LINES` (checked before it is converted)."""
     if len(digits) > 1 and digits.startswith("0"):
-        raise ExactsynError(f"the number '{digits}' at line {ln} has a leading zero")
+        raise ExactsynError(f"the number '{digits[:12]}' at line {ln} has a leading zero")
+    if len(digits) > len(str(MAX_LINES)) or int(digits) > MAX_LINES:
+        shown = digits if len(digits) <= 12 else f"{digits[:9]}… ({len(digits)} digits)"
+        raise ExactsynError(
+            f"{what} {shown} at line {ln}: exactsyn reads circuits of at most {MAX_LINES:,} lines ({WHO_HANDLES})"
+        )
     return int(digits)
 
 
@@ -394,7 +401,7 @@ def _operand(ln: int, text: str, regs: dict[str, _Register]) -> int:
             )
         first = next(iter(regs))
         raise ExactsynError(f"cannot read operand '{text}' at line {ln}; expected e.g. {first}[0]")
-    name, idx = m.group(1), _number(ln, m.group(2))
+    name, idx = m.group(1), _number(ln, m.group(2), "qubit index")
     reg = regs.get(name)
     if reg is None:
         raise ExactsynError(f"unknown register '{name}' at line {ln}; {_declared(regs)}")
@@ -452,6 +459,7 @@ class _Reader:
         new = _register(ln, stmt)
         if new.name in self.regs:
             raise ExactsynError(f"register '{new.name}' at line {ln} is declared a second time")
+        check_lines(self.lines + new.size, f"register '{new.name}' at line {ln} makes")
         self.regs[new.name] = _Register(new.name, new.size, self.lines)
         self.lines += new.size
 
@@ -466,7 +474,8 @@ class _Reader:
         else:
             self.user[name] = parse_definition(ln, stmt, self.lookup, self.base)
 
-    def call(self, ln: int, stmt: str) -> tuple[Gate, ...]:
+    def call(self, ln: int, stmt: str, budget: int = MAX_GATES) -> tuple[Gate, ...]:
+        """The gates of one call statement, at most ``budget`` of them (checked before they are made)."""
         call = parse_call(stmt)
         if call is None:
             snippet = stmt if len(stmt) <= 30 else stmt[:27] + "..."
@@ -489,10 +498,10 @@ class _Reader:
         try:
             plain = reversible_meaning(call, self.lookup, self.base)
             if plain is not None:
-                return modified_gates(plain[1], plain[0], call.modifiers, qubits)
+                return modified_gates(plain[1], plain[0], call.modifiers, qubits, budget)
             return self.unitary_call(ln, call, qubits)
         except ExactsynError as e:
-            if e.message.startswith(("needs ", "uses a qubit twice")):
+            if e.message.startswith(("needs ", "uses a qubit twice", "acts on ", "expands to ")):
                 raise ExactsynError(f"'{stmt}' at line {ln} {e.message}") from None
             if " at line " in e.message:
                 raise
@@ -510,9 +519,7 @@ class _Reader:
         mods = tuple((m.word, m.arg) for m in call.modifiers)
         key = (repr((call.name, mods)), values)
         if key not in self.meanings:
-            matrix = call_matrix(call, {}, self.lookup, self.base)
-            if matrix.shape[0] != 1 << k:
-                raise ExactsynError(f"needs {matrix.shape[0].bit_length() - 1} qubits, not {k}")
+            matrix = call_matrix(call, {}, self.lookup, self.base, k)
             perm, reason = as_permutation(matrix)
             if perm is None:
                 self.meanings[key] = reason
@@ -541,7 +548,8 @@ def _register(ln: int, stmt: str) -> _Register:
     )
     if m:
         a, b = m.group(1), m.group(2)
-        name, size = (a, _number(ln, b)) if stmt.startswith("qreg") else (b, _number(ln, a))
+        name, digits = (a, b) if stmt.startswith("qreg") else (b, a)
+        size = _number(ln, digits, "register size")
     else:
         single = re.fullmatch(rf"qubit\s+({_IDENT})", stmt)
         if not single:
@@ -555,7 +563,9 @@ def _register(ln: int, stmt: str) -> _Register:
 def read_qasm_layout(text: str) -> tuple[Circuit, Layout]:
     """Read OpenQASM 2.0 or 3.0 (module docstring): the circuit and its register layout.
 
-    Lines are numbered register after register in declaration order."""
+    Lines are numbered register after register in declaration order; a byte-order mark at
+    the start is skipped."""
+    text = text.removeprefix("\ufeff")
     r = _Reader()
     gates: list[Gate] = []
     for index, (ln, stmt) in enumerate(_statements(text)):
@@ -586,7 +596,7 @@ def read_qasm_layout(text: str) -> tuple[Circuit, Layout]:
             shown = word or stmt[:20]
             raise ExactsynError(f"unsupported statement '{shown}' at line {ln}; {SUPPORTED}")
         else:
-            gates.extend(r.call(ln, stmt))
+            gates.extend(r.call(ln, stmt, MAX_GATES - len(gates)))
     if not r.regs:
         raise ExactsynError("no quantum register is declared (qreg q[n]; or qubit[n] q;)")
     layout = Layout(tuple((reg.name, reg.size) for reg in r.regs.values()))

@@ -48,6 +48,7 @@ import numpy as np
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.core.words import count
 from exactsyn.errors import ExactsynError
+from exactsyn.io.limits import MAX_GATES, MAX_LINES, check_power, reduced_power
 
 #: Largest gate whose unitary is multiplied out (a 2^10 × 2^10 complex matrix is 16 MiB).
 MAX_UNITARY_QUBITS = 10
@@ -324,33 +325,60 @@ def parse_call(stmt: str) -> Call | None:
 
 
 def modifier_count(mod: Modifier, env: Mapping[str, float] | None = None) -> int:
-    """The integer of ``ctrl(n)``, ``negctrl(n)`` or ``pow(k)`` (1 when omitted)."""
+    """The integer of ``ctrl(n)``, ``negctrl(n)`` or ``pow(k)`` (1 when omitted), bounded before use:
+    a control count by the lines a circuit may have, an exponent by :data:`~exactsyn.io.limits.MAX_POWER`."""
     if mod.arg is None:
         if mod.word == "pow":
             raise ExactsynError("'pow @' needs an exponent, e.g. pow(2) @")
         return 1
-    value = evaluate(mod.arg, env)
-    if value != int(value):
-        raise ExactsynError(f"'{mod.word}({mod.arg})' needs an integer")
-    count = int(value)
-    if mod.word in ("ctrl", "negctrl") and count < 1:
-        raise ExactsynError(f"'{mod.word}({mod.arg})': the control count must be a positive integer")
+    literal = re.fullmatch(r"\s*([+-]?)\s*(\d{1,19})\s*", mod.arg)
+    if literal:  # exact, also beyond the 2^53 where floats stop counting by one
+        count = int(literal.group(1) + literal.group(2))
+    else:
+        value = evaluate(mod.arg, env)
+        if value != int(value) or abs(value) > 2**53:
+            raise ExactsynError(f"'{mod.word}({mod.arg})' needs an integer")
+        count = int(value)
+    if mod.word in ("ctrl", "negctrl"):
+        if count < 1:
+            raise ExactsynError(f"'{mod.word}({mod.arg})': the control count must be a positive integer")
+        if count > MAX_LINES:
+            raise ExactsynError(f"'{mod.word}({mod.arg})': {count} controls; a circuit has at most {MAX_LINES} lines")
+    else:
+        check_power(count, f"'pow({mod.arg})'")
     return count
+
+
+def too_long() -> ExactsynError:
+    """The refusal of an expansion past the gate budget (:data:`~exactsyn.io.limits.MAX_GATES`);
+    the caller puts the statement in front."""
+    return ExactsynError(
+        f"expands past {MAX_GATES:,} gates, the most a circuit read by exactsyn may have (counted after "
+        "every definition, modifier and power is expanded)"
+    )
 
 
 # ---------------------------------------------------------------------------- reversible meaning
 def _add_controls(gates: Sequence[Gate], pos: Sequence[int], neg: Sequence[int]) -> tuple[Gate, ...]:
-    out: list[Gate] = []
-    for g in gates:
+    made: dict[Gate, tuple[Gate, ...]] = {}  # a long expansion repeats few distinct gates
+
+    def controlled_gate(g: Gate) -> tuple[Gate, ...]:
         parts: Sequence[Gate] = (g,)
         if g.family == "peres":  # the Toffoli, then the CNOT (exactsyn.core.gates)
             (a,), (b, c) = g.controls, g.targets
             parts = (x_gate(c, [a, b]), x_gate(b, [a]))
-        for h in parts:
-            if h.family == "x":
-                out.append(x_gate(h.target, (*h.controls, *pos), (*h.negative_controls, *neg)))
-            else:
-                out.append(swap_gate(h.targets[0], h.targets[1], (*h.controls, *pos), (*h.negative_controls, *neg)))
+        return tuple(
+            x_gate(h.target, (*h.controls, *pos), (*h.negative_controls, *neg))
+            if h.family == "x"
+            else swap_gate(h.targets[0], h.targets[1], (*h.controls, *pos), (*h.negative_controls, *neg))
+            for h in parts
+        )
+
+    out: list[Gate] = []
+    for g in gates:
+        if g not in made:
+            made[g] = controlled_gate(g)
+        out.extend(made[g])
     return tuple(out)
 
 
@@ -359,35 +387,53 @@ def _inverse(gates: Sequence[Gate]) -> tuple[Gate, ...]:
 
 
 def _relabel(gates: Sequence[Gate], lines: Sequence[int]) -> tuple[Gate, ...]:
-    out = []
-    for g in gates:
+    """The gates with local line ``i`` moved to ``lines[i]`` (nothing to do for ``0, 1, 2, ...``)."""
+    if all(line == i for i, line in enumerate(lines)):
+        return tuple(gates)
+    made: dict[Gate, Gate] = {}  # a long expansion repeats few distinct gates
+
+    def moved(g: Gate) -> Gate:
         targets = tuple(lines[t] for t in g.targets)
         pos = [lines[c] for c in g.controls]
         neg = [lines[c] for c in g.negative_controls]
         if g.family == "x":
-            out.append(x_gate(targets[0], pos, neg))
-        elif g.family == "swap":
-            out.append(swap_gate(targets[0], targets[1], pos, neg))
-        else:
-            out.append(peres_gate(pos[0], targets[0], targets[1]))
+            return x_gate(targets[0], pos, neg)
+        if g.family == "swap":
+            return swap_gate(targets[0], targets[1], pos, neg)
+        return peres_gate(pos[0], targets[0], targets[1])
+
+    out = []
+    for g in gates:
+        h = made.get(g)
+        if h is None:
+            h = made[g] = moved(g)
+        out.append(h)
     return tuple(out)
 
 
 def modified_gates(
-    base: Sequence[Gate], arity: int, modifiers: Sequence[Modifier], lines: Sequence[int]
+    base: Sequence[Gate],
+    arity: int,
+    modifiers: Sequence[Modifier],
+    lines: Sequence[int],
+    budget: int = MAX_GATES,
 ) -> tuple[Gate, ...]:
     """The gates of ``modifiers @ base`` on operand ``lines`` (control operands first).
 
     ``base`` acts on local lines ``0..arity-1``.  A control modifier adds its operands as
     controls of every gate (a controlled product is the product of the controlled gates);
-    ``inv`` reverses the sequence and inverts each gate; ``pow(k)`` repeats it (k < 0:
-    the inverse, −k times).  Raises :class:`ExactsynError` on a wrong operand count or a
-    qubit used twice (messages without a line number: the caller adds it)."""
+    ``inv`` reverses the sequence and inverts each gate; ``pow(k)`` repeats it ``k`` modulo
+    the order of its permutation (k < 0: the inverse, :func:`~exactsyn.io.limits.reduced_power`).
+    Raises :class:`ExactsynError` on a wrong operand count, a qubit used twice, or a result
+    longer than ``budget`` gates — each checked before the gates are made (messages without
+    a line number: the caller adds it)."""
     need = arity + sum(modifier_count(m) for m in modifiers if m.word in ("ctrl", "negctrl"))
     if len(lines) != need:
         raise ExactsynError(f"needs {need} qubits, not {len(lines)}")
     if len(set(lines)) != len(lines):
         raise ExactsynError("uses a qubit twice")
+    if len(base) > budget:
+        raise too_long()
     at = need - arity
     gates = _relabel(base, lines[at:])
     for mod in reversed(modifiers):  # innermost first
@@ -396,11 +442,15 @@ def modified_gates(
             at -= count
             ctl = lines[at : at + count]
             gates = _add_controls(gates, ctl if mod.word == "ctrl" else (), ctl if mod.word == "negctrl" else ())
+            if len(gates) > budget:  # a controlled Peres gate is two gates
+                raise too_long()
         elif mod.word == "inv":
             gates = _inverse(gates)
         else:
-            k = modifier_count(mod)
-            gates = (gates if k >= 0 else _inverse(gates)) * abs(k)
+            times, inverse = reduced_power(gates, modifier_count(mod))
+            if len(gates) * times > budget:
+                raise too_long()
+            gates = (_inverse(gates) if inverse else gates) * times
     return gates
 
 
@@ -492,7 +542,8 @@ def _as_gates(defn: Definition, lookup: Lookup, base: BaseLookup) -> tuple[Gate,
             return None
         arity, gates = known
         try:
-            out.extend(modified_gates(gates, arity, call.modifiers, [index[o] for o in call.operands]))
+            lines = [index[o] for o in call.operands]
+            out.extend(modified_gates(gates, arity, call.modifiers, lines, MAX_GATES - len(out)))
         except ExactsynError as e:
             raise ExactsynError(f"'{call.name}' {e.message}") from None
     return tuple(out)
@@ -510,8 +561,33 @@ def _apply(state: Matrix, matrix: Matrix, qubits: Sequence[int], k: int) -> Matr
     return r.reshape(state.shape)
 
 
-def call_matrix(call: Call, env: Mapping[str, float], lookup: Lookup, base: BaseLookup) -> Matrix:
-    """The unitary of one call on its operands (operand j = bit j), modifiers applied."""
+def call_qubits(call: Call, env: Mapping[str, float], lookup: Lookup, base: BaseLookup) -> int:
+    """How many operands a call takes: its gate's, plus the operands of its control modifiers."""
+    defn = lookup(call.name)
+    own = base(call.name)
+    if defn is not None:
+        arity = defn.arity
+    elif own is not None:
+        arity = own[0]
+    elif call.name in STANDARD:
+        arity = STANDARD[call.name][1]
+    else:
+        raise ExactsynError(f"unsupported gate '{call.name}'")
+    return arity + sum(modifier_count(m, env) for m in call.modifiers if m.word in ("ctrl", "negctrl"))
+
+
+def call_matrix(call: Call, env: Mapping[str, float], lookup: Lookup, base: BaseLookup, qubits: int) -> Matrix:
+    """The unitary of one call on its ``qubits`` operands (operand j = bit j), modifiers applied.
+
+    The operand count and the matrix size are checked before any matrix is built."""
+    need = call_qubits(call, env, lookup, base)
+    if need != qubits:
+        raise ExactsynError(f"needs {need} qubits, not {qubits}")
+    if need > MAX_UNITARY_QUBITS:
+        raise ExactsynError(
+            f"acts on {need} qubits; exactsyn multiplies out the unitary of gates on at most "
+            f"{MAX_UNITARY_QUBITS} qubits"
+        )
     values = tuple(evaluate(p, env) for p in call.params)
     defn = lookup(call.name)
     own = base(call.name)
@@ -521,13 +597,11 @@ def call_matrix(call: Call, env: Mapping[str, float], lookup: Lookup, base: Base
         if values:
             raise ExactsynError(f"'{call.name}' takes no parameters")
         matrix = permutation_matrix(own[1], own[0])
-    elif call.name in STANDARD:
+    else:
         nparams, _, build = STANDARD[call.name]
         if len(values) != nparams:
             raise ExactsynError(f"'{call.name}' takes {count(nparams, 'parameter')}, not {len(values)}")
         matrix = build(*values)
-    else:
-        raise ExactsynError(f"unsupported gate '{call.name}'")
     for mod in reversed(call.modifiers):
         if mod.word in ("ctrl", "negctrl"):
             matrix = controlled(matrix, modifier_count(mod, env), mod.word == "negctrl")
@@ -559,13 +633,13 @@ def definition_unitary(defn: Definition, values: Sequence[float], lookup: Lookup
         index = {a: i for i, a in enumerate(defn.args)}
         state = np.eye(1 << k, dtype=complex)
         for call in defn.body:
-            matrix = call_matrix(call, env, lookup, base)
             qubits = [index[o] for o in call.operands]
-            if matrix.shape[0] != 1 << len(qubits):
-                need = matrix.shape[0].bit_length() - 1
-                raise ExactsynError(f"'{call.name}' in '{defn.name}' needs {need} qubits, not {len(qubits)}")
             if len(set(qubits)) != len(qubits):
                 raise ExactsynError(f"'{call.name}' in '{defn.name}' uses a qubit twice")
+            try:
+                matrix = call_matrix(call, env, lookup, base, len(qubits))
+            except ExactsynError as e:
+                raise ExactsynError(f"'{call.name}' in '{defn.name}' {e.message}") from None
             state = _apply(state, matrix, qubits, k)
         result = state
     defn._unitaries[key] = result

@@ -27,8 +27,9 @@ from dataclasses import dataclass
 from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io.draw import draw_text
-from exactsyn.io.jsonio import circuit_to_dict, load_json_circuit
+from exactsyn.io.jsonio import circuit_from_dict, circuit_to_dict
 from exactsyn.io.layout import Layout, apply_layout, layout_from_dict
+from exactsyn.io.limits import load_json
 from exactsyn.io.qasm import read_qasm_layout, to_qasm2, to_qasm3
 from exactsyn.io.svg import to_svg
 
@@ -162,8 +163,8 @@ def _write_json(circuit: Circuit, o: RenderOptions) -> str:
 
 
 def _read_json(text: str) -> tuple[Circuit, Layout, str]:
-    circuit = load_json_circuit(text)
-    data = json.loads(text)
+    data = load_json(text, "the circuit")
+    circuit = circuit_from_dict(data)
     regs = data.get("registers") if isinstance(data, dict) else None
     layout = Layout.single(circuit.lines) if regs is None else layout_from_dict(regs, circuit.lines)
     return circuit, layout, "json"
@@ -193,7 +194,7 @@ def _write_qasm(to_text: Callable[[Circuit, tuple[str, ...]], str]) -> Writer:
 def read_openqasm(text: str) -> tuple[Circuit, Layout, str]:
     """Either version: the header tells them apart (a text without one is read as version 3)."""
     circuit, layout = read_qasm_layout(text)
-    return circuit, layout, "qasm2" if text.lstrip().startswith("OPENQASM 2") else "qasm3"
+    return circuit, layout, "qasm2" if text.lstrip("\ufeff \t\r\n").startswith("OPENQASM 2") else "qasm3"
 
 
 def _write_png(circuit: Circuit, o: RenderOptions) -> bytes:

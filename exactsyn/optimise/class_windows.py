@@ -18,6 +18,8 @@ to the next answerer (:class:`ClassTableResynthesis` wraps one).
 
 from __future__ import annotations
 
+import time
+
 from exactsyn.core.costs import CostModel
 from exactsyn.core.library import Edge
 from exactsyn.optimise.allowed_gates import GateSet
@@ -53,7 +55,9 @@ class ClassTableResynthesis:
             self._tables[coupling] = None if library is None else table_roles(library).exact
         return self._tables[coupling]
 
-    def optimum(self, problem: WindowProblem) -> Optimum | None:
+    def optimum(self, problem: WindowProblem, deadline: float | None = None) -> Optimum | None:
+        """The window's optimum (module docstring); with ``deadline`` (a ``perf_counter`` time)
+        the table's meet in the middle stops there, and a window cut short is not remembered."""
         table = self.table(problem.coupling) if problem.lines == 4 else None
         if table is None:
             return self.other.optimum(problem) if problem.lines <= self.other.max_lines else None
@@ -63,14 +67,17 @@ class ClassTableResynthesis:
             return got
         if got is not None and (got < 0 or (problem.below is not None and problem.below <= got)):
             return None  # nothing within reach (-1), or nothing below a bound at least as low
-        found = self._solve(table, problem)
+        found = self._solve(table, problem, deadline)
+        if found is None and deadline is not None and time.perf_counter() >= deadline:
+            return None  # cut short: not known that nothing is within reach
         self._memo[key] = found if found is not None else (-1 if problem.below is None else problem.below)
         return found
 
-    def _solve(self, table: ClassOracle, problem: WindowProblem) -> Optimum | None:
+    def _solve(self, table: ClassOracle, problem: WindowProblem, deadline: float | None) -> Optimum | None:
         depth = table.depth
         extra = depth if problem.below is None else max(0, problem.below - 1 - depth)
-        ans = table.table.synthesise(problem.perm, max_extra=min(depth, extra))
+        left = None if deadline is None else max(0.0, deadline - time.perf_counter())
+        ans = table.table.synthesise(problem.perm, max_extra=min(depth, extra), time_limit=left)
         if not ans.optimal or ans.gates is None:
             return None
         method = f"{table.describe()} (depth {depth}, {ans.method})"

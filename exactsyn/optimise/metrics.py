@@ -27,7 +27,9 @@ class Metrics:
     depth: int
 
     def to_dict(self) -> dict[str, int]:
-        return asdict(self)
+        """Keyed by the names the rest of the output uses: cost model names (``t-count``,
+        ``cnot-count``, as in a result's ``costs``), ``gates`` and ``depth``."""
+        return {k.replace("_", "-"): v for k, v in asdict(self).items()}
 
 
 FIELDS = ("gates", "ncv", "t_count", "cnot_count", "depth")

@@ -58,6 +58,7 @@ import gzip
 import json
 import time
 import zlib
+from collections.abc import Iterator
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -263,7 +264,7 @@ def write_result(
     it counted the optimal circuits.
     """
     try:
-        directory.mkdir(parents=True, exist_ok=True)
+        directory.mkdir(exist_ok=True)
     except OSError as e:
         raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
     circuit = res.circuit
@@ -305,7 +306,7 @@ def write_result(
 def proof_writer(directory: Path) -> ProofSink:
     """A proof sink that stores each refutation as ``<stem>.lrat.gz`` in ``directory``."""
     try:
-        directory.mkdir(parents=True, exist_ok=True)
+        directory.mkdir(exist_ok=True)
     except OSError as e:
         raise ExactsynError(f"cannot create certificate directory {directory}: {path_problem(directory, e)}") from None
 
@@ -321,12 +322,58 @@ def proof_writer(directory: Path) -> ProofSink:
     return sink
 
 
-def read_proof(directory: Path, name: str) -> bytes:
-    p = directory / name
+#: A proof file may unpack to at most ``max(PROOF_FLOOR, PROOF_PER_CLAUSE × clauses of its CNF)``
+#: bytes, and to at most ``PROOF_RATIO`` times its compressed size (plus 1 MiB).  Proofs
+#: CaDiCaL writes compress about 3:1 (the certificates in tests/data: 2.9-3.1; docs/cubes.md:
+#: 2.1 GB of LRAT in 0.7-0.9 GB of files) and take a few hundred bytes per CNF clause for a
+#: minute of solving, so the bounds leave a margin of 5 and of about 100; a compression
+#: bomb (a gigabyte of one repeated line in a megabyte) is stopped by the ratio.
+PROOF_FLOOR = 64 << 20
+PROOF_PER_CLAUSE = 64 << 10
+PROOF_RATIO = 16
+#: The longest line a proof may have (a clause and its hints; real lines are a few KB).
+PROOF_LINE = 16 << 20
+
+
+def proof_limit(clauses: int) -> int:
+    """The most bytes a proof of a CNF with ``clauses`` clauses may unpack to."""
+    return max(PROOF_FLOOR, PROOF_PER_CLAUSE * clauses)
+
+
+class ProofStream:
+    """The lines of a ``.lrat.gz`` file, read as they are checked; raises :class:`ExactsynError`
+    as soon as the file unpacks past its bounds (:func:`proof_limit`, :data:`PROOF_RATIO`,
+    :data:`PROOF_LINE`) or is not valid gzip.  ``size`` counts the bytes unpacked so far."""
+
+    def __init__(self, path: Path, limit: int) -> None:
+        self.path = path
+        self.size = 0
+        try:
+            packed = path.stat().st_size
+        except OSError as e:
+            raise ExactsynError(f"cannot read proof {path}: {e.strerror}") from None
+        self.limit = min(limit, PROOF_RATIO * packed + (1 << 20))
+
+    def __iter__(self) -> Iterator[bytes]:
+        try:
+            with gzip.open(self.path, "rb") as fh:
+                while line := fh.readline(PROOF_LINE + 1):
+                    self.size += len(line)
+                    if len(line) > PROOF_LINE:
+                        raise ExactsynError(f"proof {self.path.name} has a line longer than {PROOF_LINE >> 20} MiB")
+                    if self.size > self.limit:
+                        raise ExactsynError(
+                            f"proof {self.path.name} unpacks to more than {self.limit:,} bytes (the bound for this "
+                            f"query: {PROOF_RATIO} times the file, at most {PROOF_PER_CLAUSE >> 10} KiB per CNF "
+                            f"clause or {PROOF_FLOOR >> 20} MiB); not checked further"
+                        )
+                    yield line
+        except (OSError, EOFError, zlib.error) as e:
+            raise ExactsynError(f"cannot read proof {self.path}: {e}") from None
+
+
+def open_proof(directory: Path, name: str, clauses: int) -> ProofStream:
+    """A stored proof of a CNF with ``clauses`` clauses, as lines read while they are checked."""
     if Path(name).name != name:
         raise ExactsynError(f"certificate: proof name {name!r} must be a plain file name")
-    try:
-        with gzip.open(p, "rb") as fh:
-            return fh.read()
-    except (OSError, EOFError, zlib.error) as e:
-        raise ExactsynError(f"cannot read proof {p}: {e}") from None
+    return ProofStream(directory / name, proof_limit(clauses))

@@ -50,7 +50,7 @@ from exactsyn.proof.certificate import (
     encoding_from_dict,
     json_int,
     library_from_dict,
-    read_proof,
+    open_proof,
     spec_from_dict,
 )
 from exactsyn.proof.cube_check import check_split
@@ -266,18 +266,18 @@ def _check_refutation(
     if not name:
         note(label, False, "no proof file")
         return False
+    t0 = time.perf_counter()
     try:
-        proof = read_proof(directory, str(name))
+        proof = open_proof(directory, str(name), len(clauses))
+        rep = check_lrat(num_vars, clauses, proof)
     except ExactsynError as e:
         note(label, False, e.message)
         return False
-    t0 = time.perf_counter()
-    rep = check_lrat(num_vars, clauses, proof)
     dt = time.perf_counter() - t0
     if not rep.ok:
         note(label, False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
         return False
-    bytes_part = f", {len(proof)} bytes" if size else ""
+    bytes_part = f", {proof.size} bytes" if size else ""
     note(label, True, f"LRAT refutation checked: {rep.steps} steps{bytes_part}, {dt:.2f} s")
     return True
 

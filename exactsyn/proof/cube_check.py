@@ -23,7 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from exactsyn.errors import ExactsynError
-from exactsyn.proof.certificate import read_proof
+from exactsyn.proof.certificate import open_proof
 from exactsyn.proof.cover import check_coverage
 from exactsyn.proof.lrat import check_lrat_extended, prepare
 
@@ -73,12 +73,11 @@ def check_split(
             ok = False
             continue
         try:
-            proof = read_proof(directory, str(proof_name))
+            rep = check_lrat_extended(base, cl, open_proof(directory, str(proof_name), len(clauses) + len(cl)))
         except ExactsynError as e:
             note(name, False, e.message)
             ok = False
             continue
-        rep = check_lrat_extended(base, cl, proof)
         if not rep.ok:
             note(name, False, f"LRAT step {rep.failed_step} failed: {rep.reason}")
             ok = False

@@ -43,6 +43,10 @@ something unsound:
 * The text may hold only digits, ``-``, ``d``, spaces and ``\\n``; blank
   lines, comments, ``\\r``, tabs and binary LRAT are rejected.  A failure
   names the 1-based line.
+* The proof is read line by line (bytes, text, or any iterable of byte lines such
+  as :func:`exactsyn.proof.certificate.open_proof`, which bounds the size a
+  compressed file may unpack to), so memory holds the live clauses, never the
+  whole proof, and a bad line is rejected as soon as it is read.
 
 Malformed *formulas* (a zero literal, a variable outside ``1..num_vars``) are
 bad input and raise :class:`~exactsyn.errors.ExactsynError`; every problem in
@@ -52,7 +56,7 @@ the *proof* is reported in the returned :class:`LratReport`.
 from __future__ import annotations
 
 import re
-from collections.abc import Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from operator import neg
 
@@ -89,18 +93,28 @@ def _formula_db(num_vars: int, clauses: Sequence[Sequence[int]]) -> dict[int, tu
     return db
 
 
-def _decode(proof: bytes | str) -> str | None:
+Proof = bytes | str | Iterable[bytes]
+"""LRAT text: bytes, a string, or byte lines (each ending with ``\\n``, the last one may not)."""
+
+
+def _lines(proof: Proof) -> Iterator[bytes]:
+    """The proof's lines without their ``\\n``; a final empty piece (text ending in ``\\n``) is no line."""
     if isinstance(proof, str):
-        return proof
+        proof = proof.encode("utf-8")
     if isinstance(proof, bytes | bytearray | memoryview):
-        try:
-            return bytes(proof).decode("ascii")
-        except UnicodeDecodeError:
-            return None
-    raise ExactsynError(f"proof must be bytes or str, got {type(proof).__name__}")
+        pieces = bytes(proof).split(b"\n")
+        if pieces[-1] == b"":
+            pieces.pop()
+        yield from pieces
+        return
+    if not isinstance(proof, Iterable):
+        raise ExactsynError(f"proof must be bytes or str, got {type(proof).__name__}")
+    for raw in proof:
+        yield raw[:-1] if raw.endswith(b"\n") else raw
 
 
-_FOREIGN = re.compile(r"[^0-9d \n-]")
+_FOREIGN = re.compile(rb"[^0-9d -]")
+_LRAT_BYTES = b"0123456789d -"
 
 
 class _Reject(Exception):
@@ -160,7 +174,7 @@ def _add_step(
     raise _Reject("hints end without a conflict")
 
 
-def _delete_step(toks: list[str], db: dict[int, tuple[int, ...]]) -> None:
+def _delete_step(toks: list[bytes], db: dict[int, tuple[int, ...]]) -> None:
     """Check and apply one deletion line ``id d id* 0``."""
     try:
         nums = list(map(int, toks[2:]))
@@ -193,7 +207,7 @@ def prepare(num_vars: int, clauses: Sequence[Sequence[int]]) -> Prepared:
     return Prepared(num_vars, _formula_db(num_vars, clauses))
 
 
-def check_lrat(num_vars: int, clauses: Sequence[Sequence[int]], proof: bytes | str) -> LratReport:
+def check_lrat(num_vars: int, clauses: Sequence[Sequence[int]], proof: Proof) -> LratReport:
     """Check that ``proof`` is an LRAT refutation of ``clauses``.
 
     See the module docstring for the exact rules.
@@ -201,7 +215,7 @@ def check_lrat(num_vars: int, clauses: Sequence[Sequence[int]], proof: bytes | s
     return _check(_formula_db(num_vars, clauses), num_vars, proof)
 
 
-def check_lrat_extended(base: Prepared, extra: Sequence[Sequence[int]], proof: bytes | str) -> LratReport:
+def check_lrat_extended(base: Prepared, extra: Sequence[Sequence[int]], proof: Proof) -> LratReport:
     """Like :func:`check_lrat` for the formula ``base`` followed by the clauses ``extra``
     (ids ``m+1, m+2, …``), without reading ``base`` again."""
     more = _formula_db(base.num_vars, extra)
@@ -211,28 +225,29 @@ def check_lrat_extended(base: Prepared, extra: Sequence[Sequence[int]], proof: b
     return _check(db, base.num_vars, proof)
 
 
-def _check(db: dict[int, tuple[int, ...]], num_vars: int, proof: bytes | str) -> LratReport:
-    text = _decode(proof)
-    if text is None:
-        return LratReport(False, 0, 1, "proof is not ASCII text (binary LRAT is not supported)")
+def _foreign(line: bytes, lineno: int) -> str | None:
+    """Why a line is not LRAT text, or None."""
+    if not line.translate(None, _LRAT_BYTES):  # the common case, without a regular expression
+        return None
+    bad = _FOREIGN.search(line)
+    assert bad is not None
+    char = bad.group()
+    shown = repr(char.decode("ascii")) if char[0] < 128 else f"byte 0x{char[0]:02x}"
+    return f"line {lineno}: character {shown} is not LRAT text (text LRAT only; binary LRAT is not supported)"
 
-    foreign = _FOREIGN.search(text)
-    if foreign is not None:
-        lineno = text.count("\n", 0, foreign.start()) + 1
-        why = (
-            f"line {lineno}: character {foreign.group()!r} is not LRAT text "
-            "(text LRAT only; binary LRAT is not supported)"
-        )
-        return LratReport(False, 0, lineno, why)
 
+def _check(db: dict[int, tuple[int, ...]], num_vars: int, proof: Proof) -> LratReport:
     max_id = len(db)
     derived_empty = False
     steps = 0  # lines accepted so far; the line being checked is number steps + 1
-    line = ""
+    line = b""
     try:
-        for line in text.splitlines():
+        for line in _lines(proof):
+            why = _foreign(line, steps + 1)
+            if why is not None:
+                return LratReport(False, steps, steps + 1, why)
             toks = line.split()
-            if len(toks) >= 2 and toks[1] == "d":
+            if len(toks) >= 2 and toks[1] == b"d":
                 _delete_step(toks, db)
             elif not toks:
                 raise _Reject("empty line")
@@ -248,7 +263,8 @@ def _check(db: dict[int, tuple[int, ...]], num_vars: int, proof: bytes | str) ->
             steps += 1
     except _Reject as bad:
         lineno = steps + 1
-        shown = line if len(line) <= 80 else line[:77] + "..."
+        text = line.decode("ascii")
+        shown = text if len(text) <= 80 else text[:77] + "..."
         return LratReport(False, steps, lineno, f"line {lineno}: {bad.why}: {shown!r}")
 
     if not derived_empty:

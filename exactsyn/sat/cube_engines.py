@@ -32,7 +32,7 @@ from dataclasses import dataclass, replace
 from multiprocessing.connection import Connection, wait
 from typing import Any
 
-from exactsyn.cluster import dask_client, describe, distributed, serve_pipe
+from exactsyn.cluster import INTERRUPTED_EXIT, dask_client, describe, distributed, serve_pipe
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.conquer import CubeEngine, CubeJob, CubeOptions, CubeOutcome, OnOutcome, solve_cube
 
@@ -116,6 +116,8 @@ class LocalCubes:
                             continue
                     if slot.process.sentinel in ready and slot.job is not None:
                         slot.process.join(5)
+                        if slot.process.exitcode == INTERRUPTED_EXIT:  # Ctrl-C reached the worker
+                            raise KeyboardInterrupt
                         job, slot.job = slot.job, None
                         msg = f"worker process died (exit code {slot.process.exitcode})"
                         on_outcome(CubeOutcome(job.index, "error", None, b"", 0.0, 0, job.solver, msg))

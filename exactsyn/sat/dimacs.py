@@ -32,7 +32,7 @@ def dimacs_writer(directory: Path) -> Callable[[Encoding], None]:
     The clause order is the encoder's, so LRAT clause ids of a certificate refer to it.
     """
     try:
-        directory.mkdir(parents=True, exist_ok=True)
+        directory.mkdir(exist_ok=True)
     except OSError as e:
         raise ExactsynError(f"cannot create {directory}: {e.strerror}") from None
 

@@ -239,7 +239,12 @@ def _race(enc: Encoding, rival: Rival, solver: str, certify: bool, rest: float |
     to build the rival)."""
     if rest is not None and rest <= rival.seconds + QUICK_SECONDS:
         return _solve(enc.clauses, solver, rest, certify) if rest > 0 else before
+    built = time.perf_counter()
     other = rival.build()
+    if rest is not None:  # building it took part of the time left (and may have taken more than expected)
+        rest -= time.perf_counter() - built
+        if rest <= 0:
+            return before
     outcome = race(
         [enc.clauses, other.clauses],
         certify=certify,

@@ -27,6 +27,7 @@ from __future__ import annotations
 import multiprocessing as mp
 import os
 import queue
+import signal
 import tempfile
 import time
 from dataclasses import dataclass, replace
@@ -49,6 +50,11 @@ class RaceOutcome:
 def _racer(
     index: int, clauses: list[list[int]], certify: bool, solver: str, limit: float | None, out: mp.Queue
 ) -> None:  # type: ignore[type-arg]
+    # A forked racer inherits the parent's signal set-up: the parent stops it (SIGTERM, the
+    # default action) and alone answers Ctrl-C, which python-sat still reports mid-solve.
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.set_wakeup_fd(-1)
     try:
         # Kissat takes no budget (sat/solver.py): it runs to the end, and the parent terminates
         # this process when another racer answers or time runs out.  It writes no proof.
@@ -60,6 +66,8 @@ def _racer(
             with os.fdopen(fd, "wb") as fh:
                 fh.write(run.proof)
         out.put((index, "ok", replace(run, proof=b""), path))
+    except KeyboardInterrupt:
+        out.put((index, "interrupted", "", None))
     except Exception as e:  # report, never hang the parent
         out.put((index, "error", repr(e), None))
 
@@ -103,6 +111,8 @@ def race(
             except queue.Empty:
                 break
             pending -= 1
+            if kind == "interrupted":  # Ctrl-C reached the racers; the parent stops too
+                raise KeyboardInterrupt
             if kind == "error":
                 errors.append(answer)
                 continue

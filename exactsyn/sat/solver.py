@@ -31,7 +31,7 @@ from typing import Any
 import pysat
 from pysat.solvers import Cadical195, Solver
 
-from exactsyn.errors import ExactsynError
+from exactsyn.errors import ExactsynError, is_interrupt
 from exactsyn.sat.lrat_capture import SOLVER_NAME, capture
 from exactsyn.sat.status import Status
 
@@ -104,10 +104,20 @@ def _conflicts(solver: Any) -> int | None:
     return None if value is None else int(value)
 
 
+def _interruptible(call: Callable[[], Any]) -> Any:
+    """Run a solver call; the exception python-sat raises on SIGINT becomes :class:`KeyboardInterrupt`."""
+    try:
+        return call()
+    except Exception as e:
+        if is_interrupt(e):
+            raise KeyboardInterrupt from None
+        raise
+
+
 def _search(solver: Any, time_limit: float | None, stop: Stop | None) -> bool | None:
     """Solve, in conflict-budget slices when there is a limit or a stop (see the module docstring)."""
     if time_limit is None and stop is None:
-        return bool(solver.solve())
+        return bool(_interruptible(solver.solve))
     deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
     budget = _SLICE0
     while True:
@@ -116,7 +126,7 @@ def _search(solver: Any, time_limit: float | None, stop: Stop | None) -> bool | 
             return None
         before = _conflicts(solver)
         solver.conf_budget(budget)
-        result = solver.solve_limited()
+        result = _interruptible(solver.solve_limited)
         if result is not None:
             return bool(result)
         spent = max(time.perf_counter() - now, 1e-6)

@@ -5,9 +5,12 @@ The ``progress`` callback of :func:`exactsyn.synthesise` and
 :class:`~exactsyn.sat.query.Query` (unchanged), and a :class:`SearchEvent` for the other
 phases, so a display can show what is going on while nothing is answered yet:
 
-* ``table-start`` / ``table-done``: a distance table is being built or looked up
-  (``detail`` names it; ``table-done`` carries ``seconds``, and ``value`` the bound or
+* ``table-start`` / ``table-done``: a distance table is being built and searched, or
+  (``table-lookup`` instead of ``table-start``) a cached class table is loaded and looked
+  up (``detail`` names it; ``table-done`` carries ``seconds``, and ``value`` the bound or
   optimum it gave, or ``None`` when the deadline stopped it);
+* ``objective-start`` / ``optima-start``: the gate count is settled and the search for the
+  objective (``detail``) or the listing of optimal circuits begins;
 * ``table-bound``: the table excluded every k in ``[low, high]`` (no SAT call for them);
 * ``table-scan``: a class table's meet in the middle has scanned ``low`` of the ``high``
   classes of one level (``detail`` names the table and the split);
@@ -27,7 +30,18 @@ from dataclasses import dataclass
 
 from exactsyn.sat.query import Query
 
-PHASES = ("table-start", "table-done", "table-bound", "table-scan", "query-start", "fallback", "sub-library")
+PHASES = (
+    "table-start",
+    "table-lookup",
+    "table-done",
+    "table-bound",
+    "table-scan",
+    "query-start",
+    "fallback",
+    "sub-library",
+    "objective-start",
+    "optima-start",
+)
 
 
 @dataclass(frozen=True)

@@ -238,6 +238,27 @@ class _OutOfTime(Exception):
     pass
 
 
+class _Until:
+    """Window answers that stop at ``deadline``: checked before every window, and passed to
+    the class tables' meet in the middle (one 4-line window can scan for seconds)."""
+
+    def __init__(self, inner: Any, deadline: float | None) -> None:
+        self.inner, self.deadline = inner, deadline
+
+    @property
+    def max_lines(self) -> int:
+        return int(self.inner.max_lines)
+
+    def optimum(self, problem: Any) -> Any:
+        if self.deadline is not None and time.perf_counter() >= self.deadline:
+            raise _OutOfTime
+        from exactsyn.optimise.class_windows import ClassTableResynthesis
+
+        if isinstance(self.inner, ClassTableResynthesis):
+            return self.inner.optimum(problem, deadline=self.deadline)
+        return self.inner.optimum(problem)
+
+
 @memo(maxsize=16)
 def _window_answers(preset: str, lines: int, cap: int | None, coupling: tuple[Edge, ...], window: int) -> Any:
     """The window resynthesis of a library, kept per process (its 3-line tables take 0.1 s to build;
@@ -271,7 +292,7 @@ def shrink(circuit: Circuit, library: Library, deadline: float | None, window: i
             max_controls=library.control_cap,
             coupling=library.coupling,
             window=window,
-            resynthesis=answers,
+            resynthesis=_Until(answers, deadline),
             progress=watch,
         )
     except (_OutOfTime, ExactsynError):

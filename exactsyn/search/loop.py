@@ -200,7 +200,7 @@ class _GateSearch:
             self.hint = self.roles.hint
             return None
         what = oracle.describe()
-        self.emit(SearchEvent("table-start", k=self.bound.value, detail=what))
+        self.emit(SearchEvent("table-lookup", k=self.bound.value, detail=what))
 
         def scanning(step: str, done: int, total: int) -> None:
             self.emit(SearchEvent("table-scan", low=done, high=total, detail=f"{what}: {step}"))

@@ -18,7 +18,7 @@ from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import circuit_from_text, is_circuit_kind, kind_of_text, read_text
 from exactsyn.specification.boolean import function_from_mapping, is_function_mapping
 from exactsyn.specification.embed import Embedding, embed
-from exactsyn.specification.reversible import Spec, from_permutation, spec_from_mapping
+from exactsyn.specification.reversible import MAX_LINES, Spec, from_permutation, spec_from_mapping
 
 
 def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
@@ -30,6 +30,11 @@ def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
         raise ExactsynError(f"spec file {p} is empty: expected a TOML spec, OpenQASM or exactsyn JSON circuit")
     if is_circuit_kind(kind):
         circ = circuit_from_text(text, p)
+        if circ.lines > MAX_LINES:  # before its 2^n-entry function is made
+            raise ExactsynError(
+                f"{p} is a circuit on {circ.lines} lines; synth handles functions of 1 to {MAX_LINES} lines "
+                "('exactsyn optimise' makes circuits of up to 1,024 lines smaller)"
+            )
         return from_permutation(list(circ.permutation()), p.stem), None
     try:
         data = tomllib.loads(text)

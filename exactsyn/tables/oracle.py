@@ -62,7 +62,8 @@ TABLE_ORDER = ("nct", "mct", "mixed")
 #: The one line the search adds when a class table would have answered but none is cached,
 #: per line count whose tables are worth suggesting (``{library}`` is the table's library).
 HINTS = {
-    4: "4-line functions are settled in seconds once the class tables exist: run `exactsyn tables build` once",
+    4: "4-line functions are settled in seconds once the class tables exist: "
+    "run `exactsyn tables build --library {library}` once",
     5: "5-line functions of up to 12 gates are proven in minutes once the 5-line class table exists: "
     "run `exactsyn tables build --lines 5 --library {library}` once (a few minutes, 4 GB for mct)",
 }

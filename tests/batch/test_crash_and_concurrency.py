@@ -10,6 +10,7 @@ import errno
 import json
 import os
 import random
+import re
 import signal
 import sqlite3
 import subprocess
@@ -22,6 +23,7 @@ import pytest
 from click.testing import CliRunner
 
 from exactsyn.batch.store import Store
+from exactsyn.batch.table import size_table
 from exactsyn.cli import main
 from exactsyn.core.library import make_library
 from exactsyn.proof.checker import check_certificate
@@ -84,6 +86,18 @@ def test_two_processes_run_the_same_batch_on_one_store(tmp_path: Path) -> None:
         assert p.returncode == 0, err
     assert_store_exact(store, 80)
     assert list(members(store).values()) == [80]  # one batch, each member once
+    # the two processes claimed items from the store: together they solved each item once
+    ran = [int(re.search(r"this run: (\d+) item", out).group(1)) for out, _ in outs]  # type: ignore[union-attr]
+    assert sum(ran) == 80, [out for out, _ in outs]
+    assert_no_claims(store)
+
+
+def assert_no_claims(store: Path) -> None:
+    con = sqlite3.connect(store, timeout=60)
+    try:
+        assert con.execute("SELECT count(*) FROM claims").fetchone()[0] == 0  # every claim given back
+    finally:
+        con.close()
 
 
 def test_two_processes_run_overlapping_batches_on_one_store(tmp_path: Path) -> None:
@@ -123,6 +137,7 @@ def test_kill_9_at_random_moments_then_resume_gives_the_exact_table(tmp_path: Pa
     resumed = subprocess.run([*args, "--verify"], capture_output=True, text=True, timeout=300)
     assert resumed.returncode == 0, resumed.stderr + resumed.stdout
     assert_store_exact(store, n)
+    assert_no_claims(store)  # the claims of the killed processes were taken over and given back
     # A kill between placing a certificate and committing its row leaves a directory no row
     # points to (the rename is inside the row's transaction, so never the other way round);
     # the next run sweeps such strays when it starts: none may be left now.
@@ -136,6 +151,31 @@ def test_kill_9_at_random_moments_then_resume_gives_the_exact_table(tmp_path: Pa
     want = Counter(bfs.size(json.loads(str(r["outputs"]))) for r in rows(store))
     for size, count in want.items():
         assert f"{size:>5}  {count:>10}" in table.stdout, table.stdout
+
+
+def test_a_claim_is_held_while_its_lease_runs_and_its_process_lives(tmp_path: Path) -> None:
+    store = tmp_path / "c.sqlite"
+    needs = lambda key, state: state[0] != "done"  # noqa: E731
+    with Store(store) as a, Store(store) as b:
+        assert a.claim(["k1", "k2"], needs) == {"k1": "claimed", "k2": "claimed"}
+        assert b.claim(["k1", "k3"], needs) == {"k1": "held", "k3": "claimed"}
+        assert a.claim(["k1"], needs) == {"k1": "claimed"}  # its own claim: renewed
+        with a.transaction():  # a process on another host whose lease ran out
+            a._db.execute("UPDATE claims SET owner = 'elsewhere:1:x', expires = ? WHERE key = 'k2'", (time.time() - 1,))
+        assert b.claim(["k2"], needs) == {"k2": "claimed"}
+        with a.transaction():  # a process on this host that is gone (no such process id)
+            a._db.execute(
+                "UPDATE claims SET owner = ?, expires = ? WHERE key = 'k1'",
+                (f"{a.owner.split(':')[0]}:{2**22 + 12345}:x", time.time() + 60),
+            )
+        assert b.claim(["k1"], needs) == {"k1": "claimed"}
+        with a.transaction():  # a live process on another host: held until its lease ends
+            a._db.execute(
+                "UPDATE claims SET owner = 'elsewhere:1:x', expires = ? WHERE key = 'k3'", (time.time() + 60,)
+            )
+        assert a.claim(["k3"], needs) == {"k3": "held"}
+        b.release_claims()
+        assert a.claim(["k1", "k2"], lambda key, state: False) == {"k1": "finished", "k2": "finished"}
 
 
 def test_a_full_disk_while_writing_certificates_loses_no_stored_result(
@@ -199,3 +239,47 @@ def test_read_only_places_give_one_clear_line_and_write_nothing(tmp_path: Path) 
     finally:
         os.chmod(good, 0o644)
     assert rows(good) == before
+
+
+#: Optimal NCT circuit sizes of all 8! reversible 3-line functions, 0..8 gates (Shende, Prasad,
+#: Markov & Hayes, "Synthesis of reversible logic circuits", IEEE TCAD 22(6), 2003, Table I).
+SHENDE_2003_NCT3 = [1, 12, 102, 625, 2780, 8921, 17049, 10253, 577]
+
+
+@pytest.mark.slow
+def test_soak_three_processes_killed_and_restarted_on_all_3_line_classes(tmp_path: Path) -> None:
+    # Three batch processes share one store; five times all three are killed (SIGKILL, at a
+    # random number of stored items) and restarted; the last start runs them to the end.
+    store = tmp_path / "soak.sqlite"
+    args = cli("batch", "--classes", "3", "--library", "nct", "--store", str(store), "-q", "-j", "1")
+    rng = random.Random(2003)
+    kills = 0
+    for _ in range(5):
+        procs = [subprocess.Popen(args, start_new_session=True, stdout=subprocess.DEVNULL,
+                                  stderr=subprocess.PIPE) for _ in range(3)]
+        before, more = len(rows(store)), rng.randint(20, 400)
+        deadline = time.monotonic() + 120
+        while time.monotonic() < deadline and all(p.poll() is None for p in procs) and len(rows(store)) < before + more:
+            time.sleep(rng.uniform(0.05, 0.3))
+        for p in procs:
+            if p.poll() is None:
+                os.killpg(p.pid, signal.SIGKILL)
+                kills += 1
+            p.wait()
+    assert kills >= 12, kills  # the processes were killed mid-batch, not after it
+    procs = [subprocess.Popen(args, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True) for _ in range(3)]
+    outs = [p.communicate(timeout=1800) for p in procs]
+    for p, (out, err) in zip(procs, outs, strict=True):
+        assert p.returncode == 0, err + out
+    got = rows(store)
+    keys = [r["key"] for r in got]
+    assert len(keys) == len(set(keys))  # every item stored once
+    assert {r["status"] for r in got} == {"done"} and all(r["certificate"] for r in got)
+    assert_no_claims(store)
+    verified = subprocess.run([*args, "--verify"], capture_output=True, text=True, timeout=1800)
+    assert verified.returncode == 0, verified.stderr  # every stored certificate re-checked
+    with Store(store) as s:
+        assert s.integrity() == "ok"
+        assert size_table(s, s.batch(None)).distribution() == SHENDE_2003_NCT3
+    for r in rng.sample(got, 20):  # and a sample by the checker directly
+        assert check_certificate(store.parent / str(r["certificate"])).ok

@@ -183,5 +183,5 @@ def test_json_reports_the_clifford_t_counts_of_the_emitted_decomposition() -> No
     data = synth_json("--perm", "1,0,3,2,5,7,4,6")
     code, out, _ = run("synth", "--perm", "1,0,3,2,5,7,4,6", "--format", "qasm2", "--clifford-t", "-q")
     ops = qiskit.qasm2.loads(out).count_ops()
-    assert data["clifford_t"]["t_count"] == ops.get("t", 0) + ops.get("tdg", 0) == data["costs"]["t-count"]
-    assert data["clifford_t"]["cnot_count"] == ops.get("cx", 0) == data["costs"]["cnot-count"]
+    assert data["clifford_t"]["t-count"] == ops.get("t", 0) + ops.get("tdg", 0) == data["costs"]["t-count"]
+    assert data["clifford_t"]["cnot-count"] == ops.get("cx", 0) == data["costs"]["cnot-count"]

@@ -223,3 +223,20 @@ def test_spellings_of_the_previous_release_are_refused_naming_the_new_one(tmp_pa
     assert not store.exists() and not (tmp_path / "r.html").exists()  # nothing was run
     code, _, err = invoke("synth", "--cycles", "(5 6)", "--cont")
     assert "did you mean '--cost'" in one_line(code, err)  # other unknown options keep the suggestion
+
+
+def test_the_time_limit_of_a_command_counts_from_the_start_of_the_process() -> None:
+    # a process that has been alive for 1 s before it asks: its start-up is taken off the limit
+    import subprocess
+    import sys
+
+    code = (
+        "import time; time.sleep(1.0)\n"
+        "from exactsyn.cli.options import command_time_limit, started_seconds_ago\n"
+        "print(started_seconds_ago(), command_time_limit(30.0), command_time_limit(0.05))"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
+    age, limit, tiny = (float(x) for x in out)
+    assert 1.0 <= age < 20.0
+    assert 10.0 < limit <= 29.0 and abs(limit - (30.0 - age)) < 0.5
+    assert tiny == 0.05  # a limit smaller than the start-up is left alone, not made zero

@@ -9,6 +9,7 @@ from __future__ import annotations
 import io
 import json
 import re
+import time
 from pathlib import Path
 
 from click.testing import CliRunner
@@ -128,10 +129,55 @@ def test_live_progress_shows_the_table_the_excluded_k_and_each_answer() -> None:
     assert "7 conflicts" in query_line(Query("gates", 3, None, Status.UNSAT, 0.1, 7, 10, 20, "cadical195"))
 
 
-def test_progress_is_off_on_a_pipe_unless_asked_and_quiet_wins() -> None:
+def test_progress_is_off_on_a_pipe_unless_asked_and_quiet_contradicts_it() -> None:
     code, _, err = invoke("synth", "--cycles", "(1 2)", "--bounds", "cheap", "--format", "json")
     assert code == 0 and "k=2" not in err
     code, _, err = invoke("synth", "--cycles", "(1 2)", "--bounds", "cheap", "--format", "json", "--progress")
     assert code == 0 and "k=2" in err and "UNSAT" in err
     code, _, err = invoke("synth", "--cycles", "(1 2)", "--bounds", "cheap", "--format", "json", "--progress", "-q")
-    assert code == 0 and err == ""
+    assert code == 2 and err.count("\n") == 1 and "-q and --progress" in err  # a contradiction, not a silent -q
+
+
+def test_quiet_and_progress_together_are_refused_by_every_command_that_has_both(tmp_path: Path) -> None:
+    circuit = tmp_path / "c.qasm"
+    circuit.write_text('OPENQASM 2.0;\ninclude "qelib1.inc";\nqreg q[2];\ncx q[0],q[1];\n')
+    for args in (["synth", "--cycles", "(1 2)"], ["optimise", str(circuit)], ["tables", "build", "--lines", "2"]):
+        code, out, err = invoke(*args, "-q", "--progress")
+        assert code == 2 and out == "" and err.count("\n") == 1 and "contradict" in err, (args, err)
+
+
+def test_a_cost_model_without_a_cost_objective_is_refused_not_ignored(tmp_path: Path) -> None:
+    code, out, err = invoke("synth", "--cycles", "(6 7)", "--cost", "t-count")
+    assert code == 2 and out == "" and "--objective" in err and err.count("\n") == 1
+    code, out, err = invoke("synth", "--cycles", "(6 7)", "--cost", "t-count", "--objective", "gates-then-cost")
+    assert code == 0, err
+    table = tmp_path / "costs.toml"  # a cost file adds its own column to the printed costs: not ignored
+    table.write_text("NOT = 1\nCNOT = 2\nToffoli = 9\n")
+    code, out, err = invoke("synth", "--cycles", "(6 7)", "--cost", str(table), "--library", "nct")
+    assert code == 0 and "table:costs.toml 9" in out, err
+
+
+def test_with_an_objective_the_header_tells_the_gate_optimum_from_the_printed_circuit() -> None:
+    code, out, err = invoke("synth", "--cycles", "(1 2)(5 6)", "--objective", "depth")
+    assert code == 0, err
+    header = [line for line in out.splitlines() if line.startswith("# ")]
+    assert header[0].startswith("# gate optimum: ")
+    gates = re.search(r"gates \(application order\): (.*)", out).group(1)  # type: ignore[union-attr]
+    printed = len(gates.split("  "))
+    assert f"the circuit has {printed} gate" in header[1]
+
+
+def test_a_class_table_is_looked_up_not_built() -> None:
+    text = _progress_text([SearchEvent("table-lookup", k=9, detail="4-line class table of mct")])
+    assert "looking the function up in the 4-line class table of mct" in text and "building" not in text
+
+
+def test_plain_progress_says_every_few_seconds_what_still_runs() -> None:
+    buf = io.StringIO()
+    with SynthDisplay("plain", Console(file=buf, width=120)) as p:
+        p.every = 0.2
+        p(SearchEvent("objective-start", detail="depth"))
+        time.sleep(1.0)
+    lines = buf.getvalue().splitlines()
+    assert lines[0] == "gate count settled; optimising the depth …"
+    assert len([x for x in lines if x.startswith("gate count settled; optimising the depth … 0:0")]) >= 2, lines

@@ -11,7 +11,7 @@ from optional import need
 
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.cliffordt import decompose
-from exactsyn.core.costs import COST_MODELS, circuit_cost, cost_model, load_cost_table
+from exactsyn.core.costs import COST_MODELS, circuit_cost, cost_model, gate_name, load_cost_table
 from exactsyn.core.gates import Gate, peres_gate, swap_gate, x_gate
 from exactsyn.errors import ExactsynError
 from exactsyn.io.qasm import clifford_t_to_qasm2 as to_qasm2
@@ -147,7 +147,7 @@ def test_missing_gate_is_named(tmp_path: Path) -> None:
         ("NOT = -2\n", "integer >= 1"),
         ("NOT = 1\nnegative_control = -1\n", "integer >= 0"),
         ("Tofoli = 5\n", "unknown gate name 'Tofoli'"),
-        ("C2X = 5\n", "unknown gate name"),
+        ("C2Y = 5\n", "unknown gate name"),  # C2X is Toffoli (an accepted spelling), C2Y nothing
         ("[costs]\nNOT = 1\n", "unknown gate name 'costs'"),
         ("NOT = \n", "not valid TOML"),
     ],
@@ -179,3 +179,37 @@ def test_bad_model_names_and_paths(tmp_path: Path) -> None:
         cost_model(str(tmp_path / "absent.toml"))
     with pytest.raises(ExactsynError, match=r"\.toml or \.json"):
         load_cost_table(_write(tmp_path, "costs.txt", "NOT = 1\n"))
+
+
+def test_cost_tables_accept_the_qasm_names_exactsyn_writes_and_cost_models_the_json_spelling(
+    tmp_path: Path,
+) -> None:
+    lines = 5
+    gates = [x_gate(0), x_gate(1, [0]), x_gate(2, [0, 1]), x_gate(4, [0, 1, 2]), swap_gate(0, 1), swap_gate(0, 1, [2]),
+             swap_gate(0, 1, [2, 3]), peres_gate(0, 1, 2)]
+    trade = {"NOT": 1, "CNOT": 2, "Toffoli": 3, "C3X": 4, "SWAP": 5, "Fredkin": 6, "C2SWAP": 7, "Peres": 8}
+    qasm = {"x": 1, "cx": 2, "ccx": 3, "xc3": 4, "swap": 5, "cswap": 6, "swapc2": 7, "peres": 8}
+    counted = {"C0X": 1, "C1X": 2, "C2X": 3, "c3x": 4, "C0SWAP": 5, "C1SWAP": 6, "c2swap": 7, "PERES": 8}
+    models = []
+    for i, table in enumerate((trade, qasm, counted)):
+        f = tmp_path / f"t{i}.json"
+        f.write_text(json.dumps(table))
+        models.append(load_cost_table(f))
+    for g in gates:
+        # the name the OpenQASM writer gives the gate (its last statement) is read as the gate's name
+        statement = _plain_qasm(Circuit(lines, (g,))).strip().splitlines()[-1]
+        assert gate_name(statement.split()[0]) == g.name(), statement
+        assert len({m.cost(g, lines) for m in models}) == 1, g.name()
+    assert [models[1].cost(g, lines) for g in gates] == [1, 2, 3, 4, 5, 6, 7, 8]
+    twice = tmp_path / "twice.json"
+    twice.write_text(json.dumps({"Toffoli": 3, "ccx": 4}))
+    with pytest.raises(ExactsynError, match="costed twice"):
+        load_cost_table(twice)
+    assert cost_model("t_count") is cost_model("t-count") is COST_MODELS["t-count"]
+    assert cost_model("CNOT_count") is COST_MODELS["cnot-count"]
+
+
+def _plain_qasm(circuit: Circuit) -> str:
+    from exactsyn.io.qasm import to_qasm2 as plain
+
+    return plain(circuit)

@@ -256,7 +256,7 @@ def test_progress_and_report() -> None:
     assert any(e.phase == "optimise" for e in events) and any(e.phase == "check" for e in events)
     log = result_to_dict(res, input="in.qasm")
     assert log["before"]["gates"] == 2200 and log["after"]["gates"] == res.output.gate_count
-    assert set(log["before"]) == {"gates", "ncv", "t_count", "cnot_count", "depth"}
+    assert set(log["before"]) == {"gates", "ncv", "t-count", "cnot-count", "depth"}
     assert sum(w["gates_removed"] for w in log["windows_replaced"]) == 2200 - res.output.gate_count
     assert log["equivalence"]["method"] == "exhaustive" and log["equivalence"]["equal"] is True
     assert log["input"] == "in.qasm"

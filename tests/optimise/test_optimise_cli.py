@@ -100,7 +100,7 @@ def test_formats_by_suffix_and_option(group: click.Group, tmp_path: Path) -> Non
         ("OPENQASM 2.0;\nqreg q[4];\nc3x q[0],q[1],q[2],q[3];\n", ["--library", "nct"], "has no C3X"),
         ("OPENQASM 2.0;\nqreg q[3];\nh q[0];\n", [], "unsupported gate 'h'"),
         ("OPENQASM 2.0;\nqreg q[3];\n", [], "no gates"),
-        ("OPENQASM 2.0;\nqreg q[5000];\nx q[0];\n", [], "at most 1024 lines"),
+        ("OPENQASM 2.0;\nqreg q[5000];\nx q[0];\n", [], "at most 1,024 lines"),
         ("OPENQASM 2.0;\nqreg q[3];\nx q[0];\n", ["--coupling", "0-7"], "outside"),
         ("OPENQASM 2.0;\nqreg q[3];\nx q[0];\n", ["--cost", "nope", "--objective", "gates-then-cost"], "cost model"),
     ],

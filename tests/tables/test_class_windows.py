@@ -83,3 +83,18 @@ def test_the_optimiser_takes_4_line_windows_by_default_when_tables_are_cached(
     assert after.output.permutation() == circuit.permutation()
     assert after.output.gate_count <= before.output.gate_count
     assert "class table" in after.resynthesis
+
+
+def test_a_window_cut_short_by_its_deadline_is_not_remembered(table_cache: Path, monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    import time
+
+    monkeypatch.setenv("EXACTSYN_CACHE", str(table_cache))
+    gates = gate_set("mct", 4)
+    tabled = ClassTableResynthesis(gates, 4, None, TableResynthesis(gates, 4, None))
+    rng = random.Random(12)
+    perm = _circuit(rng, 4, 30).permutation()  # beyond the small table's depth: a meet in the middle
+    past = time.perf_counter() - 1.0
+    assert tabled.optimum(WindowProblem(perm, 4), deadline=past) is None
+    got = tabled.optimum(WindowProblem(perm, 4))  # without a deadline the optimum comes back
+    assert got is not None and Circuit(4, got.gates).permutation() == perm
+    assert got.gate_count > 6  # it needed the meet in the middle the deadline stopped

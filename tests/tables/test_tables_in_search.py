@@ -106,10 +106,15 @@ def test_without_tables_synth_says_once_how_to_get_them(empty_cache: Path) -> No
     p = _circuit_perm(random.Random(1), "mct", 4)
     syn = synthesise(p, library="mct")
     assert syn.optimal and syn.gate_result.source != "class-table"
-    assert [n for n in syn.notes if "exactsyn tables build" in n] == [oracle.HINT]
+    assert [n for n in syn.notes if "exactsyn tables build" in n] == [oracle.HINT.format(library="mct")]
+    assert "`exactsyn tables build --library mct`" in syn.notes[0]
     out = CliRunner().invoke(main, ["synth", "--perm", ",".join(map(str, p)), "--library", "mct"])
     assert out.exit_code == 0
     assert out.output.count("exactsyn tables build") == 1  # stdout header or stderr summary, once
+    # the note names the library, which `tables build` does not build unless asked (mixed)
+    flip = [v ^ 1 for v in range(16)]
+    assert synthesise(flip, library="mixed").notes == (oracle.HINT.format(library="mixed"),)
+    assert "`exactsyn tables build --library mixed`" in oracle.HINT.format(library="mixed")
     # no hint where no table could help (3 lines)
     assert not synthesise([1, 0, 3, 2, 5, 7, 4, 6], library="mct").notes
 
@@ -211,6 +216,7 @@ def test_tables_commands(cached: Path) -> None:
     runner = CliRunner()
     info = runner.invoke(main, ["tables", "info"])
     assert info.exit_code == 0 and "mct" in info.output and "depth 6" in info.output
+    assert "peak memory" in info.output  # the build's peak, from the manifest
     d = storage.table_dir("mct", cached)
     before = {p.name: p.stat().st_mtime_ns for p in d.iterdir()}
     again = runner.invoke(main, ["tables", "build", "--library", "mct", "--depth", "6", "-q"])

@@ -1,0 +1,150 @@
+"""Ctrl-C and SIGTERM: one line saying what was kept, exit 130 / 143, no process left, nothing half-written.
+
+Each command runs in a session of its own, so the test can send Ctrl-C as a terminal does
+(SIGINT to the whole process group) or SIGTERM as a scheduler or ``kill`` does (to the
+main process only), and afterwards look for any process of that session still alive.
+hwb4 (11 MCT gates; Maslov, Dueck & Miller's benchmark) keeps ``synth`` busy for minutes
+without class tables (the tests' cache holds none), so every moment below is mid-search:
+before the race starts, in it, and in cube workers.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import sqlite3
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from exactsyn.proof.checker import check_certificate
+
+HWB4 = "0,2,4,12,8,5,9,11,1,6,10,13,3,14,7,15"
+
+
+def session_alive(sid: int) -> list[int]:
+    """Processes of session ``sid`` still running (zombies are gone already)."""
+    alive = []
+    for entry in Path("/proc").iterdir():
+        if not entry.name.isdigit():
+            continue
+        try:
+            fields = (entry / "stat").read_text().rsplit(")", 1)[1].split()
+        except OSError:
+            continue
+        if int(fields[3]) == sid and fields[0] != "Z":  # fields: state, ppid, pgrp, session, ...
+            alive.append(int(entry.name))
+    return alive
+
+
+def stopped(args: list[str], cwd: Path, how: str, after: float) -> tuple[int, str, str, int]:
+    """Run ``exactsyn args``, send Ctrl-C (``int``) or SIGTERM (``term``) after ``after`` seconds."""
+    p = subprocess.Popen(
+        [sys.executable, "-m", "exactsyn", *args],
+        cwd=cwd,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+        start_new_session=True,
+    )
+    time.sleep(after)
+    assert p.poll() is None, p.communicate()
+    if how == "int":
+        os.killpg(p.pid, signal.SIGINT)
+    else:
+        os.kill(p.pid, signal.SIGTERM)
+    out, err = p.communicate(timeout=60)
+    deadline = time.monotonic() + 5
+    while session_alive(p.pid) and time.monotonic() < deadline:
+        time.sleep(0.1)
+    return p.returncode, out, err, len(session_alive(p.pid))
+
+
+@pytest.mark.parametrize(
+    "how, after, jobs",
+    [("int", 0.5, "2"), ("int", 2.5, "2"), ("term", 2.5, "2"), ("int", 4.0, "3"), ("term", 4.0, "3")],
+)
+def test_synth_stops_in_one_line_and_leaves_no_certificate_behind(
+    tmp_path: Path, how: str, after: float, jobs: str
+) -> None:
+    args = ["synth", "--perm", HWB4, "--library", "mct", "-j", jobs, "--split-after", "1", "--certificate", "cert"]
+    code, out, err, left = stopped(args, tmp_path, how, after)
+    assert code == (130 if how == "int" else 143), err
+    what = "interrupted" if how == "int" else "terminated (SIGTERM)"
+    kept = {"no certificate was written to cert"} | ({"nothing was written"} if after < 1 else set())
+    assert err in {f"exactsyn: {what}: {k}\n" for k in kept}, err  # at 0.5 s it may still be loading
+    assert out == ""
+    assert left == 0
+    assert sorted(p.name for p in tmp_path.iterdir()) == []  # neither cert/ nor a hidden partial directory
+
+
+def test_an_interrupted_run_keeps_the_certificate_that_was_there(tmp_path: Path) -> None:
+    done = subprocess.run(
+        [sys.executable, "-m", "exactsyn", "synth", "--perm", "1,0,3,2,5,7,4,6", "--certificate", "cert", "-q"],
+        cwd=tmp_path,
+        capture_output=True,
+        text=True,
+    )
+    assert done.returncode == 0, done.stderr
+    before = sorted(p.name for p in (tmp_path / "cert").iterdir())
+    code, _, err, left = stopped(
+        ["synth", "--perm", HWB4, "--library", "mct", "--certificate", "cert"], tmp_path, "int", 2.5
+    )
+    assert code == 130 and left == 0, err
+    assert sorted(p.name for p in (tmp_path / "cert").iterdir()) == before
+    assert check_certificate(tmp_path / "cert").ok
+    assert [p.name for p in tmp_path.iterdir()] == ["cert"]
+
+
+def test_a_partial_certificate_directory_is_refused_by_check_in_one_line(tmp_path: Path) -> None:
+    # what a kill -9 in the middle of a search leaves: the hidden directory, proofs without result.json
+    p = subprocess.Popen(
+        [sys.executable, "-m", "exactsyn", "synth", "--perm", HWB4, "--library", "mct", "--certificate", "cert"],
+        cwd=tmp_path,
+        start_new_session=True,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+    )
+    time.sleep(3)
+    os.killpg(p.pid, signal.SIGKILL)
+    p.wait()
+    partial = [d for d in tmp_path.iterdir() if d.name.startswith(".cert.partial-")]
+    assert len(partial) == 1 and not (tmp_path / "cert").exists()
+    r = subprocess.run([sys.executable, "-m", "exactsyn", "check", str(partial[0])], capture_output=True, text=True)
+    assert r.returncode == 2 and r.stderr.count("\n") == 1 and "no result.json" in r.stderr, r.stderr
+
+
+@pytest.mark.parametrize("how", ["int", "term"])
+def test_batch_stops_in_one_line_with_what_it_kept_and_its_workers(tmp_path: Path, how: str) -> None:
+    # 4-line mct functions without class tables: seconds each, so both workers are mid-item
+    args = [
+        "batch",
+        "--random",
+        "4",
+        "--sample",
+        "6",
+        "--seed",
+        "3",
+        "--library",
+        "mct",
+        "-j",
+        "2",
+        "-q",
+        "--store",
+        "s.sqlite",
+    ]
+    code, out, err, left = stopped(args, tmp_path, how, 4.0)
+    assert code == (130 if how == "int" else 143), err
+    assert left == 0
+    assert err.count("\n") == 1 and "s.sqlite" in err and "re-run the same command" in err, err
+    con = sqlite3.connect(tmp_path / "s.sqlite")
+    try:
+        statuses = {s for (s,) in con.execute("SELECT status FROM results")}
+        claims = con.execute("SELECT count(*) FROM claims").fetchone()[0]
+    finally:
+        con.close()
+    assert statuses <= {"done", "timeout"}  # an interrupted item is never recorded as failed
+    assert claims == 0  # the claims of the items in flight are given back
