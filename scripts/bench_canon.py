@@ -10,6 +10,7 @@ a shared machine); the kernel runs on every numba thread unless ``--threads``.
 
     .venv/bin/python scripts/bench_canon.py                     # 4 lines, 2 M keys
     .venv/bin/python scripts/bench_canon.py --lines 3 --threads 1
+    .venv/bin/python scripts/bench_canon.py --lines 5 --n 1000000   # 160-bit keys, 240 symmetries
 
 On a checkout from before the n-line engine (``exactsyn.tables.kernels.canon_many`` on
 4 lines only) the same script measures the old kernel, for before/after comparisons.
@@ -38,10 +39,16 @@ def canon_kernel(lines: int) -> Callable[[np.ndarray], np.ndarray]:
 
 
 def pack(rows: np.ndarray, lines: int) -> np.ndarray:
-    out = np.zeros(len(rows), dtype=np.uint64)
+    """Key array: ``(N,)`` for one 64-bit word, ``(N, words)`` least significant word first."""
+    words = (lines * (1 << lines) + 63) // 64
+    out = np.zeros((len(rows), words), dtype=np.uint64)
     for i in range(rows.shape[1]):
-        out |= rows[:, i].astype(np.uint64) << np.uint64(lines * i)
-    return out
+        v = rows[:, i].astype(np.uint64)
+        word, shift = divmod(lines * i, 64)
+        out[:, word] |= v << np.uint64(shift)
+        if shift + lines > 64:  # the entry runs into the next word
+            out[:, word + 1] |= v >> np.uint64(64 - shift)
+    return out[:, 0].copy() if words == 1 else out
 
 
 def gate_products(lines: int, count: int, gates: int, rng: np.random.Generator) -> np.ndarray:

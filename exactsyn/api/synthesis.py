@@ -194,6 +194,7 @@ def synthesise(
     cube_depth: int = DEFAULT_DEPTH,
     split_after: float = SPLIT_AFTER,
     cube_progress: Callable[[CubeEvent], None] | None = None,
+    scan_state: str | Path | None = None,
 ) -> Synthesis:
     """Find a minimum circuit for ``spec`` and prove it minimal (see the module docstring).
 
@@ -201,7 +202,8 @@ def synthesise(
     and DIMACS directories) and its :class:`~exactsyn.sat.options.SearchOptions`
     (:func:`~exactsyn.sat.options.search_options`: time and gate limits, bounds, encoding,
     solver, and how a hard query uses ``jobs`` processes — the race with 2, cubes from 3 or
-    with ``split="cubes"``, on Dask with ``scheduler``); see :func:`synthesise_request`.
+    with ``split="cubes"``, on Dask with ``scheduler``; ``scan_state``: a directory where the
+    long scans of a class table keep their chunks, so a run resumes); see :func:`synthesise_request`.
     ``progress`` receives every answered query (:class:`~exactsyn.sat.query.Query`), a
     :class:`~exactsyn.search.events.SearchEvent` for the other phases (tables, the start of
     each query, the fallback circuit) and a :class:`~exactsyn.sat.conquer.CubeEvent` for
@@ -232,6 +234,7 @@ def synthesise(
             cube_scheme=cube_scheme,
             cube_depth=cube_depth,
             split_after=split_after,
+            scan_state=None if scan_state is None else Path(scan_state),
         ),
     )
     return synthesise_request(spec, request, observer=_observer(progress, cube_progress), embedding=embedding)

@@ -277,6 +277,7 @@ def synthesis_request(asked: dict[str, Any]) -> Request:
         cube_scheme=asked["cube_scheme"],
         cube_depth=asked["cube_depth"],
         split_after=asked["split_after"],
+        scan_state=None if asked.get("scan_state") is None else Path(asked["scan_state"]),
     )
     cert, dimacs = asked["cert_dir"], asked["dimacs_dir"]
     return Request(

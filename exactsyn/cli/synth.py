@@ -212,6 +212,14 @@ def _summary(syn: Synthesis, fmt: str, quiet: bool, in_header: bool) -> None:
 )
 @split_option
 @scheduler_option
+@click.option(
+    "--scan-state",
+    type=click.Path(file_okay=False),
+    metavar="DIR",
+    help="Run the long meet-in-the-middle scans of a class table (5-line functions of 12 and 13 gates: "
+    "minutes to hours) in chunks recorded in DIR, so an interrupted run resumes where it stopped; the chunks "
+    "run on --jobs processes, or on --scheduler.",
+)
 @cube_depth_option
 @cube_scheme_option
 @split_after_option

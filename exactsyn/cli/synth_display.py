@@ -152,6 +152,8 @@ class SynthDisplay(Display):
                 self.line(f"{starts[item.phase]} …")
         elif item.phase == "query-start":
             self.status(f"k = {item.k}: SAT solver running", item.seconds)
+        elif item.phase == "table-scan":
+            self.status(f"{item.detail}: {item.low:,}/{item.high:,} classes")
         text = event_line(item)
         if text is not None:
             self.line(text)

@@ -50,7 +50,7 @@ LINES_OPTION = click.option(
     type=click.IntRange(1, None),
     default=4,
     show_default=True,
-    help="Line count of the tables (the engine has 2, 3 and 4).",
+    help="Line count of the tables (the engine has 2, 3, 4 and 5).",
 )
 
 
@@ -82,7 +82,8 @@ def tables() -> None:
     class of functions (line relabellings and inversion) for every gate count up to its
     depth; `synth` answers full permutations of that many lines from it by lookup and meet
     in the middle once it is cached.  The 4-line tables are the default (--lines 4);
-    3-line tables hold every function and build in seconds.  Tables live in
+    3-line tables hold every function and build in seconds; 5-line tables hold every
+    function of up to 6 gates (mct: 4 GB, minutes) and answer up to 12 gates.  Tables live in
     $EXACTSYN_CACHE, else $XDG_CACHE_HOME/exactsyn, else ~/.cache/exactsyn; nothing is
     downloaded.
 
@@ -91,6 +92,7 @@ def tables() -> None:
       exactsyn tables build                  # nct and mct, a few minutes, about 2.7 GB
       exactsyn tables build --library mixed  # depth 6 (functions up to 12 gates)
       exactsyn tables build --lines 3        # every 3-line function, seconds
+      exactsyn tables build --lines 5 --library mct   # depth 6, about 5 minutes, 3.9 GiB
       exactsyn tables info
       exactsyn tables counts --library mct
       exactsyn tables verify --library nct   # independent re-check (tens of minutes)
@@ -102,7 +104,8 @@ def tables() -> None:
               help="nct, mct, mixed or all (repeatable or comma-separated; default: nct and mct).")
 @click.option("--depth", type=click.IntRange(0, None), default=None,
               help="Levels to store (4 lines: mct 8, nct 8, mixed 6, at most 9; memory and disk grow about 12x "
-              "per level. Other line counts: until a level comes out empty, i.e. every function).")
+              "per level. 5 lines: mct 6, nct 6, mixed 4, at most 6; about 50x per level. Other line counts: "
+              "until a level comes out empty, i.e. every function).")
 @click.option("--rebuild", is_flag=True, help="Build again even when a table is cached (e.g. after info --hashes "
               "found it damaged).")
 @LINES_OPTION

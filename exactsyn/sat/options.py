@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 from exactsyn.errors import ExactsynError
@@ -24,6 +25,7 @@ from exactsyn.sat.conquer import SPLIT_AFTER, CubeOptions, split_options
 from exactsyn.sat.cube_split import DEFAULT_DEPTH, DEFAULT_SCHEME
 from exactsyn.sat.encode import Encoding, EncodingOptions, options_for
 from exactsyn.sat.solver import BOUNDED
+from exactsyn.tables.deep import ScanSettings
 
 #: Which lower bounds the gate search consults before SAT (``--bounds``).
 BOUNDS = {
@@ -53,6 +55,8 @@ class SearchOptions:
     with ``split`` a hard query is split into cubes instead (:mod:`exactsyn.sat.conquer`).
     ``time_limit`` covers the whole search; ``max_gates`` holds for every answer.
     ``fallback``: make a circuit before the proof starts (:mod:`exactsyn.search.fallback`).
+    ``table_scan``: where the long scans of a class table run and keep their state
+    (:mod:`exactsyn.tables.deep`; None: in this process, nothing kept).
     """
 
     solver: str = "cadical195"
@@ -63,6 +67,7 @@ class SearchOptions:
     jobs: int = 1
     split: CubeOptions | None = None
     fallback: bool = True
+    table_scan: ScanSettings | None = None
 
     def __post_init__(self) -> None:
         if self.solver not in BOUNDED:
@@ -90,6 +95,7 @@ def search_options(
     cube_scheme: str = DEFAULT_SCHEME,
     cube_depth: int = DEFAULT_DEPTH,
     split_after: float = SPLIT_AFTER,
+    scan_state: Path | None = None,
 ) -> SearchOptions:
     """:class:`SearchOptions` from the user's spellings (those of ``exactsyn synth``).
 
@@ -97,6 +103,8 @@ def search_options(
     ``split`` is a mode of :data:`exactsyn.sat.conquer.SPLIT_MODES`, which with ``jobs``,
     ``scheduler``, ``cube_scheme``, ``cube_depth`` and ``split_after`` decides whether a
     hard query is raced, split into cubes, or solved alone (``off``: one process).
+    With ``scan_state`` (a directory) or ``scheduler``, the long scans of a class table run
+    in chunks kept in ``scan_state`` (resumable) on ``jobs`` processes or on the scheduler.
     """
     if jobs < 1:
         raise ExactsynError("jobs must be 1 or more")
@@ -109,6 +117,7 @@ def search_options(
         max_gates=max_gates,
         jobs=jobs if split != "off" else 1,
         split=cubes,
+        table_scan=None if scan_state is None and scheduler is None else ScanSettings(jobs, scheduler, scan_state),
     )
 
 

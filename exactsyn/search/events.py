@@ -12,6 +12,8 @@ phases, so a display can show what is going on while nothing is answered yet:
 * ``objective-start`` / ``optima-start``: the gate count is settled and the search for the
   objective (``detail``) or the listing of optimal circuits begins;
 * ``table-bound``: the table excluded every k in ``[low, high]`` (no SAT call for them);
+* ``table-scan``: a class table's meet in the middle has scanned ``low`` of the ``high``
+  classes of one level (``detail`` names the table and the split);
 * ``query-start``: the SAT query for ``k`` gates starts (``seconds`` is the time left, or
   ``None`` without a limit);
 * ``fallback``: an upper-bound circuit of ``value`` gates was made (``detail`` says how);
@@ -33,6 +35,7 @@ PHASES = (
     "table-lookup",
     "table-done",
     "table-bound",
+    "table-scan",
     "query-start",
     "fallback",
     "sub-library",

@@ -48,7 +48,7 @@ from exactsyn.search.bounds import (
 from exactsyn.search.events import SearchEvent
 from exactsyn.search.fallback import Fallback, improve_pays, improve_upper, initial_upper
 from exactsyn.specification.reversible import Spec
-from exactsyn.tables.oracle import HINT, ClassTableClaim, GateOracle, TableBound, TableRoles, Verdict, table_roles
+from exactsyn.tables.oracle import ClassTableClaim, GateOracle, TableBound, TableRoles, Verdict, table_roles
 
 __all__ = ["BOUNDS", "GateResult", "TableBound", "verify_circuit", "minimise_gates"]
 
@@ -121,7 +121,7 @@ class _GateSearch:
         self.fallback = Fallback(None, "")
         self.per_k = 0.0  # seconds the last encoding took per gate position
         asks = options.bounds == "table" and spec.is_permutation and spec.lines == library.lines
-        self.roles = table_roles(library) if asks else TableRoles()
+        self.roles = table_roles(library, options.table_scan) if asks else TableRoles()
         self.distance = self.roles.distance  # None once it cannot help any more
         self.improved_at: int | None = None  # k at which the fallback was last improved
 
@@ -197,11 +197,15 @@ class _GateSearch:
         if self.bound.value <= 0:
             return None
         if oracle is None:
-            self.hint = HINT.format(library=self.roles.missing) if self.roles.missing else ""
+            self.hint = self.roles.hint
             return None
         what = oracle.describe()
         self.emit(SearchEvent("table-lookup", k=self.bound.value, detail=what))
-        verdict = oracle.optimum(self.spec.permutation, self.deadline)
+
+        def scanning(step: str, done: int, total: int) -> None:
+            self.emit(SearchEvent("table-scan", low=done, high=total, detail=f"{what}: {step}"))
+
+        verdict = oracle.optimum(self.spec.permutation, self.deadline, scanning)
         claim = verdict.claim
         assert isinstance(claim, ClassTableClaim)
         self.claim = claim

@@ -5,7 +5,7 @@ inversion), one canonical key per class, stored level by level up to a depth ``R
 function deeper than ``R`` is settled by meet in the middle against level ``R``
 (Golubitsky, Falconer & Maslov, "Synthesis of the optimal 4-bit reversible circuits",
 DAC 2010).  Libraries: ``mct``, ``nct`` and ``mixed``; line counts: those with compiled
-kernels (:func:`~exactsyn.tables.keys.engine_lines`: 2, 3 and 4), 4 by default.
+kernels (:func:`~exactsyn.tables.keys.engine_lines`: 2, 3, 4 and 5), 4 by default.
 
 API (importing this package is cheap; numba loads on first use)::
 
@@ -32,13 +32,16 @@ Modules (one job each):
 * :mod:`~exactsyn.tables.kernel_api` — :class:`TableKernels`, what the drivers ask of a layout's kernels;
 * :mod:`~exactsyn.tables.kernels` — numba kernels of single-word layouts (``n ≤ 4``):
   canonical form, lookup, BFS step, scan;
+* :mod:`~exactsyn.tables.kernels5` — the same for 5 lines (160-bit keys, canonical form by
+  line profile);
 * :mod:`~exactsyn.tables.gate_keys` — a library's gates as keys (the only bridge to the gate model);
 * :mod:`~exactsyn.tables.levels` — breadth-first search over classes, level files;
 * :mod:`~exactsyn.tables.storage` — cache directory, layout, manifest, hashes, atomic install;
 * :mod:`~exactsyn.tables.manage` — :func:`build`, :func:`info`, :func:`remove`;
 * :mod:`~exactsyn.tables.engine` — :func:`load`, lookup and meet in the middle;
-* :mod:`~exactsyn.tables.verify` with :mod:`~exactsyn.tables.verify_keys` — the independent
-  checker (imports no kernel or key code of the builder);
+* :mod:`~exactsyn.tables.verify` with :mod:`~exactsyn.tables.verify_keys` and
+  :mod:`~exactsyn.tables.verify_keys5` — the independent checker (imports no kernel or key
+  code of the builder);
 * :mod:`~exactsyn.tables.sample` — sampled distribution of optima;
 * :mod:`~exactsyn.tables.hardest` — families of functions fixed by a symmetry, where large optima are.
 

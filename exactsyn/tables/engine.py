@@ -27,7 +27,7 @@ class of ``a``.  Equal conjugates are tested once.  Every circuit is simulated a
 from __future__ import annotations
 
 import time
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -37,10 +37,12 @@ import numpy as np
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import storage
+from exactsyn.tables.deep import DEFAULT_CHUNK, ScanResult, ScanSettings, scan_level
 from exactsyn.tables.gate_keys import GateSet, gate_set
 from exactsyn.tables.keys import check_lines
 
-SCAN_BLOCK = 1 << 15  # class representatives per parallel call of the scan
+#: ``progress(what, classes done, classes in the level)`` of a meet in the middle.
+MeetProgress = Callable[[str, int, int], None]
 
 
 @dataclass(frozen=True)
@@ -143,12 +145,19 @@ class Tables:
 
     # ------------------------------------------------------------------ synthesis
     def synthesise(
-        self, perm: Sequence[int], max_extra: int | None = None, time_limit: float | None = None
+        self,
+        perm: Sequence[int],
+        max_extra: int | None = None,
+        time_limit: float | None = None,
+        scan: ScanSettings | None = None,
+        progress: MeetProgress | None = None,
     ) -> TableAnswer:
         """Optimal circuit of a permutation of the table's lines, or the lower bound reached.
 
         ``max_extra`` caps the meet-in-the-middle level ``L`` (default: the table depth);
-        ``time_limit`` (seconds) stops the scan between blocks.  Raises
+        ``time_limit`` (seconds) stops the scan between chunks; ``scan`` says where the
+        chunks run and where their state is kept (:mod:`exactsyn.tables.deep`);
+        ``progress(what, done, total)`` hears of every chunk.  Raises
         :class:`ExactsynError` when the permutation is not realisable over the library.
         """
         t0 = time.perf_counter()
@@ -165,50 +174,73 @@ class Tables:
             return self._answer(p, gates, t0, "table lookup", {"depth": self.depth, "level": j})
         if self.complete:
             raise ExactsynError(f"the permutation is not realisable over {self.library}")
-        return self._meet(p, f, t0, self.depth if max_extra is None else min(max_extra, self.depth), time_limit)
+        extra = self.depth if max_extra is None else min(max_extra, self.depth)
+        deadline = None if time_limit is None else t0 + time_limit
+        return self._meet(p, f, t0, extra, _Scan(self, scan, deadline, progress))
 
-    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, time_limit: float | None) -> TableAnswer:
+    def _conjugates(self, targets: Sequence[int]) -> tuple[np.ndarray, list[tuple[int, tuple[int, ...]]]]:
+        """Key array of the distinct conjugates of every target, and per conjugate (target, σ)."""
         lay = self.layout
-        K = lay.kernels()
+        keys: list[int] = []
+        whose: list[tuple[int, tuple[int, ...]]] = []
+        for j, t in enumerate(targets):
+            conj: dict[int, tuple[int, ...]] = {}
+            for sigma in lay.relabellings:
+                conj.setdefault(lay.conjugate(t, sigma), sigma)
+            keys += list(conj)
+            whose += [(j, sigma) for sigma in conj.values()]
+        return lay.array(keys), whose
+
+    def _split(self, target: int, L: int, position: int, lane: int, sigma: tuple[int, ...]) -> list[int]:
+        """An optimal circuit of ``target`` from a hit of the scan of level ``L`` against level ``R``."""
+        lay = self.layout
+        a = lay.ints(lay.kernels().unmix_many(self.levels[L].vals[position : position + 1]))[0]
+        x = a if lane % 2 == 0 else lay.inverse(a)
+        a_key = lay.conjugate(lay.inverse(x), lay.inverse_relabelling(sigma))  # A = π_σ⁻¹ ∘ x⁻¹ ∘ π_σ
+        b_key = lay.compose(target, lay.inverse(a_key))  # B = target ∘ A⁻¹
+        return self._walk(a_key, L) + self._walk(b_key, self.depth)
+
+    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, scan: _Scan) -> TableAnswer:
         R = self.depth
-        top = self.levels[R]
-        conj: dict[int, tuple[int, ...]] = {}
-        for sigma in lay.relabellings:
-            conj.setdefault(lay.conjugate(f, sigma), sigma)
-        fkeys = lay.array(conj)
-        sigmas = list(conj.values())
+        fkeys, whose = self._conjugates([f])
         scanned: list[dict[str, Any]] = []
         tests = 0
-        deadline = None if time_limit is None else t0 + time_limit
         for L in range(1, max_extra + 1):
-            reps = self.levels[L].vals
-            t_level = time.perf_counter()
-            out = np.empty(min(SCAN_BLOCK, max(1, len(reps))), dtype=np.int64)
-            for start in range(0, len(reps), SCAN_BLOCK):
-                stop = min(len(reps), start + SCAN_BLOCK)
-                o = out[: stop - start]
-                K.scan(reps, start, stop, fkeys, top.vals, top.index, top.shift, o)
-                hit = np.flatnonzero(o >= 0)
-                if len(hit):
-                    i = int(hit[0])
-                    tests += (i + 1) * 2 * len(fkeys)
-                    scanned.append({"L": L, "classes": i + 1, "seconds": round(time.perf_counter() - t_level, 3)})
-                    a = lay.ints(K.unmix_many(reps[start + i : start + i + 1]))[0]
-                    lane = int(o[i])
-                    sigma = sigmas[lane // 2]
-                    x = a if lane % 2 == 0 else lay.inverse(a)
-                    back = lay.inverse_relabelling(sigma)
-                    a_key = lay.conjugate(lay.inverse(x), back)  # A = π_σ⁻¹ ∘ x⁻¹ ∘ π_σ
-                    b_key = lay.compose(f, lay.inverse(a_key))  # B = f ∘ A⁻¹
-                    gates = self._walk(a_key, L) + self._walk(b_key, R)
-                    detail = {"depth": R, "extra": L, "levels": scanned, "tests": tests}
-                    return self._answer(p, gates, t0, "meet in the middle", detail)
-                tests += (stop - start) * 2 * len(fkeys)
-                if deadline is not None and time.perf_counter() > deadline:
-                    scanned.append({"L": L, "classes": stop, "seconds": round(time.perf_counter() - t_level, 3)})
-                    return self._bound(p, R + L, t0, {"depth": R, "levels": scanned, "tests": tests, "timeout": True})
-            scanned.append({"L": L, "classes": len(reps), "seconds": round(time.perf_counter() - t_level, 3)})
-        return self._bound(p, R + max_extra + 1, t0, {"depth": R, "levels": scanned, "tests": tests})
+            res = scan.level(L, R, fkeys, f"split after {L} gates")
+            scanned.append({"L": L, "classes": res.classes, "seconds": round(res.seconds, 3),
+                            **({"resumed_chunks": res.resumed} if res.resumed else {})})  # fmt: skip
+            tests += res.classes * len(fkeys) * 2
+            if res.hit is not None:
+                position, lane = res.hit
+                gates = self._split(f, L, position, lane, whose[lane // 2][1])
+                detail = {"depth": R, "extra": L, "levels": scanned, "tests": tests}
+                return self._answer(p, gates, t0, "meet in the middle", detail)
+            if not res.complete:
+                return self._bound(p, R + L, t0, {"depth": R, "levels": scanned, "tests": tests, "timeout": True})
+        if max_extra < R:
+            return self._bound(p, R + max_extra + 1, t0, {"depth": R, "levels": scanned, "tests": tests})
+        return self._peel(p, f, t0, scan, {"depth": R, "levels": scanned, "tests": tests})
+
+    def _peel(self, p: tuple[int, ...], f: int, t0: float, scan: _Scan, detail: dict[str, Any]) -> TableAnswer:
+        """Every split up to ``2R`` gates failed, so the optimum is at least ``2R + 1``; it is
+        ``2R + 1`` exactly when some ``g∘f`` (``g`` a gate) needs ``2R``, i.e. splits into two
+        functions of level ``R``: the last gate of an optimal circuit peeled off.  One scan of
+        level ``R`` for all ``g∘f`` at once; the first hit gives a circuit of ``2R + 1`` gates,
+        exhausting it proves ``2R + 2``."""
+        R, lay = self.depth, self.layout
+        targets = sorted({lay.compose(g, f) for g in self.gates.keys})
+        fkeys, whose = self._conjugates(targets)
+        res = scan.level(R, R, fkeys, f"one gate and a split after {R}")
+        detail["peel"] = {"targets": len(targets), "classes": res.classes, "seconds": round(res.seconds, 3)}
+        if res.hit is not None:
+            position, lane = res.hit
+            j, sigma = whose[lane // 2]
+            t = targets[j]
+            g = next(i for i, k in enumerate(self.gates.keys) if lay.compose(k, f) == t)
+            gates = self._split(t, R, position, lane, sigma) + [g]  # f = g∘t: t first, then g
+            return self._answer(p, gates, t0, "meet in the middle, one gate peeled", detail)
+        bound = 2 * R + 2 if res.complete else 2 * R + 1
+        return self._bound(p, bound, t0, {**detail, **({} if res.complete else {"timeout": True})})
 
     def _answer(
         self, p: tuple[int, ...], idx: list[int], t0: float, method: str, detail: dict[str, Any]
@@ -246,6 +278,27 @@ class Tables:
     def distribution(self) -> list[int]:
         """Number of functions needing exactly ``0..depth`` gates (from class sizes)."""
         return [lv.functions for lv in self.levels]
+
+
+class _Scan:
+    """The scans of one synthesis: the table, where chunks run, the deadline, progress."""
+
+    def __init__(
+        self, table: Tables, settings: ScanSettings | None, deadline: float | None, progress: MeetProgress | None
+    ) -> None:
+        self.table, self.settings, self.deadline, self.progress = table, settings, deadline, progress
+
+    def level(self, level: int, top: int, fkeys: np.ndarray, what: str) -> ScanResult:
+        t = self.table
+        report = None
+        if self.progress is not None:
+            progress = self.progress
+
+            def report(done: int, total: int) -> None:
+                progress(what, done, total)
+
+        return scan_level(t.library, t.lines, t.content_hash, t.directory.parent.parent, level,
+                          len(t.levels[level]), top, fkeys, self.settings, self.deadline, report)  # fmt: skip
 
 
 def load(library: str = "mct", cache: Path | None = None, verify_hashes: bool = False, lines: int = 4) -> Tables:
@@ -309,9 +362,9 @@ class TableLookup:
         top = t.levels[self.depth]
         reps = t.levels[level].vals
         hits: list[int] = []
-        out = np.empty(min(SCAN_BLOCK, max(1, len(reps))), dtype=np.int64)
-        for start in range(0, len(reps), SCAN_BLOCK):
-            stop = min(len(reps), start + SCAN_BLOCK)
+        out = np.empty(min(DEFAULT_CHUNK, max(1, len(reps))), dtype=np.int64)
+        for start in range(0, len(reps), DEFAULT_CHUNK):
+            stop = min(len(reps), start + DEFAULT_CHUNK)
             o = out[: stop - start]
             K.scan(reps, start, stop, conj, top.vals, top.index, top.shift, o)
             found = np.flatnonzero(o >= 0)

@@ -18,7 +18,21 @@ under relabelling whose gates are self-inverse (``mct``, ``nct``, ``mixed``), th
 is constant on the class ``{π_σ ∘ f^e ∘ π_σ⁻¹ : σ ∈ S_n, e = ±1}`` (at most ``2·n!``
 functions) — the reduction of Shende, Prasad, Markov & Hayes (IEEE TCAD 22(6), 2003),
 used for 4 lines by Golubitsky, Falconer & Maslov (DAC 2010).  The canonical form of a
-function is the least key of its class; its class size is ``2·n! / |stabiliser|``.
+function is the least member of its class in the layout's order (:meth:`KeyLayout.order_key`);
+its class size is ``2·n! / |stabiliser|``.
+
+The order.  Up to 4 lines it is the order of the keys: the canonical form is the least key
+of the class.  From 5 lines on (:data:`PROFILE_FROM`) members are compared first by their
+*line profile* and then by key.  The profile of ``m`` is the vector over the lines ``l``
+of ``(flips, spread, low, high)``: ``flips`` = the inputs ``x`` whose bit ``l`` ``m``
+changes, ``spread`` = ``Σ hw(m(x) ⊕ m(x ⊕ 2^l))`` over the ``x`` with bit ``l`` clear,
+``low`` = ``hw(m(2^l))``, ``high`` = ``hw(m(2^n − 1 − 2^l))`` (``hw`` = number of one
+bits).  Relabelling the lines by ``σ`` moves the entry of line ``l`` to line ``σ[l]``
+and leaves it unchanged, so the least profile in a class is the sorted profile of
+``f`` or of ``f⁻¹``, and only the relabellings that sort it need a key: nearly always
+one (the compiled kernel of 5 lines computes nothing else, :mod:`exactsyn.tables.kernels5`),
+where the least key needs all ``2·n!``.  Any order gives a sound canonical form (a function
+of the class alone); this one is the definition the 5-line tables and their checker use.
 
 This module is plain Python and numpy (the reference semantics, for any ``n``).  The
 compiled kernels of a layout (:meth:`KeyLayout.kernels`, the interface
@@ -52,16 +66,22 @@ KERNEL_MODULES: dict[int, str] = {
     2: "exactsyn.tables.kernels",
     3: "exactsyn.tables.kernels",
     4: "exactsyn.tables.kernels",
+    5: "exactsyn.tables.kernels5",
 }
 #: Registration, continued: the depth a build makes by default per library, and the deepest
 #: it accepts, for the line counts where the whole group does not fit (elsewhere a build goes
 #: on until a level comes out empty: 40320 functions on 3 lines).  4 lines: ``mct`` levels
 #: 0..8 (about 2.4e8 classes, 1.9 GB) settle every function, the largest optimum being
 #: 15 = 8 + 7; each level is about 12 times the last (docs/tables4.md has the measurements).
+#: 5 lines: levels grow about 50 times (``mct``: 3.4 M classes at 5 gates, about 1.7e8 at 6,
+#: 24 bytes each); depth 7 would need about 200 GB.
 DEFAULT_DEPTHS: dict[int, dict[str, int]] = {
-    4: {"mct": 8, "nct": 8, "mixed": 6, "mct-layers": 6, "nct-layers": 6, "mixed-layers": 5}
+    4: {"mct": 8, "nct": 8, "mixed": 6, "mct-layers": 6, "nct-layers": 6, "mixed-layers": 5},
+    5: {"mct": 6, "nct": 6, "mixed": 4},
 }
-MAX_DEPTHS: dict[int, int] = {4: 9}
+MAX_DEPTHS: dict[int, int] = {4: 9, 5: 6}
+#: From this line count on, classes are ordered by line profile, then key (module docstring).
+PROFILE_FROM = 5
 
 _WORD = (1 << 64) - 1
 
@@ -193,9 +213,24 @@ class KeyLayout:
                 out.setdefault(self.conjugate(base, sigma), (sigma, inverted))
         return out
 
+    def line_profile(self, key: int) -> tuple[tuple[int, int, int, int], ...]:
+        """Per line ``l``: ``(flips, spread, low, high)`` of the permutation (module docstring)."""
+        p, top = self.unpack(key), self.size - 1
+        out = []
+        for line in range(self.lines):
+            bit = 1 << line
+            flips = sum(((v ^ x) >> line) & 1 for x, v in enumerate(p))
+            spread = sum((p[x] ^ p[x | bit]).bit_count() for x in range(self.size) if not x & bit)
+            out.append((flips, spread, p[bit].bit_count(), p[top ^ bit].bit_count()))
+        return tuple(out)
+
+    def order_key(self, key: int) -> int | tuple[tuple[tuple[int, int, int, int], ...], int]:
+        """What members of a class are compared by: the key up to 4 lines, (profile, key) from 5."""
+        return (self.line_profile(key), int(key)) if self.lines >= PROFILE_FROM else int(key)
+
     def canonical(self, key: int) -> int:
-        """The least key of the class of ``key`` (the plain definition; slow)."""
-        return min(self.class_members(key))
+        """The least member of the class of ``key`` in the layout's order (the plain definition; slow)."""
+        return min(self.class_members(key), key=self.order_key)
 
     def class_size(self, key: int) -> int:
         return len(self.class_members(key))

@@ -32,6 +32,7 @@ import numpy as np
 
 from exactsyn.tables import storage
 from exactsyn.tables.gate_keys import GateSet
+from exactsyn.tables.keys import PROFILE_FROM
 
 #: ``progress(description, done, total)``; ``total`` may change between levels.
 BuildProgress = Callable[[str, int, int], None]
@@ -208,7 +209,11 @@ def build_table(
         "complete": complete,
         "symmetry": f"{relabellings} line relabellings and inversion ({lay.symmetries} transforms)",
         "key": _KEY_TEXT.get(lay.lines, f"bits {lay.lines}i..{lay.lines}i+{lay.lines - 1} hold p[i]")
-        + "; canonical form = least key of the class",
+        + (
+            "; canonical form = least key of the class"
+            if lay.lines < PROFILE_FROM
+            else "; canonical form = least member of the class by line profile, then key"
+        ),
         "mix": lay.kernels().mix_name,
         "levels": levels,
         "built": {

@@ -94,9 +94,12 @@ def _clean_stale(library: str, cache: Path | None, lines: int) -> None:
 
 
 def _wanted_depth(library: str, depth: int | None, lines: int) -> int | None:
-    """The depth to build (None: until a level comes out empty)."""
+    """The depth to build (None: until a level comes out empty, only where the group fits)."""
     if depth is None:
-        return DEFAULT_DEPTHS.get(lines, {}).get(library)
+        wanted = DEFAULT_DEPTHS.get(lines, {}).get(library)
+        if wanted is None and lines in MAX_DEPTHS:
+            raise ExactsynError(f"no default depth for a {lines}-line {library} table: give --depth")
+        return wanted
     if depth < 0:
         raise ExactsynError("table depth must be 0 or more")
     top = MAX_DEPTHS.get(lines)

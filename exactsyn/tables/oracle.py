@@ -38,6 +38,7 @@ import numpy as np
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import Library
+from exactsyn.tables.deep import ScanSettings
 from exactsyn.tables.descent import Descent, commutation
 from exactsyn.tables.distance import (
     WHOLE_GROUP_DEPTH,
@@ -54,17 +55,21 @@ from exactsyn.tables.hashed import five_meet, five_next_depth, five_table_ok
 from exactsyn.tables.keys import engine_lines, layout
 
 if TYPE_CHECKING:  # pragma: no cover
-    from exactsyn.tables.engine import Tables
+    from exactsyn.tables.engine import MeetProgress, Tables
 
 #: Class-table libraries, smallest gate set first (the tightest bound for a sub-library comes first).
 TABLE_ORDER = ("nct", "mct", "mixed")
-#: The line count whose missing tables the search suggests building (:data:`HINT`).
+#: The one line the search adds when a class table would have answered but none is cached,
+#: per line count whose tables are worth suggesting (``{library}`` is the table's library).
+HINTS = {
+    4: "4-line functions are settled in seconds once the class tables exist: "
+    "run `exactsyn tables build --library {library}` once",
+    5: "5-line functions of up to 12 gates are proven in minutes once the 5-line class table exists: "
+    "run `exactsyn tables build --lines 5 --library {library}` once (a few minutes, 4 GB for mct)",
+}
+HINT = HINTS[4]
+#: The line count whose missing layer tables the search suggests building (:data:`LAYER_HINT`).
 HINT_LINES = 4
-#: The one line the search adds when a class table would have answered but none is cached.
-HINT = (
-    "4-line functions are settled in seconds once the class tables exist: "
-    "run `exactsyn tables build --library {library}` once"
-)
 #: The note when a depth would have been settled by a layer table that is not cached.
 LAYER_HINT = (
     "the depth of {lines}-line functions is settled in seconds from a layer table: "
@@ -174,8 +179,8 @@ class ClassOracle:
     bounds a library with fewer gates (then :meth:`optimum` gives lower bounds, no circuits).
     """
 
-    def __init__(self, name: str, lines: int, library: Library | None) -> None:
-        self.name, self.lines, self._library = name, lines, library
+    def __init__(self, name: str, lines: int, library: Library | None, scan: ScanSettings | None = None) -> None:
+        self.name, self.lines, self._library, self.scan = name, lines, library, scan
 
     @cached_property
     def table(self) -> Tables:
@@ -200,12 +205,15 @@ class ClassOracle:
             return f"{self.lines}-line layer table of {self.name[: -len(LAYERS)]}"
         return f"{self.lines}-line class table of {self.name}"
 
-    def optimum(self, perm: tuple[int, ...], deadline: float | None = None) -> Verdict:
-        """The optimum in the table's steps (gates; layers for a layer table) and a circuit, or a bound."""
+    def optimum(
+        self, perm: tuple[int, ...], deadline: float | None = None, progress: MeetProgress | None = None
+    ) -> Verdict:
+        """The optimum in the table's steps (gates; layers for a layer table) and a circuit, or a
+        bound; ``progress(what, classes done, classes)`` hears of long scans."""
         t0 = time.perf_counter()
         t = self.table
         left = None if deadline is None else max(0.0, deadline - t0)
-        ans = t.synthesise(perm, time_limit=left)
+        ans = t.synthesise(perm, time_limit=left, scan=self.scan, progress=progress)
         seconds = time.perf_counter() - t0
         if ans.optimal and ans.gates is not None and ans.gate_count is not None and self._library is not None:
             circuit = _checked(Circuit(self.lines, tuple(ans.gates)), perm, self._library)
@@ -433,11 +441,11 @@ class TableRoles:
 
     ``exact``: a cached class table of exactly its gates; ``bound``: a cached class table of
     the smallest larger library (lower bounds only); ``missing``: the class table that would
-    answer but is not cached (the search suggests building it); ``inner``: a cached class
-    table of the largest library inside it (its circuits are the library's); ``distance``:
-    the in-memory distance table, unless the exact class table reaches further; ``layers``:
-    a cached layer table of exactly its gates (steps are layers of gates on disjoint lines,
-    so its optimum is the minimum depth).
+    answer but is not cached (the search suggests building it, in the words of ``hint``);
+    ``inner``: a cached class table of the largest library inside it (its circuits are the
+    library's); ``distance``: the in-memory distance table, unless the exact class table
+    reaches further; ``layers``: a cached layer table of exactly its gates (steps are
+    layers of gates on disjoint lines, so its optimum is the minimum depth).
     """
 
     exact: ClassOracle | None = None
@@ -447,6 +455,7 @@ class TableRoles:
     distance: DistanceOracle | HashedOracle | None = None
     layers: ClassOracle | None = None  # a cached layer table of exactly its gates: minimum depths
     missing_layers: str | None = None  # the layer table that would settle depths but is not cached
+    hint: str = ""
 
     @property
     def class_table(self) -> ClassOracle | None:
@@ -454,8 +463,9 @@ class TableRoles:
         return self.exact or self.bound
 
 
-def table_roles(library: Library) -> TableRoles:
-    """The tables of ``library`` (see :class:`TableRoles`), as the cache holds them now."""
+def table_roles(library: Library, scan: ScanSettings | None = None) -> TableRoles:
+    """The tables of ``library`` (see :class:`TableRoles`), as the cache holds them now;
+    ``scan`` says where the long scans of its class tables run (:mod:`exactsyn.tables.deep`)."""
     distance = distance_oracle(library)
     lines = library.lines
     if lines not in engine_lines():
@@ -465,16 +475,17 @@ def table_roles(library: Library) -> TableRoles:
     same = next((n for n in TABLE_ORDER if sets[n] == gates), None)
     above = next((n for n in TABLE_ORDER if gates <= sets[n]), None)
     inside = next((n for n in reversed(TABLE_ORDER) if sets[n] <= gates and cached(n, lines)), None)
-    exact = ClassOracle(same, lines, library) if same is not None and cached(same, lines) else None
+    exact = ClassOracle(same, lines, library, scan) if same is not None and cached(same, lines) else None
     bound = None
     if exact is None and above is not None and above != same and cached(above, lines):
-        bound = ClassOracle(above, lines, None)
-    missing = same if same is not None and exact is None and lines == HINT_LINES else None
+        bound = ClassOracle(above, lines, None, scan)
+    missing = same if same is not None and exact is None and lines in HINTS else None
+    hint = HINTS[lines].format(library=missing) if missing is not None else ""
     if exact is not None and exact.depth >= DEEP_CLASS_TABLE:
         distance = None  # the class table reaches further than the distance table (12 gates at most)
     inner = ClassOracle(inside, lines, library if inside == same else None) if inside is not None else None
     layered = None
     if same is not None and cached(same + LAYERS, lines):
-        layered = ClassOracle(same + LAYERS, lines, library)
+        layered = ClassOracle(same + LAYERS, lines, library, scan)
     no_layers = same + LAYERS if same is not None and layered is None and lines == HINT_LINES else None
-    return TableRoles(exact, bound, missing, inner, distance, layered, no_layers)
+    return TableRoles(exact, bound, missing, inner, distance, layered, no_layers, hint)

@@ -10,7 +10,9 @@ Keys (:mod:`~exactsyn.tables.verify_keys`): a permutation ``p`` of ``0..2^n − 
 ``Σ p[i]·2^(n·i)``; a class is the set of ``π_σ∘p^{±1}∘π_σ⁻¹`` over the ``n!``
 relabellings ``σ`` of the lines; its canonical key is the least key of the class.  A level
 file holds ``mix(canonical key)``, sorted.  The checker handles tables of 2, 3 and 4 lines
-(one 64-bit word per key); the line count is part of the table's directory and format.
+(one 64-bit word per key) and of 5 lines (three words, :mod:`~exactsyn.tables.verify_keys5`,
+canonical form by line profile, then key); the line count is part of the table's directory
+and format.
 
 **verify_table** proves that the levels are exact, from the files alone:
 
@@ -65,11 +67,14 @@ from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import Gate
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
-from exactsyn.tables.verify_keys import CheckKeys, arr, check_keys, mix, unmix
+from exactsyn.tables.verify_keys import CheckKeys, check_keys
+from exactsyn.tables.verify_keys5 import FiveCheckKeys
 
 CHECKER = "exactsyn.tables.verify/1"
 STAMP = "verified.json"
-CHUNK = 1 << 15  # classes per task of the closure test
+CHUNK = 1 << 15  # classes per task of the closure test (one-word keys)
+CHUNK_WIDE = 1 << 13  # the same for 5-line keys: 160 neighbours and 240 members a class
+Keys = CheckKeys | FiveCheckKeys
 VerifyProgress = Callable[[str, int, int], None]
 Tasks = list[tuple[Callable[..., Any], tuple[Any, ...]]]
 
@@ -77,15 +82,35 @@ _U = np.uint64
 
 
 # ----------------------------------------------------------------------------- the table on disk
+def _sort_mixed(keys: np.ndarray) -> np.ndarray:
+    """Mixed keys in level order: as ``uint64`` for one word, rows lexicographically (leading word first)."""
+    if keys.ndim == 1:
+        return np.sort(keys)
+    return keys[np.lexsort(keys.T[::-1])]
+
+
 def _sorted_unique(keys: np.ndarray) -> np.ndarray:
     """Sorted keys without repeats (np.sort and a mask: np.unique is far slower here)."""
-    s = np.sort(keys)
+    s = _sort_mixed(keys)
     if len(s) == 0:
         return s
     keep = np.empty(len(s), dtype=bool)
     keep[0] = True
-    np.not_equal(s[1:], s[:-1], out=keep[1:])
+    if s.ndim == 1:
+        np.not_equal(s[1:], s[:-1], out=keep[1:])
+    else:
+        np.any(s[1:] != s[:-1], axis=1, out=keep[1:])
     return s[keep]
+
+
+def _increasing(part: np.ndarray) -> bool:
+    """Is every mixed key (value or row) strictly below the next one?"""
+    if part.ndim == 1:
+        return not np.any(part[1:] <= part[:-1])
+    a, b = part[:-1], part[1:]
+    tail = (a[:, 1] < b[:, 1]) | (a[:, 1] == b[:, 1]) & (a[:, 2] < b[:, 2])
+    less = (a[:, 0] < b[:, 0]) | (a[:, 0] == b[:, 0]) & tail
+    return bool(less.all())
 
 
 def _sha256(path: Path) -> str:
@@ -132,8 +157,9 @@ def _manifest(directory: Path, lines: int) -> dict[str, Any]:
 
 @dataclass(frozen=True)
 class _Level:
-    """A level: sorted mixed keys, and the index ``index[q]`` = first position whose value has
-    top bits ``≥ q`` (checked against the values by :func:`_index_problem` before use)."""
+    """A level: sorted mixed keys (values, or rows of three words ordered leading word first),
+    and the index ``index[q]`` = first position whose leading word has top bits ``≥ q``
+    (checked against the values by :func:`_index_problem` before use)."""
 
     vals: np.ndarray
     index: np.ndarray
@@ -142,13 +168,21 @@ class _Level:
     def __len__(self) -> int:
         return len(self.vals)
 
+    @property
+    def lead(self) -> np.ndarray:
+        """The leading word of every stored key."""
+        return self.vals if self.vals.ndim == 1 else self.vals[:, 0]
+
     def find(self, queries: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """``(found, position)``: position = number of values below the query (a binary
-        search inside the query's bucket, all queries at once)."""
+        """``(found, position)``: where found, the position of the query; else the number of
+        values whose leading word is below the query's (a binary search inside the query's
+        bucket, all queries at once)."""
         n = len(self.vals)
         if n == 0:
             return np.zeros(len(queries), dtype=bool), np.zeros(len(queries), dtype=np.int64)
-        bucket = (queries >> _U(self.shift)).astype(np.intp)
+        lead = self.lead
+        q = queries if queries.ndim == 1 else queries[:, 0]
+        bucket = (q >> _U(self.shift)).astype(np.intp)
         lo = self.index[bucket].astype(np.int64)
         hi = self.index[bucket + 1].astype(np.int64)
         while True:
@@ -156,21 +190,42 @@ class _Level:
             if not active.any():
                 break
             mid = (lo + hi) >> 1
-            below = self.vals[np.minimum(mid, n - 1)] < queries
+            below = lead[np.minimum(mid, n - 1)] < q
             lo = np.where(active & below, mid + 1, lo)
             hi = np.where(active & ~below, mid, hi)
-        found = self.vals[np.minimum(lo, n - 1)] == queries
-        return found & (lo < n), lo
+        if queries.ndim == 1:
+            found = self.vals[np.minimum(lo, n - 1)] == queries
+            return found & (lo < n), lo
+        return self._rows_from(queries, lo)
+
+    def _rows_from(self, queries: np.ndarray, lo: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Rows: look through the run of equal leading words that starts at ``lo``."""
+        n = len(self.vals)
+        found = np.zeros(len(queries), dtype=bool)
+        pos = lo.copy()
+        at = lo.copy()
+        todo = np.flatnonzero(at < n)
+        while len(todo):
+            rows = self.vals[at[todo]]
+            same = rows[:, 0] == queries[todo, 0]
+            equal = same & np.all(rows[:, 1:] == queries[todo, 1:], axis=1)
+            found[todo[equal]] = True
+            pos[todo[equal]] = at[todo[equal]]
+            todo = todo[same & ~equal]
+            at[todo] += 1
+            todo = todo[at[todo] < n]
+        return found, pos
 
 
-def _levels(directory: Path, manifest: dict[str, Any]) -> list[_Level]:
+def _levels(directory: Path, manifest: dict[str, Any], words: int = 1) -> list[_Level]:
     out = []
     for lv in manifest["levels"]:
         n = int(lv["classes"])
         path = directory / lv["file"]
-        if path.stat().st_size != 8 * n:
+        if path.stat().st_size != 8 * n * words:
             raise ExactsynError(f"{path.name}: size does not match {n} classes")
-        vals = np.asarray(np.memmap(path, dtype="<u8", mode="r", shape=(n,))) if n else np.zeros(0, np.uint64)
+        shape: tuple[int, ...] = (n,) if words == 1 else (n, words)
+        vals = np.asarray(np.memmap(path, dtype="<u8", mode="r", shape=shape)) if n else np.zeros(shape, np.uint64)
         bits = int(lv["index_bits"])
         dtype = "<u4" if lv["index_file"].endswith(".u32") else "<u8"
         ipath = directory / lv["index_file"]
@@ -184,9 +239,10 @@ def _levels(directory: Path, manifest: dict[str, Any]) -> list[_Level]:
 def _index_problem(j: int, level: _Level) -> str | None:
     """The index must list, for every bucket, the first position of its top bits."""
     buckets = len(level.index) - 1
+    lead = np.ascontiguousarray(level.lead)
     for s in range(0, buckets, 1 << 20):
         q = np.arange(s, min(buckets, s + (1 << 20)), dtype=np.uint64)
-        if not np.array_equal(np.searchsorted(level.vals, q << _U(level.shift)), level.index[s : s + len(q)]):
+        if not np.array_equal(np.searchsorted(lead, q << _U(level.shift)), level.index[s : s + len(q)]):
             return f"the index of level {j} does not match its values"
     if int(level.index[-1]) != len(level.vals):
         return f"the index of level {j} does not end at its size"
@@ -196,7 +252,7 @@ def _index_problem(j: int, level: _Level) -> str | None:
 _LAYERS = "-layers"  # a layer table: its steps are the sets of library gates on disjoint lines
 
 
-def _library_keys(library: str, K: CheckKeys) -> tuple[tuple[Gate, ...], list[int]]:
+def _library_keys(library: str, K: Keys) -> tuple[tuple[Gate, ...], list[int]]:
     """The library's gates, and the keys of the table's steps (gates, or layers of a layer table)."""
     base = library[: -len(_LAYERS)] if library.endswith(_LAYERS) else library
     lib = make_library(base, K.lines)
@@ -209,7 +265,7 @@ def _library_keys(library: str, K: CheckKeys) -> tuple[tuple[Gate, ...], list[in
             g = lib.gates[i]
             mask = sum(1 << line for line in g.lines)
             if not used & mask:
-                k = int(K.compose(arr([K.pack(g.permutation(K.lines))]), arr([key]))[0])
+                k = K.ints(K.compose(K.arr([K.pack(g.permutation(K.lines))]), K.arr([key])))[0]
                 steps.append(k)
                 grow(i + 1, used | mask, k)
 
@@ -217,17 +273,17 @@ def _library_keys(library: str, K: CheckKeys) -> tuple[tuple[Gate, ...], list[in
     return tuple(lib.gates), steps
 
 
-def _check_gates(manifest: dict[str, Any], K: CheckKeys) -> list[str]:
+def _check_gates(manifest: dict[str, Any], K: Keys) -> list[str]:
     problems = []
     _, keys = _library_keys(str(manifest["library"]), K)
     if manifest["gate_keys"] != [K.hex(k) for k in keys]:
         problems.append("the table's gate list is not the library's")
-    gates = arr(keys)
-    if not np.all(K.compose(gates, gates) == _U(K.identity)):
+    gates = K.arr(keys)
+    if not np.all(K.compose(gates, gates) == K.arr([K.identity])):
         problems.append("a gate is not its own inverse: classes under inversion are unsound")
     members = set(keys)
     for w in K.transforms(gates)[: K.relabellings]:
-        if not set(int(v) for v in w) <= members:
+        if not set(K.ints(w)) <= members:
             problems.append("relabelling a gate leaves the library: classes under relabelling are unsound")
             break
     return problems
@@ -250,22 +306,16 @@ class TableCheck:
     lines: int = 4
 
 
-def _neighbour_keys(K: CheckKeys, reps: np.ndarray, gates: np.ndarray) -> np.ndarray:
-    """Mixed canonical keys of ``g∘r`` and ``g∘r⁻¹`` for all gates and representatives."""
-    r = unmix(reps)
-    ri = K.inverse(r)
-    parts = []
-    for g in gates:
-        parts.append(K.compose(arr([g]), r))
-        parts.append(K.compose(arr([g]), ri))
-    return mix(K.canonical(np.concatenate(parts)))
-
-
-def _open(directory: str, lines: int) -> tuple[CheckKeys, dict[str, Any], list[_Level]]:
+def _open(directory: str, lines: int) -> tuple[Keys, dict[str, Any], list[_Level]]:
     """Keys, manifest and levels of a table (in a worker process too)."""
     d = Path(directory)
     manifest = _manifest(d, lines)
-    return check_keys(lines), manifest, _levels(d, manifest)
+    K = check_keys(lines)
+    return K, manifest, _levels(d, manifest, K.words)
+
+
+def _chunk(K: Keys) -> int:
+    return CHUNK if K.words == 1 else CHUNK_WIDE
 
 
 def _closure_task(
@@ -274,7 +324,7 @@ def _closure_task(
     """Closure test for classes ``lo..hi`` of ``level``; marks the next level's classes reached."""
     K, manifest, levels = _open(directory, lines)
     _, keys = _library_keys(str(manifest["library"]), K)
-    q = np.sort(_neighbour_keys(K, levels[level].vals[lo:hi], arr(keys)))
+    q = _sort_mixed(K.neighbour_keys(levels[level].vals[lo:hi], K.arr(keys)))
     problems: list[str] = []
     nxt = levels[level + 1]
     found, pos = nxt.find(q)
@@ -300,11 +350,12 @@ def _closure_task(
 def _class_task(directory: str, lines: int, level: int, lo: int, hi: int) -> tuple[int, list[str], int]:
     """Canonical-key test and function count for classes ``lo..hi`` of ``level``."""
     K, _, levels = _open(directory, lines)
-    keys = unmix(levels[level].vals[lo:hi])
+    keys = K.unmix(levels[level].vals[lo:hi])
     canon, size = K.canonical_and_size(keys)
     problems = []
     if not np.array_equal(canon, keys):
-        problems.append(f"level {level} stores {int(np.sum(canon != keys))} keys that are not canonical")
+        wrong = int(np.sum(np.any((canon != keys).reshape(len(keys), -1), axis=1)))
+        problems.append(f"level {level} stores {wrong} keys that are not canonical")
     return hi - lo, problems, int(size.sum())
 
 
@@ -344,15 +395,16 @@ def _file_problems(directory: Path, manifest: dict[str, Any], progress: VerifyPr
     return problems
 
 
-def _order_problems(K: CheckKeys, levels: list[_Level]) -> list[str]:
+def _order_problems(K: Keys, levels: list[_Level]) -> list[str]:
     """Level 0 is the identity; every level strictly increasing with a right index; levels disjoint."""
     problems = []
-    if len(levels[0]) != 1 or int(levels[0].vals[0]) != int(mix(arr([K.identity]))[0]):
+    identity = K.mix(K.arr([K.identity]))
+    if len(levels[0]) != 1 or not np.array_equal(levels[0].vals.reshape(identity.shape), identity):
         problems.append("level 0 is not the identity alone")
     for j, lv in enumerate(levels):
         for s in range(0, len(lv), 1 << 24):
             part = lv.vals[s : s + (1 << 24) + 1]
-            if np.any(part[1:] <= part[:-1]):
+            if not _increasing(part):
                 problems.append(f"level {j} is not strictly increasing")
                 break
         problem = _index_problem(j, lv)
@@ -396,10 +448,10 @@ def _closure_problems(
         try:
             marks = np.ndarray((nxt,), dtype=np.uint8, buffer=shm.buf)
             marks[:] = 0
-            lv = levels[j]
+            lv, step = levels[j], _chunk(check_keys(lines))
             tasks: Tasks = [
-                (_closure_task, (str(directory), lines, j, s, min(len(lv), s + CHUNK), shm.name))
-                for s in range(0, len(lv), CHUNK)
+                (_closure_task, (str(directory), lines, j, s, min(len(lv), s + step), shm.name))
+                for s in range(0, len(lv), step)
             ]
             res = _run(tasks, workers, report, f"closure of level {j}, descent of level {j + 1}")
             problems += [p for _, ps in res for p in ps]
@@ -438,7 +490,7 @@ def verify_table(
     t = time.perf_counter()
     problems = _file_problems(directory, manifest, report) + _check_gates(manifest, K)
     seconds["hashes and gates"] = time.perf_counter() - t
-    levels = _levels(directory, manifest)
+    levels = _levels(directory, manifest, K.words)
     depth = len(levels) - 1
     if depth != int(manifest["depth"]):
         problems.append("the manifest's depth does not match its levels")
@@ -484,17 +536,25 @@ class ClaimCheck:
     problems: tuple[str, ...]
 
 
-def _split_keys(directory: str, lines: int, f: int, level: int, lo: int, hi: int) -> np.ndarray:
-    """Mixed canonical keys of ``f∘A⁻¹`` for all ``2·n!`` members ``A`` of the classes ``lo..hi``
-    of ``level``, sorted and without repeats."""
+def _split_task(directory: str, lines: int, f: int, level: int, lo: int, hi: int) -> tuple[int, int]:
+    """For all ``2·n!`` members ``A`` of the classes ``lo..hi`` of ``level``: how many distinct
+    classes ``f∘A⁻¹`` there are, and how many of them some level holds (one sorted pass per
+    level: the queries are sorted, so the accesses sweep each level in order)."""
     K, _, levels = _open(directory, lines)
-    reps = unmix(levels[level].vals[lo:hi])
-    members = np.concatenate(K.transforms(reps))
-    return _sorted_unique(mix(K.canonical(K.compose(arr([f]), K.inverse(members)))))
+    q = _sorted_unique(K.split_keys(f, levels[level].vals[lo:hi]))
+    hits = 0
+    for lv in levels:
+        if len(lv) and len(q):
+            if q.ndim == 1:
+                pos = np.minimum(np.searchsorted(lv.vals, q), len(lv) - 1)
+                hits += int(np.count_nonzero(lv.vals[pos] == q))
+            else:
+                hits += int(np.count_nonzero(lv.find(q)[0]))
+    return len(q), hits
 
 
 def _circuit_problems(
-    library: str, K: CheckKeys, perm: tuple[int, ...], gate_count: int, gates: Sequence[Gate]
+    library: str, K: Keys, perm: tuple[int, ...], gate_count: int, gates: Sequence[Gate]
 ) -> list[str]:
     """The circuit uses library gates, has ``gate_count`` of them (layers of a layer table:
     gates on disjoint lines share one) and computes ``perm``."""
@@ -514,28 +574,21 @@ def _circuit_problems(
 
 
 def _no_shorter_split(
-    directory: Path, K: CheckKeys, levels: list[_Level], f: int, gate_count: int, workers: int, report: VerifyProgress
+    directory: Path, K: Keys, levels: list[_Level], f: int, gate_count: int, workers: int, report: VerifyProgress
 ) -> tuple[list[str], int]:
     """No ``f∘A⁻¹`` is in any level, for every member ``A`` of levels ``0 .. gate_count − depth − 1``."""
     depth = len(levels) - 1
     extra = gate_count - depth
-    hits = tests = 0  # distinct classes f∘A⁻¹ found in some level; distinct classes looked up
+    step = _chunk(K)
+    hits = tests = 0  # classes f∘A⁻¹ found in some level; classes looked up (distinct within a task)
     for j in range(extra):  # level by level, so a false claim stops at its first hit
         tasks: Tasks = [
-            (_split_keys, (str(directory), K.lines, f, j, s, min(len(levels[j]), s + CHUNK)))
-            for s in range(0, len(levels[j]), CHUNK)
+            (_split_task, (str(directory), K.lines, f, j, s, min(len(levels[j]), s + step)))
+            for s in range(0, len(levels[j]), step)
         ]
         res = _run(tasks, workers, report, f"no circuit below {gate_count} gates: classes of level {j}")
-        # One sorted pass per table level (plain searchsorted; queries sorted, so the
-        # accesses sweep each level in order).
-        q = _sorted_unique(np.concatenate(res)) if res else np.zeros(0, dtype=np.uint64)
-        del res
-        tests += len(q)
-        for level in levels:
-            if len(level) and len(q):
-                pos = np.minimum(np.searchsorted(level.vals, q), len(level) - 1)
-                hits += int(np.count_nonzero(level.vals[pos] == q))
-        del q
+        tests += sum(t for t, _ in res)
+        hits += sum(h for _, h in res)
         if hits:
             return [f"{hits} splits after level {j} give a circuit of fewer than {gate_count} gates"], tests
     return [], tests
@@ -573,13 +626,13 @@ def check_claim(
     if gates is not None:
         problems += _circuit_problems(library, K, perm_t, gate_count, gates)
     tests = 0
-    levels = _levels(directory, manifest)
+    levels = _levels(directory, manifest, K.words)
     problems += [p for j, lv in enumerate(levels) if (p := _index_problem(j, lv))]
     if not problems:
         depth = len(levels) - 1
         f = K.pack(perm_t)
         if gate_count <= depth:
-            q = mix(K.canonical(arr([f])))
+            q = K.mix(K.canonical(K.arr([f])))
             tests = 1
             if any(levels[j].find(q)[0][0] for j in range(gate_count)):
                 problems.append(f"the function's class is in a level below {gate_count}")
@@ -627,7 +680,9 @@ class CheckLookup:
         return sum(i << (n * ((key >> (n * i)) & mask)) for i in range(1 << n))
 
     def compose_grid(self, fs: Sequence[int], as_: Sequence[int]) -> list[int]:
-        grid = self.K.compose(arr(list(fs))[:, None], arr(list(as_))[None, :])
+        if self.K.words != 1:  # 5-line keys: one pair at a time (the descent runs on 4 lines)
+            return [self.K.ints(self.K.compose(self.K.arr([f]), self.K.arr([a])))[0] for f in fs for a in as_]
+        grid = self.K.compose(self.K.arr(list(fs))[:, None], self.K.arr(list(as_))[None, :])
         return [int(v) for v in grid.ravel()]
 
     def at_level(self, keys: Sequence[int], level: int) -> list[bool]:
@@ -635,7 +690,7 @@ class CheckLookup:
             return []
         if not 0 <= level <= self.depth:
             return [False] * len(keys)
-        found, _ = self.levels[level].find(mix(self.K.canonical(arr(keys))))
+        found, _ = self.levels[level].find(self.K.mix(self.K.canonical(self.K.arr(keys))))
         return [bool(v) for v in found]
 
     def split(self, f: int, level: int) -> frozenset[int]:
@@ -643,11 +698,12 @@ class CheckLookup:
         K, top = self.K, self.levels[self.depth]
         out: set[int] = set()
         vals = self.levels[level].vals
-        for s in range(0, len(vals), CHUNK):
-            for members in K.transforms(unmix(vals[s : s + CHUNK])):
-                rest = K.compose(arr([f]), K.inverse(members))
-                found, _ = top.find(mix(K.canonical(rest)))
-                out.update(int(v) for v in members[found])
+        step = _chunk(K)
+        for s in range(0, len(vals), step):
+            for members in K.transforms(K.unmix(vals[s : s + step])):
+                rest = K.compose(K.arr([f]), K.inverse(members))
+                found, _ = top.find(K.mix(K.canonical(rest)))
+                out.update(K.ints(members[found]))
         return frozenset(out)
 
 

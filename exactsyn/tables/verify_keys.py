@@ -1,5 +1,8 @@
 """The checker's own keys: packed ``n``-line permutations in plain numpy (part of the checker).
 
+One 64-bit word per key up to 4 lines (this module); 5-line keys (three words) are
+:mod:`~exactsyn.tables.verify_keys5`, and :func:`check_keys` hands out either.
+
 Written out here, apart from :mod:`exactsyn.tables.keys` and the compiled kernels, so that
 :mod:`exactsyn.tables.verify` trusts neither.  Keys: a permutation ``p`` of ``0..2^n − 1``
 is ``Σ p[i]·2^(n·i)`` in one 64-bit word (``n ≤ 4``); a class is the set of
@@ -24,6 +27,7 @@ from functools import cache
 import numpy as np
 
 from exactsyn.errors import ExactsynError
+from exactsyn.tables.verify_keys5 import FiveCheckKeys
 
 _U = np.uint64
 _M1, _M2 = 0xBF58476D1CE4E5B9, 0x94D049BB133111EB
@@ -63,11 +67,39 @@ def _walk(n: int) -> list[tuple[int, int]]:
 
 @dataclass(frozen=True, eq=False)
 class CheckKeys:
-    """Numpy operations on arrays of ``lines``-line keys (elementwise)."""
+    """Numpy operations on arrays of ``lines``-line keys of one word (elementwise)."""
 
     lines: int
     walk: tuple[tuple[int, int], ...]
     masks: dict[tuple[int, int], tuple[np.uint64, np.uint64, np.uint64, np.uint64]]
+    words: int = 1
+
+    def arr(self, values: Sequence[int] | np.ndarray) -> np.ndarray:
+        return arr(values)
+
+    def ints(self, keys: np.ndarray) -> list[int]:
+        return [int(v) for v in np.asarray(keys, dtype=np.uint64)]
+
+    def mix(self, keys: np.ndarray) -> np.ndarray:
+        return mix(keys)
+
+    def unmix(self, vals: np.ndarray) -> np.ndarray:
+        return unmix(vals)
+
+    def neighbour_keys(self, reps: np.ndarray, gates: np.ndarray) -> np.ndarray:
+        """Mixed canonical keys of ``g∘r`` and ``g∘r⁻¹`` for all gates and (mixed) representatives."""
+        r = unmix(reps)
+        ri = self.inverse(r)
+        parts = []
+        for g in gates:
+            parts.append(self.compose(arr([g]), r))
+            parts.append(self.compose(arr([g]), ri))
+        return mix(self.canonical(np.concatenate(parts)))
+
+    def split_keys(self, f: int, reps: np.ndarray) -> np.ndarray:
+        """Mixed canonical keys of ``f∘A⁻¹`` for all ``2·n!`` members ``A`` of the (mixed) classes ``reps``."""
+        members = np.concatenate(self.transforms(unmix(reps)))
+        return mix(self.canonical(self.compose(arr([f]), self.inverse(members))))
 
     @property
     def size(self) -> int:
@@ -160,10 +192,12 @@ def _swap_masks(n: int, a: int, b: int) -> tuple[np.uint64, np.uint64, np.uint64
 
 
 @cache
-def check_keys(lines: int) -> CheckKeys:
-    """The checker's keys for ``lines`` lines (single-word layouts only)."""
+def check_keys(lines: int) -> CheckKeys | FiveCheckKeys:
+    """The checker's keys for ``lines`` lines: one word up to 4 lines, :mod:`~exactsyn.tables.verify_keys5` for 5."""
+    if lines == 5:
+        return FiveCheckKeys()
     if not 2 <= lines or lines * (1 << lines) > 64:
-        raise ExactsynError(f"the table checker handles 2 to 4 lines (keys of one 64-bit word), not {lines}")
+        raise ExactsynError(f"the table checker handles 2 to 5 lines, not {lines}")
     walk = _walk(lines)
     seen, cur = {tuple(range(lines))}, list(range(lines))
     for a, b in walk:

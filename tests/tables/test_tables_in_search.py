@@ -76,8 +76,9 @@ def test_table_optima_equal_sat(cached: Path, library: str) -> None:
 
 
 def test_beyond_the_table_the_search_goes_on_from_its_bound(cached: Path) -> None:
-    # nct at depth 5 settles up to 10 gates; a function that needs more gets bound 11 and
-    # SAT takes over from there (the time limit keeps this short).
+    # nct at depth 5 settles up to 10 gates by splits and 11 by peeling one gate off; a
+    # function that needs more gets bound 12 (11 if the time limit stops the peel) and SAT
+    # takes over from there (the time limit keeps this short).
     rng = random.Random(3)
     lib = make_library("nct", 4)
     for _ in range(20):
@@ -86,7 +87,7 @@ def test_beyond_the_table_the_search_goes_on_from_its_bound(cached: Path) -> Non
         claim = res.class_table
         assert claim is not None
         if not claim.exact:
-            assert claim.value == 11 and res.lower_bound >= 11
+            assert claim.value in (11, 12) and res.lower_bound >= claim.value
             assert res.circuit is not None and res.circuit.permutation() == tuple(p)
             return
     pytest.fail("no seeded NCT function needed more than 10 gates")

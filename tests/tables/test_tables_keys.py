@@ -1,4 +1,5 @@
-"""Packed keys and the canonical form: kernels, plain definition and checker agree, for 2, 3 and 4 lines."""
+"""Packed keys and the canonical form: kernels, plain definition and checker agree, for 2, 3 and 4 lines
+(5 lines: tests/tables/test_tables_five.py)."""
 
 from __future__ import annotations
 
@@ -122,7 +123,7 @@ def test_canonical_form_of_structured_functions(lines: int) -> None:
 
 
 def test_the_kernels_are_specialised_per_line_count() -> None:
-    assert engine_lines() == (2, 3, 4)
+    assert engine_lines() == (2, 3, 4, 5)
     assert layout(3).kernels() is layout(3).kernels() and layout(3).kernels() is not L4.kernels()
     # the walk of adjacent transpositions reaches every relabelling (Steinhaus–Johnson–Trotter)
     for lines in (2, 3, 4):

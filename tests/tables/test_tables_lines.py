@@ -186,7 +186,7 @@ def test_tables_commands_take_the_line_count(tmp_path: Path, monkeypatch: pytest
     assert checked.exit_code == 0 and "nct: OK, depth 8" in checked.output
     missing = runner.invoke(main, ["tables", "counts", "--lines", "3", "--library", "mct"])
     assert missing.exit_code == 2 and "--lines 3" in missing.stderr
-    for args in (["build", "--lines", "5"], ["info", "--lines", "5"]):
+    for args in (["build", "--lines", "6"], ["info", "--lines", "6"]):
         bad = runner.invoke(main, ["tables", *args])
-        assert bad.exit_code == 2 and bad.stderr.count("\n") == 1 and "2, 3, 4 lines" in bad.stderr
-    assert not (tmp_path / "tables5-v1").exists()
+        assert bad.exit_code == 2 and bad.stderr.count("\n") == 1 and "2, 3, 4, 5 lines" in bad.stderr
+    assert not (tmp_path / "tables6-v1").exists()
