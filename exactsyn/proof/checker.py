@@ -367,9 +367,7 @@ def _objective_depth_claim(raw: Any, circuit: Circuit, value: int, spec: Spec, l
         note("objective optimal", False, e.message)
         return
     if rep.ok:
-        option = "" if lines == 4 else f" --lines {lines}"
-        verify_it = f"exactsyn tables verify --library {table}{option}"
-        trust = "table verified" if rep.table_verified else f"table trusted: `{verify_it}`"
+        trust = _trust(rep.table_verified, table, lines)
         note("objective optimal", True, f"depth {value} is optimal: no circuit of fewer layers over the {lines}-line "
              f"{table} table ({rep.seconds:.2f} s; {trust})")  # fmt: skip
     else:
@@ -414,9 +412,7 @@ def _objective_table_claim(
         note("objective optimal", False, e.message)
         return
     if rep.ok:
-        option = "" if lines == 4 else f" --lines {lines}"
-        verify_it = f"exactsyn tables verify --library {table}{option}"
-        trust = "table verified" if rep.table_verified else f"table trusted: `{verify_it}`"
+        trust = _trust(rep.table_verified, table, lines)
         note("objective optimal", True, f"cost {value} is the least among {k_star}-gate circuits: the descent over "
              f"the {lines}-line {table} table re-run ({rep.seconds:.2f} s; {trust})")  # fmt: skip
     else:
@@ -636,14 +632,14 @@ def _check_optima(raw: Any, objective: Any, spec: Spec, library: Library, k_star
         return
     if rep.ok:
         what = f"{k}-gate circuits" if least is None else f"{k}-gate circuits of cost {least}"
-        trust = "table verified" if rep.table_verified else f"table trusted: `{_verify_command(table, lines)}`"
+        trust = _trust(rep.table_verified, table, lines)
         note("optima", True, f"{count} classes of {what} up to commuting gates: the descent over the {lines}-line "
              f"{table} table re-counted ({rep.seconds:.2f} s; {trust})")  # fmt: skip
     else:
         note("optima", False, "; ".join(rep.problems))
 
 
-def _verify_command(table: str, lines: int) -> str:
-    """The command that stamps ``table`` as verified."""
+def _trust(verified: bool, table: str, lines: int) -> str:
+    """What a table claim trusts: a verified table, or the command that would verify it."""
     option = "" if lines == 4 else f" --lines {lines}"
-    return f"exactsyn tables verify --library {table}{option}"
+    return "table verified" if verified else f"table trusted: `exactsyn tables verify --library {table}{option}`"
