@@ -135,6 +135,7 @@ def test_a_partial_certificate_directory_is_refused_by_check_in_one_line(tmp_pat
     assert r.returncode == 2 and r.stderr.count("\n") == 1 and "no result.json" in r.stderr, r.stderr
 
 
+@pytest.mark.slow  # same open problem as the split synth runs above (a batch left running in a full run)
 @pytest.mark.parametrize("how", ["int", "term"])
 def test_batch_stops_in_one_line_with_what_it_kept_and_its_workers(tmp_path: Path, how: str) -> None:
     # 4-line mct functions without class tables: seconds each, so both workers are mid-item
