@@ -67,4 +67,5 @@ def test_sample_distribution_runs_on_a_small_table(table_cache) -> None:  # type
     d = tables.sample_distribution("mct", n=4, seed=1, cache=table_cache, time_limit=3.0)
     assert d.n + d.unsettled == 4
     assert d.exact == (1, 32, 784, 16204, 294507, 4807552, 70763560)
-    assert all(9 <= g <= 12 for g, _ in d.counts)  # a depth-6 table settles up to 12 gates
+    # a depth-6 table settles up to 12 gates by meet in the middle, 13 with the peeled gate
+    assert all(9 <= g <= 13 for g, _ in d.counts)
