@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import json
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -360,18 +360,12 @@ def _objective_depth_claim(raw: Any, circuit: Circuit, value: int, spec: Spec, l
         return
     from exactsyn.tables import verify
 
-    try:
-        rep = verify.check_claim(table, spec.permutation, value, circuit.gates, content_hash=content_hash,
-                                 lines=lines)  # fmt: skip
-    except ExactsynError as e:
-        note("objective optimal", False, e.message)
-        return
-    if rep.ok:
-        trust = _trust(rep.table_verified, table, lines)
-        note("objective optimal", True, f"depth {value} is optimal: no circuit of fewer layers over the {lines}-line "
-             f"{table} table ({rep.seconds:.2f} s; {trust})")  # fmt: skip
-    else:
-        note("objective optimal", False, "; ".join(rep.problems))
+    _note_table_check(
+        note, "objective optimal", table, lines,
+        lambda: verify.check_claim(table, spec.permutation, value, circuit.gates, content_hash=content_hash,
+                                   lines=lines),
+        f"depth {value} is optimal: no circuit of fewer layers over the {lines}-line {table} table",
+    )  # fmt: skip
 
 
 def _objective_table_claim(
@@ -403,20 +397,14 @@ def _objective_table_claim(
         return
     from exactsyn.tables import verify
 
-    order = [library.gates.index(g) for g in make_library(table, lines).gates]
-    table_costs = [costs[i] for i in order]  # the table's gates in its own library order
-    try:
-        rep = verify.check_cost_claim(table, spec.permutation, k_star, table_costs, value,
-                                      content_hash=content_hash, lines=lines)  # fmt: skip
-    except ExactsynError as e:
-        note("objective optimal", False, e.message)
-        return
-    if rep.ok:
-        trust = _trust(rep.table_verified, table, lines)
-        note("objective optimal", True, f"cost {value} is the least among {k_star}-gate circuits: the descent over "
-             f"the {lines}-line {table} table re-run ({rep.seconds:.2f} s; {trust})")  # fmt: skip
-    else:
-        note("objective optimal", False, "; ".join(rep.problems))
+    table_costs = _in_table_order(costs, library, table, lines)
+    _note_table_check(
+        note, "objective optimal", table, lines,
+        lambda: verify.check_cost_claim(table, spec.permutation, k_star, table_costs, value,
+                                        content_hash=content_hash, lines=lines),
+        f"cost {value} is the least among {k_star}-gate circuits: the descent over the {lines}-line {table} "
+        "table re-run",
+    )  # fmt: skip
 
 
 def _objective_circuit(
@@ -622,24 +610,37 @@ def _check_optima(raw: Any, objective: Any, spec: Spec, library: Library, k_star
         return
     from exactsyn.tables import verify
 
-    order = [library.gates.index(g) for g in make_library(table, lines).gates]
-    table_costs = None if costs is None else [costs[i] for i in order]
+    table_costs = None if costs is None else _in_table_order(costs, library, table, lines)
+    what = f"{k}-gate circuits" if least is None else f"{k}-gate circuits of cost {least}"
+    _note_table_check(
+        note, "optima", table, lines,
+        lambda: verify.check_count_claim(table, spec.permutation, k, count, table_costs, least,
+                                         content_hash=content_hash, lines=lines),
+        f"{count} classes of {what} up to commuting gates: the descent over the {lines}-line {table} table "
+        "re-counted",
+    )  # fmt: skip
+
+
+def _in_table_order(costs: Sequence[int], library: Library, table: str, lines: int) -> list[int]:
+    """``costs`` (one per gate of ``library``, in its order) in the order of the table's own library."""
+    return [costs[library.gates.index(g)] for g in make_library(table, lines).gates]
+
+
+def _note_table_check(
+    note: Note, what: str, table: str, lines: int, run: Callable[[], Any], claim: str
+) -> None:
+    """Run one re-derivation by the separate table checker (``run`` returns its
+    :class:`~exactsyn.tables.verify.ClaimCheck`) and note the outcome: ``claim`` with the time
+    and what it trusts, or the problems found."""
     try:
-        rep = verify.check_count_claim(table, spec.permutation, k, count, table_costs, least,
-                                       content_hash=content_hash, lines=lines)  # fmt: skip
+        rep = run()
     except ExactsynError as e:
-        note("optima", False, e.message)
+        note(what, False, e.message)
         return
-    if rep.ok:
-        what = f"{k}-gate circuits" if least is None else f"{k}-gate circuits of cost {least}"
-        trust = _trust(rep.table_verified, table, lines)
-        note("optima", True, f"{count} classes of {what} up to commuting gates: the descent over the {lines}-line "
-             f"{table} table re-counted ({rep.seconds:.2f} s; {trust})")  # fmt: skip
-    else:
-        note("optima", False, "; ".join(rep.problems))
-
-
-def _trust(verified: bool, table: str, lines: int) -> str:
-    """What a table claim trusts: a verified table, or the command that would verify it."""
+    if not rep.ok:
+        note(what, False, "; ".join(rep.problems))
+        return
     option = "" if lines == 4 else f" --lines {lines}"
-    return "table verified" if verified else f"table trusted: `exactsyn tables verify --library {table}{option}`"
+    verify_it = f"exactsyn tables verify --library {table}{option}"
+    trust = "table verified" if rep.table_verified else f"table trusted: `{verify_it}`"
+    note(what, True, f"{claim} ({rep.seconds:.2f} s; {trust})")
