@@ -74,12 +74,17 @@ def optimal_words(perm, library, sizes):  # type: ignore[no-untyped-def]
     return out
 
 
-def naive_bfs(library_gates: list[tuple[int, ...]], size: int) -> dict[tuple[int, ...], int]:
-    """Plain dictionary BFS, written independently of the vectorised one."""
+def naive_bfs(
+    library_gates: list[tuple[int, ...]], size: int, depth: int | None = None
+) -> dict[tuple[int, ...], int]:
+    """Plain dictionary BFS, written independently of the vectorised one (to ``depth`` steps
+    when given, else to the end)."""
     start = tuple(range(size))
     dist = {start: 0}
     frontier = [start]
-    while frontier:
+    for _ in itertools.count() if depth is None else range(depth):
+        if not frontier:
+            break
         nxt = []
         for p in frontier:
             for g in library_gates:
@@ -93,20 +98,7 @@ def naive_bfs(library_gates: list[tuple[int, ...]], size: int) -> dict[tuple[int
 
 def bfs_upto(library, depth: int) -> dict[tuple[int, ...], int]:  # type: ignore[no-untyped-def]
     """Every function of at most ``depth`` gates of ``library`` with its gate count (plain dictionary BFS)."""
-    gates = [g.permutation(library.lines) for g in library.gates]
-    start = tuple(range(1 << library.lines))
-    dist = {start: 0}
-    frontier = [start]
-    for _ in range(depth):
-        nxt = []
-        for p in frontier:
-            for g in gates:
-                q = tuple(g[v] for v in p)
-                if q not in dist:
-                    dist[q] = dist[p] + 1
-                    nxt.append(q)
-        frontier = nxt
-    return dist
+    return naive_bfs([g.permutation(library.lines) for g in library.gates], 1 << library.lines, depth)
 
 
 def permutation_matrix(c):  # type: ignore[no-untyped-def]
@@ -163,20 +155,7 @@ def layer_depths(library, depth: int | None = None) -> dict[tuple[int, ...], int
                 for g in combo:
                     f = g.apply(f)
                 layers.add(tuple(int(x) for x in f))
-    if depth is None:
-        return naive_bfs(sorted(layers), size)
-    start = tuple(range(size))
-    dist, frontier = {start: 0}, [start]
-    for d in range(1, depth + 1):
-        nxt = []
-        for p in frontier:
-            for g in layers:
-                q = tuple(g[v] for v in p)
-                if q not in dist:
-                    dist[q] = d
-                    nxt.append(q)
-        frontier = nxt
-    return dist
+    return naive_bfs(sorted(layers), size, depth)
 
 
 def trace_normal_form(word, library) -> tuple[int, ...]:  # type: ignore[no-untyped-def]
