@@ -16,6 +16,7 @@ each circuit gives one model: the line values are functions of the gates).
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
@@ -25,17 +26,34 @@ from pysat.formula import IDPool
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
 from exactsyn.sat.question import Question
+from exactsyn.sat.sigint import keep_python_sigint
+
+keep_python_sigint()  # CardEnc below would otherwise install python-sat's SIGINT handler (exactsyn.sat.sigint)
 
 Lit = int | bool
 
 
-class ClauseBuilder:
-    """Collects clauses, folding Python booleans (known line values) away."""
+class EncodingOutOfTime(Exception):
+    """The deadline given to :class:`ClauseBuilder` passed while the CNF was being built."""
 
-    def __init__(self, pool: IDPool | None = None) -> None:
+
+#: Clauses added between two looks at the clock (a look costs about 50 ns; 4096 clauses about 5 ms).
+_CLOCK_EVERY = 4096
+
+
+class ClauseBuilder:
+    """Collects clauses, folding Python booleans (known line values) away.
+
+    With a ``deadline`` (a :func:`time.perf_counter` value) it raises :class:`EncodingOutOfTime`
+    once the clock passes it, looking every :data:`_CLOCK_EVERY` clauses: an encoding of
+    millions of clauses (the cost objective's window rule) then keeps a time limit."""
+
+    def __init__(self, pool: IDPool | None = None, deadline: float | None = None) -> None:
         self.pool = pool or IDPool()
         self.clauses: list[list[int]] = []
         self.empty = False
+        self._deadline = deadline
+        self._next_look = _CLOCK_EVERY
 
     def var(self, *key: object) -> int:
         return self.pool.id(key)
@@ -52,6 +70,10 @@ class ClauseBuilder:
             self.empty = True
             return
         self.clauses.append(out)
+        if self._deadline is not None and len(self.clauses) >= self._next_look:
+            self._next_look += _CLOCK_EVERY
+            if time.perf_counter() >= self._deadline:
+                raise EncodingOutOfTime(f"{len(self.clauses)} clauses built when time ran out")
 
 
 def neg(lit: Lit) -> Lit:

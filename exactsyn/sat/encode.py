@@ -130,10 +130,11 @@ class Encoding:
         return Circuit(self.library.lines, tuple(gates))
 
 
-def encode_question(question: Question, pool: IDPool | None = None) -> Encoding:
+def encode_question(question: Question, pool: IDPool | None = None, deadline: float | None = None) -> Encoding:
     """Build the CNF of ``question`` (see the module docstring); ``pool`` shares variable names
-    between queries, as guarded queries in one incremental solver need."""
-    b = ClauseBuilder(pool)
+    between queries, as guarded queries in one incremental solver need.  Past ``deadline`` (a
+    :func:`time.perf_counter` value) it raises :class:`~exactsyn.sat.clauses.EncodingOutOfTime`."""
+    b = ClauseBuilder(pool, deadline)
     v = layout(b, question)
     for family in PIPELINE:
         family(b, v)
@@ -165,8 +166,10 @@ def encode(
     pool: IDPool | None = None,
     cost_limit: CostLimit | None = None,
     slots: Sequence[Sequence[int]] | None = None,
+    deadline: float | None = None,
 ) -> Encoding:
-    """Build the CNF for exactly ``k`` gates: :func:`encode_question` of the :class:`Question` with these fields.
+    """Build the CNF for exactly ``k`` gates: :func:`encode_question` of the :class:`Question` with these fields
+    (and its ``deadline``).
 
     ``guard=True`` (for incremental solving across k, measured in
     ``scripts/exp_incremental.py``) keeps the line values after the last gate as
@@ -183,4 +186,4 @@ def encode(
         slots=None if slots is None else tuple(tuple(s) for s in slots),
         guarded=guard,
     )
-    return encode_question(question, pool)
+    return encode_question(question, pool, deadline)

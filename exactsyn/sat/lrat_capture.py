@@ -52,6 +52,7 @@ import itertools
 import os
 import re
 import tempfile
+import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -229,7 +230,12 @@ def _derives_empty(text: bytes) -> bool:
 
 
 def capture(
-    clauses: Sequence[Sequence[int]], new_solver: NewSolver, search: Search, *, fast: bool = True
+    clauses: Sequence[Sequence[int]],
+    new_solver: NewSolver,
+    search: Search,
+    *,
+    fast: bool = True,
+    deadline: float | None = None,
 ) -> Captured:
     """Add ``clauses`` (DIMACS-style literals) to ``new_solver()`` with LRAT tracing on, run
     ``search`` on it and, if UNSAT, return an LRAT refutation.
@@ -237,27 +243,37 @@ def capture(
     The proof numbers the input clauses ``1..len(clauses)`` in the order given.
     ``fast=False`` watches the trace after every clause (the fast path is in the module
     docstring; when it is surprised, a second solver from ``new_solver`` starts again clause
-    by clause).  Raises :class:`~exactsyn.errors.ExactsynError` on bad input and whenever the
-    captured trace does not fit the numbering the certificate needs (see the module docstring).
+    by clause).  When the clock (:func:`time.perf_counter`) passes ``deadline`` while the
+    clauses are being added, ``search`` is not run and the status is ``unknown``.  Raises
+    :class:`~exactsyn.errors.ExactsynError` on bad input and whenever the captured trace does
+    not fit the numbering the certificate needs (see the module docstring).
     """
     lits, num_vars = _normalise(clauses)
     if not tracer_hook_present():
         raise ExactsynError(f"python-sat has no {HOOK_NAME}; proof capture is unavailable")
     if fast:
         try:
-            return _capture(new_solver(), lits, num_vars, search, fast=True)
+            return _capture(new_solver(), lits, num_vars, search, True, deadline)
         except _Surprise:
             pass
-    return _capture(new_solver(), lits, num_vars, search, fast=False)
+    return _capture(new_solver(), lits, num_vars, search, False, deadline)
 
 
-def _add_all(solver: Any, lits: list[list[int]], fd: int, watch: _IdWatch, fast: bool) -> int:
-    """Add every clause, learning CaDiCaL's ids (see the module docstring); returns the trace size."""
+def _add_all(
+    solver: Any, lits: list[list[int]], fd: int, watch: _IdWatch, fast: bool, deadline: float | None
+) -> int | None:
+    """Add every clause, learning CaDiCaL's ids (see the module docstring); returns the trace
+    size, or None when ``deadline`` passed first (looked at every :data:`_BLOCK` clauses)."""
     offset = 0
     fixed: set[int] = set()  # variables of unit clauses, given or derived
     add = solver.add_clause
     i, m = 0, len(lits)
+    look = _BLOCK
     while i < m:
+        if deadline is not None and i >= look:
+            look = i + _BLOCK
+            if time.perf_counter() >= deadline:
+                return None
         if fast and _plain(lits[i], fixed):
             j = i
             while j < m and j - i < _BLOCK and _plain(lits[j], fixed):
@@ -285,7 +301,9 @@ def _add_all(solver: Any, lits: list[list[int]], fd: int, watch: _IdWatch, fast:
     return offset
 
 
-def _capture(solver: Any, lits: list[list[int]], num_vars: int, search: Search, fast: bool) -> Captured:
+def _capture(
+    solver: Any, lits: list[list[int]], num_vars: int, search: Search, fast: bool, deadline: float | None
+) -> Captured:
     mod = _pysolvers()
     fd, path = tempfile.mkstemp(prefix="exactsyn-", suffix=".lrat")
     model: list[int] = []
@@ -293,8 +311,9 @@ def _capture(solver: Any, lits: list[list[int]], num_vars: int, search: Search, 
         solver.configure({"lrat": 1, "binary": 0})
         trace = getattr(mod, HOOK_NAME)(solver.cadical, fd)
         watch = _IdWatch()
-        offset = _add_all(solver, lits, fd, watch, fast)
-        result = search(solver)
+        added = _add_all(solver, lits, fd, watch, fast, deadline)
+        offset = added or 0
+        result = None if added is None else search(solver)
         if result:
             model = list(solver.get_model() or [])
         conflicts = (solver.accum_stats() or {}).get("conflicts")

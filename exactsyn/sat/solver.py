@@ -33,7 +33,10 @@ from pysat.solvers import Cadical195, Solver
 
 from exactsyn.errors import ExactsynError, is_interrupt
 from exactsyn.sat.lrat_capture import SOLVER_NAME, capture
+from exactsyn.sat.sigint import keep_python_sigint
 from exactsyn.sat.status import Status
+
+keep_python_sigint()  # Ctrl-C is Python's; every solve below runs in slices (exactsyn.sat.sigint)
 
 SOLVERS = {
     "cadical195": "CaDiCaL 1.9.5 (default; writes LRAT proofs)",
@@ -114,9 +117,12 @@ def _interruptible(call: Callable[[], Any]) -> Any:
         raise
 
 
-def _search(solver: Any, time_limit: float | None, stop: Stop | None) -> bool | None:
-    """Solve, in conflict-budget slices when there is a limit or a stop (see the module docstring)."""
-    if time_limit is None and stop is None:
+def _search(solver: Any, time_limit: float | None, stop: Stop | None, budgets: bool = True) -> bool | None:
+    """Solve in conflict-budget slices (module docstring): between two slices the clock and
+    ``stop`` are asked, and a Ctrl-C that came during a slice is raised by Python
+    (:mod:`exactsyn.sat.sigint`), so also a search without a limit answers it within a slice.
+    A solver that takes no budget (:data:`UNBOUNDED`) runs to the end in one call."""
+    if not budgets:
         return bool(_interruptible(solver.solve))
     deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
     budget = _SLICE0
@@ -134,6 +140,25 @@ def _search(solver: Any, time_limit: float | None, stop: Stop | None) -> bool | 
         done = budget if before is None or after is None else max(after - before, 1)
         target = max(min(SLICE_SECONDS, deadline - time.perf_counter()), 1e-3)
         budget = min(_SLICE_MAX, max(_SLICE_MIN, int(done / spent * target)))
+
+
+#: Clauses handed to the solver between two looks at the clock while loading.
+_LOAD_BLOCK = 4096
+
+
+def _load(solver: Any, clauses: Sequence[Sequence[int]], deadline: float | None) -> bool:
+    """Add ``clauses`` to ``solver``; False when the clock passed ``deadline`` first."""
+    for i in range(0, len(clauses), _LOAD_BLOCK):
+        if deadline is not None and i and time.perf_counter() >= deadline:
+            return False
+        for clause in clauses[i : i + _LOAD_BLOCK]:
+            solver.add_clause(clause)
+    return True
+
+
+def _until(deadline: float | None) -> float | None:
+    """Seconds left before ``deadline`` (at least a microsecond, so the search gives up at once)."""
+    return None if deadline is None else max(deadline - time.perf_counter(), 1e-6)
 
 
 def _bounded(name: str, time_limit: float | None, stop: Stop | None) -> None:
@@ -164,9 +189,10 @@ def solve(
     ``status`` is ``unknown`` when ``time_limit`` seconds (> 0) ran out or ``stop()`` (asked
     between budget slices) said so.  With ``proof=True`` the solver is CaDiCaL 1.9.5 whatever
     ``solver`` names (the only one whose proof python-sat gives out), and an UNSAT answer
-    comes with its LRAT refutation; the limit then counts from the end of clause loading,
-    as proof capture always has.  Raises :class:`ExactsynError` for an unknown solver, a bad
-    limit, a limit for a solver that takes none (:data:`UNBOUNDED`) or a proof from one.
+    comes with its LRAT refutation.  The limit counts from the call: loading millions of
+    clauses into the solver takes seconds, and it is watched too.  Raises
+    :class:`ExactsynError` for an unknown solver, a bad limit, a limit for a solver that takes
+    none (:data:`UNBOUNDED`) or a proof from one.
     """
     check_solver(solver)
     limit = check_time_limit(time_limit)
@@ -174,13 +200,18 @@ def solve(
     if proof:
         if solver in UNBOUNDED:
             raise ExactsynError(f"solver {solver} writes no proof")
-        run = capture(clauses, Cadical195, lambda s: _search(s, limit, stop))
+        deadline = None if limit is None else started + limit
+        run = capture(clauses, Cadical195, lambda s: _search(s, _until(deadline), stop), deadline=deadline)
         seconds = time.perf_counter() - started
         return Outcome(run.status, run.model, run.proof, seconds, run.conflicts, proof_solver_name())
     _bounded(solver, limit, stop)
-    with Solver(name=solver, bootstrap_with=clauses) as s:
+    with Solver(name=solver) as s:
+        loaded = _load(s, clauses, None if limit is None else started + limit)
         left = None if limit is None else limit - (time.perf_counter() - started)
-        result = None if left is not None and left <= 0 else _search(s, left, stop)
+        if not loaded or (left is not None and left <= 0):
+            result = None
+        else:
+            result = _search(s, left, stop, solver not in UNBOUNDED)
         conflicts = None if solver in UNBOUNDED else _conflicts(s)
         model = tuple(s.get_model() or ()) if result else None
     return Outcome(_status(result), model, b"", time.perf_counter() - started, conflicts, _description(solver))

@@ -35,6 +35,7 @@ from dataclasses import dataclass
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.costs import OBJECTIVES, CostModel, library_costs, objective_value
 from exactsyn.errors import ExactsynError
+from exactsyn.sat.clauses import EncodingOutOfTime
 from exactsyn.sat.encode import CostLimit, Encoding, EncodingOptions, encode
 from exactsyn.sat.encode_depth import encode_depth
 from exactsyn.sat.options import DEFAULT_OPTIONS, NO_HOOKS, Hooks, SearchOptions
@@ -164,6 +165,8 @@ def optimise(
     queries: list[Query] = []
     k_star = len(best)
 
+    deadline = None if time_limit is None else start + time_limit
+
     def left() -> float | None:
         return None if time_limit is None else max(0.0, time_limit - (time.perf_counter() - start))
 
@@ -221,7 +224,10 @@ def optimise(
         top = k_star if fixed_k else (limit - extra) // c_min
         if k > top:
             return done(True, value)
-        enc = encode(spec, library, k, cost_encoding, cost_limit=CostLimit(costs, limit, order))
+        try:  # the window rule of a cost CNF can run to millions of clauses: it keeps the limit too
+            enc = encode(spec, library, k, cost_encoding, cost_limit=CostLimit(costs, limit, order), deadline=deadline)
+        except EncodingOutOfTime:
+            return done(False, k_star * c_min)
         q, circ = ask(enc, "cost", k, limit)
         if q.status == Status.UNKNOWN:
             return done(False, k_star * c_min)
