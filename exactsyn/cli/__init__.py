@@ -11,7 +11,9 @@ progress display, with what ``synth`` and ``batch`` show in
 
 Imports: anything in the package; nothing imports it but ``python -m exactsyn``.  Loading
 the commands takes about half a second; Ctrl-C or SIGTERM in that time ends the process
-with the same one line as later (:mod:`exactsyn.cli.stopping`), not a traceback.
+with the same one line as later (:mod:`exactsyn.cli.stopping`), not a traceback.  Only a
+Ctrl-C in the first tenth of a second, while Python itself starts (its site module, the
+package's first imports), ends with Python's own traceback and status.
 """
 
 import signal as _signal
@@ -33,6 +35,7 @@ try:
 except KeyboardInterrupt:
     _what = "terminated (SIGTERM)" if _terminated else "interrupted"
     print(f"exactsyn: {_what}: nothing was written", file=_sys.stderr)
+    exec("None")  # clears CPython's 'unhandled interrupt' mark: exactsyn.cli.stopping.exit_after_interrupt
     _sys.exit(143 if _terminated else 130)
 finally:
     if _main_thread:

@@ -27,7 +27,7 @@ from exactsyn.cli.check import check
 from exactsyn.cli.optimise import optimise
 from exactsyn.cli.options import REMOVED_SPELLINGS
 from exactsyn.cli.pictures import draw, report
-from exactsyn.cli.stopping import interrupts
+from exactsyn.cli.stopping import exit_after_interrupt, interrupts
 from exactsyn.cli.synth import synth
 from exactsyn.cli.tables import tables
 from exactsyn.errors import ExactsynError, Interrupted, did_you_mean
@@ -118,7 +118,7 @@ class OneLineGroup(click.Group):
             except (KeyboardInterrupt, click.Abort, _Stopped) as e:
                 kept = e.kept if isinstance(e, _Stopped | Interrupted) else ""
                 click.echo(f"exactsyn: {signals.what()}: {kept or 'nothing was written'}", err=True)
-                sys.exit(signals.exit_status())
+                exit_after_interrupt(signals.exit_status())
         sys.exit(code if isinstance(code, int) else 0)
 
     def _main_one_line(self, args: Sequence[str] | None, prog_name: str | None, complete_var: str | None,
