@@ -24,12 +24,33 @@ Why the result is the same function, three times over:
 
 Output gates are in the library: input gates are checked against it, and replacements
 come from the library of their window.
+
+**Ancilla context** (``zero_lines``): lines that start at 0 and that the circuit returns to
+0 (clean ancillas; the claim is checked on the input, :class:`ZeroLineError` when false).
+Then only the *honoured* inputs matter — those lines 0 — and the output must equal the
+input on them only.  Invariant: the current circuit equals the input on every honoured
+input (true at the start; kept by every replacement, below).  A zero line ``l`` is known to
+be 0 where a window starts (after its span is reordered) by one of two rules, both read off
+the current gate order only, so they stay sound after any replacement:
+
+* *before its first target*: no gate placed before the window targets ``l`` (controls do
+  not change a line), so ``l`` still holds its input value, 0;
+* *after its last target*: no gate of the window or placed after it targets ``l``, so ``l``
+  already holds its final value, which is 0 on honoured inputs (the invariant and the
+  checked claim).
+
+A window with such lines is a partial function: it is replaced by a circuit that agrees with
+it on the states with those lines 0 (:mod:`exactsyn.optimise.partial_windows`), simulated on
+exactly those states first; the circuit's state at the window's start is one of them on
+every honoured input, so the invariant is kept.  A single gate with a positive control on a
+line known 0 is the identity on every honoured input and is removed.  The final check
+compares on the honoured inputs only and says so.
 """
 
 from __future__ import annotations
 
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 
 from exactsyn.core.circuit import Circuit
@@ -40,9 +61,10 @@ from exactsyn.optimise.allowed_gates import GateSet, gate_set
 from exactsyn.optimise.class_windows import ClassTableResynthesis, class_table_lines
 from exactsyn.optimise.commute import relabel
 from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthesis
-from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
+from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent, dirty_zero_line
 from exactsyn.optimise.metrics import Metrics, measure
-from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis
+from exactsyn.optimise.partial_windows import PartialResynthesis
+from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis, honoured_states
 from exactsyn.optimise.windows import GatePool, Window, grow
 
 #: The objectives of :data:`exactsyn.core.costs.OBJECTIVES` a window replacement can lower.
@@ -60,6 +82,10 @@ class InternalCheckError(ExactsynError):
 
 class EquivalenceError(InternalCheckError):
     """A replacement, or the whole output, differs from what it stands for."""
+
+
+class ZeroLineError(ExactsynError):
+    """A line declared zero (a clean ancilla) is not returned to 0 by the input circuit."""
 
 
 @dataclass(frozen=True)
@@ -99,6 +125,7 @@ class OptimiseResult:
     resynthesis: str
     check: EquivalenceCheck
     seconds: float
+    zero_lines: tuple[int, ...] = ()  # clean ancillas: the output equals the input where these are 0
 
 
 OptimiseProgress = Callable[[ProgressEvent], None]
@@ -121,8 +148,12 @@ class _Passes:
         width: int,
         horizon: int,
         progress: OptimiseProgress | None,
+        zero: int = 0,
     ) -> None:
         self.n = circuit.lines
+        self.zero = zero  # mask of the zero lines (module docstring)
+        self.target_masks: list[int] = []
+        self._span: tuple[dict[int, int], dict[int, int]] | None = None
         self.gates = gates
         self.model = model
         self.resynthesis = resynthesis
@@ -154,6 +185,63 @@ class _Passes:
             perm = self.local[key] = g.permutation(len(lines))
         return perm
 
+    def target_mask(self, gid: int) -> int:
+        while len(self.target_masks) <= gid:
+            mask = 0
+            for t in self.pool.gates[len(self.target_masks)].targets:
+                mask |= 1 << t
+            self.target_masks.append(mask)
+        return self.target_masks[gid]
+
+    def target_span(self) -> tuple[dict[int, int], dict[int, int]]:
+        """The first and the last position at which each zero line is a target (current order)."""
+        if self._span is None:
+            first: dict[int, int] = {}
+            last: dict[int, int] = {}
+            for p, gid in enumerate(self.seq):
+                m = self.target_mask(gid) & self.zero
+                while m:
+                    low = m & -m
+                    first.setdefault(low.bit_length() - 1, p)
+                    last[low.bit_length() - 1] = p
+                    m ^= low
+            self._span = (first, last)
+        return self._span
+
+    def known_zero(self, mask: int, start: int, before: tuple[int, ...] = ()) -> int:
+        """The lines of ``mask`` known to be 0 where a window starts at position ``start`` with
+        the gates at ``before`` moved in front of it (the two rules of the module docstring)."""
+        first, last = self.target_span()
+        known = 0
+        m = mask & self.zero
+        while m:
+            low = m & -m
+            line = low.bit_length() - 1
+            m ^= low
+            if last.get(line, -1) < start:
+                known |= low  # after its last target
+            elif first[line] >= start and not any(self.target_mask(self.seq[p]) & low for p in before):
+                known |= low  # before its first target
+        return known
+
+    def dead_gate(self, i: int) -> bool:
+        """Remove the gate at ``i`` when a positive control of it is known 0 there (it is then the
+        identity on every honoured input: module docstring)."""
+        gid = self.seq[i]
+        controls = 0
+        for c in self.pool.gates[gid].controls:
+            controls |= 1 << c
+        if not controls & self.zero or not self.known_zero(controls, i):
+            return False
+        del self.seq[i]
+        self._span = None
+        row = self.stats.setdefault(len(self.pool.gates[gid].lines), [0, 0, 0])
+        row[0] += 1
+        row[1] += 1
+        row[2] += self.cost(gid)
+        self.methods.add("a gate with a control known to be 0 is removed")
+        return True
+
     def window_perm(self, ids: list[int], lines: tuple[int, ...]) -> tuple[int, ...]:
         perm = tuple(range(1 << len(lines)))
         for gid in ids:
@@ -168,7 +256,10 @@ class _Passes:
         lines = win.lines
         perm = self.window_perm(ids, lines)
         below = len(ids) + (0 if self.model is None else 1)  # gates-then-cost: as many gates may do
-        problem = WindowProblem(perm, len(lines), self.gates.induced(lines), below)
+        known = self.known_zero(win.mask, win.start, win.before) if self.zero & win.mask else 0
+        local = sum(1 << i for i, line in enumerate(lines) if known >> line & 1)
+        honoured = honoured_states(len(lines), local) if local else None
+        problem = WindowProblem(perm, len(lines), self.gates.induced(lines), below, honoured)
         best = self.resynthesis.optimum(problem)
         if best is None:
             return None
@@ -179,7 +270,8 @@ class _Passes:
         for g in best.gates:
             step = g.permutation(len(lines))
             check = tuple(step[v] for v in check)
-        if check != perm or len(best.gates) != best.gate_count:
+        states = range(1 << len(lines)) if honoured is None else honoured
+        if any(check[s] != perm[s] for s in states) or len(best.gates) != best.gate_count:
             raise EquivalenceError(
                 f"internal error: a replacement does not compute its window's function ({best.method}); "
                 "nothing was written"
@@ -225,6 +317,7 @@ class _Passes:
         seq = self.seq
         head = [seq[p] for p in win.before]
         seq[win.start : win.stop] = head + new_ids + [seq[p] for p in win.after]
+        self._span = None
         return win.start + len(head)
 
     def run_pass(self, forward: bool) -> bool:
@@ -237,6 +330,10 @@ class _Passes:
             if self.progress is not None and count % report_every == 0:
                 done = i if forward else len(self.seq) - 1 - i
                 self.progress(ProgressEvent("optimise", self.round, done, len(self.seq), len(self.seq)))
+            if self.zero and self.dead_gate(i):
+                changed = True
+                i -= 0 if forward else 1  # forward: the next gate has moved to position i
+                continue
             win: Window | None = None
             new_ids: list[int] | None = None
             if self.pool.masks[self.seq[i]].bit_count() > self.width:
@@ -288,6 +385,25 @@ def window_answerers(gates: GateSet, n: int, model: CostModel | None, window: in
     return CombinedResynthesis(small, MeetResynthesis(gates))
 
 
+def zero_line_tuple(circuit: Circuit, zero_lines: Iterable[int], seed: int) -> tuple[int, ...]:
+    """The declared zero lines, sorted; :class:`ExactsynError` for a line outside the circuit and
+    :class:`ZeroLineError` when the circuit does not return one to 0 on an input with them all 0."""
+    lines: set[int] = set()
+    for line in zero_lines:
+        if isinstance(line, bool) or not isinstance(line, int) or not 0 <= line < circuit.lines:
+            raise ExactsynError(f"zero line {line!r} is not a line of the circuit (0..{circuit.lines - 1})")
+        lines.add(line)
+    zero = tuple(sorted(lines))
+    dirty = dirty_zero_line(circuit, zero, seed=seed)
+    if dirty is not None:
+        line, state = dirty
+        raise ZeroLineError(
+            f"line {line} is declared zero (0 at the start and returned to 0 at the end), but the circuit "
+            f"leaves it at 1 on input {state} (binary, line 0 last: {state:0{circuit.lines}b}); nothing was written"
+        )
+    return zero
+
+
 def optimise_circuit(
     circuit: Circuit,
     *,
@@ -301,6 +417,7 @@ def optimise_circuit(
     resynthesis: WindowResynthesis | None = None,
     seed: int = 0,
     progress: OptimiseProgress | None = None,
+    zero_lines: Iterable[int] = (),
 ) -> OptimiseResult:
     """Optimise ``circuit`` by exact resynthesis of its windows (module docstring).
 
@@ -309,7 +426,12 @@ def optimise_circuit(
     file) is used by ``objective="gates-then-cost"``.  ``window`` is the largest number of
     lines of a window (default: 4 when a cached class table serves the gate set's 4-line
     windows, else 3); ``seed`` picks the random sample of the equivalence check beyond 24
-    lines.  Raises :class:`ExactsynError` for bad input and :class:`InternalCheckError`
+    lines.  ``zero_lines``: clean ancillas, lines that are 0 at the start and that the circuit
+    returns to 0; windows on them are partial functions and the output equals the input on
+    the inputs with them 0 (module docstring).  The claim is checked on the input circuit by
+    simulation of every such input (a seeded sample beyond 24 free lines): a line it leaves at
+    1 raises :class:`ZeroLineError`, naming the line and the input.  Raises
+    :class:`ExactsynError` for bad input and :class:`InternalCheckError`
     (:class:`EquivalenceError` when a function changed) if a check of the work fails.
     """
     start = time.perf_counter()
@@ -334,13 +456,18 @@ def optimise_circuit(
         model.check(circuit.gates, n)
     if window is None:
         window = 4 if class_table_lines(gates) == 4 and n >= 4 else 3
+    zero = zero_line_tuple(circuit, zero_lines, seed)
     if resynthesis is None:
         resynthesis = window_answerers(gates, n, model, window)
     if not 1 <= window <= resynthesis.max_lines:
         raise ExactsynError(
             f"window {window}: the window resynthesis proves optima for 1 to {resynthesis.max_lines} lines"
         )
-    passes = _Passes(circuit, gates, model, resynthesis, min(window, n), horizon, progress)
+    if zero:
+        resynthesis = PartialResynthesis(resynthesis, gates, n, model)
+    passes = _Passes(
+        circuit, gates, model, resynthesis, min(window, n), horizon, progress, sum(1 << line for line in zero)
+    )
     passes.run()
     output = passes.circuit()
     if _gate_key(output, model) > _gate_key(circuit, model):  # pragma: no cover - excluded by construction
@@ -350,7 +477,7 @@ def optimise_circuit(
         if progress is not None:
             progress(ProgressEvent("check", passes.round, done, total, output.gate_count))
 
-    check = check_equivalent(circuit, output, seed=seed, progress=check_progress)
+    check = check_equivalent(circuit, output, seed=seed, progress=check_progress, zero_lines=zero)
     if not check.equal:
         raise EquivalenceError(
             f"internal error: the optimised circuit differs from the input on input {check.counterexample} "
@@ -372,4 +499,5 @@ def optimise_circuit(
         "; ".join(sorted(passes.methods)),
         check,
         time.perf_counter() - start,
+        zero,
     )
