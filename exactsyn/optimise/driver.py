@@ -29,7 +29,10 @@ come from the library of their window.
 0 (clean ancillas; the claim is checked on the input, :class:`ZeroLineError` when false).
 Then only the *honoured* inputs matter — those lines 0 — and the output must equal the
 input on them only.  Invariant: the current circuit equals the input on every honoured
-input (true at the start; kept by every replacement, below).  A zero line ``l`` is known to
+input (true at the start; kept by every replacement, below).  The states a window can start
+in are found by simulating the current circuit's prefix on every honoured input when there
+are few enough (:mod:`exactsyn.optimise.reachable`; this also knows a line that an uncompute
+block returned to 0 in the middle of the circuit).  Otherwise a zero line ``l`` is known to
 be 0 where a window starts (after its span is reordered) by one of two rules, both read off
 the current gate order only, so they stay sound after any replacement:
 
@@ -42,8 +45,9 @@ the current gate order only, so they stay sound after any replacement:
 A window with such lines is a partial function: it is replaced by a circuit that agrees with
 it on the states with those lines 0 (:mod:`exactsyn.optimise.partial_windows`), simulated on
 exactly those states first; the circuit's state at the window's start is one of them on
-every honoured input, so the invariant is kept.  A single gate with a positive control on a
-line known 0 is the identity on every honoured input and is removed.  The final check
+every honoured input, so the invariant is kept.  A single gate whose controls are never all
+met there (by simulation; by the rules: a positive control on a line known 0) is the
+identity on every honoured input and is removed.  The final check
 compares on the honoured inputs only and says so.
 """
 
@@ -64,6 +68,7 @@ from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthe
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent, dirty_zero_line
 from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.partial_windows import PartialResynthesis
+from exactsyn.optimise.reachable import ReachableStates
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis, honoured_states
 from exactsyn.optimise.windows import GatePool, Window, grow
 
@@ -148,10 +153,10 @@ class _Passes:
         width: int,
         horizon: int,
         progress: OptimiseProgress | None,
-        zero: int = 0,
+        zero_lines: tuple[int, ...] = (),
     ) -> None:
         self.n = circuit.lines
-        self.zero = zero  # mask of the zero lines (module docstring)
+        self.zero = sum(1 << line for line in zero_lines)  # mask of the zero lines (module docstring)
         self.target_masks: list[int] = []
         self._span: tuple[dict[int, int], dict[int, int]] | None = None
         self.gates = gates
@@ -170,6 +175,9 @@ class _Passes:
         self.tried = 0
         self.round = 0
         self.methods: set[str] = set()
+        self.reach: ReachableStates | None = None
+        if zero_lines and ReachableStates.fits(self.n, zero_lines, len(self.seq)):
+            self.reach = ReachableStates(self.n, zero_lines, self.seq, self.pool.gates)
 
     def cost(self, gid: int) -> int:
         while len(self.costs) <= gid:
@@ -224,17 +232,36 @@ class _Passes:
                 known |= low  # before its first target
         return known
 
+    def window_states(self, win: Window) -> tuple[int, ...] | None:
+        """The local states the window can start in on an honoured input: simulated
+        (:mod:`exactsyn.optimise.reachable`) when that is cheap, else those with the window's
+        lines known 0 (the rules of the module docstring) 0; None for every state."""
+        lines = win.lines
+        if not self.zero:
+            return None
+        if self.reach is not None:
+            states = self.reach.window_states(win.start, win.before, lines)
+            return None if len(states) == 1 << len(lines) else states
+        known = self.known_zero(win.mask, win.start, win.before) if self.zero & win.mask else 0
+        local = sum(1 << i for i, line in enumerate(lines) if known >> line & 1)
+        return honoured_states(len(lines), local) if local else None
+
     def dead_gate(self, i: int) -> bool:
         """Remove the gate at ``i`` when a positive control of it is known 0 there (it is then the
         identity on every honoured input: module docstring)."""
         gid = self.seq[i]
-        controls = 0
-        for c in self.pool.gates[gid].controls:
-            controls |= 1 << c
-        if not controls & self.zero or not self.known_zero(controls, i):
-            return False
+        g = self.pool.gates[gid]
+        if self.reach is not None:
+            if not self.reach.never(i, g.controls, g.negative_controls):
+                return False
+        else:
+            controls = sum(1 << c for c in g.controls)
+            if not controls & self.zero or not self.known_zero(controls, i):
+                return False
         del self.seq[i]
         self._span = None
+        if self.reach is not None:
+            self.reach.changed(i)
         row = self.stats.setdefault(len(self.pool.gates[gid].lines), [0, 0, 0])
         row[0] += 1
         row[1] += 1
@@ -256,9 +283,7 @@ class _Passes:
         lines = win.lines
         perm = self.window_perm(ids, lines)
         below = len(ids) + (0 if self.model is None else 1)  # gates-then-cost: as many gates may do
-        known = self.known_zero(win.mask, win.start, win.before) if self.zero & win.mask else 0
-        local = sum(1 << i for i, line in enumerate(lines) if known >> line & 1)
-        honoured = honoured_states(len(lines), local) if local else None
+        honoured = self.window_states(win)
         problem = WindowProblem(perm, len(lines), self.gates.induced(lines), below, honoured)
         best = self.resynthesis.optimum(problem)
         if best is None:
@@ -318,6 +343,8 @@ class _Passes:
         head = [seq[p] for p in win.before]
         seq[win.start : win.stop] = head + new_ids + [seq[p] for p in win.after]
         self._span = None
+        if self.reach is not None:
+            self.reach.changed(win.start)
         return win.start + len(head)
 
     def run_pass(self, forward: bool) -> bool:
@@ -465,9 +492,7 @@ def optimise_circuit(
         )
     if zero:
         resynthesis = PartialResynthesis(resynthesis, gates, n, model)
-    passes = _Passes(
-        circuit, gates, model, resynthesis, min(window, n), horizon, progress, sum(1 << line for line in zero)
-    )
+    passes = _Passes(circuit, gates, model, resynthesis, min(window, n), horizon, progress, zero)
     passes.run()
     output = passes.circuit()
     if _gate_key(output, model) > _gate_key(circuit, model):  # pragma: no cover - excluded by construction
