@@ -216,6 +216,47 @@ class _Passes:
             self._span = (first, last)
         return self._span
 
+    def respan(self, start: int, old_stop: int, new_stop: int) -> None:
+        """Update :meth:`target_span` after positions ``start .. old_stop`` became ``start ..
+        new_stop``: positions past the span shift, and only the span is scanned again (the
+        rest of the order only when a line's first or last target was in the span and is gone)."""
+        if self._span is None:
+            return
+        first, last = self._span
+        delta = new_stop - old_stop
+        inside: dict[int, tuple[int, int]] = {}
+        for p in range(start, new_stop):
+            m = self.target_mask(self.seq[p]) & self.zero
+            while m:
+                low = m & -m
+                m ^= low
+                line = low.bit_length() - 1
+                inside[line] = (inside.get(line, (p, p))[0], p)
+        m = self.zero
+        while m:
+            low = m & -m
+            m ^= low
+            line = low.bit_length() - 1
+            f, la, span = first.get(line), last.get(line), inside.get(line)
+            if f is None or f >= start:
+                if span is not None:
+                    first[line] = span[0]
+                elif f is not None and f >= old_stop:
+                    first[line] = f + delta
+                elif f is not None:  # its first target was in the span and is gone
+                    later = (p for p in range(new_stop, len(self.seq)) if self.target_mask(self.seq[p]) & low)
+                    first[line] = next(later, -1)
+            if la is not None and la >= old_stop:
+                last[line] = la + delta
+            elif span is not None:
+                last[line] = span[1]
+            elif la is not None and la >= start:  # its last target was in the span and is gone
+                earlier = (p for p in range(start - 1, -1, -1) if self.target_mask(self.seq[p]) & low)
+                last[line] = next(earlier, -1)
+            if first.get(line) == -1 or last.get(line) == -1:
+                first.pop(line, None)
+                last.pop(line, None)
+
     def known_zero(self, mask: int, start: int, before: tuple[int, ...] = ()) -> int:
         """The lines of ``mask`` known to be 0 where a window starts at position ``start`` with
         the gates at ``before`` moved in front of it (the two rules of the module docstring)."""
@@ -259,7 +300,7 @@ class _Passes:
             if not controls & self.zero or not self.known_zero(controls, i):
                 return False
         del self.seq[i]
-        self._span = None
+        self.respan(i, i + 1, i)
         if self.reach is not None:
             self.reach.changed(i)
         row = self.stats.setdefault(len(self.pool.gates[gid].lines), [0, 0, 0])
@@ -342,7 +383,7 @@ class _Passes:
         seq = self.seq
         head = [seq[p] for p in win.before]
         seq[win.start : win.stop] = head + new_ids + [seq[p] for p in win.after]
-        self._span = None
+        self.respan(win.start, win.stop, win.start + len(win.before) + len(new_ids) + len(win.after))
         if self.reach is not None:
             self.reach.changed(win.start)
         return win.start + len(head)
