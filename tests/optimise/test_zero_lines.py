@@ -222,3 +222,29 @@ def test_cli_records_the_zero_lines_and_the_scope(tmp_path: Path) -> None:
     assert log["zero_lines"] == [3] and log["equivalence"]["zero_lines"] == [3]
     assert "8 input states with lines 3 = 0" in log["equivalence"]["description"]
     assert log["after"]["gates"] == 2
+
+
+def test_window_states_are_the_states_reached_by_plain_simulation() -> None:
+    c = bennett(random.Random(11), 3, 2, 2, 6)
+    zero = (3, 4)
+    pool = [*dict.fromkeys(c.gates)]
+    seq = [pool.index(g) for g in c.gates]
+    states = reachable.ReachableStates(c.lines, zero, seq, pool)
+    rng = random.Random(3)
+    for _ in range(20):
+        start = rng.randrange(len(seq))
+        lines = tuple(sorted(rng.sample(range(c.lines), 3)))
+        prefix = Circuit(c.lines, c.gates[:start])
+        want = set()
+        for s in honoured_inputs(c.lines, zero):
+            out = run_plain(prefix, s)
+            want.add(sum((out >> line & 1) << i for i, line in enumerate(lines)))
+        assert states.window_states(start, (), lines) == tuple(sorted(want))
+
+
+def test_gates_then_cost_with_zero_lines_keeps_the_function_on_honoured_inputs() -> None:
+    for seed in range(3):
+        c = bennett(random.Random(20 + seed), 3, 2, 2, 5)
+        res = optimise_circuit(c, window=3, zero_lines=(3, 4), objective="gates-then-cost", cost="t-count")
+        agrees_on_honoured(c, res.output, (3, 4))
+        assert (res.after.gates, res.after.t_count) <= (res.before.gates, res.before.t_count)
