@@ -27,6 +27,7 @@ from exactsyn.optimise.driver import (
     OptimiseResult,
     ProgressEvent,
     WindowCount,
+    ZeroLineError,
     optimise_circuit,
 )
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
@@ -48,6 +49,7 @@ __all__ = [
     "WindowCount",
     "WindowProblem",
     "WindowResynthesis",
+    "ZeroLineError",
     "check_equivalent",
     "gate_set",
     "measure",

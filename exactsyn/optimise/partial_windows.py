@@ -12,6 +12,11 @@ window there.  :class:`PartialResynthesis` finds it:
   (:class:`~exactsyn.optimise.resynthesis.OptimumTable`); the entries that agree with the
   window on the honoured states are exactly the completions a circuit of the library can
   compute, and the least of them is the optimum (a proof by exhaustion, like the table's);
+* **4 lines and more, few completions** (at most :data:`MAX_COMPLETIONS`: at most 3 states
+  not honoured): each completion is a permutation the wrapped answerer settles (the class
+  or distance tables); the least of their optima is the optimum of the partial function
+  when every completion was answered (every circuit that agrees on the honoured states
+  computes one of them), else it is the best known circuit below;
 * **4 lines and more**, by SAT on a specification with don't-cares (the encoding of
   :mod:`exactsyn.sat.encode`, which imposes only the specified output bits of the
   specified rows: Große, Chen, Dueck, Drechsler, "Exact multiple-control Toffoli network
@@ -30,6 +35,10 @@ every answer on the honoured states before it uses it.
 from __future__ import annotations
 
 import time
+from collections.abc import Iterator
+from dataclasses import replace
+from itertools import permutations
+from math import factorial
 
 import numpy as np
 
@@ -45,6 +54,8 @@ from exactsyn.specification.reversible import Spec
 
 #: Seconds of SAT search one partial window of 4 or more lines may take.
 WINDOW_SECONDS = 2.0
+#: Completions up to which a wide partial window asks the wrapped answerer about each one.
+MAX_COMPLETIONS = 6
 
 Key = tuple[int, tuple[Edge, ...], tuple[int, ...], tuple[int, ...]]
 
@@ -73,6 +84,20 @@ def partial_spec(problem: WindowProblem) -> Spec:
     outputs = tuple(problem.perm[s] if s in honoured else 0 for s in range(size))
     care = tuple(size - 1 if s in honoured else 0 for s in range(size))
     return Spec(problem.lines, outputs, care, "partial window")
+
+
+def completions(problem: WindowProblem) -> Iterator[tuple[int, ...]]:
+    """Every permutation that agrees with the window on its honoured states."""
+    honoured = set(problem.honoured or ())
+    size = 1 << problem.lines
+    free_in = [s for s in range(size) if s not in honoured]
+    used = {problem.perm[s] for s in honoured}
+    free_out = [v for v in range(size) if v not in used]
+    for outs in permutations(free_out):
+        perm = list(problem.perm)
+        for s, v in zip(free_in, outs, strict=True):
+            perm[s] = v
+        yield tuple(perm)
 
 
 class PartialResynthesis:
@@ -124,8 +149,30 @@ class PartialResynthesis:
         )
         return Optimum(table.circuit(index), int(table.sizes[index]), int(table.cost[index]), method)
 
+    def _few_completions(self, problem: WindowProblem) -> tuple[Optimum | None, bool]:
+        """The least optimum over the completions (the wrapped answerer's), and whether every
+        completion was answered; (the full function's optimum, False) when there are too many."""
+        if problem.lines > self.full.max_lines:
+            return None, False
+        unknown = (1 << problem.lines) - len(problem.honoured or ())
+        if factorial(unknown) > MAX_COMPLETIONS:
+            return self.full.optimum(problem), False
+        best: Optimum | None = None
+        every = True
+        for perm in completions(problem):
+            found = self.full.optimum(replace(problem, perm=perm, honoured=None))
+            every = every and found is not None
+            if found is not None and (best is None or (found.gate_count, found.cost) < (best.gate_count, best.cost)):
+                best = found
+        if best is not None:
+            what = f"least of {factorial(unknown)} completions of a partial function, each by {best.method}"
+            best = replace(best, method=what)
+        return best, every
+
     def _by_sat(self, problem: WindowProblem) -> Optimum | None:
-        whole = self.full.optimum(problem) if problem.lines <= self.full.max_lines else None
+        whole, settled = self._few_completions(problem)
+        if settled:
+            return whole
         bound = problem.below
         if whole is not None:
             bound = whole.gate_count if bound is None else min(bound, whole.gate_count)

@@ -27,8 +27,8 @@ from exactsyn.core.gates import Gate, x_gate
 from exactsyn.core.library import make_library
 from exactsyn.errors import ExactsynError
 from exactsyn.io.qasm import to_qasm2, to_qasm3
-from exactsyn.optimise import TableResynthesis, WindowProblem, gate_set, optimise_circuit, reachable
-from exactsyn.optimise.driver import ZeroLineError
+from exactsyn.optimise import TableResynthesis, WindowProblem, ZeroLineError, gate_set, optimise_circuit, reachable
+from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthesis
 from exactsyn.optimise.partial_windows import PartialResynthesis
 from exactsyn.optimise.resynthesis import honoured_states
 from tests.helpers import bfs_upto
@@ -248,3 +248,18 @@ def test_gates_then_cost_with_zero_lines_keeps_the_function_on_honoured_inputs()
         res = optimise_circuit(c, window=3, zero_lines=(3, 4), objective="gates-then-cost", cost="t-count")
         agrees_on_honoured(c, res.output, (3, 4))
         assert (res.after.gates, res.after.t_count) <= (res.before.gates, res.before.t_count)
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_four_line_window_with_few_completions_asks_the_table_for_each(seed: int) -> None:
+    rng = random.Random(100 + seed)
+    gates = gate_set("nct", 4)
+    lib = make_library("nct", 4)
+    perm = Circuit(4, tuple(rng.choice(lib.gates) for _ in range(4))).permutation()
+    honoured = tuple(sorted(rng.sample(range(16), 13)))  # 3 states free: 6 completions
+    full = CombinedResynthesis(TableResynthesis(gates, 4), MeetResynthesis(gates))
+    answer = PartialResynthesis(full, gates, 4).optimum(WindowProblem(perm, 4, (), 5, honoured))
+    assert answer is not None and answer.method.startswith("least of 6 completions")
+    got = Circuit(4, answer.gates).permutation()
+    assert all(got[s] == perm[s] for s in honoured)
+    assert answer.gate_count == _partial_minimum(4, perm, honoured, 4)
