@@ -275,8 +275,8 @@ class _Passes:
 
     def window_states(self, win: Window) -> tuple[int, ...] | None:
         """The local states the window can start in on an honoured input: simulated
-        (:mod:`exactsyn.optimise.reachable`) when that is cheap, else those with the window's
-        lines known 0 (the rules of the module docstring) 0; None for every state."""
+        (:mod:`exactsyn.optimise.reachable`) when that is cheap, else every state in which the
+        lines known to be 0 there (the rules of the module docstring) are 0; None: every state."""
         lines = win.lines
         if not self.zero:
             return None
@@ -288,8 +288,9 @@ class _Passes:
         return honoured_states(len(lines), local) if local else None
 
     def dead_gate(self, i: int) -> bool:
-        """Remove the gate at ``i`` when a positive control of it is known 0 there (it is then the
-        identity on every honoured input: module docstring)."""
+        """Remove the gate at ``i`` when its controls are never all met there on an honoured input
+        (simulated; by the rules: a positive control on a line known 0); it is then the identity
+        on every honoured input (module docstring)."""
         gid = self.seq[i]
         g = self.pool.gates[gid]
         if self.reach is not None:
