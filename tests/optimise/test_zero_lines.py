@@ -263,3 +263,16 @@ def test_four_line_window_with_few_completions_asks_the_table_for_each(seed: int
     got = Circuit(4, answer.gates).permutation()
     assert all(got[s] == perm[s] for s in honoured)
     assert answer.gate_count == _partial_minimum(4, perm, honoured, 4)
+
+
+def test_cli_takes_a_register_name_for_its_lines(tmp_path: Path) -> None:
+    src = tmp_path / "c.qasm"
+    src.write_text(
+        'OPENQASM 2.0;\ninclude "qelib1.inc";\nqreg v[3];\nqreg w[1];\n'
+        "ccx v[0],v[1],w[0];\ncx w[0],v[2];\nccx v[0],v[1],w[0];\n"
+    )
+    out = tmp_path / "out.qasm"
+    code, err = invoke(str(src), "-o", str(out), "--zero-lines", "w", "--window", "4", "--library", "nct")
+    assert code == 0, err
+    assert json.loads((tmp_path / "out.log.json").read_text())["zero_lines"] == [3]
+    assert "ccx v[0],v[1],v[2];" in out.read_text() and "w[0]" not in out.read_text().split("qreg w[1];")[1]
