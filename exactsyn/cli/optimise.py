@@ -27,7 +27,7 @@ from exactsyn.cli.progress import OptimiseDisplay, progress_mode
 from exactsyn.core.library import KINDS, PRESETS
 from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import read_circuit_layout
-from exactsyn.io.layout import check_layout
+from exactsyn.io.layout import Layout, check_layout
 from exactsyn.io.registry import suffixes
 from exactsyn.optimise import InternalCheckError, optimise_circuit
 from exactsyn.optimise.driver import DEFAULT_HORIZON, WINDOW_OBJECTIVES
@@ -102,6 +102,17 @@ _OPTIONS: tuple[Callable[[F], F], ...] = (
         help="Gates a window's growth looks past the last gate that joined it (more: finds more, slower).",
     ),
     click.option(
+        "--zero-lines",
+        "zero_lines",
+        metavar="LINES",
+        default="",
+        help="Clean ancillas: lines that are 0 at the start and that the circuit returns to 0, as line numbers "
+        "or OpenQASM operands, comma-separated (e.g. --zero-lines 3,4 or --zero-lines 'anc' or 'c[1],c[2]'). "
+        "Windows on them are resynthesised with don't-cares, and the output equals the input on the inputs with "
+        "these lines 0 (the check and the log say so). The claim is checked on the input: a line it leaves at 1 "
+        "is an error (exit 2, nothing written).",
+    ),
+    click.option(
         "--seed",
         type=int,
         default=0,
@@ -119,6 +130,26 @@ _OPTIONS: tuple[Callable[[F], F], ...] = (
     progress_option,
     click.option("-q", "--quiet", is_flag=True, help="No summary and no progress bar."),
 )
+
+
+def parse_zero_lines(text: str, layout: Layout) -> tuple[int, ...]:
+    """Line numbers of ``--zero-lines``: integers, register names (every line of the register)
+    or ``name[index]`` operands, comma-separated."""
+    labels = layout.labels()
+    out: list[int] = []
+    for item in (t.strip() for t in text.split(",")):
+        if not item:
+            raise ExactsynError(f"--zero-lines {text!r} has an empty entry")
+        if item.isdigit():
+            out.append(int(item))
+        elif item in labels:
+            out.append(labels.index(item))
+        elif item in dict(layout.registers):
+            out.extend(i for i, label in enumerate(labels) if label.startswith(item + "["))
+        else:
+            known = ", ".join(name for name, _ in layout.registers)
+            raise ExactsynError(f"--zero-lines: {item!r} is not a line number, a register ({known}) or an operand")
+    return tuple(out)
 
 
 def _with_options(command: F) -> F:
@@ -142,6 +173,7 @@ def optimise(
     cost_name: str,
     window: int | None,
     horizon: int,
+    zero_lines: str,
     seed: int,
     log_path: str | None,
     no_log: bool,
@@ -155,8 +187,9 @@ def optimise(
     exhaustive tables; when a proven-optimal circuit for it is smaller, it replaces the
     window.  This repeats until nothing changes.  The output is then compared with the
     input: every input state up to 24 lines, a seeded sample of 131072 random states
-    beyond.  IN and OUT are {readable} (OpenQASM: any number of registers; gate
-    definitions are read by their unitary).
+    beyond.  With --zero-lines only the inputs with those lines 0 are compared, and windows
+    on them need only agree there.  IN and OUT are {readable} (OpenQASM: any number of
+    registers; gate definitions are read by their unitary).
 
     \b
     Examples:
@@ -164,6 +197,7 @@ def optimise(
       exactsyn optimise adder.qasm -o adder-opt.qasm --window 4
       exactsyn optimise circuit.json -o out.qasm3 --objective gates-then-cost --cost t-count
       exactsyn optimise circuit.qasm -o out.qasm --library nct-swap --coupling chain
+      exactsyn optimise adder.qasm -o adder-opt.qasm --zero-lines 3,4
 
     A summary (gates, NCV cost, T-count, CNOT count, depth, before and after) is printed
     and a JSON log written beside OUT.  Exit status: 0 written, 1 the equivalence check
@@ -172,6 +206,7 @@ def optimise(
     try:
         circuit, layout, input_format = read_circuit_layout(input_file)
         check_layout(layout, circuit.lines)
+        zero = parse_zero_lines(zero_lines, layout) if zero_lines else ()
         out_format = output_format(fmt, output, input_format)
         log = None if no_log else (log_path or (log_path_for(output) if output else None))
         with OptimiseDisplay(progress_mode(quiet, show_progress)) as display:
@@ -186,6 +221,7 @@ def optimise(
                 horizon=horizon,
                 seed=seed,
                 progress=display,
+                zero_lines=zero,
             )
         if output is None:
             click.echo(checked_text(result, out_format, layout=layout, seed=seed), nl=False)

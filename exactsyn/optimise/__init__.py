@@ -6,13 +6,16 @@ Modules, one job each:
 * :mod:`~exactsyn.optimise.commute` — exact commutation of two gates;
 * :mod:`~exactsyn.optimise.windows` — convex windows on the gate dependency graph;
 * :mod:`~exactsyn.optimise.resynthesis` — optimal circuits of window permutations (interface and tables);
+* :mod:`~exactsyn.optimise.partial_windows` — windows with don't-cares (lines known to be 0);
+* :mod:`~exactsyn.optimise.reachable` — the states a window can start in, by simulating the prefix;
 * :mod:`~exactsyn.optimise.driver` — the passes, to a fixpoint, and :func:`optimise_circuit`;
 * :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
 * :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log;
 * :mod:`~exactsyn.optimise.output` — the output file, read back and re-checked before it is kept.
 
 Imports: the base modules, :mod:`exactsyn.core`, :mod:`exactsyn.io` and :mod:`exactsyn.tables`
-(the exhaustive tables of windows); :mod:`exactsyn.search` uses it to shrink fallbacks.
+(the exhaustive tables of windows), :mod:`exactsyn.specification` and :mod:`exactsyn.sat` (partial
+windows by SAT with don't-cares); :mod:`exactsyn.search` uses it to shrink fallbacks.
 """
 
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
@@ -24,6 +27,7 @@ from exactsyn.optimise.driver import (
     OptimiseResult,
     ProgressEvent,
     WindowCount,
+    ZeroLineError,
     optimise_circuit,
 )
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
@@ -45,6 +49,7 @@ __all__ = [
     "WindowCount",
     "WindowProblem",
     "WindowResynthesis",
+    "ZeroLineError",
     "check_equivalent",
     "gate_set",
     "measure",

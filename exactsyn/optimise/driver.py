@@ -24,12 +24,37 @@ Why the result is the same function, three times over:
 
 Output gates are in the library: input gates are checked against it, and replacements
 come from the library of their window.
+
+**Ancilla context** (``zero_lines``): lines that start at 0 and that the circuit returns to
+0 (clean ancillas; the claim is checked on the input, :class:`ZeroLineError` when false).
+Then only the *honoured* inputs matter — those lines 0 — and the output must equal the
+input on them only.  Invariant: the current circuit equals the input on every honoured
+input (true at the start; kept by every replacement, below).  The states a window can start
+in are found by simulating the current circuit's prefix on every honoured input when there
+are few enough (:mod:`exactsyn.optimise.reachable`; this also knows a line that an uncompute
+block returned to 0 in the middle of the circuit).  Otherwise a zero line ``l`` is known to
+be 0 where a window starts (after its span is reordered) by one of two rules, both read off
+the current gate order only, so they stay sound after any replacement:
+
+* *before its first target*: no gate placed before the window targets ``l`` (controls do
+  not change a line), so ``l`` still holds its input value, 0;
+* *after its last target*: no gate of the window or placed after it targets ``l``, so ``l``
+  already holds its final value, which is 0 on honoured inputs (the invariant and the
+  checked claim).
+
+A window with such lines is a partial function: it is replaced by a circuit that agrees with
+it on the states with those lines 0 (:mod:`exactsyn.optimise.partial_windows`), simulated on
+exactly those states first; the circuit's state at the window's start is one of them on
+every honoured input, so the invariant is kept.  A single gate whose controls are never all
+met there (by simulation; by the rules: a positive control on a line known 0) is the
+identity on every honoured input and is removed.  The final check
+compares on the honoured inputs only and says so.
 """
 
 from __future__ import annotations
 
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 
 from exactsyn.core.circuit import Circuit
@@ -40,9 +65,11 @@ from exactsyn.optimise.allowed_gates import GateSet, gate_set
 from exactsyn.optimise.class_windows import ClassTableResynthesis, class_table_lines
 from exactsyn.optimise.commute import relabel
 from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthesis
-from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
+from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent, dirty_zero_line
 from exactsyn.optimise.metrics import Metrics, measure
-from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis
+from exactsyn.optimise.partial_windows import PartialResynthesis
+from exactsyn.optimise.reachable import ReachableStates
+from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis, honoured_states
 from exactsyn.optimise.windows import GatePool, Window, grow
 
 #: The objectives of :data:`exactsyn.core.costs.OBJECTIVES` a window replacement can lower.
@@ -60,6 +87,10 @@ class InternalCheckError(ExactsynError):
 
 class EquivalenceError(InternalCheckError):
     """A replacement, or the whole output, differs from what it stands for."""
+
+
+class ZeroLineError(ExactsynError):
+    """A line declared zero (a clean ancilla) is not returned to 0 by the input circuit."""
 
 
 @dataclass(frozen=True)
@@ -99,6 +130,7 @@ class OptimiseResult:
     resynthesis: str
     check: EquivalenceCheck
     seconds: float
+    zero_lines: tuple[int, ...] = ()  # clean ancillas: the output equals the input where these are 0
 
 
 OptimiseProgress = Callable[[ProgressEvent], None]
@@ -121,8 +153,12 @@ class _Passes:
         width: int,
         horizon: int,
         progress: OptimiseProgress | None,
+        zero_lines: tuple[int, ...] = (),
     ) -> None:
         self.n = circuit.lines
+        self.zero = sum(1 << line for line in zero_lines)  # mask of the zero lines (module docstring)
+        self.target_masks: list[int] = []
+        self._span: tuple[dict[int, int], dict[int, int]] | None = None
         self.gates = gates
         self.model = model
         self.resynthesis = resynthesis
@@ -139,6 +175,9 @@ class _Passes:
         self.tried = 0
         self.round = 0
         self.methods: set[str] = set()
+        self.reach: ReachableStates | None = None
+        if zero_lines and ReachableStates.fits(self.n, zero_lines, len(self.seq)):
+            self.reach = ReachableStates(self.n, zero_lines, self.seq, self.pool.gates)
 
     def cost(self, gid: int) -> int:
         while len(self.costs) <= gid:
@@ -154,6 +193,124 @@ class _Passes:
             perm = self.local[key] = g.permutation(len(lines))
         return perm
 
+    def target_mask(self, gid: int) -> int:
+        while len(self.target_masks) <= gid:
+            mask = 0
+            for t in self.pool.gates[len(self.target_masks)].targets:
+                mask |= 1 << t
+            self.target_masks.append(mask)
+        return self.target_masks[gid]
+
+    def target_span(self) -> tuple[dict[int, int], dict[int, int]]:
+        """The first and the last position at which each zero line is a target (current order)."""
+        if self._span is None:
+            first: dict[int, int] = {}
+            last: dict[int, int] = {}
+            for p, gid in enumerate(self.seq):
+                m = self.target_mask(gid) & self.zero
+                while m:
+                    low = m & -m
+                    first.setdefault(low.bit_length() - 1, p)
+                    last[low.bit_length() - 1] = p
+                    m ^= low
+            self._span = (first, last)
+        return self._span
+
+    def respan(self, start: int, old_stop: int, new_stop: int) -> None:
+        """Update :meth:`target_span` after positions ``start .. old_stop`` became ``start ..
+        new_stop``: positions past the span shift, and only the span is scanned again (the
+        rest of the order only when a line's first or last target was in the span and is gone)."""
+        if self._span is None:
+            return
+        first, last = self._span
+        delta = new_stop - old_stop
+        inside: dict[int, tuple[int, int]] = {}
+        for p in range(start, new_stop):
+            m = self.target_mask(self.seq[p]) & self.zero
+            while m:
+                low = m & -m
+                m ^= low
+                line = low.bit_length() - 1
+                inside[line] = (inside.get(line, (p, p))[0], p)
+        m = self.zero
+        while m:
+            low = m & -m
+            m ^= low
+            line = low.bit_length() - 1
+            f, la, span = first.get(line), last.get(line), inside.get(line)
+            if f is None or f >= start:
+                if span is not None:
+                    first[line] = span[0]
+                elif f is not None and f >= old_stop:
+                    first[line] = f + delta
+                elif f is not None:  # its first target was in the span and is gone
+                    later = (p for p in range(new_stop, len(self.seq)) if self.target_mask(self.seq[p]) & low)
+                    first[line] = next(later, -1)
+            if la is not None and la >= old_stop:
+                last[line] = la + delta
+            elif span is not None:
+                last[line] = span[1]
+            elif la is not None and la >= start:  # its last target was in the span and is gone
+                earlier = (p for p in range(start - 1, -1, -1) if self.target_mask(self.seq[p]) & low)
+                last[line] = next(earlier, -1)
+            if first.get(line) == -1 or last.get(line) == -1:
+                first.pop(line, None)
+                last.pop(line, None)
+
+    def known_zero(self, mask: int, start: int, before: tuple[int, ...] = ()) -> int:
+        """The lines of ``mask`` known to be 0 where a window starts at position ``start`` with
+        the gates at ``before`` moved in front of it (the two rules of the module docstring)."""
+        first, last = self.target_span()
+        known = 0
+        m = mask & self.zero
+        while m:
+            low = m & -m
+            line = low.bit_length() - 1
+            m ^= low
+            if last.get(line, -1) < start:
+                known |= low  # after its last target
+            elif first[line] >= start and not any(self.target_mask(self.seq[p]) & low for p in before):
+                known |= low  # before its first target
+        return known
+
+    def window_states(self, win: Window) -> tuple[int, ...] | None:
+        """The local states the window can start in on an honoured input: simulated
+        (:mod:`exactsyn.optimise.reachable`) when that is cheap, else every state in which the
+        lines known to be 0 there (the rules of the module docstring) are 0; None: every state."""
+        lines = win.lines
+        if not self.zero:
+            return None
+        if self.reach is not None:
+            states = self.reach.window_states(win.start, win.before, lines)
+            return None if len(states) == 1 << len(lines) else states
+        known = self.known_zero(win.mask, win.start, win.before) if self.zero & win.mask else 0
+        local = sum(1 << i for i, line in enumerate(lines) if known >> line & 1)
+        return honoured_states(len(lines), local) if local else None
+
+    def dead_gate(self, i: int) -> bool:
+        """Remove the gate at ``i`` when its controls are never all met there on an honoured input
+        (simulated; by the rules: a positive control on a line known 0); it is then the identity
+        on every honoured input (module docstring)."""
+        gid = self.seq[i]
+        g = self.pool.gates[gid]
+        if self.reach is not None:
+            if not self.reach.never(i, g.controls, g.negative_controls):
+                return False
+        else:
+            controls = sum(1 << c for c in g.controls)
+            if not controls & self.zero or not self.known_zero(controls, i):
+                return False
+        del self.seq[i]
+        self.respan(i, i + 1, i)
+        if self.reach is not None:
+            self.reach.changed(i)
+        row = self.stats.setdefault(len(self.pool.gates[gid].lines), [0, 0, 0])
+        row[0] += 1
+        row[1] += 1
+        row[2] += self.cost(gid)
+        self.methods.add("a gate with a control known to be 0 is removed")
+        return True
+
     def window_perm(self, ids: list[int], lines: tuple[int, ...]) -> tuple[int, ...]:
         perm = tuple(range(1 << len(lines)))
         for gid in ids:
@@ -168,7 +325,8 @@ class _Passes:
         lines = win.lines
         perm = self.window_perm(ids, lines)
         below = len(ids) + (0 if self.model is None else 1)  # gates-then-cost: as many gates may do
-        problem = WindowProblem(perm, len(lines), self.gates.induced(lines), below)
+        honoured = self.window_states(win)
+        problem = WindowProblem(perm, len(lines), self.gates.induced(lines), below, honoured)
         best = self.resynthesis.optimum(problem)
         if best is None:
             return None
@@ -179,7 +337,8 @@ class _Passes:
         for g in best.gates:
             step = g.permutation(len(lines))
             check = tuple(step[v] for v in check)
-        if check != perm or len(best.gates) != best.gate_count:
+        states = range(1 << len(lines)) if honoured is None else honoured
+        if any(check[s] != perm[s] for s in states) or len(best.gates) != best.gate_count:
             raise EquivalenceError(
                 f"internal error: a replacement does not compute its window's function ({best.method}); "
                 "nothing was written"
@@ -225,6 +384,9 @@ class _Passes:
         seq = self.seq
         head = [seq[p] for p in win.before]
         seq[win.start : win.stop] = head + new_ids + [seq[p] for p in win.after]
+        self.respan(win.start, win.stop, win.start + len(win.before) + len(new_ids) + len(win.after))
+        if self.reach is not None:
+            self.reach.changed(win.start)
         return win.start + len(head)
 
     def run_pass(self, forward: bool) -> bool:
@@ -237,6 +399,10 @@ class _Passes:
             if self.progress is not None and count % report_every == 0:
                 done = i if forward else len(self.seq) - 1 - i
                 self.progress(ProgressEvent("optimise", self.round, done, len(self.seq), len(self.seq)))
+            if self.zero and self.dead_gate(i):
+                changed = True
+                i -= 0 if forward else 1  # forward: the next gate has moved to position i
+                continue
             win: Window | None = None
             new_ids: list[int] | None = None
             if self.pool.masks[self.seq[i]].bit_count() > self.width:
@@ -288,6 +454,25 @@ def window_answerers(gates: GateSet, n: int, model: CostModel | None, window: in
     return CombinedResynthesis(small, MeetResynthesis(gates))
 
 
+def zero_line_tuple(circuit: Circuit, zero_lines: Iterable[int], seed: int) -> tuple[int, ...]:
+    """The declared zero lines, sorted; :class:`ExactsynError` for a line outside the circuit and
+    :class:`ZeroLineError` when the circuit does not return one to 0 on an input with them all 0."""
+    lines: set[int] = set()
+    for line in zero_lines:
+        if isinstance(line, bool) or not isinstance(line, int) or not 0 <= line < circuit.lines:
+            raise ExactsynError(f"zero line {line!r} is not a line of the circuit (0..{circuit.lines - 1})")
+        lines.add(line)
+    zero = tuple(sorted(lines))
+    dirty = dirty_zero_line(circuit, zero, seed=seed)
+    if dirty is not None:
+        line, state = dirty
+        raise ZeroLineError(
+            f"line {line} is declared zero (0 at the start and returned to 0 at the end), but the circuit "
+            f"leaves it at 1 on input {state} (binary, line 0 last: {state:0{circuit.lines}b}); nothing was written"
+        )
+    return zero
+
+
 def optimise_circuit(
     circuit: Circuit,
     *,
@@ -301,6 +486,7 @@ def optimise_circuit(
     resynthesis: WindowResynthesis | None = None,
     seed: int = 0,
     progress: OptimiseProgress | None = None,
+    zero_lines: Iterable[int] = (),
 ) -> OptimiseResult:
     """Optimise ``circuit`` by exact resynthesis of its windows (module docstring).
 
@@ -309,7 +495,12 @@ def optimise_circuit(
     file) is used by ``objective="gates-then-cost"``.  ``window`` is the largest number of
     lines of a window (default: 4 when a cached class table serves the gate set's 4-line
     windows, else 3); ``seed`` picks the random sample of the equivalence check beyond 24
-    lines.  Raises :class:`ExactsynError` for bad input and :class:`InternalCheckError`
+    lines.  ``zero_lines``: clean ancillas, lines that are 0 at the start and that the circuit
+    returns to 0; windows on them are partial functions and the output equals the input on
+    the inputs with them 0 (module docstring).  The claim is checked on the input circuit by
+    simulation of every such input (a seeded sample beyond 24 free lines): a line it leaves at
+    1 raises :class:`ZeroLineError`, naming the line and the input.  Raises
+    :class:`ExactsynError` for bad input and :class:`InternalCheckError`
     (:class:`EquivalenceError` when a function changed) if a check of the work fails.
     """
     start = time.perf_counter()
@@ -334,13 +525,16 @@ def optimise_circuit(
         model.check(circuit.gates, n)
     if window is None:
         window = 4 if class_table_lines(gates) == 4 and n >= 4 else 3
+    zero = zero_line_tuple(circuit, zero_lines, seed)
     if resynthesis is None:
         resynthesis = window_answerers(gates, n, model, window)
     if not 1 <= window <= resynthesis.max_lines:
         raise ExactsynError(
             f"window {window}: the window resynthesis proves optima for 1 to {resynthesis.max_lines} lines"
         )
-    passes = _Passes(circuit, gates, model, resynthesis, min(window, n), horizon, progress)
+    if zero:
+        resynthesis = PartialResynthesis(resynthesis, gates, n, model)
+    passes = _Passes(circuit, gates, model, resynthesis, min(window, n), horizon, progress, zero)
     passes.run()
     output = passes.circuit()
     if _gate_key(output, model) > _gate_key(circuit, model):  # pragma: no cover - excluded by construction
@@ -350,7 +544,7 @@ def optimise_circuit(
         if progress is not None:
             progress(ProgressEvent("check", passes.round, done, total, output.gate_count))
 
-    check = check_equivalent(circuit, output, seed=seed, progress=check_progress)
+    check = check_equivalent(circuit, output, seed=seed, progress=check_progress, zero_lines=zero)
     if not check.equal:
         raise EquivalenceError(
             f"internal error: the optimised circuit differs from the input on input {check.counterexample} "
@@ -372,4 +566,5 @@ def optimise_circuit(
         "; ".join(sorted(passes.methods)),
         check,
         time.perf_counter() - start,
+        zero,
     )

@@ -14,6 +14,14 @@ software", FSE 1997, applied to reversible gates.
 
 The check runs ``a`` and then the inverse of ``b`` and compares with the input: one
 state array, processed in column chunks that stay in cache.
+
+With ``zero_lines`` (lines known to be 0 where the circuit starts) only the *honoured*
+inputs are compared: those lines 0, every state of the other (free) lines — all of them up
+to :data:`EXHAUSTIVE_LINES` free lines, a seeded sample beyond.
+:func:`dirty_zero_line` checks the claim that comes with such lines: the circuit returns
+them to 0 on every honoured input (clean ancillas).  When ``a`` does and ``a`` equals
+``b`` on the honoured inputs, ``b`` maps each of them to the same state, so ``b`` returns
+them to 0 too.
 """
 
 from __future__ import annotations
@@ -44,12 +52,17 @@ class EquivalenceCheck:
     equal: bool
     counterexample: int | None  # an input state on which they differ
     seconds: float
+    zero_lines: tuple[int, ...] = ()  # only inputs with these lines 0 were compared
 
     def describe(self) -> str:
+        scope = ""
+        if self.zero_lines:
+            scope = f" with lines {', '.join(map(str, self.zero_lines))} = 0"
         if self.method == "exhaustive":
-            what = f"exhaustive simulation of all {self.inputs} input states"
+            what = f"exhaustive simulation of all {self.inputs} input states{scope}"
         else:
-            what = f"random simulation of {self.inputs} input states (seed {self.seed}) plus the per-window argument"
+            what = f"random simulation of {self.inputs} input states{scope} (seed {self.seed})"
+            what += " plus the per-window argument"
         return what + (" — equal" if self.equal else f" — DIFFERENT on input {self.counterexample}")
 
     def to_dict(self) -> dict[str, object]:
@@ -59,6 +72,7 @@ class EquivalenceCheck:
             "seed": self.seed,
             "equal": self.equal,
             "counterexample": self.counterexample,
+            "zero_lines": list(self.zero_lines),
             "seconds": round(self.seconds, 3),
         }
 
@@ -88,6 +102,35 @@ def exhaustive_vectors(lines: int) -> np.ndarray:
 def random_vectors(lines: int, samples: int, seed: int) -> np.ndarray:
     words = -(-samples // 64)
     return np.random.default_rng(seed).integers(0, 1 << 64, size=(lines, words), dtype=np.uint64, endpoint=False)
+
+
+def honoured_vectors(
+    lines: int, zero_lines: tuple[int, ...], exhaustive_limit: int, samples: int, seed: int
+) -> tuple[np.ndarray, bool, int]:
+    """The start states: ``zero_lines`` all 0, the free lines every state (up to
+    ``exhaustive_limit`` of them) or a seeded random sample; also whether that is every
+    honoured state, and how many states there are."""
+    free = [line for line in range(lines) if line not in set(zero_lines)]
+    exhaustive = len(free) <= exhaustive_limit
+    part = exhaustive_vectors(len(free)) if exhaustive else random_vectors(len(free), samples, seed)
+    if not zero_lines:
+        init = part
+    else:
+        init = np.zeros((lines, part.shape[1]), dtype=np.uint64)
+        init[free] = part
+    count = 1 << len(free) if exhaustive else part.shape[1] * 64
+    return init, exhaustive, count
+
+
+def _valid(diff: np.ndarray, exhaustive: bool, free: int) -> np.ndarray:
+    """``diff`` with the padding bits of a one-word exhaustive state (fewer than 6 free lines) cleared."""
+    if exhaustive and free < 6:
+        diff &= np.uint64((1 << (1 << free)) - 1)
+    return diff
+
+
+def _state_at(init: np.ndarray, word: int, bit: int) -> int:
+    return sum(((int(init[line, word]) >> bit) & 1) << line for line in range(init.shape[0]))
 
 
 Compiled = tuple[int, tuple[int, ...], tuple[int, ...], tuple[int, ...]]  # kind, targets, positive, negative
@@ -137,14 +180,16 @@ def check_equivalent(
     samples: int = RANDOM_INPUTS,
     seed: int = 0,
     progress: CheckProgress | None = None,
+    zero_lines: tuple[int, ...] = (),
 ) -> EquivalenceCheck:
-    """Compare ``a`` and ``b`` (same line count) by simulation; see the module docstring."""
+    """Compare ``a`` and ``b`` (same line count) by simulation on the inputs with ``zero_lines``
+    0 (every input when there are none); see the module docstring."""
     if a.lines != b.lines:
         raise ExactsynError(f"cannot compare circuits on {a.lines} and {b.lines} lines")
     start = time.perf_counter()
     n = a.lines
-    exhaustive = n <= exhaustive_limit
-    init = exhaustive_vectors(n) if exhaustive else random_vectors(n, samples, seed)
+    zero_lines = tuple(sorted(set(zero_lines)))
+    init, exhaustive, inputs = honoured_vectors(n, zero_lines, exhaustive_limit, samples, seed)
     program = compile_gates(a.gates) + compile_gates(b.inverse().gates)
     words = init.shape[1]
     chunks = list(range(0, words, CHUNK_WORDS))
@@ -154,8 +199,7 @@ def check_equivalent(
         part = init[:, lo : lo + CHUNK_WORDS].copy()
         simulate(part, program)
         diff = np.bitwise_or.reduce(part ^ init[:, lo : lo + CHUNK_WORDS], axis=0)
-        if exhaustive and n < 6:
-            diff &= np.uint64((1 << (1 << n)) - 1)
+        diff = _valid(diff, exhaustive, n - len(zero_lines))
         nz = np.nonzero(diff)[0]
         if len(nz):
             bad_word, diff_word = lo + int(nz[0]), diff[nz[0]]
@@ -165,11 +209,7 @@ def check_equivalent(
     counter = None
     if bad_word >= 0:
         bit = (int(diff_word) & -int(diff_word)).bit_length() - 1
-        sample = 64 * bad_word + bit
-        counter = sum(((int(init[line, bad_word]) >> bit) & 1) << line for line in range(n))
-        if exhaustive:
-            assert counter == sample % (1 << n)
-    inputs = 1 << n if exhaustive else words * 64
+        counter = _state_at(init, bad_word, bit)
     return EquivalenceCheck(
         "exhaustive" if exhaustive else "random",
         inputs,
@@ -177,4 +217,33 @@ def check_equivalent(
         bad_word < 0,
         counter,
         time.perf_counter() - start,
+        zero_lines,
     )
+
+
+def dirty_zero_line(
+    circuit: Circuit,
+    zero_lines: tuple[int, ...],
+    *,
+    exhaustive_limit: int = EXHAUSTIVE_LINES,
+    samples: int = RANDOM_INPUTS,
+    seed: int = 0,
+) -> tuple[int, int] | None:
+    """A zero line that ``circuit`` leaves at 1 on an honoured input, and that input (the least
+    line, then the first input found); None when it returns every zero line to 0."""
+    zero_lines = tuple(sorted(set(zero_lines)))
+    if not zero_lines:
+        return None
+    init, exhaustive, _ = honoured_vectors(circuit.lines, zero_lines, exhaustive_limit, samples, seed)
+    program = compile_gates(circuit.gates)
+    free = circuit.lines - len(zero_lines)
+    for lo in range(0, init.shape[1], CHUNK_WORDS):
+        part = init[:, lo : lo + CHUNK_WORDS].copy()
+        simulate(part, program)
+        for line in zero_lines:
+            ones = np.nonzero(_valid(part[line].copy(), exhaustive, free))[0]
+            if len(ones):
+                word = int(part[line, ones[0]])
+                bit = (word & -word).bit_length() - 1
+                return line, _state_at(init, lo + int(ones[0]), bit)
+    return None

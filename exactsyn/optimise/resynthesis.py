@@ -4,9 +4,10 @@ The optimiser asks one question of a window: *what is an optimal circuit for thi
 ``w``-line permutation under this library and objective?*  The answer is an
 :class:`Optimum` or None (the question is outside what the answerer can prove).  Anything
 with that method (:class:`WindowResynthesis`) plugs in; larger tables (4 lines) or a SAT
-search fit the same interface, and so does a later "don't care" variant, through a new
-field of :class:`WindowProblem` (the states a window can be in, when some of its lines are
-known constants).
+search fit the same interface, and so does the "don't care" variant: a window some of
+whose lines are known to be 0 where it starts names the input states it can be in
+(:attr:`WindowProblem.honoured`); the other inputs are don't-cares
+(:mod:`exactsyn.optimise.partial_windows` answers those).
 
 :class:`TableResynthesis` answers for windows of up to 3 lines from exhaustive tables:
 
@@ -43,12 +44,22 @@ class WindowProblem:
     """A window's function on its local lines ``0..lines-1`` and the coupling its lines induce.
 
     ``below``: only an optimum of fewer gates is of use (None: any); an answerer may then
-    stop early and return None.  Answerers that find every optimum directly ignore it."""
+    stop early and return None.  Answerers that find every optimum directly ignore it.
+    ``honoured``: the local input states the window can be in (increasing), when it is a
+    partial function; the others are don't-cares.  None: every state (a permutation).
+    Answerers that do not read it give an optimum of the whole ``perm``, which is still a
+    correct replacement (it agrees on every state), only perhaps not the smallest."""
 
     perm: tuple[int, ...]
     lines: int
     coupling: tuple[Edge, ...] = ()
     below: int | None = None
+    honoured: tuple[int, ...] | None = None
+
+
+def honoured_states(lines: int, zero: int) -> tuple[int, ...]:
+    """The local states of ``lines`` lines whose bits in the mask ``zero`` are all 0."""
+    return tuple(s for s in range(1 << lines) if not s & zero)
 
 
 @dataclass(frozen=True)

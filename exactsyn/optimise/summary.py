@@ -23,6 +23,7 @@ def result_to_dict(result: OptimiseResult, **extra: Any) -> dict[str, Any]:
         "objective": result.objective,
         "cost_model": result.cost_model,
         "window": result.window,
+        "zero_lines": list(result.zero_lines),
         "before": result.before.to_dict(),
         "after": result.after.to_dict(),
         "windows_replaced": [
@@ -44,7 +45,12 @@ def qasm_header(result: OptimiseResult) -> list[str]:
         f"{count(result.output.gate_count, 'gate')} (input: {result.input.gate_count}), NOT proven optimal "
         f"(no lower bound: every window of up to {result.window} lines is optimal)",
         f"library: {result.library}",
-    ]
+    ] + ([_scope(result)] if result.zero_lines else [])
+
+
+def _scope(result: OptimiseResult) -> str:
+    lines = ", ".join(map(str, result.zero_lines))
+    return f"equal to the input on the inputs with lines {lines} = 0 (clean ancillas: returned to 0)"
 
 
 def _change(before: int, after: int) -> str:
@@ -73,5 +79,7 @@ def summary_text(result: OptimiseResult) -> str:
         out.append("windows replaced: " + ", ".join(parts) + f"; {result.windows_tried} windows tried")
     else:
         out.append(f"windows replaced: none ({result.windows_tried} windows tried; every window was already optimal)")
+    if result.zero_lines:
+        out.append("ancilla context: " + _scope(result))
     out.append("equivalence: " + result.check.describe())
     return "\n".join(out) + "\n"
