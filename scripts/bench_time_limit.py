@@ -8,6 +8,7 @@ proven, and the proven lower bound.
     python scripts/bench_time_limit.py                       # 4-line nct/mct/mixed, 5 and 6 lines
     python scripts/bench_time_limit.py --set random --limits 10 --seeds 1,2,3   # 3, 5, 6 lines
     python scripts/bench_time_limit.py --limits 5,20 --set four --seeds 1,2,3
+    python scripts/bench_time_limit.py --set four --limits 20 --objective cost --cost ncv   # objectives too
 """
 
 from __future__ import annotations
@@ -62,9 +63,9 @@ PEAK = (
 )
 
 
-def run(perm: list[int], library: str, limit: float) -> dict[str, object]:
+def run(perm: list[int], library: str, limit: float, extra: list[str]) -> dict[str, object]:
     cmd = [sys.executable, "-c", PEAK, "synth", "--perm", ",".join(map(str, perm)), "--library", library,
-           "--time-limit", str(limit), "--format", "json", "-q"]
+           "--time-limit", str(limit), "--format", "json", "-q", *extra]
     t0 = time.perf_counter()
     r = subprocess.run(cmd, capture_output=True, text=True)
     wall = time.perf_counter() - t0
@@ -79,14 +80,17 @@ def main() -> None:
     ap.add_argument("--limits", default="5,20")
     ap.add_argument("--set", default="all", choices=["all", "four", "random", "wide"])
     ap.add_argument("--seeds", default="1,2")
+    ap.add_argument("--objective", default="gates", help="passed to synth --objective")
+    ap.add_argument("--cost", default="ncv", help="passed to synth --cost with an objective other than gates")
     args = ap.parse_args()
+    extra = [] if args.objective == "gates" else ["--objective", args.objective, "--cost", args.cost]
     limits = [float(x) for x in args.limits.split(",")]
     seeds = [int(x) for x in args.seeds.split(",")]
     print(f"{'instance':<16} {'lib':<6} {'limit':>6} {'wall':>7} {'allowed':>8} {'over':>6}  {'peak MiB':>8}  result")
     worst = 0.0
     for name, lib, perm in cases(args.set, seeds):
         for limit in limits:
-            res = run(perm, lib, limit)
+            res = run(perm, lib, limit, extra)
             allowed = 1.1 * limit + 1.0
             over = float(res["wall"]) - allowed  # type: ignore[arg-type]
             worst = max(worst, float(res["wall"]) / limit)  # type: ignore[arg-type]

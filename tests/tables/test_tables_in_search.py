@@ -150,14 +150,17 @@ def test_table_certificate_is_rechecked_and_tampering_rejected(cached: Path, tmp
     longer = tmp_path / "longer"
     shutil.copytree(cert, longer)
     new = json.loads((longer / "result.json").read_text())
-    x0 = {"family": "x", "targets": [0], "controls": [], "negative_controls": []}
+    x0 = {"type": "x", "target": 0, "controls": [], "negative_controls": []}  # the certificate's gate form
     new["circuit"] += [x0, x0]
     new["gate_count"] = 13
     new["class_table"]["value"] = 13
     new["lower_bound"] = 13
     (longer / "result.json").write_text(json.dumps(new))
     rep = check_certificate(longer)
-    assert not rep.ok and any(line.what == "class table" and not line.ok for line in rep.lines)
+    lines = {line.what: line for line in rep.lines}
+    assert lines["circuit"].ok, lines["circuit"]  # a well-formed 13-gate circuit of the function...
+    table = lines["class table"]
+    assert not rep.ok and not table.ok and "fewer than 13 gates" in table.detail, table  # ...refuted by the table
     # a bound claim stronger than the truth
     rep = check_certificate(tampered({"exact": False, "value": 12}, "bound"))
     assert not rep.ok
