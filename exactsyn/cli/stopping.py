@@ -5,9 +5,10 @@ Python turns SIGINT into :class:`KeyboardInterrupt`, and every command cleans up
 job scheduler or ``kill`` sends — is made to take the same path: its handler only notes
 that it came, and a watcher thread, woken through :func:`signal.set_wakeup_fd` (so also
 while the main thread is inside a SAT solver's C code, where Python runs no handler),
-sends SIGINT to this process.  The solver (python-sat installs its own SIGINT handler
-around every solve) or Python then raises the one :class:`KeyboardInterrupt`; there is
-never a second exception in the middle of a clean-up.  :func:`exit_status` gives 143 for
+sends SIGINT to this process.  Python then raises the one :class:`KeyboardInterrupt` as
+soon as the main thread is back in Python — every solve runs in short conflict-budget
+slices, and python-sat's own SIGINT handler is switched off (:mod:`exactsyn.sat.sigint`
+says why); there is never a second exception in the middle of a clean-up.  :func:`exit_status` gives 143 for
 SIGTERM and 130 for Ctrl-C (128 + the signal number, the shells' convention).
 """
 
