@@ -41,9 +41,10 @@ INTERRUPTED_EXIT = 130
 def serve_pipe(conn: Connection, scratch: str, handle: Callable[[Any], Any]) -> None:
     """The body of a local worker process: answer each job from ``conn`` with ``handle(job)``.
 
-    Ctrl-C is left to the parent, which stops its workers; python-sat still reports it in
-    the middle of a solve, and the worker then exits with :data:`INTERRUPTED_EXIT` without
-    an answer. Every temporary file of the worker goes below ``scratch``, a directory the
+    Ctrl-C is left to the parent, which stops its workers (SIGINT is ignored here, and
+    python-sat's own handler is switched off: :mod:`exactsyn.sat.sigint`); should an
+    interrupt reach the worker anyway, it exits with :data:`INTERRUPTED_EXIT` without an
+    answer. Every temporary file of the worker goes below ``scratch``, a directory the
     parent removes at the end, also after it had to kill the worker. ``None`` or a closed
     pipe ends the loop.
     """

@@ -47,8 +47,9 @@ class Interrupted(KeyboardInterrupt):
 def is_interrupt(error: BaseException) -> bool:
     """Is this the error a SAT solver of python-sat raises when SIGINT reaches it mid-solve?
 
-    python-sat installs its own SIGINT handler around every solve (also where SIGINT is
-    ignored) and turns the signal into an ordinary exception; callers turn it back into
+    python-sat would install its own SIGINT handler around every solve (also where SIGINT
+    is ignored) and turn the signal into an ordinary exception.  :mod:`exactsyn.sat.sigint`
+    switches that handler off; should it ever fire, callers turn its exception back into
     :class:`KeyboardInterrupt` so that an interrupt is never taken for a failed item.
     """
     return type(error).__name__ == "error" and "keyboard interrupt" in str(error).lower()

@@ -51,7 +51,7 @@ def _racer(
     index: int, clauses: list[list[int]], certify: bool, solver: str, limit: float | None, out: mp.Queue
 ) -> None:  # type: ignore[type-arg]
     # A forked racer inherits the parent's signal set-up: the parent stops it (SIGTERM, the
-    # default action) and alone answers Ctrl-C, which python-sat still reports mid-solve.
+    # default action) and alone answers Ctrl-C (python-sat's handler is off: exactsyn.sat.sigint).
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.set_wakeup_fd(-1)
