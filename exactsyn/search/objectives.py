@@ -132,6 +132,18 @@ def _depth_floor(gate_result: GateResult, search: SearchOptions, time_limit: flo
     return floor if layered is None else max(floor, layered)
 
 
+def _encode_cost(
+    gate_result: GateResult, k: int, options: EncodingOptions, limit: CostLimit, start: float, time_limit: float | None
+) -> Encoding | None:
+    """The cost CNF, or None when building it outlasted ``time_limit`` seconds from ``start``
+    (its window rule can run to millions of clauses: a 4-line function at k = 10 took 19 s)."""
+    deadline = None if time_limit is None else start + time_limit
+    try:
+        return encode(gate_result.spec, gate_result.library, k, options, cost_limit=limit, deadline=deadline)
+    except EncodingOutOfTime:
+        return None
+
+
 def optimise(
     objective: str,
     gate_result: GateResult,
@@ -154,8 +166,7 @@ def optimise(
         raise ExactsynError("the minimum gate count was not proven, so the objective cannot be optimised")
     spec, library = gate_result.spec, gate_result.library
     start = time.perf_counter()
-    costs = None
-    extra = 0
+    costs, extra = None, 0
     if objective != "depth":
         if model is None:
             raise ExactsynError(f"objective {objective} needs a cost model")
@@ -164,8 +175,6 @@ def optimise(
     value = objective_value(best, library, costs)
     queries: list[Query] = []
     k_star = len(best)
-
-    deadline = None if time_limit is None else start + time_limit
 
     def left() -> float | None:
         return None if time_limit is None else max(0.0, time_limit - (time.perf_counter() - start))
@@ -224,9 +233,8 @@ def optimise(
         top = k_star if fixed_k else (limit - extra) // c_min
         if k > top:
             return done(True, value)
-        try:  # the window rule of a cost CNF can run to millions of clauses: it keeps the limit too
-            enc = encode(spec, library, k, cost_encoding, cost_limit=CostLimit(costs, limit, order), deadline=deadline)
-        except EncodingOutOfTime:
+        enc = _encode_cost(gate_result, k, cost_encoding, CostLimit(costs, limit, order), start, time_limit)
+        if enc is None:
             return done(False, k_star * c_min)
         q, circ = ask(enc, "cost", k, limit)
         if q.status == Status.UNKNOWN:
