@@ -8,6 +8,14 @@ collapse it) and cannot grow by one more matching operation at its front.  Block
 split into parts over disjoint qubit sets (``split_blocks``), which the optimiser would
 treat independently anyway.
 
+The collector is greedy: a qubit with nothing to do in one round runs ahead, and its
+next reversible gates may be taken into an earlier block than the gates they meet (``x``
+on q1 taken with the block before a layer of Hadamards that q1 skips, the ``cx(q1, q0)``
+after that layer in another).  So blocks that follow each other on a qubit wire are
+merged when their union is still convex: no operation outside the union is both reached
+from it and reaches it (followed along every wire, classical ones included).  Every
+merge makes one block of two, so the merging ends; each result is convex by that check.
+
 A block becomes an exactsyn :class:`~exactsyn.core.circuit.Circuit` on its qubits, numbered
 in the circuit's qubit order, with the sum of its operations' global phases
 (:mod:`exactsyn.transpiler.convert`).
@@ -59,12 +67,58 @@ def _reader(dag: DAGCircuit) -> tuple[dict[int, Reversible], Any]:
     return memo, matches
 
 
+def _reach(dag: DAGCircuit, nodes: list[DAGOpNode], forward: bool) -> set[int]:
+    """Ids of the operations reached from ``nodes`` (after them, or before them)."""
+    step = dag.op_successors if forward else dag.op_predecessors
+    seen: set[int] = set()
+    stack = list(nodes)
+    while stack:
+        for m in step(stack.pop()):
+            if m._node_id not in seen:
+                seen.add(m._node_id)
+                stack.append(m)
+    return seen
+
+
+def convex(dag: DAGCircuit, nodes: list[DAGOpNode]) -> bool:
+    """No operation outside ``nodes`` lies on a path between two of them."""
+    ids = {n._node_id for n in nodes}
+    return not (_reach(dag, nodes, True) - ids) & (_reach(dag, nodes, False) - ids)
+
+
+def _merged(dag: DAGCircuit, blocks: list[list[DAGOpNode]]) -> list[list[DAGOpNode]]:
+    """Blocks adjacent on a qubit wire merged while the union stays convex (module docstring)."""
+    groups: list[list[DAGOpNode] | None] = [list(b) for b in blocks]
+    owner = {n._node_id: i for i, b in enumerate(blocks) for n in b}
+    tried: set[tuple[int, int, int, int]] = set()
+    changed = True
+    while changed:
+        changed = False
+        for i, group in enumerate(groups):
+            if group is None:
+                continue
+            after = {owner.get(m._node_id, i) for n in group for m in dag.quantum_successors(n)} - {i}
+            for j in sorted(after):
+                other = groups[j]
+                key = (i, j, len(group), len(other or ()))
+                if other is None or key in tried:
+                    continue
+                tried.add(key)
+                if convex(dag, group + other):
+                    group += other
+                    owner.update((n._node_id, i) for n in other)
+                    groups[j] = None
+                    changed = True
+    return [g for g in groups if g is not None]
+
+
 def reversible_blocks(dag: DAGCircuit) -> list[Block]:
     """The maximal blocks of reversible operations of ``dag`` (module docstring)."""
     memo, matches = _reader(dag)
     collected = BlockCollector(dag).collect_all_matching_blocks(
         matches, split_blocks=True, min_block_size=1, split_layers=False
     )
+    collected = _merged(dag, collected)
     order = {node._node_id: i for i, node in enumerate(dag.topological_op_nodes())}
     blocks: list[Block] = []
     for nodes in collected:

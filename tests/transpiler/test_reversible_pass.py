@@ -28,6 +28,7 @@ from qiskit.transpiler import PassManager  # noqa: E402
 from qiskit.transpiler.exceptions import TranspilerError  # noqa: E402
 
 from exactsyn.transpiler import PROPERTY_KEY, PassFigures, ReversibleBlockOptimiser  # noqa: E402
+from exactsyn.transpiler.blocks import convex, reversible_blocks  # noqa: E402
 
 
 def is_reversible(op: object) -> bool:
@@ -253,3 +254,34 @@ def test_missing_qiskit_names_the_extra() -> None:
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
     assert done.returncode == 0, done.stderr
     assert 'pip install "exactsyn[qiskit]"' in done.stdout
+
+
+def test_a_qubit_running_ahead_does_not_cut_a_block() -> None:
+    """q1 skips a layer of Hadamards on q0 and q2: qiskit's greedy collector takes its first
+    X into the earlier block; the merge puts x, cx, x back together (then two gates)."""
+    qc = QuantumCircuit(3)
+    qc.cx(0, 2)
+    qc.h(0)
+    qc.h(2)
+    qc.x(1)
+    qc.cx(1, 0)
+    qc.x(1)  # q0 ^= not q1
+    blocks = reversible_blocks(circuit_to_dag(qc))
+    assert sorted(b.circuit.gate_count for b in blocks) == [1, 3]
+    out, figures = run_pass(qc)
+    assert Operator(out) == Operator(qc)
+    assert figures.improved == 1 and reversible_count(out) == 3
+
+
+def test_blocks_joined_only_through_a_gate_outside_stay_apart() -> None:
+    """cx(0,1) and cx(1,0) meet on wire 0, but the H on q1 lies on a path between them."""
+    qc = QuantumCircuit(2)
+    qc.cx(0, 1)
+    qc.h(1)
+    qc.cx(1, 0)
+    dag = circuit_to_dag(qc)
+    blocks = reversible_blocks(dag)
+    assert len(blocks) == 2
+    assert not convex(dag, [n for b in blocks for n in b.nodes])
+    out, _ = run_pass(qc)
+    assert Operator(out) == Operator(qc)
