@@ -1,0 +1,217 @@
+"""Benchmark of the qiskit pass (exactsyn.transpiler) against qiskit's level-3 transpiler.
+
+Circuits, each lowered with ``transpile(..., optimization_level=0)`` to a target whose only
+operations are ``x``, ``cx``, ``ccx`` and ``mcx`` (any number of controls, no coupling):
+
+* qiskit's arithmetic: the ripple-carry adders ``CDKMRippleCarryAdder`` and
+  ``VBERippleCarryAdder`` (kind ``full``) of 2, 4, 8 and 16 bits, and every other arithmetic
+  circuit of ``qiskit.circuit.library`` tried below; one that does not lower to those gates
+  (QFT-based adders and multipliers use Hadamards and phase rotations) is reported as
+  skipped with qiskit's reason;
+* exactsyn's own transformation-based synthesis (``exactsyn.search.heuristic``) of seeded
+  random permutations of 5 and 6 lines.
+
+Why this target: it is the gate set both sides may use.  qiskit's level 3 keeps every
+multiple-control gate as one ``mcx`` (it is in the target), so neither side is charged a
+decomposition the other avoids, and the pass's output stays in the same gates.  Gate count,
+T-count and CNOT count (exactsyn's Clifford+T reading of each gate,
+:mod:`exactsyn.optimise.metrics`) and depth (layers of gates on disjoint qubits) are measured
+on the same exactsyn reading of each qiskit circuit.  Columns: before (lowered), after
+qiskit level 3, after the pass alone, after level 3 then the pass, and the seconds of
+level 3, of the pass and of both.  The pass's window is the optimiser's default (4 lines
+when the 4-line class tables are in the cache, else 3); the first line says which.
+
+Usage::
+
+    python scripts/bench_qiskit_pass.py            # everything, and a 10,000-gate circuit (window 3)
+    python scripts/bench_qiskit_pass.py --quick    # 2- and 4-bit adders, two random functions, 1,000 gates
+
+The random circuits at the end (16 lines, gates with up to 3 controls, so the mct library)
+go through the pass with 3-line windows and, 1,000 gates of them, with the default window.
+"""
+
+from __future__ import annotations
+
+import argparse
+import random
+import time
+import warnings
+from collections.abc import Callable, Iterator
+from typing import Any
+
+BASIS = ("x", "cx", "ccx", "mcx")
+
+
+def target(qubits: int) -> Any:
+    from qiskit.circuit.library import CCXGate, CXGate, MCXGate, XGate
+    from qiskit.transpiler import Target
+
+    t = Target(num_qubits=qubits)
+    for gate in (XGate(), CXGate(), CCXGate()):
+        t.add_instruction(gate)
+    t.add_instruction(MCXGate, name="mcx")  # variadic: any number of controls
+    return t
+
+
+def as_circuit(op: Any) -> Any:
+    from qiskit import QuantumCircuit
+
+    if isinstance(op, QuantumCircuit):
+        return op
+    qc = QuantumCircuit(op.num_qubits)
+    qc.append(op, range(op.num_qubits))
+    return qc
+
+
+def arithmetic(bits: list[int], quick: bool) -> Iterator[tuple[str, Callable[[], Any]]]:
+    import qiskit.circuit.library as lib
+
+    for b in bits:
+        yield f"CDKM full {b}", lambda b=b: lib.CDKMRippleCarryAdder(b, kind="full")
+        yield f"VBE full {b}", lambda b=b: lib.VBERippleCarryAdder(b, kind="full")
+    if quick:
+        return
+    for b in (2, 4):
+        yield f"FullAdderGate {b}", lambda b=b: lib.FullAdderGate(b)
+        yield f"ModularAdderGate {b}", lambda b=b: lib.ModularAdderGate(b)
+        yield f"IntegerComparator {b} >= 3", lambda b=b: lib.IntegerComparatorGate(b, 3)
+        yield f"WeightedSum {b}x1", lambda b=b: lib.WeightedSumGate(b, [1] * b)
+        yield (
+            f"HRS multiplier {b} (CDKM adders)",
+            lambda b=b: lib.HRSCumulativeMultiplier(b, adder=lib.CDKMRippleCarryAdder(b, kind="half")),
+        )
+        yield f"MultiplierGate {b}", lambda b=b: lib.MultiplierGate(b)
+    yield "DraperQFTAdder 2", lambda: lib.DraperQFTAdder(2)
+    yield "RGQFTMultiplier 2", lambda: lib.RGQFTMultiplier(2)
+
+
+def heuristic(quick: bool) -> Iterator[tuple[str, Callable[[], Any]]]:
+    from exactsyn.search.heuristic import transformation_based
+
+    for lines in (5, 6):
+        for seed in (1,) if quick else (1, 2, 3):
+            perm = list(range(1 << lines))
+            random.Random(seed).shuffle(perm)
+            yield f"TBS random {lines} lines s{seed}", lambda p=perm, n=lines: to_qiskit(transformation_based(p, n))
+
+
+def to_qiskit(circuit: Any) -> Any:
+    from qiskit import QuantumCircuit
+
+    from exactsyn.transpiler.convert import to_qiskit as gate
+
+    qc = QuantumCircuit(circuit.lines)
+    for g in circuit.gates:
+        op, args = gate(g)
+        qc.append(op, list(args))
+    return qc
+
+
+def figures(qc: Any) -> tuple[int, int, int, int]:
+    """Gates, T-count, CNOT count and depth of a circuit of reversible gates (exactsyn's reading)."""
+    from exactsyn.core.circuit import Circuit
+    from exactsyn.optimise import measure
+    from exactsyn.transpiler.convert import placed, reversible
+
+    gates = []
+    for item in qc.data:
+        found = reversible(item.operation)
+        if found is None:
+            raise SystemExit(f"internal error: {item.operation.name} is not reversible")
+        gates += [placed(g, [qc.find_bit(q).index for q in item.qubits]) for g in found.gates]
+    m = measure(Circuit(qc.num_qubits, tuple(gates)))
+    return m.gates, m.t_count, m.cnot_count, m.depth
+
+
+def run_pass(qc: Any, window: int | None = None) -> tuple[Any, float]:
+    from qiskit.transpiler import PassManager
+
+    from exactsyn.transpiler import ReversibleBlockOptimiser
+
+    start = time.perf_counter()
+    out = PassManager([ReversibleBlockOptimiser(window=window)]).run(qc)
+    return out, time.perf_counter() - start
+
+
+def row(name: str, make: Callable[[], Any]) -> list[str] | None:
+    import qiskit
+    from qiskit.quantum_info import Operator
+
+    circuit = as_circuit(make())
+    t = target(circuit.num_qubits)
+    try:
+        lowered = qiskit.transpile(circuit, target=t, optimization_level=0)
+    except qiskit.transpiler.exceptions.TranspilerError as exc:
+        print(f"{name:<34} skipped: does not lower to {', '.join(BASIS)} ({str(exc).splitlines()[0][:90]})")
+        return None
+    start = time.perf_counter()
+    theirs = qiskit.transpile(circuit, target=t, optimization_level=3, seed_transpiler=1)
+    t3 = time.perf_counter() - start
+    ours, tp = run_pass(lowered)
+    both, tb = run_pass(theirs)
+    if circuit.num_qubits <= 10:  # qiskit's Operator as the outside check
+        for out in (ours, both):
+            if not Operator(out).equiv(Operator(lowered)):
+                raise SystemExit(f"internal error: {name}: the pass changed the unitary")
+    cells = ["/".join(str(v) for v in figures(c)) for c in (lowered, theirs, ours, both)]
+    return [name, str(circuit.num_qubits), *cells, f"{t3:.2f}", f"{tp:.2f}", f"{t3 + tb:.2f}"]
+
+
+HEAD = ["circuit", "qubits", "before", "qiskit L3", "pass", "L3+pass", "s L3", "s pass", "s L3+pass"]
+WIDTHS = [34, 6, 16, 16, 16, 16, 7, 7, 9]
+
+
+def show(cells: list[str]) -> None:
+    print(" ".join(f"{c:<{w}}" if i == 0 else f"{c:>{w}}" for i, (c, w) in enumerate(zip(cells, WIDTHS, strict=True))))
+
+
+def big(gates: int, window: int | None, lines: int = 16, seed: int = 7) -> None:
+    """A seeded random circuit of x/cx/ccx/mcx gates (up to 3 controls) through the pass."""
+    from qiskit import QuantumCircuit
+    from qiskit.circuit.library import XGate
+
+    rng = random.Random(seed)
+    qc = QuantumCircuit(lines)
+    for _ in range(gates):
+        k = rng.choice((0, 1, 1, 2, 2, 3))
+        where = rng.sample(range(lines), k + 1)
+        qc.append(XGate().control(k) if k else XGate(), where)
+    before = figures(qc)
+    out, seconds = run_pass(qc, window)
+    after = figures(out)
+    label = "default" if window is None else str(window)
+    print(f"# random circuit, {lines} lines, {gates} gates (seed {seed}), window {label}: {seconds:.1f} s")
+    print(f"#   gates/T-count/CNOT count/depth {'/'.join(map(str, before))} -> {'/'.join(map(str, after))}")
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="a small subset (2- and 4-bit adders, 1,000-gate circuit)")
+    args = ap.parse_args()
+    warnings.simplefilter("ignore")  # qiskit deprecation notices of the library circuits
+    import qiskit
+
+    from exactsyn.optimise.allowed_gates import gate_set
+    from exactsyn.optimise.class_windows import class_table_lines
+
+    window = 4 if class_table_lines(gate_set("nct", 8)) == 4 else 3
+    print(f"# qiskit {qiskit.__version__}; target x, cx, ccx, mcx (no coupling); pass window {window} (NCT blocks)")
+    print("# cells: gates/T-count/CNOT count/depth; seconds of qiskit level 3, of the pass, of level 3 + pass")
+    show(HEAD)
+    bits = [2, 4] if args.quick else [2, 4, 8, 16]
+    tally = {"fewer": 0, "equal": 0, "more": 0}
+    for name, make in [*arithmetic(bits, args.quick), *heuristic(args.quick)]:
+        cells = row(name, make)
+        if cells is None:
+            continue
+        show(cells)
+        best = min(int(cells[4].split("/")[0]), int(cells[5].split("/")[0]))
+        theirs = int(cells[3].split("/")[0])
+        tally["fewer" if best < theirs else "equal" if best == theirs else "more"] += 1
+    print(f"# best of (pass, L3+pass) against qiskit L3, gates: {tally}")
+    big(1000 if args.quick else 10000, 3)
+    big(1000, None)  # 4-line windows of the mct class table, when cached
+
+
+if __name__ == "__main__":
+    main()
