@@ -67,26 +67,34 @@ def _reader(dag: DAGCircuit) -> tuple[dict[int, Reversible], Any]:
     return memo, matches
 
 
-def _reach(dag: DAGCircuit, nodes: list[DAGOpNode], forward: bool) -> set[int]:
-    """Ids of the operations reached from ``nodes`` (after them, or before them)."""
+def _reach(dag: DAGCircuit, nodes: list[DAGOpNode], forward: bool, order: dict[int, int], stop: int) -> set[int]:
+    """Ids of the operations reached from ``nodes`` (after them, or before them), not going past
+    topological position ``stop``: a path between two nodes of a set never leaves its span."""
     step = dag.op_successors if forward else dag.op_predecessors
     seen: set[int] = set()
     stack = list(nodes)
     while stack:
         for m in step(stack.pop()):
-            if m._node_id not in seen:
-                seen.add(m._node_id)
+            key = m._node_id
+            if key not in seen and (order[key] <= stop if forward else order[key] >= stop):
+                seen.add(key)
                 stack.append(m)
     return seen
 
 
-def convex(dag: DAGCircuit, nodes: list[DAGOpNode]) -> bool:
-    """No operation outside ``nodes`` lies on a path between two of them."""
+def convex(dag: DAGCircuit, nodes: list[DAGOpNode], order: dict[int, int] | None = None) -> bool:
+    """No operation outside ``nodes`` lies on a path between two of them.  ``order``: the
+    position of every operation in one topological order (computed when not given)."""
+    if order is None:
+        order = {n._node_id: i for i, n in enumerate(dag.topological_op_nodes())}
     ids = {n._node_id for n in nodes}
-    return not (_reach(dag, nodes, True) - ids) & (_reach(dag, nodes, False) - ids)
+    first, last = min(order[i] for i in ids), max(order[i] for i in ids)
+    after = _reach(dag, nodes, True, order, last) - ids
+    before = _reach(dag, nodes, False, order, first) - ids
+    return not after & before
 
 
-def _merged(dag: DAGCircuit, blocks: list[list[DAGOpNode]]) -> list[list[DAGOpNode]]:
+def _merged(dag: DAGCircuit, blocks: list[list[DAGOpNode]], order: dict[int, int]) -> list[list[DAGOpNode]]:
     """Blocks adjacent on a qubit wire merged while the union stays convex (module docstring)."""
     groups: list[list[DAGOpNode] | None] = [list(b) for b in blocks]
     owner = {n._node_id: i for i, b in enumerate(blocks) for n in b}
@@ -104,7 +112,7 @@ def _merged(dag: DAGCircuit, blocks: list[list[DAGOpNode]]) -> list[list[DAGOpNo
                 if other is None or key in tried:
                     continue
                 tried.add(key)
-                if convex(dag, group + other):
+                if convex(dag, group + other, order):
                     group += other
                     owner.update((n._node_id, i) for n in other)
                     groups[j] = None
@@ -118,8 +126,8 @@ def reversible_blocks(dag: DAGCircuit) -> list[Block]:
     collected = BlockCollector(dag).collect_all_matching_blocks(
         matches, split_blocks=True, min_block_size=1, split_layers=False
     )
-    collected = _merged(dag, collected)
     order = {node._node_id: i for i, node in enumerate(dag.topological_op_nodes())}
+    collected = _merged(dag, collected, order)
     blocks: list[Block] = []
     for nodes in collected:
         ordered = tuple(sorted(nodes, key=lambda n: order[n._node_id]))
