@@ -63,36 +63,51 @@ def as_circuit(op: Any) -> Any:
     return qc
 
 
-def arithmetic(bits: list[int], quick: bool) -> Iterator[tuple[str, Callable[[], Any]]]:
+Maker = tuple[str, Callable[[], Any], dict[str, list[str]]]  # name, circuit, qiskit synthesis methods
+
+
+def arithmetic(bits: list[int], quick: bool) -> Iterator[Maker]:
+    """qiskit's arithmetic; the third item picks qiskit's synthesis method of a high-level gate."""
     import qiskit.circuit.library as lib
 
     for b in bits:
-        yield f"CDKM full {b}", lambda b=b: lib.CDKMRippleCarryAdder(b, kind="full")
-        yield f"VBE full {b}", lambda b=b: lib.VBERippleCarryAdder(b, kind="full")
+        yield f"CDKM full {b}", lambda b=b: lib.CDKMRippleCarryAdder(b, kind="full"), {}
+        yield f"VBE full {b}", lambda b=b: lib.VBERippleCarryAdder(b, kind="full"), {}
     if quick:
         return
     for b in (2, 4):
-        yield f"FullAdderGate {b}", lambda b=b: lib.FullAdderGate(b)
-        yield f"ModularAdderGate {b}", lambda b=b: lib.ModularAdderGate(b)
-        yield f"IntegerComparator {b} >= 3", lambda b=b: lib.IntegerComparatorGate(b, 3)
-        yield f"WeightedSum {b}x1", lambda b=b: lib.WeightedSumGate(b, [1] * b)
+        yield f"FullAdderGate {b}", lambda b=b: lib.FullAdderGate(b), {}
+        yield f"HalfAdderGate {b} (ripple_r25)", lambda b=b: lib.HalfAdderGate(b), {"HalfAdder": ["ripple_r25"]}
+        yield (
+            f"ModularAdderGate {b} (ripple_c04)",
+            lambda b=b: lib.ModularAdderGate(b),
+            {"ModularAdder": ["ripple_c04"]},
+        )
+        yield f"IntegerComparator {b} >= 3", lambda b=b: lib.IntegerComparatorGate(b, 3), {}
+        yield f"WeightedAdder {b}x1", lambda b=b: lib.WeightedAdder(b, [1] * b), {}
+        yield f"WeightedSumGate {b}x1", lambda b=b: lib.WeightedSumGate(b, [1] * b), {}
+        yield (
+            f"MultiplierGate {b} (cumulative_h18)",
+            lambda b=b: lib.MultiplierGate(b),
+            {"Multiplier": ["cumulative_h18"]},
+        )
         yield (
             f"HRS multiplier {b} (CDKM adders)",
             lambda b=b: lib.HRSCumulativeMultiplier(b, adder=lib.CDKMRippleCarryAdder(b, kind="half")),
+            {},
         )
-        yield f"MultiplierGate {b}", lambda b=b: lib.MultiplierGate(b)
-    yield "DraperQFTAdder 2", lambda: lib.DraperQFTAdder(2)
-    yield "RGQFTMultiplier 2", lambda: lib.RGQFTMultiplier(2)
+    yield "DraperQFTAdder 2", lambda: lib.DraperQFTAdder(2), {}
+    yield "RGQFTMultiplier 2", lambda: lib.RGQFTMultiplier(2), {}
 
 
-def heuristic(quick: bool) -> Iterator[tuple[str, Callable[[], Any]]]:
+def heuristic(quick: bool) -> Iterator[Maker]:
     from exactsyn.search.heuristic import transformation_based
 
     for lines in (5, 6):
         for seed in (1,) if quick else (1, 2, 3):
             perm = list(range(1 << lines))
             random.Random(seed).shuffle(perm)
-            yield f"TBS random {lines} lines s{seed}", lambda p=perm, n=lines: to_qiskit(transformation_based(p, n))
+            yield f"TBS random {lines} lines s{seed}", lambda p=perm, n=lines: to_qiskit(transformation_based(p, n)), {}
 
 
 def to_qiskit(circuit: Any) -> Any:
@@ -133,19 +148,21 @@ def run_pass(qc: Any, window: int | None = None) -> tuple[Any, float]:
     return out, time.perf_counter() - start
 
 
-def row(name: str, make: Callable[[], Any]) -> list[str] | None:
+def row(name: str, make: Callable[[], Any], methods: dict[str, list[str]]) -> list[str] | None:
     import qiskit
     from qiskit.quantum_info import Operator
+    from qiskit.transpiler.passes import HLSConfig
 
     circuit = as_circuit(make())
     t = target(circuit.num_qubits)
+    hls = HLSConfig(**methods)
     try:
-        lowered = qiskit.transpile(circuit, target=t, optimization_level=0)
+        lowered = qiskit.transpile(circuit, target=t, optimization_level=0, hls_config=hls)
     except qiskit.transpiler.exceptions.TranspilerError as exc:
         print(f"{name:<34} skipped: does not lower to {', '.join(BASIS)} ({str(exc).splitlines()[0][:90]})")
         return None
     start = time.perf_counter()
-    theirs = qiskit.transpile(circuit, target=t, optimization_level=3, seed_transpiler=1)
+    theirs = qiskit.transpile(circuit, target=t, optimization_level=3, seed_transpiler=1, hls_config=hls)
     t3 = time.perf_counter() - start
     ours, tp = run_pass(lowered)
     both, tb = run_pass(theirs)
@@ -200,8 +217,8 @@ def main() -> None:
     show(HEAD)
     bits = [2, 4] if args.quick else [2, 4, 8, 16]
     tally = {"fewer": 0, "equal": 0, "more": 0}
-    for name, make in [*arithmetic(bits, args.quick), *heuristic(args.quick)]:
-        cells = row(name, make)
+    for name, make, methods in [*arithmetic(bits, args.quick), *heuristic(args.quick)]:
+        cells = row(name, make, methods)
         if cells is None:
             continue
         show(cells)
