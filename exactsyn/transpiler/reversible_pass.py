@@ -21,6 +21,7 @@ recorded in the property set under :data:`PROPERTY_KEY` as a :class:`PassFigures
 from __future__ import annotations
 
 import cmath
+import operator
 import time
 from collections.abc import Iterable
 from dataclasses import dataclass, field, fields
@@ -153,8 +154,12 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
                 cost_model(cost)
         except ExactsynError as exc:
             raise TranspilerError(str(exc)) from None
-        zeros = tuple(zero_qubits)
-        if any(not isinstance(q, int) or isinstance(q, bool) or q < 0 for q in zeros):
+        given = tuple(zero_qubits)
+        try:
+            zeros = tuple(operator.index(q) for q in given if not isinstance(q, bool))
+        except TypeError:
+            zeros = ()
+        if len(zeros) != len(given) or any(q < 0 for q in zeros):
             raise TranspilerError("zero_qubits must be qubit indices (integers 0 or more)")
         if len(set(zeros)) != len(zeros):
             raise TranspilerError("zero_qubits names a qubit twice")

@@ -227,6 +227,8 @@ def test_bad_options_are_refused() -> None:
         {"library": "nope"},
         {"zero_qubits": [-1]},
         {"zero_qubits": [1, 1]},
+        {"zero_qubits": [True]},
+        {"zero_qubits": ["q0"]},
         {"horizon": 0},
     ):
         with pytest.raises(TranspilerError):
@@ -238,7 +240,7 @@ def test_bad_options_are_refused() -> None:
 def test_zero_qubits_are_accepted_but_not_used_yet() -> None:
     qc = hand_circuit()
     plain, _ = run_pass(qc)
-    hooked, _ = run_pass(qc, zero_qubits=[3])
+    hooked, _ = run_pass(qc, zero_qubits=np.array([3]))
     assert hooked == plain  # the hook changes nothing until ancilla context is wired to it
 
 

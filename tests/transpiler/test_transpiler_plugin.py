@@ -85,3 +85,17 @@ def test_basis_without_toffoli_keeps_the_output_in_it() -> None:
         None,
         0,
     )
+
+
+def test_with_a_coupling_map_only_qiskit_runs_and_says_so() -> None:
+    qc = mixed()
+    with pytest.warns(UserWarning, match="coupling map"):
+        ours = qiskit.transpile(
+            qc,
+            basis_gates=["x", "cx", "h", "rz", "t", "tdg", "swap"],
+            coupling_map=[[0, 1], [1, 2], [2, 3]],
+            optimization_level=1,
+            optimization_method=PLUGIN_NAME,
+            seed_transpiler=5,
+        )
+    assert Operator.from_circuit(ours).equiv(Operator(qc))
