@@ -45,7 +45,10 @@ from exactsyn.optimise import (
     measure,
     optimise_circuit,
 )
-from exactsyn.optimise.driver import DEFAULT_HORIZON
+from exactsyn.optimise.allowed_gates import GateSet, gate_set
+from exactsyn.optimise.class_windows import class_table_lines
+from exactsyn.optimise.driver import DEFAULT_HORIZON, window_answerers
+from exactsyn.optimise.resynthesis import WindowResynthesis
 from exactsyn.transpiler.blocks import Block, reversible_blocks
 from exactsyn.transpiler.convert import placed, reversible, to_qiskit
 
@@ -173,6 +176,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
         self.max_controls = max_controls
         self.zero_qubits = tuple(sorted(zeros))
         self.seed = seed
+        self._answerers_cache: dict[tuple[GateSet, str, str, int], WindowResynthesis] = {}
 
     def run(self, dag: DAGCircuit) -> DAGCircuit:
         if self.zero_qubits and self.zero_qubits[-1] >= dag.num_qubits():
@@ -194,17 +198,36 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
         )
         return dag
 
+    def _answerers(self, circuit: Circuit) -> tuple[int, WindowResynthesis]:
+        """The window and the window answerers for a block: the optimiser's defaults, kept
+        for every later block of the same gate set and width (their tables are built once)."""
+        n = circuit.lines
+        gates = gate_set(self.library, n, circuit.gates, self.max_controls)
+        if self.window is None:
+            window = 4 if class_table_lines(gates) == 4 and n >= 4 else 3
+        else:
+            window = self.window
+        window = min(window, n)
+        key = (gates, self.objective, self.cost, window)
+        found = self._answerers_cache.get(key)
+        if found is None:
+            model = cost_model(self.cost) if self.objective == "gates-then-cost" else None
+            found = self._answerers_cache[key] = window_answerers(gates, n, model, window)
+        return window, found
+
     def _optimise(self, block: Block) -> tuple[Circuit, Metrics, Metrics] | None:
         """The block's optimised circuit and both measures, or None when the library refuses it."""
         try:
+            window, answerers = self._answerers(block.circuit)
             result = optimise_circuit(
                 block.circuit,
                 library=self.library,
                 objective=self.objective,
                 cost=self.cost,
                 max_controls=self.max_controls,
-                window=None if self.window is None else min(self.window, block.circuit.lines),
+                window=window,
                 horizon=self.horizon,
+                resynthesis=answerers,
                 seed=self.seed,
             )
         except InternalCheckError:
