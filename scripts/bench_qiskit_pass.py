@@ -29,7 +29,8 @@ Usage::
     python scripts/bench_qiskit_pass.py --quick    # 2- and 4-bit adders, two random functions, 1,000 gates
 
 The random circuits at the end (16 lines, gates with up to 3 controls, so the mct library)
-go through the pass with 3-line windows and, 1,000 gates of them, with the default window.
+go through the pass with 3-line windows and, 1,000 gates of them, with the default window;
+last, a circuit of 10,000 operations (1,000 with ``--quick``) with H and RZ among them.
 """
 
 from __future__ import annotations
@@ -204,6 +205,38 @@ def big(gates: int, window: int | None, lines: int = 16, seed: int = 7) -> None:
     print(f"#   gates/T-count/CNOT count/depth {'/'.join(map(str, before))} -> {'/'.join(map(str, after))}")
 
 
+def big_mixed(operations: int, lines: int = 16, seed: int = 11) -> None:
+    """A seeded random circuit with H (10 %) and RZ (5 %) among x/cx/ccx gates, window 3."""
+    from qiskit import QuantumCircuit
+    from qiskit.circuit.library import XGate
+    from qiskit.transpiler import PassManager
+
+    from exactsyn.transpiler import PROPERTY_KEY, ReversibleBlockOptimiser
+
+    rng = random.Random(seed)
+    qc = QuantumCircuit(lines)
+    for _ in range(operations):
+        r = rng.random()
+        if r < 0.1:
+            qc.h(rng.randrange(lines))
+        elif r < 0.15:
+            qc.rz(0.1, rng.randrange(lines))
+        else:
+            k = rng.choice((0, 1, 1, 2))
+            qc.append(XGate().control(k) if k else XGate(), rng.sample(range(lines), k + 1))
+    pm = PassManager([ReversibleBlockOptimiser(window=3)])
+    start = time.perf_counter()
+    pm.run(qc)
+    seconds = time.perf_counter() - start
+    f = pm.property_set[PROPERTY_KEY]
+    b, a = f.before, f.after
+    print(f"# mixed circuit, {lines} lines, {operations} operations (seed {seed}), window 3: {seconds:.1f} s")
+    print(
+        f"#   {f.blocks} blocks, {f.improved} replaced; reversible gates/T-count/CNOT count/depth (sum over blocks) "
+        f"{b.gates}/{b.t_count}/{b.cnot_count}/{b.depth} -> {a.gates}/{a.t_count}/{a.cnot_count}/{a.depth}"
+    )
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="a small subset (2- and 4-bit adders, 1,000-gate circuit)")
@@ -237,6 +270,7 @@ def main() -> None:
     print(f"# T-count against qiskit L3: {t_tally}")
     big(1000 if args.quick else 10000, 3)
     big(1000, None)  # 4-line windows of the mct class table, when cached
+    big_mixed(1000 if args.quick else 10000)
 
 
 if __name__ == "__main__":
