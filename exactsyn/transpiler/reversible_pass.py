@@ -127,7 +127,8 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
     ``library``, ``objective`` (``gates`` or ``gates-then-cost``), ``cost``, ``window``,
     ``horizon`` and ``max_controls`` are those of :func:`exactsyn.optimise.optimise_circuit`.
     A block whose gates lie outside the library is left as it was (and named in the
-    figures' ``skipped``).
+    figures' ``skipped``).  The window answerers, and the tables they build, are kept by the
+    pass instance and shared by every block of the same gate set and window width.
 
     ``zero_qubits`` (indices of qubits known to be |0⟩ at the start of the circuit) is
     accepted and validated but **not used yet**: every block is optimised as a full
