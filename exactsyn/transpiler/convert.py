@@ -87,17 +87,19 @@ def _peres_free(gates: Sequence[Gate]) -> tuple[Gate, ...]:
     return tuple(out)
 
 
-def _by_matrix(op: Instruction) -> Reversible | None:
+def _by_matrix(op: Instruction) -> Reversible | bool:
+    """One gate and the phase; False when the matrix is no permutation up to one phase (or
+    qiskit has none); True when it is one but no single gate (rule 3 may still read it)."""
     try:
         matrix = Operator(op).data
     except Exception:  # noqa: BLE001 - qiskit raises several kinds when an operation has no matrix
-        return None
+        return True  # no matrix: the definition decides
     perm, _ = as_permutation(np.asarray(matrix))
     if perm is None:
-        return None
+        return False
     gates = gates_of_permutation(perm, op.num_qubits)
     if gates is None:
-        return None
+        return True
     return Reversible(_peres_free(gates), cmath.phase(complex(matrix[perm[0], 0])))
 
 
@@ -140,8 +142,10 @@ def reversible(op: Instruction, depth: int = 0) -> Reversible | None:
         return Reversible(named, 0.0)
     if op.num_qubits <= MAX_UNITARY_QUBITS:
         found = _by_matrix(op)
-        if found is not None:
+        if isinstance(found, Reversible):
             return found
+        if found is False:
+            return None
     return _by_definition(op, depth)
 
 
