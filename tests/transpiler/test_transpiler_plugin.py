@@ -99,3 +99,29 @@ def test_with_a_coupling_map_only_qiskit_runs_and_says_so() -> None:
             seed_transpiler=5,
         )
     assert Operator.from_circuit(ours).equiv(Operator(qc))
+
+
+def test_a_target_with_multiple_control_gates() -> None:
+    """A target of x, cx, ccx and any mcx: the output keeps to it, and the pass may use mcx."""
+    from qiskit.circuit.library import CCXGate, CXGate, MCXGate, XGate
+    from qiskit.transpiler import Target
+
+    target = Target(num_qubits=5)
+    for gate in (XGate(), CXGate(), CCXGate()):
+        target.add_instruction(gate)
+    target.add_instruction(MCXGate, name="mcx")
+    qc = QuantumCircuit(5)
+    qc.ccx(0, 1, 3)
+    qc.cx(0, 1)
+    qc.ccx(0, 1, 3)
+    qc.cx(0, 1)  # q3 ^= q0: one CNOT
+    qc.barrier()
+    qc.mcx([0, 1, 2, 3], 4)
+    qc.mcx([0, 1, 2, 3], 4)  # a self-inverse gate twice: nothing
+    theirs = qiskit.transpile(qc, target=target, optimization_level=3)
+    pm = generate_preset_pass_manager(optimization_level=3, target=target, optimization_method=PLUGIN_NAME)
+    out = pm.run(qc)
+    assert Operator(out) == Operator(qc)
+    assert dict(out.count_ops()) == {"cx": 1, "barrier": 1}
+    assert out.size() < theirs.size()
+    assert pm.property_set[PROPERTY_KEY].improved == 2
