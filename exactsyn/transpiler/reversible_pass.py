@@ -268,7 +268,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
         if not check.equal or not _same_phase(phase, block.phase):
             raise InternalCheckError(
                 f"internal error: the replacement of a block of {block.circuit.gate_count} gates differs from it "
-                f"on input {check.counterexample}; the circuit was left as it was"
+                f"on input {check.counterexample} (or in its global phase); the pass stopped and returned no circuit"
             )
         tally.after = _plus(tally.after, after)
         tally.improved += 1

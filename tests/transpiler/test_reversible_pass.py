@@ -287,3 +287,22 @@ def test_blocks_joined_only_through_a_gate_outside_stay_apart() -> None:
     assert not convex(dag, [n for b in blocks for n in b.nodes])
     out, _ = run_pass(qc)
     assert Operator(out) == Operator(qc)
+
+
+def test_a_wrong_replacement_is_caught_before_it_is_substituted(monkeypatch: pytest.MonkeyPatch) -> None:
+    """The pass's own check: a conversion that writes a CNOT the wrong way round is refused."""
+    import exactsyn.transpiler.reversible_pass as module
+    from exactsyn.optimise import InternalCheckError
+
+    right = module.to_qiskit
+
+    def flipped(g):  # type: ignore[no-untyped-def]
+        op, args = right(g)
+        return op, tuple(reversed(args)) if op.name == "cx" else args
+
+    monkeypatch.setattr(module, "to_qiskit", flipped)
+    qc = hand_circuit()
+    before = qc.copy()
+    with pytest.raises(InternalCheckError, match="differs"):
+        run_pass(qc)
+    assert qc == before
