@@ -29,7 +29,7 @@ LAYERS: tuple[tuple[str, ...], ...] = (
     ("search",),
     ("proof",),
     ("api",),
-    ("batch",),
+    ("batch", "transpiler"),
     ("cli",),
     ("__init__", "__main__"),
 )
