@@ -26,8 +26,8 @@ import time
 from collections.abc import Iterable
 from dataclasses import dataclass, field, fields
 
+from qiskit.circuit import AncillaQubit, QuantumCircuit, Qubit
 from qiskit.circuit import Gate as QiskitGate
-from qiskit.circuit import QuantumCircuit, Qubit
 from qiskit.converters import circuit_to_dag
 from qiskit.dagcircuit import DAGCircuit
 from qiskit.transpiler import TransformationPass
@@ -72,6 +72,7 @@ class PassFigures:
     improved: int  # blocks replaced
     skipped: tuple[str, ...]  # why a block was left as it was (gates outside the library)
     seconds: float
+    in_context: int = 0  # blocks replaced with the ancilla context (zero_qubits) in force
 
     def to_dict(self) -> dict[str, object]:
         return {
@@ -82,6 +83,7 @@ class PassFigures:
             "improved": self.improved,
             "skipped": list(self.skipped),
             "seconds": self.seconds,
+            "in_context": self.in_context,
         }
 
 
@@ -93,6 +95,7 @@ class _Tally:
     optimised: int = 0
     improved: int = 0
     skipped: list[str] = field(default_factory=list)
+    in_context: int = 0
 
 
 def _replacement(output: Circuit, phase: float) -> QuantumCircuit:
@@ -130,10 +133,18 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
     figures' ``skipped``).  The window answerers, and the tables they build, are kept by the
     pass instance and shared by every block of the same gate set and window width.
 
-    ``zero_qubits`` (indices of qubits known to be |0⟩ at the start of the circuit) is
-    accepted and validated but **not used yet**: every block is optimised as a full
-    permutation, as if nothing were known about its inputs.  It is the hook for
-    resynthesis with don't-cares on such lines.
+    ``zero_qubits`` (indices of qubits known to be |0⟩ at the start of the circuit): the
+    ancilla context.  A block that holds the first operation on such a qubit starts with it
+    at |0⟩; the qubits of that kind that the block also returns to |0⟩ (found by simulating
+    the block on every input with them 0, to a fixpoint) are its clean ancillas, passed to
+    :func:`~exactsyn.optimise.optimise_circuit` as ``zero_lines``: the block is then a partial
+    function, resynthesised with don't-cares, and its replacement is checked equal on the
+    inputs with those qubits 0 — the only inputs the block meets in the circuit, so the
+    whole circuit's unitary is unchanged on every state with the ``zero_qubits`` at |0⟩.
+    Blocks on more than :data:`CONTEXT_LINES` qubits are optimised without context.
+    ``ancillas_zero=True`` adds every qubit of an ancilla register (qiskit's
+    ``AncillaQubit``: by the library's convention a clean ancilla).  Both default to none,
+    so by default the circuit's unitary is kept on every input.
     """
 
     def __init__(
@@ -146,6 +157,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
         horizon: int = DEFAULT_HORIZON,
         max_controls: int | None = None,
         zero_qubits: Iterable[int] = (),
+        ancillas_zero: bool = False,
         seed: int = 0,
     ) -> None:
         super().__init__()
@@ -176,6 +188,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
         self.horizon = horizon
         self.max_controls = max_controls
         self.zero_qubits = tuple(sorted(zeros))
+        self.ancillas_zero = ancillas_zero
         self.seed = seed
         self._answerers_cache: dict[tuple[GateSet, str, str, int], WindowResynthesis] = {}
 
@@ -186,8 +199,10 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
             )
         start = time.perf_counter()
         tally = _Tally()
+        ancillas = [i for i, q in enumerate(dag.qubits) if isinstance(q, AncillaQubit)] if self.ancillas_zero else []
+        firsts = _first_operations(dag, tuple(sorted({*self.zero_qubits, *ancillas})))
         for block in reversible_blocks(dag):
-            self._one_block(dag, block, tally)
+            self._one_block(dag, block, tally, _clean_ancillas(block, firsts))
         self.property_set[PROPERTY_KEY] = PassFigures(
             tally.before,
             tally.after,
@@ -196,6 +211,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
             tally.improved,
             tuple(tally.skipped),
             time.perf_counter() - start,
+            tally.in_context,
         )
         return dag
 
@@ -216,7 +232,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
             found = self._answerers_cache[key] = window_answerers(gates, n, model, window)
         return window, found
 
-    def _optimise(self, block: Block) -> tuple[Circuit, Metrics, Metrics] | None:
+    def _optimise(self, block: Block, zero_lines: tuple[int, ...]) -> tuple[Circuit, Metrics, Metrics] | None:
         """The block's optimised circuit and both measures, or None when the library refuses it."""
         try:
             window, answerers = self._answerers(block.circuit)
@@ -230,6 +246,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
                 horizon=self.horizon,
                 resynthesis=answerers,
                 seed=self.seed,
+                zero_lines=zero_lines,
             )
         except InternalCheckError:
             raise
@@ -247,9 +264,9 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
 
         return key(output) < key(block.circuit)
 
-    def _one_block(self, dag: DAGCircuit, block: Block, tally: _Tally) -> None:
+    def _one_block(self, dag: DAGCircuit, block: Block, tally: _Tally, zero_lines: tuple[int, ...]) -> None:
         tally.blocks += 1
-        found = self._optimise(block) if block.circuit.gate_count >= 2 else None
+        found = self._optimise(block, zero_lines) if block.circuit.gate_count >= 2 else None
         if found is None:
             if block.circuit.gate_count >= 2:
                 tally.skipped.append(f"block of {block.circuit.gate_count} gates on {block.circuit.lines} qubits")
@@ -264,7 +281,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
             return
         replacement = _replacement(output, block.phase)
         back, phase = _read_back(replacement)
-        check = check_equivalent(block.circuit, back, seed=self.seed)
+        check = check_equivalent(block.circuit, back, seed=self.seed, zero_lines=zero_lines)
         if not check.equal or not _same_phase(phase, block.phase):
             raise InternalCheckError(
                 f"internal error: the replacement of a block of {block.circuit.gate_count} gates differs from it "
@@ -272,7 +289,40 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
             )
         tally.after = _plus(tally.after, after)
         tally.improved += 1
+        tally.in_context += bool(zero_lines)
         _substitute(dag, block, replacement)
+
+
+#: Largest block (qubits) whose clean ancillas are found by simulating every input.
+CONTEXT_LINES = 20
+
+
+def _first_operations(dag: DAGCircuit, qubits: tuple[int, ...]) -> dict[Qubit, int]:
+    """The node id of the first operation on each of ``qubits`` (by index); a qubit never used has none."""
+    out: dict[Qubit, int] = {}
+    for index in qubits:
+        qubit = dag.qubits[index]
+        first = next(iter(dag.nodes_on_wire(qubit, only_ops=True)), None)
+        if first is not None:
+            out[qubit] = first._node_id
+    return out
+
+
+def _clean_ancillas(block: Block, firsts: dict[Qubit, int]) -> tuple[int, ...]:
+    """The block's lines that start at |0⟩ (it holds their first operation) and that it
+    returns to |0⟩ on every input with them 0 (dropping the others until none is left to drop)."""
+    if block.circuit.lines > CONTEXT_LINES or not firsts:
+        return ()
+    members = {node._node_id for node in block.nodes}
+    zero = {line for line, qubit in enumerate(block.qubits) if firsts.get(qubit, -1) in members}
+    perm = block.circuit.permutation()
+    while zero:
+        mask = sum(1 << line for line in zero)
+        dirty = {line for x, y in enumerate(perm) if not x & mask for line in zero if y >> line & 1}
+        if not dirty:
+            break
+        zero -= dirty
+    return tuple(sorted(zero))
 
 
 def _substitute(dag: DAGCircuit, block: Block, replacement: QuantumCircuit) -> None:

@@ -19,7 +19,7 @@ from optional import need_qiskit
 from exactsyn.core.library import make_library
 
 qiskit = need_qiskit()  # the reference: Operator equality, DAG and pass manager
-from qiskit import ClassicalRegister, QuantumCircuit, QuantumRegister  # noqa: E402
+from qiskit import AncillaRegister, ClassicalRegister, QuantumCircuit, QuantumRegister  # noqa: E402
 from qiskit.circuit import ControlledGate  # noqa: E402
 from qiskit.circuit.library import UnitaryGate, XGate  # noqa: E402
 from qiskit.converters import circuit_to_dag  # noqa: E402
@@ -237,11 +237,61 @@ def test_bad_options_are_refused() -> None:
         run_pass(hand_circuit(), zero_qubits=[4])
 
 
-def test_zero_qubits_are_accepted_but_not_used_yet() -> None:
-    qc = hand_circuit()
-    plain, _ = run_pass(qc)
-    hooked, _ = run_pass(qc, zero_qubits=np.array([3]))
-    assert hooked == plain  # the hook changes nothing until ancilla context is wired to it
+def compute_copy_uncompute(ancilla_register: bool = False) -> QuantumCircuit:
+    """t ^= a AND b through an ancilla: compute it, copy it, uncompute it, with an h around.
+
+    With the ancilla (qubit 3) at |0⟩ this is one Toffoli onto t; on every input it needs two
+    gates (t ^= anc, then t ^= a AND b).  Our own example."""
+    data = QuantumRegister(3, "q")
+    anc = AncillaRegister(1, "anc") if ancilla_register else QuantumRegister(1, "anc")
+    qc = QuantumCircuit(data, anc)
+    qc.h(0)
+    qc.ccx(0, 1, 3)
+    qc.cx(3, 2)
+    qc.ccx(0, 1, 3)
+    qc.h(0)
+    return qc
+
+
+def equal_where_zero(a: QuantumCircuit, b: QuantumCircuit, zero: list[int]) -> bool:
+    """qiskit's unitaries of ``a`` and ``b`` agree on every basis input with the ``zero`` qubits
+    at |0⟩ (qiskit numbers basis states with qubit i as bit i)."""
+    ua, ub = Operator(a).data, Operator(b).data
+    mask = sum(1 << q for q in zero)
+    columns = [x for x in range(ua.shape[1]) if not x & mask]
+    return bool(np.allclose(ua[:, columns], ub[:, columns]))
+
+
+def test_ancilla_context_removes_what_only_the_zero_qubit_allows() -> None:
+    qc = compute_copy_uncompute()
+    plain, figures = run_pass(qc, window=4)  # the block spans 4 qubits
+    # on every input two gates are needed (no one gate maps t to t ^ anc ^ (a AND b))
+    assert Operator(plain).equiv(Operator(qc)) and reversible_count(plain) >= 2 and figures.in_context == 0
+    context, figures = run_pass(qc, zero_qubits=[3], window=4)
+    assert reversible_count(context) == 1 and figures.in_context == 1
+    assert equal_where_zero(context, qc, [3])  # the reference: qiskit's operators on the honoured inputs
+    assert not Operator(context).equiv(Operator(qc))  # and only there: the context was used
+    assert untouched_by_qubit(context) == untouched_by_qubit(qc)
+
+
+def test_ancilla_registers_are_the_context_when_asked() -> None:
+    qc = compute_copy_uncompute(ancilla_register=True)
+    kept, _ = run_pass(qc, window=4)
+    assert reversible_count(kept) >= 2 and Operator(kept).equiv(Operator(qc))  # not asked: kept on every input
+    out, figures = run_pass(qc, ancillas_zero=True, window=4)
+    assert reversible_count(out) == 1 and figures.in_context == 1 and equal_where_zero(out, qc, [3])
+
+
+def test_no_context_where_the_zero_qubit_was_used_before_or_left_dirty() -> None:
+    used = QuantumCircuit(4)
+    used.h(3)  # the ancilla is no longer |0⟩ when the block starts
+    used.compose(compute_copy_uncompute(), inplace=True)
+    out, figures = run_pass(used, zero_qubits=[3], window=4)
+    assert figures.in_context == 0 and Operator(out).equiv(Operator(used))
+    dirty = compute_copy_uncompute()
+    dirty.x(3)  # the block now leaves the ancilla at 1 on some inputs: not a clean ancilla
+    out, figures = run_pass(dirty, zero_qubits=[3], window=4)
+    assert figures.in_context == 0 and Operator(out).equiv(Operator(dirty))
 
 
 def test_missing_qiskit_names_the_extra() -> None:
