@@ -43,6 +43,7 @@ from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthe
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
 from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis
+from exactsyn.optimise.wide_windows import WIDE_LINES, wide_answerers
 from exactsyn.optimise.windows import GatePool, Window, grow
 
 #: The objectives of :data:`exactsyn.core.costs.OBJECTIVES` a window replacement can lower.
@@ -99,6 +100,7 @@ class OptimiseResult:
     resynthesis: str
     check: EquivalenceCheck
     seconds: float
+    settled_lines: int | None = None  # every window of up to this many lines left in place is optimal (None: window)
 
 
 OptimiseProgress = Callable[[ProgressEvent], None]
@@ -274,7 +276,12 @@ class _Passes:
 
 def window_answerers(gates: GateSet, n: int, model: CostModel | None, window: int) -> WindowResynthesis:
     """The window answerers: exhaustive tables up to 3 lines; 4-line windows from the cached
-    class tables (gates and gates-then-cost), else from the distance table (gates only)."""
+    class tables (gates and gates-then-cost), else from the distance table (gates only);
+    5-line windows from a cached 5-line class table, else by SAT with a small gate bound
+    (:mod:`exactsyn.optimise.wide_windows`)."""
+    if window >= WIDE_LINES:
+        narrow = 4 if model is None or class_table_lines(gates) == 4 else 3
+        return wide_answerers(gates, n, model, window_answerers(gates, n, model, narrow))
     small = TableResynthesis(gates, n, model)
     if window < 4:
         return small
@@ -308,8 +315,9 @@ def optimise_circuit(
     input's gates); every input gate must be in it.  ``cost`` (a model name or a cost table
     file) is used by ``objective="gates-then-cost"``.  ``window`` is the largest number of
     lines of a window (default: 4 when a cached class table serves the gate set's 4-line
-    windows, else 3); ``seed`` picks the random sample of the equivalence check beyond 24
-    lines.  Raises :class:`ExactsynError` for bad input and :class:`InternalCheckError`
+    windows, else 3; 5 is opt-in: a cached 5-line class table or a bounded SAT search per
+    window, see :mod:`exactsyn.optimise.wide_windows`); ``seed`` picks the random sample of
+    the equivalence check beyond 24 lines.  Raises :class:`ExactsynError` for bad input and :class:`InternalCheckError`
     (:class:`EquivalenceError` when a function changed) if a check of the work fails.
     """
     start = time.perf_counter()
@@ -372,4 +380,5 @@ def optimise_circuit(
         "; ".join(sorted(passes.methods)),
         check,
         time.perf_counter() - start,
+        getattr(resynthesis, "settled_lines", None),
     )
