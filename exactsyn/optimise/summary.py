@@ -31,6 +31,7 @@ def result_to_dict(result: OptimiseResult, **extra: Any) -> dict[str, Any]:
         ],
         "rounds": result.rounds,
         "windows_tried": result.windows_tried,
+        "windows_settled_lines": _settled(result),
         "resynthesis": result.resynthesis,
         "equivalence": result.check.to_dict() | {"description": result.check.describe()},
         "seconds": round(result.seconds, 3),
@@ -42,9 +43,14 @@ def qasm_header(result: OptimiseResult) -> list[str]:
     return [
         f"exactsyn {__version__}",
         f"{count(result.output.gate_count, 'gate')} (input: {result.input.gate_count}), NOT proven optimal "
-        f"(no lower bound: every window of up to {result.window} lines is optimal)",
+        f"(no lower bound: every window of up to {_settled(result)} lines is optimal)",
         f"library: {result.library}",
     ]
+
+
+def _settled(result: OptimiseResult) -> int:
+    """Windows of up to this many lines are proven optimal (5-line windows by bounded SAT may not be)."""
+    return result.window if result.settled_lines is None else min(result.window, result.settled_lines)
 
 
 def _change(before: int, after: int) -> str:
@@ -72,6 +78,9 @@ def summary_text(result: OptimiseResult) -> str:
         ]
         out.append("windows replaced: " + ", ".join(parts) + f"; {result.windows_tried} windows tried")
     else:
-        out.append(f"windows replaced: none ({result.windows_tried} windows tried; every window was already optimal)")
+        settled = "every window was already optimal"
+        if _settled(result) < result.window:
+            settled = f"windows of up to {_settled(result)} lines were already optimal, not every wider one was settled"
+        out.append(f"windows replaced: none ({result.windows_tried} windows tried; {settled})")
     out.append("equivalence: " + result.check.describe())
     return "\n".join(out) + "\n"
