@@ -43,8 +43,9 @@ from exactsyn.optimise.distance_windows import CombinedResynthesis, MeetResynthe
 from exactsyn.optimise.equivalence import EquivalenceCheck, check_equivalent
 from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis
+from exactsyn.optimise.revisit import Revisits
 from exactsyn.optimise.wide_windows import WIDE_LINES, wide_answerers
-from exactsyn.optimise.windows import GatePool, Window, grow
+from exactsyn.optimise.windows import GatePool, Window, grow, scan_window
 
 #: The objectives of :data:`exactsyn.core.costs.OBJECTIVES` a window replacement can lower.
 WINDOW_OBJECTIVES = ("gates", "gates-then-cost")
@@ -135,6 +136,7 @@ class _Passes:
         self.progress = progress
         self.pool = GatePool()
         self.seq = [self.pool.intern(g) for g in circuit.gates]
+        self.revisits = Revisits(len(self.seq))  # scans that found nothing, not repeated on the same gates
         self.costs: list[int] = []
         self.local: dict[tuple[int, tuple[int, ...]], tuple[int, ...]] = {}
         self.stats: dict[int, list[int]] = {}
@@ -227,6 +229,7 @@ class _Passes:
         seq = self.seq
         head = [seq[p] for p in win.before]
         seq[win.start : win.stop] = head + new_ids + [seq[p] for p in win.after]
+        self.revisits.splice(win.start, win.stop, list(win.before), len(new_ids), list(win.after))
         return win.start + len(head)
 
     def run_pass(self, forward: bool) -> bool:
@@ -246,10 +249,14 @@ class _Passes:
                 new_ids = None if win is None else []
             else:
                 for width in self.widths:
-                    win = grow(self.seq, self.pool, i, width, self.horizon, forward)
+                    if self.revisits.unchanged(i, forward, width):
+                        win, new_ids = None, None
+                        continue
+                    win, stop = scan_window(self.seq, self.pool, i, width, self.horizon, forward)
                     new_ids = None if win is None else self.improve(win)
                     if new_ids is not None:
                         break
+                    self.revisits.found_nothing(i, forward, width, stop)
             if win is None or new_ids is None:
                 i += 1 if forward else -1
                 continue
