@@ -79,6 +79,10 @@ class ClassTableResynthesis:
 
     def _solve(self, table: ClassOracle, problem: WindowProblem, deadline: float | None) -> Optimum | None:
         depth = table.depth
+        if problem.below is not None:
+            level = table.table.level_of(problem.perm)
+            if level is not None and level >= problem.below:
+                return None  # the optimum is known and of no use: no circuit is rebuilt for it
         extra = depth if problem.below is None else max(0, problem.below - 1 - depth)
         left = None if deadline is None else max(0.0, deadline - time.perf_counter())
         ans = table.table.synthesise(problem.perm, max_extra=min(depth, extra), time_limit=left)
