@@ -6,13 +6,17 @@ Modules, one job each:
 * :mod:`~exactsyn.optimise.commute` — exact commutation of two gates;
 * :mod:`~exactsyn.optimise.windows` — convex windows on the gate dependency graph;
 * :mod:`~exactsyn.optimise.resynthesis` — optimal circuits of window permutations (interface and tables);
+* :mod:`~exactsyn.optimise.class_windows`, :mod:`~exactsyn.optimise.distance_windows` — 4-line windows;
+* :mod:`~exactsyn.optimise.wide_windows` — 5-line windows: a cached 5-line class table, else bounded SAT;
+* :mod:`~exactsyn.optimise.revisit` — scans that found nothing, skipped while their gates are unchanged;
 * :mod:`~exactsyn.optimise.driver` — the passes, to a fixpoint, and :func:`optimise_circuit`;
 * :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
 * :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log;
 * :mod:`~exactsyn.optimise.output` — the output file, read back and re-checked before it is kept.
 
-Imports: the base modules, :mod:`exactsyn.core`, :mod:`exactsyn.io` and :mod:`exactsyn.tables`
-(the exhaustive tables of windows); :mod:`exactsyn.search` uses it to shrink fallbacks.
+Imports: the base modules, :mod:`exactsyn.core`, :mod:`exactsyn.io`, :mod:`exactsyn.tables`
+(the exhaustive tables of windows) and :mod:`exactsyn.sat` (5-line windows by SAT);
+:mod:`exactsyn.search` uses it to shrink fallbacks.
 """
 
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
