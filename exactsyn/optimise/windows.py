@@ -112,10 +112,12 @@ def scan_window(
     horizon: int,
     forward: bool = True,
     partner: bool = False,
+    max_gates: int | None = None,
 ) -> tuple[Window | None, int]:
     """:func:`grow`, and the first position the scan did not look at (``len(seq)`` or ``-1`` at
     the end): without ``partner``, the window depends on nothing but the gates from ``seed``
-    up to there, and on whether the scan reached the end."""
+    up to there, and on whether the scan reached the end.  With ``max_gates`` the scan stops
+    when that many gates have joined (a window is convex at every step of its growth)."""
     masks, lines_of, memo = pool.masks, pool.lines, pool._commute
     seed_id = seq[seed]
     window_mask = masks[seed_id]
@@ -159,9 +161,9 @@ def scan_window(
                 for line in lines_of[h]:
                     in_window.setdefault(line, []).append(h)
                 last_join = j
-                if partner:
-                    break
                 j += step
+                if partner or (max_gates is not None and len(members) >= max_gates):
+                    break
                 continue
             elif not blocked(h, in_window):
                 j += step
