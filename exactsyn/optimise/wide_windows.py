@@ -21,6 +21,9 @@ the optimiser uses anyway.
   bound allows, or whose queries ran out of time, is not settled: the result then claims
   optimality only for windows of up to 4 lines (:attr:`WideResynthesis.settled_lines`).
 
+5-line windows are grown to at most :attr:`WideResynthesis.window_gates` gates (10 with the
+table, 7 with SAT): on a circuit of only 5 lines a window would otherwise hold every gate.
+
 Under ``gates-then-cost`` only replacements of strictly fewer gates are searched by SAT (its
 queries do not minimise cost), and each is costed as its gates cost in the whole circuit.
 """
@@ -49,6 +52,11 @@ SAT_MAX_GATES = 6
 SAT_SECONDS = 2.0
 #: Seconds of class-table scan per 5-line window (lookup alone takes milliseconds).
 TABLE_SECONDS = 5.0
+#: Most gates of a 5-line window answered from the class table: its depth (6) plus a meet in
+#: the middle over the three smallest levels, which takes milliseconds.  A window of every
+#: gate on 5 lines (a whole 5-line circuit) is beyond any table and would spend its whole
+#: budget each time.
+TABLE_WINDOW_GATES = 10
 
 
 class SatWindowResynthesis:
@@ -151,6 +159,12 @@ class WideResynthesis:
     @property
     def max_lines(self) -> int:
         return WIDE_LINES
+
+    @property
+    def window_gates(self) -> int:
+        """Most gates a 5-line window is grown to: within reach of the class table, or one more
+        than the SAT bound (then every smaller k is asked, and a window can be settled)."""
+        return TABLE_WINDOW_GATES if self.sat is None else self.sat.max_gates + 1
 
     @property
     def settled_lines(self) -> int:
