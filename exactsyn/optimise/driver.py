@@ -137,6 +137,7 @@ class _Passes:
         self.pool = GatePool()
         self.seq = [self.pool.intern(g) for g in circuit.gates]
         self.revisits = Revisits(len(self.seq))  # scans that found nothing, not repeated on the same gates
+        self.wide_gates: int | None = getattr(resynthesis, "window_gates", None)  # most gates of a 5-line window
         self.costs: list[int] = []
         self.local: dict[tuple[int, tuple[int, ...]], tuple[int, ...]] = {}
         self.stats: dict[int, list[int]] = {}
@@ -252,7 +253,8 @@ class _Passes:
                     if self.revisits.unchanged(i, forward, width):
                         win, new_ids = None, None
                         continue
-                    win, stop = scan_window(self.seq, self.pool, i, width, self.horizon, forward)
+                    cap = self.wide_gates if width >= WIDE_LINES else None
+                    win, stop = scan_window(self.seq, self.pool, i, width, self.horizon, forward, max_gates=cap)
                     new_ids = None if win is None else self.improve(win)
                     if new_ids is not None:
                         break
