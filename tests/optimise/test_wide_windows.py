@@ -30,6 +30,7 @@ from exactsyn.optimise.allowed_gates import gate_set
 from exactsyn.optimise.class_windows import ClassTableResynthesis
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem
 from exactsyn.optimise.summary import qasm_header, summary_text
+from exactsyn.optimise.windows import GatePool, scan_window
 from exactsyn.sat.status import Status
 
 MCT5 = make_library("mct", 5)
@@ -143,3 +144,18 @@ def test_a_small_class_table_and_sat_agree_beyond_its_depth(
         assert a is not None and b is not None and "the minimum" in b.method
         assert a.gate_count == b.gate_count
         assert Circuit(5, a.gates).permutation() == perm
+
+
+def test_a_5_line_window_is_grown_to_at_most_its_gate_cap() -> None:
+    gates = gate_set("mct", 5)
+    circuit = _random(random.Random(6), "mct", 20)
+    pool = GatePool()
+    seq = [pool.intern(g) for g in circuit.gates]
+    whole, _ = scan_window(seq, pool, 0, 5, 24)
+    capped, stop = scan_window(seq, pool, 0, 5, 24, max_gates=4)
+    assert whole is not None and len(whole.members) == 20  # on 5 lines every gate joins
+    assert capped is not None and capped.members == (0, 1, 2, 3) and stop == 4
+    answerer = wide.WideResynthesis(TableResynthesis(gates, 5, None), sat=wide.SatWindowResynthesis(gates, 5, None))
+    assert answerer.window_gates == wide.SAT_MAX_GATES + 1
+    result = optimise_circuit(circuit, library="mct", window=5)
+    assert result.output.permutation() == circuit.permutation()
