@@ -14,16 +14,20 @@ Toffoli that reads b is the Toffoli read on b and again on a, ``(b⊕a)·cd = b�
 from __future__ import annotations
 
 import dataclasses
+import json
 import random
 from pathlib import Path
 
 import pytest
+from click.testing import CliRunner
 from helpers import bfs_upto
 
 from exactsyn import tables
+from exactsyn.cli.main import main
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.gates import x_gate
 from exactsyn.core.library import make_library
+from exactsyn.io.jsonio import circuit_to_dict
 from exactsyn.optimise import optimise_circuit
 from exactsyn.optimise import wide_windows as wide
 from exactsyn.optimise.allowed_gates import gate_set
@@ -159,3 +163,16 @@ def test_a_5_line_window_is_grown_to_at_most_its_gate_cap() -> None:
     assert answerer.window_gates == wide.SAT_MAX_GATES + 1
     result = optimise_circuit(circuit, library="mct", window=5)
     assert result.output.permutation() == circuit.permutation()
+
+
+def test_the_command_takes_window_5_and_refuses_6(tmp_path: Path) -> None:
+    src = tmp_path / "c.json"
+    src.write_text(json.dumps(circuit_to_dict(Circuit(6, CONJUGATED))))
+    out = tmp_path / "o.json"
+    res = CliRunner().invoke(main, ["optimise", str(src), "-o", str(out), "--library", "mct", "--window", "5"])
+    assert res.exit_code == 0, res.stderr
+    assert "windows of up to 5 lines" in res.stdout
+    log = json.loads(out.with_suffix(".log.json").read_text())
+    assert log["after"]["gates"] == len(CONJUGATED) - 1 and log["windows_settled_lines"] == 5
+    bad = CliRunner().invoke(main, ["optimise", str(src), "-o", str(tmp_path / "p.json"), "--window", "6"])
+    assert bad.exit_code == 2 and not (tmp_path / "p.json").exists()
