@@ -87,12 +87,15 @@ _OPTIONS: tuple[Callable[[F], F], ...] = (
     ),
     click.option(
         "--window",
-        type=click.IntRange(1, 4),
+        type=click.IntRange(1, 5),
         default=None,
         help="Largest number of lines of a window. 3: exhaustive tables of every 3-line function. 4: the cached "
         "4-line class tables (gates and gates-then-cost), else a 4-line distance table (about 3 s to build) and a "
-        "bounded meet in the middle (gates only). Default: 4 when the class tables of the library are cached "
-        "(`exactsyn tables build`), else 3.",
+        "bounded meet in the middle (gates only). 5 (slow, opt-in): windows of up to 10 gates from the cached "
+        "5-line class table (up to 5 s of scan per window), else windows of up to 7 gates by a SAT search for at "
+        "most 6 gates (up to 2 s per window: about a minute per 100 gates; a window it cannot settle is left as "
+        "it is). Default: 4 when the class tables of the library "
+        "are cached (`exactsyn tables build`), else 3.",
     ),
     click.option(
         "--horizon",

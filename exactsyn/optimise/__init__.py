@@ -8,6 +8,9 @@ Modules, one job each:
 * :mod:`~exactsyn.optimise.resynthesis` — optimal circuits of window permutations (interface and tables);
 * :mod:`~exactsyn.optimise.partial_windows` — windows with don't-cares (lines known to be 0);
 * :mod:`~exactsyn.optimise.reachable` — the states a window can start in, by simulating the prefix;
+* :mod:`~exactsyn.optimise.class_windows`, :mod:`~exactsyn.optimise.distance_windows` — 4-line windows;
+* :mod:`~exactsyn.optimise.wide_windows` — 5-line windows: a cached 5-line class table, else bounded SAT;
+* :mod:`~exactsyn.optimise.revisit` — scans that found nothing, skipped while their gates are unchanged;
 * :mod:`~exactsyn.optimise.driver` — the passes, to a fixpoint, and :func:`optimise_circuit`;
 * :mod:`~exactsyn.optimise.equivalence` — bit-parallel simulation of input against output;
 * :mod:`~exactsyn.optimise.metrics` and :mod:`~exactsyn.optimise.summary` — measures and the log;
@@ -15,7 +18,8 @@ Modules, one job each:
 
 Imports: the base modules, :mod:`exactsyn.core`, :mod:`exactsyn.io` and :mod:`exactsyn.tables`
 (the exhaustive tables of windows), :mod:`exactsyn.specification` and :mod:`exactsyn.sat` (partial
-windows by SAT with don't-cares); :mod:`exactsyn.search` uses it to shrink fallbacks.
+windows by SAT with don't-cares, 5-line windows by bounded SAT); :mod:`exactsyn.search` uses it
+to shrink fallbacks.
 """
 
 from exactsyn.optimise.allowed_gates import GateSet, gate_set

@@ -1,8 +1,9 @@
 """Windows of the class tables' line count answered from the cached class tables.
 
 A window whose lines carry exactly the gates of a class table (``mct``, ``nct`` or
-``mixed`` on 4 lines, no coupling restriction inside the window) is settled from the
-table, through the tables' one interface (:mod:`exactsyn.tables.oracle`):
+``mixed`` on 4 lines, or on 5 lines when that table is cached; no coupling restriction
+inside the window) is settled from the table, through the tables' one interface
+(:mod:`exactsyn.tables.oracle`):
 
 * ``gates``: the optimum by lookup, or by meet in the middle bounded below the window's own
   gate count (Golubitsky, Falconer & Maslov, DAC 2010) — the window is only replaced when
@@ -27,38 +28,41 @@ from exactsyn.optimise.resynthesis import Optimum, WindowProblem, WindowResynthe
 from exactsyn.tables.oracle import ClassOracle, table_roles
 
 
-def class_table_lines(gates: GateSet) -> int | None:
-    """The line count of the windows a cached class table serves for this gate set, or None."""
-    library = gates.window_library(4, ())
+def class_table_lines(gates: GateSet, lines: int = 4) -> int | None:
+    """``lines`` when a cached class table serves this gate set's windows of that many lines, else None."""
+    library = gates.window_library(lines, ())
     if library is None or gates.coupling:
         return None
-    return 4 if table_roles(library).exact is not None else None
+    return lines if table_roles(library).exact is not None else None
 
 
 class ClassTableResynthesis:
-    """:class:`~exactsyn.optimise.resynthesis.WindowResynthesis`: 4-line windows from the cached
-    class table of their library, every other window from ``other``."""
+    """:class:`~exactsyn.optimise.resynthesis.WindowResynthesis`: windows of ``lines`` lines (4
+    unless told) from the cached class table of their library, every other window from ``other``."""
 
-    def __init__(self, gates: GateSet, circuit_lines: int, model: CostModel | None, other: WindowResynthesis) -> None:
+    def __init__(
+        self, gates: GateSet, circuit_lines: int, model: CostModel | None, other: WindowResynthesis, lines: int = 4
+    ) -> None:
         self.gates, self.circuit_lines, self.model, self.other = gates, circuit_lines, model, other
+        self.lines = lines
         self._tables: dict[tuple[Edge, ...], ClassOracle | None] = {}
         # the optimum, or the ``below`` under which none was found (a bounded search)
         self._memo: dict[tuple[tuple[Edge, ...], tuple[int, ...]], Optimum | int] = {}
 
     @property
     def max_lines(self) -> int:
-        return max(4, self.other.max_lines)
+        return max(self.lines, self.other.max_lines)
 
     def table(self, coupling: tuple[Edge, ...]) -> ClassOracle | None:
         if coupling not in self._tables:
-            library = self.gates.window_library(4, coupling)
+            library = self.gates.window_library(self.lines, coupling)
             self._tables[coupling] = None if library is None else table_roles(library).exact
         return self._tables[coupling]
 
     def optimum(self, problem: WindowProblem, deadline: float | None = None) -> Optimum | None:
         """The window's optimum (module docstring); with ``deadline`` (a ``perf_counter`` time)
         the table's meet in the middle stops there, and a window cut short is not remembered."""
-        table = self.table(problem.coupling) if problem.lines == 4 else None
+        table = self.table(problem.coupling) if problem.lines == self.lines else None
         if table is None:
             return self.other.optimum(problem) if problem.lines <= self.other.max_lines else None
         key = (problem.coupling, problem.perm)
@@ -75,6 +79,10 @@ class ClassTableResynthesis:
 
     def _solve(self, table: ClassOracle, problem: WindowProblem, deadline: float | None) -> Optimum | None:
         depth = table.depth
+        if problem.below is not None:
+            level = table.table.level_of(problem.perm)
+            if level is not None and level >= problem.below:
+                return None  # the optimum is known and of no use: no circuit is rebuilt for it
         extra = depth if problem.below is None else max(0, problem.below - 1 - depth)
         left = None if deadline is None else max(0.0, deadline - time.perf_counter())
         ans = table.table.synthesise(problem.perm, max_extra=min(depth, extra), time_limit=left)

@@ -70,7 +70,9 @@ from exactsyn.optimise.metrics import Metrics, measure
 from exactsyn.optimise.partial_windows import PartialResynthesis
 from exactsyn.optimise.reachable import ReachableStates
 from exactsyn.optimise.resynthesis import TableResynthesis, WindowProblem, WindowResynthesis, honoured_states
-from exactsyn.optimise.windows import GatePool, Window, grow
+from exactsyn.optimise.revisit import Revisits
+from exactsyn.optimise.wide_windows import WIDE_LINES, wide_answerers
+from exactsyn.optimise.windows import GatePool, Window, grow, scan_window
 
 #: The objectives of :data:`exactsyn.core.costs.OBJECTIVES` a window replacement can lower.
 WINDOW_OBJECTIVES = ("gates", "gates-then-cost")
@@ -131,6 +133,7 @@ class OptimiseResult:
     check: EquivalenceCheck
     seconds: float
     zero_lines: tuple[int, ...] = ()  # clean ancillas: the output equals the input where these are 0
+    settled_lines: int | None = None  # every window of up to this many lines left in place is optimal (None: window)
 
 
 OptimiseProgress = Callable[[ProgressEvent], None]
@@ -169,6 +172,8 @@ class _Passes:
         self.progress = progress
         self.pool = GatePool()
         self.seq = [self.pool.intern(g) for g in circuit.gates]
+        self.revisits = Revisits(len(self.seq))  # scans that found nothing, not repeated on the same gates
+        self.wide_gates: int | None = getattr(resynthesis, "window_gates", None)  # most gates of a 5-line window
         self.costs: list[int] = []
         self.local: dict[tuple[int, tuple[int, ...]], tuple[int, ...]] = {}
         self.stats: dict[int, list[int]] = {}
@@ -387,6 +392,7 @@ class _Passes:
         self.respan(win.start, win.stop, win.start + len(win.before) + len(new_ids) + len(win.after))
         if self.reach is not None:
             self.reach.changed(win.start)
+        self.revisits.splice(win.start, win.stop, list(win.before), len(new_ids), list(win.after))
         return win.start + len(head)
 
     def run_pass(self, forward: bool) -> bool:
@@ -410,10 +416,15 @@ class _Passes:
                 new_ids = None if win is None else []
             else:
                 for width in self.widths:
-                    win = grow(self.seq, self.pool, i, width, self.horizon, forward)
+                    if self.revisits.unchanged(i, forward, width):
+                        win, new_ids = None, None
+                        continue
+                    cap = self.wide_gates if width >= WIDE_LINES else None
+                    win, stop = scan_window(self.seq, self.pool, i, width, self.horizon, forward, max_gates=cap)
                     new_ids = None if win is None else self.improve(win)
                     if new_ids is not None:
                         break
+                    self.revisits.found_nothing(i, forward, width, stop)
             if win is None or new_ids is None:
                 i += 1 if forward else -1
                 continue
@@ -440,7 +451,12 @@ class _Passes:
 
 def window_answerers(gates: GateSet, n: int, model: CostModel | None, window: int) -> WindowResynthesis:
     """The window answerers: exhaustive tables up to 3 lines; 4-line windows from the cached
-    class tables (gates and gates-then-cost), else from the distance table (gates only)."""
+    class tables (gates and gates-then-cost), else from the distance table (gates only);
+    5-line windows from a cached 5-line class table, else by SAT with a small gate bound
+    (:mod:`exactsyn.optimise.wide_windows`)."""
+    if window >= WIDE_LINES:
+        narrow = 4 if model is None or class_table_lines(gates) == 4 else 3
+        return wide_answerers(gates, n, model, window_answerers(gates, n, model, narrow))
     small = TableResynthesis(gates, n, model)
     if window < 4:
         return small
@@ -494,13 +510,14 @@ def optimise_circuit(
     input's gates); every input gate must be in it.  ``cost`` (a model name or a cost table
     file) is used by ``objective="gates-then-cost"``.  ``window`` is the largest number of
     lines of a window (default: 4 when a cached class table serves the gate set's 4-line
-    windows, else 3); ``seed`` picks the random sample of the equivalence check beyond 24
-    lines.  ``zero_lines``: clean ancillas, lines that are 0 at the start and that the circuit
-    returns to 0; windows on them are partial functions and the output equals the input on
-    the inputs with them 0 (module docstring).  The claim is checked on the input circuit by
-    simulation of every such input (a seeded sample beyond 24 free lines): a line it leaves at
-    1 raises :class:`ZeroLineError`, naming the line and the input.  Raises
-    :class:`ExactsynError` for bad input and :class:`InternalCheckError`
+    windows, else 3; 5 is opt-in: a cached 5-line class table or a bounded SAT search per
+    window, see :mod:`exactsyn.optimise.wide_windows`); ``seed`` picks the random sample of
+    the equivalence check beyond 24 lines.  ``zero_lines``: clean ancillas, lines that are 0
+    at the start and that the circuit returns to 0; windows on them are partial functions and
+    the output equals the input on the inputs with them 0 (module docstring).  The claim is
+    checked on the input circuit by simulation of every such input (a seeded sample beyond 24
+    free lines): a line it leaves at 1 raises :class:`ZeroLineError`, naming the line and the
+    input.  Raises :class:`ExactsynError` for bad input and :class:`InternalCheckError`
     (:class:`EquivalenceError` when a function changed) if a check of the work fails.
     """
     start = time.perf_counter()
@@ -567,4 +584,5 @@ def optimise_circuit(
         check,
         time.perf_counter() - start,
         zero,
+        getattr(resynthesis, "settled_lines", None),
     )

@@ -115,10 +115,19 @@ class PartialResynthesis:
         self.full, self.gates, self.model, self.seconds = full, gates, model, seconds
         self.small = TableResynthesis(gates, circuit_lines, model)
         self._memo: dict[Key, Optimum | None] = {}
+        self.unsettled = 0  # partial windows whose SAT search was cut short or not run
 
     @property
     def max_lines(self) -> int:
         return self.full.max_lines
+
+    @property
+    def settled_lines(self) -> int:
+        """Every window of up to this many lines left in place is proven optimal: the wrapped
+        answerer's figure, or the exhaustive tables' line count once a partial window's SAT
+        search was cut short."""
+        inner = getattr(self.full, "settled_lines", self.full.max_lines)
+        return inner if self.unsettled == 0 else min(inner, self.small.max_lines)
 
     def optimum(self, problem: WindowProblem) -> Optimum | None:
         if problem.honoured is None or len(problem.honoured) == 1 << problem.lines:
@@ -178,12 +187,14 @@ class PartialResynthesis:
             bound = whole.gate_count if bound is None else min(bound, whole.gate_count)
         library = self.gates.window_library(problem.lines, problem.coupling)
         if bound is None or library is None or problem.lines > SPEC_LINES:
+            self.unsettled += 1
             return whole
         spec = partial_spec(problem)
         deadline = time.perf_counter() + self.seconds
         for k in range(bound):
             left = deadline - time.perf_counter()
             if left <= 0:
+                self.unsettled += 1
                 return whole
             enc = encode(spec, library, k)
             out = solve(enc.clauses, time_limit=left)
@@ -195,5 +206,6 @@ class PartialResynthesis:
                 method = f"fewest gates of a partial function by SAT with don't-cares, library {library.name}{note}"
                 return Optimum(gates, len(gates), cost, method)
             if out.status != Status.UNSAT:
+                self.unsettled += 1
                 return whole
         return whole

@@ -32,6 +32,7 @@ def result_to_dict(result: OptimiseResult, **extra: Any) -> dict[str, Any]:
         ],
         "rounds": result.rounds,
         "windows_tried": result.windows_tried,
+        "windows_settled_lines": _settled(result),
         "resynthesis": result.resynthesis,
         "equivalence": result.check.to_dict() | {"description": result.check.describe()},
         "seconds": round(result.seconds, 3),
@@ -43,7 +44,7 @@ def qasm_header(result: OptimiseResult) -> list[str]:
     return [
         f"exactsyn {__version__}",
         f"{count(result.output.gate_count, 'gate')} (input: {result.input.gate_count}), NOT proven optimal "
-        f"(no lower bound: every window of up to {result.window} lines is optimal)",
+        f"(no lower bound: every window of up to {_settled(result)} lines is optimal)",
         f"library: {result.library}",
     ] + ([_scope(result)] if result.zero_lines else [])
 
@@ -51,6 +52,11 @@ def qasm_header(result: OptimiseResult) -> list[str]:
 def _scope(result: OptimiseResult) -> str:
     lines = ", ".join(map(str, result.zero_lines))
     return f"equal to the input on the inputs with lines {lines} = 0 (clean ancillas: returned to 0)"
+
+
+def _settled(result: OptimiseResult) -> int:
+    """Windows of up to this many lines are proven optimal (5-line windows by bounded SAT may not be)."""
+    return result.window if result.settled_lines is None else min(result.window, result.settled_lines)
 
 
 def _change(before: int, after: int) -> str:
@@ -78,7 +84,10 @@ def summary_text(result: OptimiseResult) -> str:
         ]
         out.append("windows replaced: " + ", ".join(parts) + f"; {result.windows_tried} windows tried")
     else:
-        out.append(f"windows replaced: none ({result.windows_tried} windows tried; every window was already optimal)")
+        settled = "every window was already optimal"
+        if _settled(result) < result.window:
+            settled = f"windows of up to {_settled(result)} lines were already optimal, not every wider one was settled"
+        out.append(f"windows replaced: none ({result.windows_tried} windows tried; {settled})")
     if result.zero_lines:
         out.append("ancilla context: " + _scope(result))
     out.append("equivalence: " + result.check.describe())

@@ -101,13 +101,30 @@ def grow(
     has: a pair of identical self-inverse gates (every ``x`` and swap gate is a product of
     disjoint transpositions) that can be made adjacent is the identity, however many lines
     it has — the one replacement the optimiser makes on windows wider than ``width``."""
+    return scan_window(seq, pool, seed, width, horizon, forward, partner)[0]
+
+
+def scan_window(
+    seq: list[int],
+    pool: GatePool,
+    seed: int,
+    width: int,
+    horizon: int,
+    forward: bool = True,
+    partner: bool = False,
+    max_gates: int | None = None,
+) -> tuple[Window | None, int]:
+    """:func:`grow`, and the first position the scan did not look at (``len(seq)`` or ``-1`` at
+    the end): without ``partner``, the window depends on nothing but the gates from ``seed``
+    up to there, and on whether the scan reached the end.  With ``max_gates`` the scan stops
+    when that many gates have joined (a window is convex at every step of its growth)."""
     masks, lines_of, memo = pool.masks, pool.lines, pool._commute
     seed_id = seq[seed]
     window_mask = masks[seed_id]
     if partner:
         width = window_mask.bit_count()
     if window_mask.bit_count() > width:
-        return None
+        return None, seed + (1 if forward else -1)
     members = [seed]
     reached: list[int] = []
     # gate ids of the window and of the reached gates, by line (a gate is listed on each of its lines)
@@ -144,9 +161,9 @@ def grow(
                 for line in lines_of[h]:
                     in_window.setdefault(line, []).append(h)
                 last_join = j
-                if partner:
-                    break
                 j += step
+                if partner or (max_gates is not None and len(members) >= max_gates):
+                    break
                 continue
             elif not blocked(h, in_window):
                 j += step
@@ -157,7 +174,7 @@ def grow(
                 in_reached.setdefault(line, []).append(h)
         j += step
     if len(members) < 2:
-        return None
+        return None, j
     members.sort()
     lo, hi = members[0], members[-1]
     chosen = set(members)
@@ -169,4 +186,4 @@ def grow(
     else:
         before = tuple(p for p in rest if p in late)
         after = tuple(p for p in rest if p not in late)
-    return Window(tuple(members), window_mask, before, after)
+    return Window(tuple(members), window_mask, before, after), j

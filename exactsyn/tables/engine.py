@@ -29,6 +29,7 @@ from __future__ import annotations
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
 from typing import Any
 
@@ -126,22 +127,29 @@ class Tables:
         return None if j < 0 else j
 
     def _walk(self, key: int, level: int) -> list[int]:
-        """Library indices of an optimal circuit (application order) of a function at ``level``."""
+        """Library indices of an optimal circuit (application order) of a function at ``level``:
+        at each level the first step ``g`` (library order) with ``g∘x`` one level lower."""
         lay = self.layout
+        steps = self._step_rows
         out: list[int] = []
-        x = key
+        x = lay.unpack_keys(lay.array([key]))[0]
         for j in range(level, 0, -1):
-            cands = [lay.compose(g, x) for g in self.gates.keys]
-            lv = self.levels_of(lay.array(cands), [j - 1])
+            cands = steps[:, x]  # row g is g∘x: entry i is g[x[i]]
+            lv = self.levels_of(lay.pack_rows(cands), [j - 1])
             hit = np.flatnonzero(lv == j - 1)
             if len(hit) == 0:
                 raise RuntimeError(f"internal error: no way down from level {j} (corrupt table?)")
             g = int(hit[0])
             out.append(g)
             x = cands[g]
-        if x != lay.identity:
+        if not np.array_equal(x, np.arange(lay.size)):
             raise RuntimeError("internal error: the walk down did not end at the identity")
         return out[::-1]
+
+    @cached_property
+    def _step_rows(self) -> np.ndarray:
+        """The steps as permutations, one row each (``(steps, 2^n)``)."""
+        return self.layout.unpack_keys(self.gates.key_array())
 
     # ------------------------------------------------------------------ synthesis
     def synthesise(

@@ -655,6 +655,28 @@ def _compile(lines: int) -> _Compiled:
     return _Compiled(canon_many, class_size_counts, expand, scan)
 
 
+# ----------------------------------------------------------------------------- short arrays on one thread
+#: Arrays of fewer items than this go through a parallel kernel on the calling thread alone:
+#: waking the other threads costs more than the work (the optimiser's window lookups are a
+#: few keys each), and on a busy machine far more, since each waits for a core.  The same
+#: kernel runs either way, so the results are the same.
+ONE_THREAD_BELOW = 4096
+
+
+def one_thread(items: int, kernel: Any, *args: Any) -> Any:
+    """``kernel(*args)``, on one thread when ``items`` is below :data:`ONE_THREAD_BELOW`."""
+    if items >= ONE_THREAD_BELOW:
+        return kernel(*args)
+    threads = nb.get_num_threads()
+    if threads == 1:
+        return kernel(*args)
+    nb.set_num_threads(1)
+    try:
+        return kernel(*args)
+    finally:
+        nb.set_num_threads(threads)
+
+
 # ----------------------------------------------------------------------------- the layout's kernel object
 @dataclass(frozen=True, eq=False)
 class WordKernels:
@@ -665,13 +687,13 @@ class WordKernels:
     mix_name: str = "splitmix64-finaliser"
 
     def canon_many(self, keys: np.ndarray) -> np.ndarray:
-        return self.compiled.canon_many(np.ascontiguousarray(keys, dtype=np.uint64))  # type: ignore[no-any-return]
+        return one_thread(len(keys), self.compiled.canon_many, np.ascontiguousarray(keys, dtype=np.uint64))  # type: ignore[no-any-return]
 
     def mix_many(self, keys: np.ndarray) -> np.ndarray:
-        return mix_many(np.ascontiguousarray(keys, dtype=np.uint64))  # type: ignore[no-any-return]
+        return one_thread(len(keys), mix_many, np.ascontiguousarray(keys, dtype=np.uint64))  # type: ignore[no-any-return]
 
     def unmix_many(self, mixed: np.ndarray) -> np.ndarray:
-        return unmix_many(np.ascontiguousarray(mixed, dtype=np.uint64))  # type: ignore[no-any-return]
+        return one_thread(len(mixed), unmix_many, np.ascontiguousarray(mixed, dtype=np.uint64))  # type: ignore[no-any-return]
 
     def class_size_histogram(self, mixed: np.ndarray) -> np.ndarray:
         if len(mixed) == 0:
@@ -682,7 +704,7 @@ class WordKernels:
         return make_index(mixed)
 
     def contains_many(self, vals: np.ndarray, index: np.ndarray, shift: int, mixed: np.ndarray) -> np.ndarray:
-        return contains_many(vals, index, shift, mixed)  # type: ignore[no-any-return]
+        return one_thread(len(mixed), contains_many, vals, index, shift, mixed)  # type: ignore[no-any-return]
 
     def expand(self, reps: np.ndarray, gates: np.ndarray, out: np.ndarray) -> None:
         self.compiled.expand(reps, gates, out)

@@ -48,7 +48,7 @@ from llvmlite import ir
 from numba.core import cgutils, types
 from numba.extending import intrinsic
 
-from exactsyn.tables.kernels import bucket_bits, mix, unmix
+from exactsyn.tables.kernels import bucket_bits, mix, one_thread, unmix
 from exactsyn.tables.keys import KeyLayout
 
 U64 = np.uint64
@@ -777,13 +777,13 @@ class FiveKernels:
     mix_name: str = "splitmix64-finaliser of k0 xor (k1*9e3779b97f4a7c15 + k2*c2b2ae3d27d4eb4f), k1, k2"
 
     def canon_many(self, keys: np.ndarray) -> np.ndarray:
-        return canon_many(_rows(keys))  # type: ignore[no-any-return]
+        return one_thread(len(keys), canon_many, _rows(keys))  # type: ignore[no-any-return]
 
     def mix_many(self, keys: np.ndarray) -> np.ndarray:
-        return mix_many(_rows(keys))  # type: ignore[no-any-return]
+        return one_thread(len(keys), mix_many, _rows(keys))  # type: ignore[no-any-return]
 
     def unmix_many(self, mixed: np.ndarray) -> np.ndarray:
-        return unmix_many(_rows(mixed))  # type: ignore[no-any-return]
+        return one_thread(len(mixed), unmix_many, _rows(mixed))  # type: ignore[no-any-return]
 
     def class_size_histogram(self, mixed: np.ndarray) -> np.ndarray:
         if len(mixed) == 0:
@@ -794,7 +794,7 @@ class FiveKernels:
         return make_index(_rows(mixed))
 
     def contains_many(self, vals: np.ndarray, index: np.ndarray, shift: int, mixed: np.ndarray) -> np.ndarray:
-        return contains_many(vals.reshape(-1, 3), index, shift, _rows(mixed))  # type: ignore[no-any-return]
+        return one_thread(len(mixed), contains_many, vals.reshape(-1, 3), index, shift, _rows(mixed))  # type: ignore[no-any-return]
 
     def expand(self, reps: np.ndarray, gates: np.ndarray, out: np.ndarray) -> None:
         gb, gib = as_bytes(gates)

@@ -139,6 +139,10 @@ class KeyLayout:
         return tuple(self.lines * i for i in range(self.size))
 
     @cached_property
+    def _shift_array(self) -> np.ndarray:
+        return np.array(self._shifts, dtype=np.uint64)
+
+    @cached_property
     def relabellings(self) -> tuple[tuple[int, ...], ...]:
         """The ``n!`` relabellings of the lines, identity first."""
         return tuple(itertools.permutations(range(self.lines)))
@@ -262,6 +266,8 @@ class KeyLayout:
     def pack_rows(self, rows: np.ndarray) -> np.ndarray:
         """Key array of an ``(N, 2^n)`` array of permutations."""
         rows = np.asarray(rows, dtype=np.uint64)
+        if self.words == 1:  # every entry in one word: shift all at once, then OR along the row
+            return np.bitwise_or.reduce(rows << self._shift_array, axis=1)  # type: ignore[no-any-return]
         out = np.zeros((rows.shape[0], self.words), dtype=np.uint64)
         for i in range(self.size):
             word, shift = divmod(self.lines * i, 64)

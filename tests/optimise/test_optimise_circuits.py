@@ -236,7 +236,7 @@ def test_bad_input_is_refused_with_one_line() -> None:
         (Circuit(4, (x_gate(3, [0, 1, 2]),)), {"library": "nct"}, "not in the gate set: library nct has no C3X"),
         (Circuit(4, ()), {}, "no gates"),
         (Circuit(MAX_LINES + 1, (x_gate(0),)), {}, f"at most {MAX_LINES} lines"),
-        (Circuit(3, (x_gate(0),)), {"window": 5}, "1 to 4 lines"),
+        (Circuit(3, (x_gate(0),)), {"window": 6}, "1 to 5 lines"),
         (Circuit(4, (x_gate(0),)), {"window": 4, "objective": "gates-then-cost"}, "need the cached class tables"),
         (Circuit(3, (x_gate(0),)), {"objective": "depth"}, "unknown objective"),
         (Circuit(3, (x_gate(0, [1], [2]),)), {"library": "nct"}, "no negative controls"),
