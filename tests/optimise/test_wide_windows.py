@@ -141,7 +141,7 @@ def test_a_small_class_table_and_sat_agree_beyond_its_depth(
     table = ClassTableResynthesis(gates, 5, None, TableResynthesis(gates, 5, None), lines=5)
     sat = wide.SatWindowResynthesis(gates, 5, None, seconds=30.0)
     rng = random.Random(4)
-    for _ in range(4):
+    for _ in range(2):
         perm = _random(rng, "mct", 4).permutation()  # up to 4 gates: depth 2 and a meet of up to 2 more
         a = table.optimum(WindowProblem(perm, 5))
         b = sat.optimum(WindowProblem(perm, 5, below=5))
@@ -161,8 +161,9 @@ def test_a_5_line_window_is_grown_to_at_most_its_gate_cap() -> None:
     assert capped is not None and capped.members == (0, 1, 2, 3) and stop == 4
     answerer = wide.WideResynthesis(TableResynthesis(gates, 5, None), sat=wide.SatWindowResynthesis(gates, 5, None))
     assert answerer.window_gates == wide.SAT_MAX_GATES + 1
-    result = optimise_circuit(circuit, library="mct", window=5)
-    assert result.output.permutation() == circuit.permutation()
+    short = Circuit(5, circuit.gates[:9])  # a run of the optimiser: two windows' worth of SAT, not ten
+    result = optimise_circuit(short, library="mct", window=5)
+    assert result.output.permutation() == short.permutation()
 
 
 def test_the_command_takes_window_5_and_refuses_6(tmp_path: Path) -> None:
