@@ -218,10 +218,10 @@ def solve(
     check_solver(solver)
     limit = check_time_limit(time_limit)
     started = time.perf_counter()
+    deadline = None if limit is None else started + limit
     if proof:
         if solver in UNBOUNDED:
             raise ExactsynError(f"solver {solver} writes no proof")
-        deadline = None if limit is None else started + limit
         tame = _tame(clauses, limit, stop)
         run = capture(clauses, lambda: _configured(Cadical195(), tame), lambda s: _search(s, _until(deadline), stop),
                       deadline=deadline)  # fmt: skip
@@ -231,12 +231,8 @@ def solve(
     with Solver(name=solver) as s:
         if solver == PROOF_SOLVER:
             _configured(s.solver, _tame(clauses, limit, stop))
-        loaded = _load(s, clauses, None if limit is None else started + limit)
-        left = None if limit is None else limit - (time.perf_counter() - started)
-        if not loaded or (left is not None and left <= 0):
-            result = None
-        else:
-            result = _search(s, left, stop, solver not in UNBOUNDED)
+        loaded = _load(s, clauses, deadline)
+        result = _search(s, _until(deadline), stop, solver not in UNBOUNDED) if loaded else None
         conflicts = None if solver in UNBOUNDED else _conflicts(s)
         model = tuple(s.get_model() or ()) if result else None
     return Outcome(_status(result), model, b"", time.perf_counter() - started, conflicts, _description(solver))
