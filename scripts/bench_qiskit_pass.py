@@ -278,9 +278,9 @@ def main() -> None:
     import qiskit
 
     from exactsyn.optimise.allowed_gates import gate_set
-    from exactsyn.optimise.class_windows import class_table_lines
+    from exactsyn.optimise.driver import default_window
 
-    window = 4 if class_table_lines(gate_set("nct", 8)) == 4 else 3
+    window = default_window(gate_set("nct", 8), 8)
     print(f"# qiskit {qiskit.__version__}; target x, cx, ccx, mcx (no coupling); pass window {window} (NCT blocks)")
     print("# cells: gates/T-count/CNOT count/depth; seconds of qiskit level 3, of the pass, of both, of the g,T pass")
     show(HEAD)

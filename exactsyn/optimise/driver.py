@@ -449,6 +449,12 @@ class _Passes:
         return Circuit(self.n, tuple(self.pool.gates[g] for g in self.seq))
 
 
+def default_window(gates: GateSet, n: int) -> int:
+    """The window when none is asked for: 4 lines when a cached class table serves the gate
+    set's 4-line windows (and the circuit has 4 lines), else 3."""
+    return 4 if class_table_lines(gates) == 4 and n >= 4 else 3
+
+
 def window_answerers(gates: GateSet, n: int, model: CostModel | None, window: int) -> WindowResynthesis:
     """The window answerers: exhaustive tables up to 3 lines; 4-line windows from the cached
     class tables (gates and gates-then-cost), else from the distance table (gates only);
@@ -541,7 +547,7 @@ def optimise_circuit(
     if model is not None:
         model.check(circuit.gates, n)
     if window is None:
-        window = 4 if class_table_lines(gates) == 4 and n >= 4 else 3
+        window = default_window(gates, n)
     zero = zero_line_tuple(circuit, zero_lines, seed)
     if resynthesis is None:
         resynthesis = window_answerers(gates, n, model, window)

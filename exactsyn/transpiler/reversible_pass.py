@@ -46,8 +46,8 @@ from exactsyn.optimise import (
     optimise_circuit,
 )
 from exactsyn.optimise.allowed_gates import GateSet, gate_set
-from exactsyn.optimise.class_windows import class_table_lines
-from exactsyn.optimise.driver import DEFAULT_HORIZON, window_answerers
+from exactsyn.optimise.driver import DEFAULT_HORIZON, default_window, window_answerers
+from exactsyn.optimise.equivalence import dirty_zero_line
 from exactsyn.optimise.resynthesis import WindowResynthesis
 from exactsyn.transpiler.blocks import Block, reversible_blocks
 from exactsyn.transpiler.convert import placed, reversible, to_qiskit
@@ -220,11 +220,7 @@ class ReversibleBlockOptimiser(TransformationPass):  # type: ignore[misc]
         for every later block of the same gate set and width (their tables are built once)."""
         n = circuit.lines
         gates = gate_set(self.library, n, circuit.gates, self.max_controls)
-        if self.window is None:
-            window = 4 if class_table_lines(gates) == 4 and n >= 4 else 3
-        else:
-            window = self.window
-        window = min(window, n)
+        window = min(default_window(gates, n) if self.window is None else self.window, n)
         key = (gates, self.objective, self.cost, window)
         found = self._answerers_cache.get(key)
         if found is None:
@@ -310,18 +306,17 @@ def _first_operations(dag: DAGCircuit, qubits: tuple[int, ...]) -> dict[Qubit, i
 
 def _clean_ancillas(block: Block, firsts: dict[Qubit, int]) -> tuple[int, ...]:
     """The block's lines that start at |0⟩ (it holds their first operation) and that it
-    returns to |0⟩ on every input with them 0 (dropping the others until none is left to drop)."""
+    returns to |0⟩ on every input with them 0, by the optimiser's own check
+    (:func:`~exactsyn.optimise.equivalence.dirty_zero_line`, every input at this size),
+    dropping a line it leaves at 1 until none is left.  Dropping one at a time ends where
+    dropping all at once would: fewer zero lines honour more inputs, so a dirty line stays
+    dirty."""
     if block.circuit.lines > CONTEXT_LINES or not firsts:
         return ()
     members = {node._node_id for node in block.nodes}
     zero = {line for line, qubit in enumerate(block.qubits) if firsts.get(qubit, -1) in members}
-    perm = block.circuit.permutation()
-    while zero:
-        mask = sum(1 << line for line in zero)
-        dirty = {line for x, y in enumerate(perm) if not x & mask for line in zero if y >> line & 1}
-        if not dirty:
-            break
-        zero -= dirty
+    while (dirty := dirty_zero_line(block.circuit, tuple(sorted(zero)))) is not None:
+        zero.discard(dirty[0])
     return tuple(sorted(zero))
 
 
