@@ -37,19 +37,12 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+from bench_optimise import random_nct  # noqa: E402  (the same random circuits as that benchmark)
+
 from exactsyn.core.circuit import Circuit  # noqa: E402
 from exactsyn.core.gates import Gate, x_gate  # noqa: E402
 
 ADDER_BITS = 16
-
-
-def random_nct(lines: int, gates: int, seed: int) -> Circuit:
-    rng = random.Random(seed)
-    out = []
-    for _ in range(gates):
-        picked = rng.sample(range(lines), rng.randint(1, 3))
-        out.append(x_gate(picked[0], picked[1:]))
-    return Circuit(lines, tuple(out))
 
 
 def ripple_adder(a: list[int], b: list[int], carry_in: int, carry_out: int) -> list[Gate]:

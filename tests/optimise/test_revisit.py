@@ -10,26 +10,16 @@ import random
 
 import pytest
 
-from exactsyn.core.circuit import Circuit
-from exactsyn.core.gates import x_gate
 from exactsyn.optimise import optimise_circuit
 from exactsyn.optimise.revisit import Revisits
-
-
-def _random_nct(lines: int, gates: int, seed: int) -> Circuit:
-    rng = random.Random(seed)
-    out = []
-    for _ in range(gates):
-        picked = rng.sample(range(lines), rng.randint(1, 3))
-        out.append(x_gate(picked[0], picked[1:]))
-    return Circuit(lines, tuple(out))
+from exactsyn.specification.samples import random_circuit
 
 
 @pytest.mark.parametrize(("lines", "gates", "seed", "window"), [(6, 300, 1, 3), (12, 400, 2, 3), (8, 250, 3, 4)])
 def test_the_same_output_with_and_without_skipping(
     lines: int, gates: int, seed: int, window: int, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    circuit = _random_nct(lines, gates, seed)
+    circuit = random_circuit(lines, gates, random.Random(seed), max_controls=2)  # NCT gates
     skipping = optimise_circuit(circuit, window=window)
     monkeypatch.setattr(Revisits, "unchanged", lambda self, seed, forward, width: False)
     every = optimise_circuit(circuit, window=window)
