@@ -50,6 +50,10 @@ from exactsyn.tables.keys import layout
 
 #: Classes per chunk when the settings do not say (in-process scans check the deadline between chunks).
 DEFAULT_CHUNK = 1 << 15
+#: Lanes (classes × 2 × conjugates) per process from which a scan builds the kernels' filter
+#: of the top level first (5 lines, :mod:`exactsyn.tables.filter5`: about 27 CPU seconds for
+#: the depth-6 level, saving about 65 ns of 190 per lane; same answers).
+FILTER_LANES = 5 * 10**8
 STATE_FORMAT = "exactsyn-scan/1"
 ScanProgress = Callable[[int, int], None]  # (classes done, classes in the level)
 
@@ -82,6 +86,7 @@ class ScanJob:
     lo: int
     hi: int
     fkeys: bytes
+    filtered: bool = False
 
 
 @dataclass(frozen=True)
@@ -134,7 +139,7 @@ def run_chunk(job: ScanJob) -> ChunkOutcome:
     reps = levels[job.level][0]
     vals, index, shift = levels[job.top]
     out = np.empty(job.hi - job.lo, dtype=np.int64)
-    lay.kernels().scan(reps, job.lo, job.hi, fkeys, vals, index, shift, out)
+    lay.kernels().scan(reps, job.lo, job.hi, fkeys, vals, index, shift, out, filtered=job.filtered)
     hits = np.flatnonzero(out >= 0)
     position, lane = (job.lo + int(hits[0]), int(out[hits[0]])) if len(hits) else (-1, -1)
     return ChunkOutcome(job.lo, job.hi, position, lane, time.perf_counter() - t0)
@@ -232,6 +237,12 @@ def _dask(jobs: list[ScanJob], settings: ScanSettings, stop: Callable[[], bool])
                 return
 
 
+def worth_filter(classes: int, conjugates: int, processes: int = 1) -> bool:
+    """Does a scan of ``classes`` classes for ``conjugates`` target conjugates pay for building
+    the filter in each of ``processes`` processes (:data:`FILTER_LANES`)?"""
+    return classes * 2 * conjugates >= FILTER_LANES * max(1, processes)
+
+
 def scan_level(
     library: str,
     lines: int,
@@ -261,8 +272,10 @@ def scan_level(
         return ScanResult((best.position, best.lane), True, sum(o.hi - o.lo for o in recorded.values()), 0.0,
                           len(recorded))  # fmt: skip
     cache_text = str(cache) if cache is not None else None
+    filtered = worth_filter(classes, len(fkeys), settings.jobs)
     jobs = [
-        ScanJob(library, lines, content_hash, cache_text, level, top, lo, min(classes, lo + settings.chunk), raw)
+        ScanJob(library, lines, content_hash, cache_text, level, top, lo, min(classes, lo + settings.chunk), raw,
+                filtered)  # fmt: skip
         for lo in range(0, classes, settings.chunk)
         if lo not in recorded
     ]

@@ -38,7 +38,7 @@ import numpy as np
 from exactsyn.core.gates import Gate
 from exactsyn.errors import ExactsynError
 from exactsyn.tables import storage
-from exactsyn.tables.deep import DEFAULT_CHUNK, ScanResult, ScanSettings, scan_level
+from exactsyn.tables.deep import DEFAULT_CHUNK, ScanResult, ScanSettings, scan_level, worth_filter
 from exactsyn.tables.gate_keys import GateSet, gate_set
 from exactsyn.tables.keys import check_lines
 
@@ -371,10 +371,11 @@ class TableLookup:
         reps = t.levels[level].vals
         hits: list[int] = []
         out = np.empty(min(DEFAULT_CHUNK, max(1, len(reps))), dtype=np.int64)
+        filtered = worth_filter(len(reps), len(conj))
         for start in range(0, len(reps), DEFAULT_CHUNK):
             stop = min(len(reps), start + DEFAULT_CHUNK)
             o = out[: stop - start]
-            K.scan(reps, start, stop, conj, top.vals, top.index, top.shift, o)
+            K.scan(reps, start, stop, conj, top.vals, top.index, top.shift, o, filtered=filtered)
             found = np.flatnonzero(o >= 0)
             if len(found):
                 hits += lay.ints(K.unmix_many(reps[start + found]))

@@ -113,7 +113,11 @@ class TableKernels(Protocol):
         index: np.ndarray,
         shift: int,
         out: np.ndarray,
+        filtered: bool = False,
     ) -> None:
         """For each mixed class ``a = reps[i]`` (``start ≤ i < stop``) the first ``(c, e)`` with
-        ``canon(fconj[c] ∘ a^e)`` in the level ``vals``: ``out[i − start] = 2c + (e == −1)``, or −1."""
+        ``canon(fconj[c] ∘ a^e)`` in the level ``vals``: ``out[i − start] = 2c + (e == −1)``, or −1.
+
+        ``filtered``: a layout that has a filter of class invariants (5 lines:
+        :mod:`exactsyn.tables.filter5`) may use it to skip lanes; ``out`` is the same."""
         ...

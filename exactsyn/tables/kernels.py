@@ -738,8 +738,9 @@ class WordKernels:
         index: np.ndarray,
         shift: int,
         out: np.ndarray,
+        filtered: bool = False,
     ) -> None:
-        self.compiled.scan(reps, start, stop, fconj, vals, index, shift, out)
+        self.compiled.scan(reps, start, stop, fconj, vals, index, shift, out)  # no filter: 4-line scans are short
 
 
 def kernels_for(layout: KeyLayout) -> WordKernels:

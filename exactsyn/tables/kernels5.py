@@ -829,8 +829,15 @@ class FiveKernels:
         index: np.ndarray,
         shift: int,
         out: np.ndarray,
+        filtered: bool = False,
     ) -> None:
         fb, fib = as_bytes(fconj)
+        if filtered:
+            from exactsyn.tables import filter5  # imports this module
+
+            bits, bshift = filter5.filter_for(vals)
+            filter5.scan_filtered(reps, start, stop, fb, fib, vals.reshape(-1, 3), index, shift, bits, bshift, out)
+            return
         scan(reps, start, stop, fb, fib, vals.reshape(-1, 3), index, shift, out)
 
 
