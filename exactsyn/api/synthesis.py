@@ -48,7 +48,7 @@ from exactsyn.search.fallback import Suggestion, next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
-from exactsyn.specification.loader import load_any
+from exactsyn.specification.loader import given_circuit, load_any
 from exactsyn.specification.reversible import Spec, from_permutation
 from exactsyn.tables.oracle import LAYER_HINT, table_roles
 
@@ -259,6 +259,7 @@ def synthesise_request(
 ) -> Synthesis:
     """Run ``request`` on ``spec``: gate search, objective, optima, certificate (module docstring)."""
     start = time.perf_counter()
+    given = given_circuit(Path(spec)) if isinstance(spec, str | os.PathLike) else None
     spec, embedding = resolve_spec(spec, embedding)
     lib = request.library_for(spec.lines)
     model = request.cost_model()
@@ -272,7 +273,7 @@ def synthesise_request(
             cnf=dimacs_writer(request.dimacs) if request.dimacs is not None else None,
             observer=observer,
         )
-        return _run(spec, embedding, request, lib, model, hooks, work, start)
+        return _run(spec, embedding, request, lib, model, hooks, work, start, given)
     except BaseException as e:
         if work is not None and work.exists():
             staging.discard(work)
@@ -290,10 +291,12 @@ def _run(
     hooks: Hooks,
     work: Path | None,
     start: float,
+    given: Circuit | None = None,
 ) -> Synthesis:
-    """The steps of :func:`synthesise_request` once the certificate's directory is staged (``work``)."""
+    """The steps of :func:`synthesise_request` once the certificate's directory is staged (``work``);
+    ``given``: the circuit of a spec file that is a saved circuit (a first upper bound)."""
     options = request.search
-    gates = minimise_gates(spec, lib, options, hooks)
+    gates = minimise_gates(spec, lib, options, hooks, given)
     notes = _gate_notes(gates)
     suggestions: tuple[Suggestion, ...] = ()
     if gates.circuit is None:

@@ -87,7 +87,11 @@ def verify_circuit(circuit: Circuit, spec: Spec, library: Library) -> None:
 
 
 def minimise_gates(
-    spec: Spec, library: Library, options: SearchOptions = DEFAULT_OPTIONS, hooks: Hooks = NO_HOOKS
+    spec: Spec,
+    library: Library,
+    options: SearchOptions = DEFAULT_OPTIONS,
+    hooks: Hooks = NO_HOOKS,
+    given: Circuit | None = None,
 ) -> GateResult:
     """Find a minimum-gate circuit; see the module docstring.
 
@@ -97,16 +101,21 @@ def minimise_gates(
     export) and progress (every answered query and a
     :class:`~exactsyn.search.events.SearchEvent` for the other phases).  Raises
     :class:`NoCircuitError` when parity (or affinity, or the spec itself) rules every
-    circuit out.
+    circuit out.  ``given``: a circuit of the function (the spec file was a saved circuit);
+    when its gates are in the library it is an upper bound like the fallback, and it is
+    returned as optimal when the lower bound reaches its size.
     """
-    return _GateSearch(spec, library, options, hooks).run()
+    return _GateSearch(spec, library, options, hooks, given).run()
 
 
 class _GateSearch:
     """The state of one gate search: bounds, the upper-bound circuit, the queries asked."""
 
-    def __init__(self, spec: Spec, library: Library, options: SearchOptions, hooks: Hooks) -> None:
+    def __init__(
+        self, spec: Spec, library: Library, options: SearchOptions, hooks: Hooks, given: Circuit | None = None
+    ) -> None:
         self.spec, self.library, self.options, self.hooks = spec, library, options, hooks
+        self.given = given
         self.start = time.perf_counter()
         limit = options.time_limit
         self.deadline = None if limit is None else self.start + limit
@@ -179,6 +188,8 @@ class _GateSearch:
         verdict = self.class_table()
         if self.options.fallback and not hopeless and (verdict is None or verdict.circuit is None):
             self.fallback = initial_upper(self.spec, self.library, self.deadline, self.hooks.observer)
+        if self.given is not None and (verdict is None or verdict.circuit is None):
+            self.fallback = _prefer_given(self.fallback, self.given, self.spec, self.library)
         k = self.bound.value
         if verdict is not None and self.claim is not None:
             if verdict.circuit is not None:
@@ -287,3 +298,15 @@ class _GateSearch:
         if ans.query.status == Status.UNKNOWN:
             return self.give_up(k)
         return None
+
+
+def _prefer_given(fallback: Fallback, given: Circuit, spec: Spec, library: Library) -> Fallback:
+    """The given circuit as the upper bound when it is in the library, computes the spec and
+    is shorter than the fallback (or there is none); else the fallback."""
+    if given.lines != spec.lines or not all(library.contains(g) for g in given.gates):
+        return fallback
+    if not spec.is_permutation or given.permutation() != spec.permutation:
+        return fallback
+    if fallback.circuit is not None and len(fallback.circuit) <= len(given):
+        return fallback
+    return Fallback(given, f"the circuit given as the spec ({len(given)} gates)")

@@ -3,7 +3,7 @@
 * a saved circuit in any readable format of :mod:`exactsyn.io.registry` (OpenQASM 2.0 or
   3.0 with the gate set of :mod:`exactsyn.io.qasm`, exactsyn JSON as written by
   ``--format json``): the circuit's function, as a full permutation, to be resynthesised
-  optimally;
+  optimally (the circuit itself, :func:`given_circuit`, is the search's first upper bound);
 * TOML: a permutation spec (``permutation`` / ``cycles``, :mod:`exactsyn.specification.reversible`) or a
   Boolean function (``inputs`` / ``outputs``, :mod:`exactsyn.specification.boolean`), embedded into
   a reversible spec by :mod:`exactsyn.specification.embed`.
@@ -14,11 +14,21 @@ from __future__ import annotations
 import tomllib
 from pathlib import Path
 
+from exactsyn.core.circuit import Circuit
 from exactsyn.errors import ExactsynError
 from exactsyn.io.formats import circuit_from_text, is_circuit_kind, kind_of_text, read_text
 from exactsyn.specification.boolean import function_from_mapping, is_function_mapping
 from exactsyn.specification.embed import Embedding, embed
 from exactsyn.specification.reversible import MAX_LINES, Spec, from_permutation, spec_from_mapping
+
+
+def given_circuit(path: str | Path) -> Circuit | None:
+    """The circuit of a spec file that is a saved circuit (None for a TOML spec)."""
+    p = Path(path)
+    text = read_text(p, "spec file")
+    if not is_circuit_kind(kind_of_text(text, p.suffix)):
+        return None
+    return circuit_from_text(text, p)
 
 
 def load_any(path: str | Path) -> tuple[Spec, Embedding | None]:
