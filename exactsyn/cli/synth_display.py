@@ -85,6 +85,7 @@ class SynthDisplay(Display):
         self.now.label = "starting"
         self._cubes: dict[str, int] = {}
         self._cube_start = self._cube_said = 0.0
+        self._scan_step = ""  # the table scan the status line times (its timer runs over its chunks)
         self._last_line = time.perf_counter()
         self._closed = threading.Event()
 
@@ -153,7 +154,8 @@ class SynthDisplay(Display):
         elif item.phase == "query-start":
             self.status(f"k = {item.k}: SAT solver running", item.seconds)
         elif item.phase == "table-scan":
-            self.status(f"{item.detail}: {item.low:,}/{item.high:,} classes")
+            same_step, self._scan_step = item.detail == self._scan_step, item.detail
+            self.status(f"{item.detail}: {item.low:,}/{item.high:,} classes", restart=not same_step)
         text = event_line(item)
         if text is not None:
             self.line(text)

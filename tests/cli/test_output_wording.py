@@ -181,3 +181,20 @@ def test_plain_progress_says_every_few_seconds_what_still_runs() -> None:
     lines = buf.getvalue().splitlines()
     assert lines[0] == "gate count settled; optimising the depth …"
     assert len([x for x in lines if x.startswith("gate count settled; optimising the depth … 0:0")]) >= 2, lines
+
+
+def test_a_long_table_scan_is_timed_from_its_start_not_from_its_last_chunk() -> None:
+    buf = io.StringIO()
+    step = "5-line class table of mct: split after 6 gates"
+    with SynthDisplay("plain", Console(file=buf, width=120)) as p:
+        p.every = 0.2
+        p(SearchEvent("table-scan", low=0, high=100, detail=step))
+        start = p.now.since
+        for done in (10, 20, 30):
+            time.sleep(0.4)
+            p(SearchEvent("table-scan", low=done, high=100, detail=step))
+        assert p.now.since == start  # the same scan: the timer runs on
+        p(SearchEvent("table-scan", low=0, high=100, detail="one gate and a split after 6"))
+        assert p.now.since > start  # a new scan: a new timer
+    # chunks came every 0.4 s; the heartbeat counts the scan's time (a second after 1.2 s)
+    assert any(x.endswith("classes … 0:01 elapsed") for x in buf.getvalue().splitlines()), buf.getvalue()
