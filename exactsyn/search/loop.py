@@ -115,7 +115,7 @@ class _GateSearch:
         self, spec: Spec, library: Library, options: SearchOptions, hooks: Hooks, given: Circuit | None = None
     ) -> None:
         self.spec, self.library, self.options, self.hooks = spec, library, options, hooks
-        self.given = given
+        self.given = given if given is not None and _usable(given, spec, library) else None
         self.start = time.perf_counter()
         limit = options.time_limit
         self.deadline = None if limit is None else self.start + limit
@@ -216,7 +216,8 @@ class _GateSearch:
         def scanning(step: str, done: int, total: int) -> None:
             self.emit(SearchEvent("table-scan", low=done, high=total, detail=f"{what}: {step}"))
 
-        verdict = oracle.optimum(self.spec.permutation, self.deadline, scanning)
+        known = None if self.given is None else len(self.given)  # the scans stop when the bound meets it
+        verdict = oracle.optimum(self.spec.permutation, self.deadline, scanning, known)
         claim = verdict.claim
         assert isinstance(claim, ClassTableClaim)
         self.claim = claim
@@ -300,13 +301,16 @@ class _GateSearch:
         return None
 
 
-def _prefer_given(fallback: Fallback, given: Circuit, spec: Spec, library: Library) -> Fallback:
-    """The given circuit as the upper bound when it is in the library, computes the spec and
-    is shorter than the fallback (or there is none); else the fallback."""
+def _usable(given: Circuit, spec: Spec, library: Library) -> bool:
+    """Is ``given`` a circuit of ``spec`` over ``library`` (so an upper bound)?"""
     if given.lines != spec.lines or not all(library.contains(g) for g in given.gates):
-        return fallback
-    if not spec.is_permutation or given.permutation() != spec.permutation:
-        return fallback
+        return False
+    return spec.is_permutation and given.permutation() == spec.permutation
+
+
+def _prefer_given(fallback: Fallback, given: Circuit, spec: Spec, library: Library) -> Fallback:
+    """The given circuit (checked by :func:`_usable`) as the upper bound when it is shorter
+    than the fallback or there is none; else the fallback."""
     if fallback.circuit is not None and len(fallback.circuit) <= len(given):
         return fallback
     return Fallback(given, f"the circuit given as the spec ({len(given)} gates)")

@@ -159,9 +159,13 @@ class Tables:
         time_limit: float | None = None,
         scan: ScanSettings | None = None,
         progress: MeetProgress | None = None,
+        known: int | None = None,
     ) -> TableAnswer:
         """Optimal circuit of a permutation of the table's lines, or the lower bound reached.
 
+        ``known``: the caller holds a circuit of that many gates; once every split below it
+        has failed, the bound is returned (the caller's circuit is then optimal) instead of
+        scanning on for a circuit of the same size.
         ``max_extra`` caps the meet-in-the-middle level ``L`` (default: the table depth);
         ``time_limit`` (seconds) stops the scan between chunks; ``scan`` says where the
         chunks run and where their state is kept (:mod:`exactsyn.tables.deep`);
@@ -184,7 +188,7 @@ class Tables:
             raise ExactsynError(f"the permutation is not realisable over {self.library}")
         extra = self.depth if max_extra is None else min(max_extra, self.depth)
         deadline = None if time_limit is None else t0 + time_limit
-        return self._meet(p, f, t0, extra, _Scan(self, scan, deadline, progress))
+        return self._meet(p, f, t0, extra, _Scan(self, scan, deadline, progress), known)
 
     def _conjugates(self, targets: Sequence[int]) -> tuple[np.ndarray, list[tuple[int, tuple[int, ...]]]]:
         """Key array of the distinct conjugates of every target, and per conjugate (target, σ)."""
@@ -208,7 +212,9 @@ class Tables:
         b_key = lay.compose(target, lay.inverse(a_key))  # B = target ∘ A⁻¹
         return self._walk(a_key, L) + self._walk(b_key, self.depth)
 
-    def _meet(self, p: tuple[int, ...], f: int, t0: float, max_extra: int, scan: _Scan) -> TableAnswer:
+    def _meet(
+        self, p: tuple[int, ...], f: int, t0: float, max_extra: int, scan: _Scan, known: int | None = None
+    ) -> TableAnswer:
         R = self.depth
         fkeys, whose = self._conjugates([f])
         scanned: list[dict[str, Any]] = []
@@ -225,6 +231,8 @@ class Tables:
                 return self._answer(p, gates, t0, "meet in the middle", detail)
             if not res.complete:
                 return self._bound(p, R + L, t0, {"depth": R, "levels": scanned, "tests": tests, "timeout": True})
+            if known is not None and R + L + 1 >= known:  # the caller's circuit meets the bound
+                return self._bound(p, R + L + 1, t0, {"depth": R, "levels": scanned, "tests": tests, "known": known})
         if max_extra < R:
             return self._bound(p, R + max_extra + 1, t0, {"depth": R, "levels": scanned, "tests": tests})
         return self._peel(p, f, t0, scan, {"depth": R, "levels": scanned, "tests": tests})

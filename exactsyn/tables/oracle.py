@@ -206,14 +206,21 @@ class ClassOracle:
         return f"{self.lines}-line class table of {self.name}"
 
     def optimum(
-        self, perm: tuple[int, ...], deadline: float | None = None, progress: MeetProgress | None = None
+        self,
+        perm: tuple[int, ...],
+        deadline: float | None = None,
+        progress: MeetProgress | None = None,
+        known: int | None = None,
     ) -> Verdict:
         """The optimum in the table's steps (gates; layers for a layer table) and a circuit, or a
-        bound; ``progress(what, classes done, classes)`` hears of long scans."""
+        bound; ``progress(what, classes done, classes)`` hears of long scans.  ``known``: the
+        caller holds a circuit of that many gates, so the scans stop once the bound reaches it
+        (ignored by a layer table)."""
         t0 = time.perf_counter()
         t = self.table
         left = None if deadline is None else max(0.0, deadline - t0)
-        ans = t.synthesise(perm, time_limit=left, scan=self.scan, progress=progress)
+        known = None if self.name.endswith(LAYERS) else known
+        ans = t.synthesise(perm, time_limit=left, scan=self.scan, progress=progress, known=known)
         seconds = time.perf_counter() - t0
         if ans.optimal and ans.gates is not None and ans.gate_count is not None and self._library is not None:
             circuit = _checked(Circuit(self.lines, tuple(ans.gates)), perm, self._library)

@@ -84,3 +84,19 @@ def test_a_given_circuit_outside_the_library_is_not_used(
     assert syn.circuit is not None and syn.circuit.permutation() == wide.permutation()
     assert all(len(g.controls) <= 2 for g in syn.circuit.gates)
     assert "given" not in syn.gate_result.how
+
+
+def test_the_table_stops_scanning_when_its_bound_meets_a_known_circuit(five_cache: Path, tmp_path: Path) -> None:
+    t = tables.load("mct", cache=five_cache, lines=5)
+    p = _circuit(8, 107).permutation()  # seed as in tests/tables/test_tables_five.py: optimum 7, by the peel
+    full = t.synthesise(p)
+    assert full.optimal and full.gate_count == 7 and "peel" in full.detail and full.gates is not None
+    stopped = t.synthesise(p, known=7)  # every split of up to 6 gates failed: at least 7, no peel
+    assert not stopped.optimal and stopped.lower_bound == 7 and "peel" not in stopped.detail
+    assert stopped.detail["known"] == 7
+    assert t.synthesise(p, known=9).gate_count == 7  # a longer known circuit: the table goes on
+    # through synth: the table's circuit of 7, saved and given back, is proven by the bound alone
+    path = write_circuit(Circuit(5, tuple(full.gates)), tmp_path / "seven.json")
+    syn = synthesise(str(path), library="mct", time_limit=120)
+    assert syn.optimal and syn.gate_count == 7 and "given" in syn.gate_result.how
+    assert syn.circuit is not None and syn.circuit.permutation() == p
