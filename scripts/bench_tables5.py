@@ -15,6 +15,11 @@ functions of a length once that many seconds went into it, so a long length can 
 "as far as time allows" (the summary then says how many were tried).  Every circuit is
 simulated by the search before it is returned.
 
+``--given`` asks another question: each function's generating circuit is saved and given
+as the spec (``synth circuit.qasm``), so it is the first upper bound and the table only has
+to show that nothing shorter exists (an optimum equal to the length then needs no search
+for a circuit).  Not the same task as synthesis from the function; report it apart.
+
 The table must be cached (``exactsyn tables build --lines 5 --library mct``; set
 ``EXACTSYN_CACHE`` or ``--cache``); its depth, classes, size and recorded build time are
 printed first.
@@ -22,6 +27,7 @@ printed first.
     .venv/bin/python scripts/bench_tables5.py                                  # 9..12 gates, 10 each
     .venv/bin/python scripts/bench_tables5.py --lengths 9,10,11 --time-limit 300
     .venv/bin/python scripts/bench_tables5.py --lengths 12 --time-limit 1800 --budget 3600
+    .venv/bin/python scripts/bench_tables5.py --lengths 12 --given           # is the generating circuit optimal?
 """
 
 from __future__ import annotations
@@ -32,14 +38,17 @@ import random
 import resource
 import statistics
 import sys
+import tempfile
 import time
 from collections import Counter
 from dataclasses import dataclass
 from pathlib import Path
 
 from exactsyn import synthesise, tables
+from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
-from exactsyn.specification.samples import random_library_function
+from exactsyn.io.formats import write_circuit
+from exactsyn.specification.samples import random_library_circuit
 
 LINES = 5
 
@@ -78,13 +87,20 @@ def table_line(library: str, cache: Path | None) -> str | None:
             f"{t.bytes / 2**30:.2f} GiB, content hash {(t.content_hash or '')[:16]}{built}")  # fmt: skip
 
 
-def prove(perm: tuple[int, ...], library: str, time_limit: float | None, length: int, index: int) -> Row:
-    t0, c0 = time.perf_counter(), time.process_time()
-    syn = synthesise(list(perm), library=library, time_limit=time_limit)
-    seconds, cpu = time.perf_counter() - t0, time.process_time() - c0
+def prove(circuit: Circuit, library: str, time_limit: float | None, length: int, index: int, given: bool) -> Row:
+    perm = circuit.permutation()
+    with tempfile.TemporaryDirectory() as tmp:
+        spec: list[int] | str = list(perm)
+        if given:
+            spec = str(write_circuit(circuit, Path(tmp) / "given.json"))
+        t0, c0 = time.perf_counter(), time.process_time()
+        syn = synthesise(spec, library=library, time_limit=time_limit)
+        seconds, cpu = time.perf_counter() - t0, time.process_time() - c0
     res = syn.gate_result
     claim = res.class_table
     method = claim.method if claim is not None else res.source
+    if syn.optimal and "given" in res.how:
+        method += ", then the given circuit met the bound"
     if syn.circuit is not None:
         assert syn.circuit.permutation() == perm  # the search simulated it; say so again here
     return Row(length, index, syn.optimal, syn.gate_count if syn.circuit is not None else None,
@@ -94,14 +110,14 @@ def prove(perm: tuple[int, ...], library: str, time_limit: float | None, length:
 def run_length(length: int, args: argparse.Namespace) -> list[Row]:
     lib = make_library(args.library, LINES)
     rng = random.Random(args.seed * 100 + length)
-    perms = [random_library_function(lib, length, rng) for _ in range(args.n)]
+    circuits = [random_library_circuit(lib, length, rng) for _ in range(args.n)]  # random_library_function's draws
     rows: list[Row] = []
     t_length = time.perf_counter()
-    for i, p in enumerate(perms):
+    for i, c in enumerate(circuits):
         if args.budget is not None and time.perf_counter() - t_length > args.budget:
             print(f"  {length} gates: budget of {args.budget:.0f} s spent, {args.n - i} not tried", flush=True)
             break
-        row = prove(p, args.library, args.time_limit, length, i)
+        row = prove(c, args.library, args.time_limit, length, i, args.given)
         rows.append(row)
         got = f"optimum {row.gates}" if row.optimal else f"in [{row.lower}, {row.gates}]"
         print(f"  {length} gates #{i}: {got}, {row.seconds:.1f} s ({row.cpu:.1f} s CPU), {row.method}, {load()}",
@@ -133,6 +149,7 @@ def main() -> int:
     ap.add_argument("--cache", type=Path, default=None, help="table cache (default: EXACTSYN_CACHE or per-user)")
     ap.add_argument("--time-limit", type=float, default=None, help="seconds per function (default none)")
     ap.add_argument("--budget", type=float, default=None, help="seconds per length; no new function after it")
+    ap.add_argument("--given", action="store_true", help="give each generating circuit as the spec (an upper bound)")
     args = ap.parse_args()
     try:
         lengths = [int(v) for v in args.lengths.split(",") if v]
@@ -154,7 +171,8 @@ def main() -> int:
         summaries.append(summary(length, rows, args.n))
         print(summaries[-1], flush=True)
     limit = "none" if args.time_limit is None else f"{args.time_limit:.0f} s"
-    print(f"\n{args.library}, seed {args.seed}, time limit per function {limit}, {load()}")
+    given = ", generating circuits given" if args.given else ""
+    print(f"\n{args.library}, seed {args.seed}, time limit per function {limit}{given}, {load()}")
     for line in summaries:
         print(line)
     return 0

@@ -48,9 +48,14 @@ def random_circuit(
     return Circuit(lines, tuple(out))
 
 
+def random_library_circuit(library: Library, gates: int, rng: random.Random) -> Circuit:
+    """A circuit of ``gates`` gates drawn uniformly (with repetition) from ``library``."""
+    return Circuit(library.lines, tuple(library.gates[rng.randrange(len(library.gates))] for _ in range(gates)))
+
+
 def random_library_function(library: Library, gates: int, rng: random.Random) -> tuple[int, ...]:
-    """The function of ``gates`` gates drawn uniformly (with repetition) from ``library``."""
+    """The function of :func:`random_library_circuit` (the same draws from ``rng``)."""
     state = np.arange(1 << library.lines)
-    for _ in range(gates):
-        state = library.gates[rng.randrange(len(library.gates))].apply(state)
+    for g in random_library_circuit(library, gates, rng).gates:
+        state = g.apply(state)
     return tuple(int(v) for v in state)

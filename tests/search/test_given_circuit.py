@@ -21,13 +21,12 @@ from exactsyn.cli.main import main
 from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.io.formats import write_circuit
+from exactsyn.specification.samples import random_library_circuit
 
 
 def _circuit(gates: int, seed: int) -> Circuit:
     """The circuit behind ``random_library_function(mct on 5 lines, gates, Random(seed))``."""
-    lib = make_library("mct", 5)
-    rng = random.Random(seed)
-    return Circuit(5, tuple(lib.gates[rng.randrange(len(lib.gates))] for _ in range(gates)))
+    return random_library_circuit(make_library("mct", 5), gates, random.Random(seed))
 
 
 def _simulate(c: Circuit) -> tuple[int, ...]:

@@ -35,3 +35,14 @@ def test_random_circuit_respects_control_bounds() -> None:
     assert {g.num_controls for g in c.gates} == {1, 2}
     with pytest.raises(ValueError):
         random_circuit(3, 2, rng, min_controls=2, max_controls=1)
+
+
+def test_a_library_function_is_the_function_of_the_library_circuit_of_the_same_draws() -> None:
+    from exactsyn.core.library import make_library
+    from exactsyn.specification.samples import random_library_circuit, random_library_function
+
+    lib = make_library("mct", 4)
+    for seed in range(5):
+        c = random_library_circuit(lib, 9, random.Random(seed))
+        assert len(c) == 9 and all(lib.contains(g) for g in c.gates)
+        assert random_library_function(lib, 9, random.Random(seed)) == c.permutation()
