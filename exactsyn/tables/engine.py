@@ -191,17 +191,17 @@ class Tables:
         return self._meet(p, f, t0, extra, _Scan(self, scan, deadline, progress), known)
 
     def _conjugates(self, targets: Sequence[int]) -> tuple[np.ndarray, list[tuple[int, tuple[int, ...]]]]:
-        """Key array of the distinct conjugates of every target, and per conjugate (target, σ)."""
+        """Key array of the distinct conjugates of all targets, and per conjugate (target, σ).
+
+        A conjugate shared by two targets is scanned once, for the first: a split of it is a
+        split of that target (the peel's targets ``g∘f`` share all their conjugates when
+        ``f`` has symmetries: ``π_σ∘(g∘f)∘π_σ⁻¹ = g'∘f`` for ``σ`` fixing ``f``)."""
         lay = self.layout
-        keys: list[int] = []
-        whose: list[tuple[int, tuple[int, ...]]] = []
+        conj: dict[int, tuple[int, tuple[int, ...]]] = {}
         for j, t in enumerate(targets):
-            conj: dict[int, tuple[int, ...]] = {}
             for sigma in lay.relabellings:
-                conj.setdefault(lay.conjugate(t, sigma), sigma)
-            keys += list(conj)
-            whose += [(j, sigma) for sigma in conj.values()]
-        return lay.array(keys), whose
+                conj.setdefault(lay.conjugate(t, sigma), (j, sigma))
+        return lay.array(list(conj)), list(conj.values())
 
     def _split(self, target: int, L: int, position: int, lane: int, sigma: tuple[int, ...]) -> list[int]:
         """An optimal circuit of ``target`` from a hit of the scan of level ``L`` against level ``R``."""

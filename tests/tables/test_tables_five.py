@@ -22,6 +22,7 @@ from helpers import random_perm
 
 from exactsyn import tables
 from exactsyn.cli.main import main
+from exactsyn.core.circuit import Circuit
 from exactsyn.core.library import make_library
 from exactsyn.tables import storage, verify
 from exactsyn.tables.bfs import distance_layers
@@ -465,3 +466,22 @@ def test_five_line_descents_count_and_cost_as_sat_does_and_are_rechecked(
             report = check_certificate(tmp_path / name)
             assert report.ok, report.lines
             assert any("descent over the 5-line mct table re" in line.detail for line in report.lines), report.lines
+
+
+def test_targets_sharing_conjugates_are_scanned_once(five_cache: Path) -> None:
+    # f is fixed by swapping lines 0 and 1 (its gates come in commuting mirrored pairs), so the
+    # peel's targets g∘f come in pairs with the same conjugates
+    from exactsyn.core.gates import x_gate
+
+    gates = [x_gate(2, [0]), x_gate(2, [1]), x_gate(3, [0, 1]), x_gate(4, [2, 3]), x_gate(0, [4]), x_gate(1, [4])]
+    lib = make_library("mct", 5)
+    f = L5.pack(Circuit(5, tuple(gates)).permutation())
+    assert L5.conjugate(f, (1, 0, 2, 3, 4)) == f
+    t = tables.load("mct", cache=five_cache, lines=5)
+    targets = sorted({L5.compose(L5.pack(g.permutation(5)), f) for g in lib.gates})
+    keys, whose = t._conjugates(targets)
+    each = [len({L5.conjugate(x, s) for s in L5.relabellings}) for x in targets]
+    assert len(keys) < sum(each)  # shared conjugates are kept once
+    assert set(L5.ints(keys)) == {L5.conjugate(x, s) for x in targets for s in L5.relabellings}
+    for key, (j, sigma) in zip(L5.ints(keys), whose, strict=True):
+        assert L5.conjugate(targets[j], sigma) == key
