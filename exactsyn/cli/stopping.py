@@ -10,6 +10,12 @@ soon as the main thread is back in Python — every solve runs in short conflict
 slices, and python-sat's own SIGINT handler is switched off (:mod:`exactsyn.sat.sigint`
 says why); there is never a second exception in the middle of a clean-up.  :func:`exit_status` gives 143 for
 SIGTERM and 130 for Ctrl-C (128 + the signal number, the shells' convention).
+
+A process that starts with SIGINT ignored (``cmd &`` in a non-interactive shell: the shell
+ignores SIGINT for its background jobs) keeps ignoring a SIGINT from outside, but SIGTERM
+must still stop it: while the block runs, SIGINT goes to a handler that raises
+:class:`KeyboardInterrupt` only once a SIGTERM came (the watcher's own SIGINT).  Before
+this, such a process let SIGTERM pass unnoticed and ran on.
 """
 
 from __future__ import annotations
@@ -65,6 +71,12 @@ def interrupts() -> Iterator[Signals]:
                 state.terminated = True
                 os.kill(os.getpid(), signal.SIGINT)
 
+    def on_int_when_ignored(signum: int, frame: object) -> None:
+        if state.terminated:  # the watcher's SIGINT after a SIGTERM; a SIGINT from outside stays ignored
+            raise KeyboardInterrupt
+
+    ignored = signal.getsignal(signal.SIGINT) is signal.SIG_IGN
+    previous_int = signal.signal(signal.SIGINT, on_int_when_ignored) if ignored else None
     previous = signal.signal(signal.SIGTERM, on_term)
     old_fd = signal.set_wakeup_fd(write_end, warn_on_full_buffer=False)
     watcher = threading.Thread(target=watch, name="exactsyn-signals", daemon=True)
@@ -74,6 +86,8 @@ def interrupts() -> Iterator[Signals]:
     finally:
         signal.set_wakeup_fd(old_fd)
         signal.signal(signal.SIGTERM, previous)
+        if ignored:
+            signal.signal(signal.SIGINT, previous_int)
         os.close(write_end)  # the watcher reads end-of-file and returns
         watcher.join(1.0)
         os.close(read_end)

@@ -48,8 +48,15 @@ def no_tables(cwd: Path) -> dict[str, str]:
     return dict(os.environ, EXACTSYN_CACHE=str(cwd.parent / f"{cwd.name}-no-tables"))
 
 
-def stopped(args: list[str], cwd: Path, how: str, after: float) -> tuple[int, str, str, int]:
-    """Run ``exactsyn args``, send Ctrl-C (``int``) or SIGTERM (``term``) after ``after`` seconds."""
+def _ignore_sigint() -> None:
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+def stopped(
+    args: list[str], cwd: Path, how: str, after: float, sigint_ignored: bool = False
+) -> tuple[int, str, str, int]:
+    """Run ``exactsyn args``, send Ctrl-C (``int``) or SIGTERM (``term``) after ``after`` seconds;
+    ``sigint_ignored``: start it with SIGINT ignored, as a shell starts a background job."""
     p = subprocess.Popen(
         [sys.executable, "-m", "exactsyn", *args],
         cwd=cwd,
@@ -58,6 +65,7 @@ def stopped(args: list[str], cwd: Path, how: str, after: float) -> tuple[int, st
         text=True,
         start_new_session=True,
         env=no_tables(cwd),
+        preexec_fn=_ignore_sigint if sigint_ignored else None,
     )
     time.sleep(after)
     assert p.poll() is None, p.communicate()
@@ -96,6 +104,26 @@ def test_synth_stops_in_one_line_and_leaves_no_certificate_behind(
     assert out == ""
     assert left == 0
     assert sorted(p.name for p in tmp_path.iterdir()) == []  # neither cert/ nor a hidden partial directory
+
+
+def test_a_background_job_ignoring_sigint_still_stops_on_sigterm(tmp_path: Path) -> None:
+    # `cmd &` in a script starts cmd with SIGINT ignored: a Ctrl-C from outside stays ignored,
+    # SIGTERM still ends it in one line with 143 (it used to run on)
+    args = ["synth", "--perm", HARD5, "--library", "mct", "-j", "2", "--certificate", "cert"]
+    code, out, err, left = stopped(args, tmp_path, "term", 2.5, sigint_ignored=True)
+    assert code == 143, err
+    assert err == "exactsyn: terminated (SIGTERM): no certificate was written to cert\n", err
+    assert left == 0 and out == ""
+    p = subprocess.Popen([sys.executable, "-m", "exactsyn", "synth", "--perm", HARD5, "--library", "mct"],
+                         cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                         start_new_session=True, env=no_tables(tmp_path), preexec_fn=_ignore_sigint)  # fmt: skip
+    time.sleep(2.5)
+    os.killpg(p.pid, signal.SIGINT)
+    time.sleep(1.5)
+    assert p.poll() is None  # the ignored Ctrl-C changed nothing
+    os.kill(p.pid, signal.SIGTERM)
+    _, err = p.communicate(timeout=60)
+    assert p.returncode == 143 and err.startswith("exactsyn: terminated (SIGTERM)"), err
 
 
 def test_an_interrupted_run_keeps_the_certificate_that_was_there(tmp_path: Path) -> None:
