@@ -189,7 +189,10 @@ class _GateSearch:
         if self.options.fallback and not hopeless and (verdict is None or verdict.circuit is None):
             self.fallback = initial_upper(self.spec, self.library, self.deadline, self.hooks.observer)
         if self.given is not None and (verdict is None or verdict.circuit is None):
-            self.fallback = _prefer_given(self.fallback, self.given, self.spec, self.library)
+            before = self.fallback
+            self.fallback = _prefer_given(before, self.given, self.spec, self.library)
+            if self.fallback is not before:
+                self.emit(SearchEvent("fallback", value=len(self.given), detail=self.fallback.how))
         k = self.bound.value
         if verdict is not None and self.claim is not None:
             if verdict.circuit is not None:
