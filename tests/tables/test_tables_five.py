@@ -436,6 +436,10 @@ def test_the_cipher_instances_are_the_standards_maps() -> None:
     for name, reference in (("keccak-chi5.toml", _chi_row), ("ascon-sbox5.toml", _ascon_sbox)):
         spec, _ = load_any(root / name)
         assert spec.lines == 5 and spec.permutation == tuple(reference(v) for v in range(32)), name
+    # the 13-gate instance: χ, then a Toffoli with 4 controls on line 0 (outputs 30 and 31 exchanged)
+    spec, _ = load_any(root / "keccak-chi5-then-c4x.qasm")
+    exchange = {30: 31, 31: 30}
+    assert spec.permutation == tuple(exchange.get(_chi_row(v), _chi_row(v)) for v in range(32))
 
 
 def test_five_line_descents_count_and_cost_as_sat_does_and_are_rechecked(

@@ -1,0 +1,121 @@
+// Keccak chi on one row (FIPS 202, section 3.2.3), then a 4-control Toffoli on line 0:
+// chi with its outputs 30 and 31 exchanged. Thirteen MCT gates, proven optimal: every
+// split of at most 12 gates fails against the depth-6 5-line class table (docs/tables5.md),
+// and this circuit of 13 (chi in 12, then the Toffoli) is given as the spec:
+//   exactsyn synth instances/keccak-chi5-then-c4x.qasm --library mct --scan-state scans/
+OPENQASM 2.0;
+include "qelib1.inc";
+gate xc3 c0,c1,c2,t
+{
+  h t;
+  u1(pi/8) c0;
+  u1(pi/8) c1;
+  cx c0,c1;
+  u1(-pi/8) c1;
+  cx c0,c1;
+  u1(pi/8) c2;
+  cx c0,c2;
+  u1(-pi/8) c2;
+  cx c1,c2;
+  u1(pi/8) c2;
+  cx c0,c2;
+  u1(-pi/8) c2;
+  cx c1,c2;
+  u1(pi/8) t;
+  cx c0,t;
+  u1(-pi/8) t;
+  cx c1,t;
+  u1(pi/8) t;
+  cx c0,t;
+  u1(-pi/8) t;
+  cx c2,t;
+  u1(pi/8) t;
+  cx c0,t;
+  u1(-pi/8) t;
+  cx c1,t;
+  u1(pi/8) t;
+  cx c0,t;
+  u1(-pi/8) t;
+  cx c2,t;
+  h t;
+}
+gate xc4 c0,c1,c2,c3,t
+{
+  h t;
+  u1(pi/16) c0;
+  u1(pi/16) c1;
+  cx c0,c1;
+  u1(-pi/16) c1;
+  cx c0,c1;
+  u1(pi/16) c2;
+  cx c0,c2;
+  u1(-pi/16) c2;
+  cx c1,c2;
+  u1(pi/16) c2;
+  cx c0,c2;
+  u1(-pi/16) c2;
+  cx c1,c2;
+  u1(pi/16) c3;
+  cx c0,c3;
+  u1(-pi/16) c3;
+  cx c1,c3;
+  u1(pi/16) c3;
+  cx c0,c3;
+  u1(-pi/16) c3;
+  cx c2,c3;
+  u1(pi/16) c3;
+  cx c0,c3;
+  u1(-pi/16) c3;
+  cx c1,c3;
+  u1(pi/16) c3;
+  cx c0,c3;
+  u1(-pi/16) c3;
+  cx c2,c3;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c1,t;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c2,t;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c1,t;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c3,t;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c1,t;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c2,t;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c1,t;
+  u1(pi/16) t;
+  cx c0,t;
+  u1(-pi/16) t;
+  cx c3,t;
+  h t;
+}
+qreg q[5];
+x q[3];
+ccx q[3],q[4],q[2];
+ccx q[0],q[1],q[4];
+cx q[1],q[4];
+cx q[3],q[1];
+xc3 q[1],q[3],q[4],q[0];
+x q[3];
+ccx q[2],q[3],q[1];
+ccx q[0],q[4],q[3];
+cx q[0],q[3];
+ccx q[1],q[2],q[0];
+x q[1];
+xc4 q[1],q[2],q[3],q[4],q[0];
