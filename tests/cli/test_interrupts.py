@@ -52,6 +52,12 @@ def _ignore_sigint() -> None:
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
+def _default_sigint() -> None:
+    # as a terminal starts a command, whatever this test run inherited (a test run started
+    # as `cmd &` from a script has SIGINT ignored, and so would every child)
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
 def stopped(
     args: list[str], cwd: Path, how: str, after: float, sigint_ignored: bool = False
 ) -> tuple[int, str, str, int]:
@@ -65,7 +71,7 @@ def stopped(
         text=True,
         start_new_session=True,
         env=no_tables(cwd),
-        preexec_fn=_ignore_sigint if sigint_ignored else None,
+        preexec_fn=_ignore_sigint if sigint_ignored else _default_sigint,
     )
     time.sleep(after)
     assert p.poll() is None, p.communicate()

@@ -25,6 +25,8 @@ CHILD = textwrap.dedent(
     from pysat.examples.genhard import PHP
     from exactsyn.sat.solver import solve, SatSession
 
+    signal.signal(signal.SIGINT, signal.default_int_handler)  # even if this test run ignores SIGINT
+
     def blocked():
         with open(f"/proc/self/task/{threading.get_native_id()}/status") as fh:
             mask = next(int(line.split()[1], 16) for line in fh if line.startswith("SigBlk"))
