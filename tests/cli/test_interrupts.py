@@ -11,6 +11,7 @@ mid-search: loading, before the race starts, in it, and in cube workers.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import sqlite3
@@ -79,11 +80,19 @@ def stopped(
         os.killpg(p.pid, signal.SIGINT)
     else:
         os.kill(p.pid, signal.SIGTERM)
-    out, err = p.communicate(timeout=60)
+    try:
+        out, err = p.communicate(timeout=60)
+    except subprocess.TimeoutExpired:
+        os.killpg(p.pid, signal.SIGKILL)
+        raise
     deadline = time.monotonic() + 5
     while session_alive(p.pid) and time.monotonic() < deadline:
         time.sleep(0.1)
-    return p.returncode, out, err, len(session_alive(p.pid))
+    left = session_alive(p.pid)
+    for pid in left:  # a failing run must not leave a search running behind the tests
+        with contextlib.suppress(OSError):
+            os.kill(pid, signal.SIGKILL)
+    return p.returncode, out, err, len(left)
 
 
 # These were lost now and then on a loaded machine until python-sat's own SIGINT handler was
@@ -123,12 +132,16 @@ def test_a_background_job_ignoring_sigint_still_stops_on_sigterm(tmp_path: Path)
     p = subprocess.Popen([sys.executable, "-m", "exactsyn", "synth", "--perm", HARD5, "--library", "mct"],
                          cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
                          start_new_session=True, env=no_tables(tmp_path), preexec_fn=_ignore_sigint)  # fmt: skip
-    time.sleep(2.5)
-    os.killpg(p.pid, signal.SIGINT)
-    time.sleep(1.5)
-    assert p.poll() is None  # the ignored Ctrl-C changed nothing
-    os.kill(p.pid, signal.SIGTERM)
-    _, err = p.communicate(timeout=60)
+    try:
+        time.sleep(2.5)
+        os.killpg(p.pid, signal.SIGINT)
+        time.sleep(1.5)
+        assert p.poll() is None  # the ignored Ctrl-C changed nothing
+        os.kill(p.pid, signal.SIGTERM)
+        _, err = p.communicate(timeout=60)
+    finally:
+        with contextlib.suppress(OSError):
+            os.killpg(p.pid, signal.SIGKILL)  # nothing of this session outlives the test
     assert p.returncode == 143 and err.startswith("exactsyn: terminated (SIGTERM)"), err
 
 
