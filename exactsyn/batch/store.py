@@ -48,6 +48,7 @@ network file system, so several machines share one batch through the Dask engine
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import secrets
@@ -217,18 +218,39 @@ class Store:
         if not readonly:
             self._check_folder()
         try:
-            self._db = self._connect()
-            self._db.row_factory = sqlite3.Row
-            self._db.execute("PRAGMA busy_timeout = 60000")
-            mode = "wal" if readonly else self._db.execute("PRAGMA journal_mode = WAL").fetchone()[0]
-            self._db.execute("PRAGMA synchronous = NORMAL")
-            self._init()
+            mode = self._open_with_retries(readonly)
         except sqlite3.DatabaseError as e:
             raise ExactsynError(f"{self.path} is not a usable results store: {e}") from None
         except OSError as e:
             raise ExactsynError(f"cannot open results store {self.path}: {path_problem(self.path, e)}") from None
         if str(mode).lower() != "wal":
             raise ExactsynError(f"results store {self.path}: the file system does not allow WAL mode")
+
+    def _open_with_retries(self, readonly: bool) -> str:
+        """Connect, switch to WAL and create the tables; returns the journal mode.
+
+        Two processes opening a new store at once can get "database is locked" from the
+        switch to WAL or the first schema write without SQLite's busy handler being asked
+        (it is not, where waiting could deadlock); such an open is retried from the start
+        for up to a minute."""
+        deadline = time.monotonic() + 60
+        attempt = 0
+        while True:
+            try:
+                self._db = self._connect()
+                self._db.row_factory = sqlite3.Row
+                self._db.execute("PRAGMA busy_timeout = 60000")
+                mode = "wal" if readonly else self._db.execute("PRAGMA journal_mode = WAL").fetchone()[0]
+                self._db.execute("PRAGMA synchronous = NORMAL")
+                self._init()
+                return str(mode)
+            except sqlite3.OperationalError as e:
+                if "locked" not in str(e) or time.monotonic() > deadline:
+                    raise
+                with contextlib.suppress(sqlite3.Error):
+                    self._db.close()
+                attempt += 1
+                time.sleep(min(0.5, 0.02 * attempt))
 
     def _check_folder(self) -> None:
         """The store's folder must exist and be writable (SQLite keeps its log files beside the store)."""
