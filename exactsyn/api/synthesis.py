@@ -48,7 +48,7 @@ from exactsyn.search.fallback import Suggestion, next_steps
 from exactsyn.search.loop import GateResult, minimise_gates
 from exactsyn.search.objectives import ObjectiveResult, optimise
 from exactsyn.specification.embed import Embedding
-from exactsyn.specification.loader import given_circuit, load_any
+from exactsyn.specification.loader import load_any, load_with_circuit
 from exactsyn.specification.reversible import Spec, from_permutation
 from exactsyn.tables.oracle import LAYER_HINT, table_roles
 
@@ -259,8 +259,11 @@ def synthesise_request(
 ) -> Synthesis:
     """Run ``request`` on ``spec``: gate search, objective, optima, certificate (module docstring)."""
     start = time.perf_counter()
-    given = given_circuit(Path(spec)) if isinstance(spec, str | os.PathLike) else None
-    spec, embedding = resolve_spec(spec, embedding)
+    given: Circuit | None = None
+    if isinstance(spec, str | os.PathLike):  # a spec file: a saved circuit is also the first upper bound
+        spec, embedding, given = load_with_circuit(Path(spec))
+    else:
+        spec, embedding = resolve_spec(spec, embedding)
     lib = request.library_for(spec.lines)
     model = request.cost_model()
     if request.objective in ("gates-then-cost", "cost"):
