@@ -44,13 +44,12 @@ from exactsyn.tables.kernels5 import (
     LINES,
     SIZE,
     canon_of_bytes,
+    compose_lane,
     find,
-    flips,
     invert,
     mix3,
     new_words,
-    profile,
-    sort_lines,
+    sorted_profiles,
     unmix3,
     unpack,
 )
@@ -68,17 +67,9 @@ _BLOCK = 1 << 22  # classes per block while building (bounds the temporary hash 
 def invariant_hash(hw: np.ndarray, hb: np.ndarray, iw: np.ndarray, ib: np.ndarray, work: np.ndarray) -> np.uint64:
     """64-bit hash of the class invariant of ``h`` (bytes ``hb``, words ``hw``; its inverse in
     ``ib``, ``iw``); ``work`` is (6, 5) int64 scratch."""
-    prof, vals, order = work[0:2], work[2:4], work[4:6]
-    flips(hw, prof[1])
-    profile(hw, hb, prof[1], prof[0])
-    profile(iw, ib, prof[1], prof[1])
-    sort_lines(prof[0], vals[0], order[0])
-    sort_lines(prof[1], vals[1], order[1])
-    s = 0
-    for i in range(LINES):
-        if vals[0, i] != vals[1, i]:
-            s = 0 if vals[0, i] < vals[1, i] else 1
-            break
+    vals = work[2:4]
+    _, _, side = sorted_profiles(hw, hb, iw, ib, work[0:2], vals, work[4:6])
+    s = 0 if side == 2 else side
     h = U64(0x243F6A8885A308D3)
     for i in range(LINES):
         h = mix(h ^ U64(vals[s, i]))
@@ -199,29 +190,17 @@ def scan_filtered(
             unpack(unmix3(reps[i, 0], k1, k2), k1, k2, ab)
             invert(ab, qb)
             for lane in range(lanes):
-                _lane(fb[lane >> 1], fib[lane >> 1], ab, qb, lane & 1, hb, ib)
+                compose_lane(fb[lane >> 1], fib[lane >> 1], ab, qb, lane & 1, hb, ib)
                 slot[lane] = invariant_hash(hw, hb, iw, ib, work) >> U64(bshift)
             for lane in range(lanes):
                 word[lane] = bits[slot[lane] >> U64(6)]
             for lane in range(lanes):
                 if (word[lane] >> (slot[lane] & U64(63))) & U64(1) == U64(0):
                     continue
-                _lane(fb[lane >> 1], fib[lane >> 1], ab, qb, lane & 1, hb, ib)
+                compose_lane(fb[lane >> 1], fib[lane >> 1], ab, qb, lane & 1, hb, ib)
                 c0, c1, c2 = canon_of_bytes(hw, hb, iw, ib, work, sigma, conj)
                 m0 = mix3(c0, c1, c2)
                 q = m0 >> U64(shift)
                 if find(vals, np.int64(index[q]), np.int64(index[q + U64(1)]), m0, c1, c2):
                     out[i - start] = lane
                     break
-
-
-@nb.njit(inline="always", cache=True)
-def _lane(
-    f: np.ndarray, fi: np.ndarray, ab: np.ndarray, qb: np.ndarray, e: int, hb: np.ndarray, ib: np.ndarray
-) -> None:
-    """``h = f∘a`` (``e = 0``) or ``f∘a⁻¹`` (``e = 1``) into ``hb``, its inverse into ``ib``."""
-    src = ab if e == 0 else qb
-    back = qb if e == 0 else ab
-    for x in range(SIZE):
-        hb[x] = f[src[x]]
-        ib[x] = back[fi[x]]

@@ -295,6 +295,43 @@ def conjugate_key(
 
 
 @nb.njit(inline="always", cache=True)
+def sorted_profiles(
+    hw: np.ndarray, hb: np.ndarray, iw: np.ndarray, ib: np.ndarray, prof: np.ndarray, vals: np.ndarray,
+    order: np.ndarray,
+) -> tuple[int, int, int]:  # fmt: skip
+    """The sorted line profiles of ``h`` (``vals[0]``, lines in ``order[0]``) and of ``h⁻¹``
+    (``vals[1]``, ``order[1]``), their tie masks, and the side holding the least of the two
+    vectors (0: ``h``, 1: ``h⁻¹``, 2: both equal).  The class invariant behind the canonical
+    form (:func:`canon_core`) and the scan filter (:mod:`exactsyn.tables.filter5`)."""
+    flips(hw, prof[1])
+    profile(hw, hb, prof[1], prof[0])
+    profile(iw, ib, prof[1], prof[1])
+    ties0 = sort_lines(prof[0], vals[0], order[0])
+    ties1 = sort_lines(prof[1], vals[1], order[1])
+    side = 0
+    for i in range(LINES):
+        if vals[0, i] != vals[1, i]:
+            side = 0 if vals[0, i] < vals[1, i] else 1
+            break
+    else:
+        side = 2
+    return ties0, ties1, side
+
+
+@nb.njit(inline="always", cache=True)
+def compose_lane(
+    f: np.ndarray, fi: np.ndarray, ab: np.ndarray, qb: np.ndarray, e: int, hb: np.ndarray, ib: np.ndarray
+) -> None:
+    """Lane ``e`` of a scan: ``h = f∘a`` (``e = 0``) or ``f∘a⁻¹`` (``e = 1``) into ``hb``, its
+    inverse into ``ib`` (``a`` in ``ab``, ``a⁻¹`` in ``qb``, ``f⁻¹`` in ``fi``)."""
+    src = ab if e == 0 else qb
+    back = qb if e == 0 else ab
+    for x in range(SIZE):
+        hb[x] = f[src[x]]
+        ib[x] = back[fi[x]]
+
+
+@nb.njit(inline="always", cache=True)
 def canon_core(
     hw: np.ndarray,
     hb: np.ndarray,
@@ -314,18 +351,7 @@ def canon_core(
 
     Scratch: ``prof (2, 5)``, ``vals (2, 5)``, ``order (2, 5)`` int64, ``sigma (5,)`` int64,
     ``conj (32,)`` uint8."""
-    flips(hw, prof[1])
-    profile(hw, hb, prof[1], prof[0])
-    profile(iw, ib, prof[1], prof[1])
-    ties0 = sort_lines(prof[0], vals[0], order[0])
-    ties1 = sort_lines(prof[1], vals[1], order[1])
-    side = 0  # 0: f only, 1: f⁻¹ only, 2: both
-    for i in range(LINES):
-        if vals[0, i] != vals[1, i]:
-            side = 0 if vals[0, i] < vals[1, i] else 1
-            break
-    else:
-        side = 2
+    ties0, ties1, side = sorted_profiles(hw, hb, iw, ib, prof, vals, order)
     best0 = U64(0xFFFFFFFFFFFFFFFF)
     best1 = best0
     best2 = best0
@@ -717,13 +743,8 @@ def scan(
             unpack(unmix3(reps[i, 0], k1, k2), k1, k2, ab)
             invert(ab, qb)
             for c in range(nf):
-                f, fi = fb[c], fib[c]
-                for e in range(2):
-                    src = ab if e == 0 else qb  # a, then a⁻¹
-                    back = qb if e == 0 else ab
-                    for x in range(SIZE):
-                        hb[x] = f[src[x]]  # f_c∘a^±1
-                        ib[x] = back[fi[x]]  # its inverse a^∓1∘f_c⁻¹
+                for e in range(2):  # f_c∘a, then f_c∘a⁻¹
+                    compose_lane(fb[c], fib[c], ab, qb, e, hb, ib)
                     c0, c1, c2 = canon_of_bytes(hw, hb, iw, ib, work, sigma, conj)
                     lane = 2 * c + e
                     keys[lane, 0] = mix3(c0, c1, c2)
